@@ -1,0 +1,103 @@
+//! The command line: arguments, dispatch, and text for people. I/O and exit
+//! codes live here and nowhere below.
+
+mod check;
+mod convert;
+mod json;
+mod units_list;
+
+use std::io::{self, IsTerminal, Write};
+use std::path::{Path, PathBuf};
+use std::process::ExitCode;
+
+use clap::{Parser, Subcommand, ValueEnum};
+
+/// heft: unit-checked calculation sheets for lifts, hoists, carts and fixtures.
+#[derive(Debug, Parser)]
+#[command(name = "heft", version, about, long_about = None)]
+pub struct Args {
+    /// What to do.
+    #[command(subcommand)]
+    pub command: Command,
+    /// When to colour the output.
+    #[arg(long, global = true, value_enum, default_value_t = Colour::Auto)]
+    pub color: Colour,
+}
+
+/// Colour choice.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum Colour {
+    /// Colour when writing to a terminal and NO_COLOR is not set.
+    Auto,
+    /// Always colour.
+    Always,
+    /// Never colour.
+    Never,
+}
+
+/// The commands.
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// Evaluate a sheet and print its cells, checks and findings.
+    Check {
+        /// The sheet file (.heft).
+        file: PathBuf,
+        /// Print one JSON object instead of text.
+        #[arg(long)]
+        json: bool,
+        /// Exit 1 on warnings as well as errors.
+        #[arg(long)]
+        deny_warnings: bool,
+    },
+    /// Convert a quantity to another unit and show the exact factor chain.
+    Convert {
+        /// The quantity, e.g. "3 slug" or "100 lbm * g0".
+        quantity: String,
+        /// The unit to convert to, e.g. lbm.
+        unit: String,
+    },
+    /// List every unit heft knows, with its definition and source.
+    Units,
+}
+
+/// Exit code: the sheet is clean.
+pub const EXIT_CLEAN: u8 = 0;
+/// Exit code: the sheet has errors or failed checks.
+pub const EXIT_FINDINGS: u8 = 1;
+/// Exit code: bad usage or a file that cannot be read.
+pub const EXIT_USAGE: u8 = 2;
+
+/// Runs a parsed command line and returns the process exit code.
+pub fn run(args: Args) -> ExitCode {
+    let colour = match args.color {
+        Colour::Always => true,
+        Colour::Never => false,
+        Colour::Auto => io::stdout().is_terminal() && std::env::var_os("NO_COLOR").is_none_or(|v| v.is_empty()),
+    };
+    let outcome = match args.command {
+        Command::Check { file, json, deny_warnings } => check::run(&file, json, deny_warnings, colour),
+        Command::Convert { quantity, unit } => convert::run(&quantity, &unit, colour),
+        Command::Units => units_list::run(),
+    };
+    match outcome {
+        Ok(code) => ExitCode::from(code),
+        Err(error) if error.kind() == io::ErrorKind::BrokenPipe => ExitCode::from(EXIT_CLEAN),
+        Err(error) => {
+            let _ = writeln!(io::stderr(), "heft: {error}");
+            ExitCode::from(EXIT_USAGE)
+        }
+    }
+}
+
+/// Reads a sheet, turning a missing or unreadable file into a message.
+fn read_sheet(path: &Path) -> io::Result<(String, Option<crate::diag::Diagnostic>)> {
+    let bytes = std::fs::read(path).map_err(|error| io::Error::new(error.kind(), format!("cannot read {}: {error}", path.display())))?;
+    Ok(crate::decode_source(&bytes))
+}
+
+/// Writes `text` to standard output.
+fn print(text: &str) -> io::Result<()> {
+    let mut stdout = io::stdout().lock();
+    stdout.write_all(text.as_bytes())?;
+    stdout.flush()
+}

@@ -1,0 +1,180 @@
+//! Diagnostics as data: every problem heft finds, with its stable code, its
+//! place in the source and the fix it suggests. Rendering for people lives in
+//! [`render`], the one place that turns a [`Diagnostic`] into text.
+
+pub mod render;
+
+use crate::syntax::Span;
+
+/// How serious a finding is.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord, Hash)]
+pub enum Severity {
+    /// Something a checker should know; never fails a run.
+    Info,
+    /// Probably a mistake; fails only with `--deny-warnings`.
+    Warning,
+    /// The sheet is wrong or incomplete; `heft check` exits 1.
+    Error,
+}
+
+impl Severity {
+    /// The lower-case word used in JSON and text output.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Severity::Info => "info",
+            Severity::Warning => "warning",
+            Severity::Error => "error",
+        }
+    }
+}
+
+/// A stable, kebab-case identifier for each kind of finding.
+///
+/// Codes are part of heft's interface: scripts and test corpora match on them,
+/// so a code is never renamed once released.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
+pub enum Code {
+    /// A statement does not follow the grammar.
+    ParseError,
+    /// The file is not valid UTF-8.
+    EncodingError,
+    /// The `+++` header is malformed, has an unknown key or a bad value.
+    HeaderError,
+    /// A unit symbol is not in the catalog.
+    UnknownUnit,
+    /// A unit symbol that could mean several units (`lb`, `ton`, `oz`).
+    AmbiguousUnit,
+    /// A name that no cell defines.
+    UndefinedName,
+    /// A function that heft does not have, or called with the wrong arguments.
+    BadCall,
+    /// Two cells with the same name.
+    DuplicateName,
+    /// Cells that depend on each other in a loop.
+    Cycle,
+    /// Quantities of different dimensions combined where they must agree.
+    DimensionMismatch,
+    /// A cell's formula does not have the dimension of its declared `[unit]`.
+    DeclaredUnitMismatch,
+    /// A mass where a force belongs, or the other way round.
+    MassWeightMixup,
+    /// Division by a quantity that is exactly zero.
+    DivisionByZero,
+    /// A result that is infinite or not a number.
+    NotFinite,
+    /// A function argument outside the function's domain (`sqrt(-1)`).
+    OutOfDomain,
+    /// A `check` whose comparison does not hold.
+    CheckFailed,
+}
+
+impl Code {
+    /// The kebab-case code as printed and as matched by tests.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Code::ParseError => "parse-error",
+            Code::EncodingError => "encoding-error",
+            Code::HeaderError => "header-error",
+            Code::UnknownUnit => "unknown-unit",
+            Code::AmbiguousUnit => "ambiguous-unit",
+            Code::UndefinedName => "undefined-name",
+            Code::BadCall => "bad-call",
+            Code::DuplicateName => "duplicate-name",
+            Code::Cycle => "cycle",
+            Code::DimensionMismatch => "dimension-mismatch",
+            Code::DeclaredUnitMismatch => "declared-unit-mismatch",
+            Code::MassWeightMixup => "mass-weight-mixup",
+            Code::DivisionByZero => "division-by-zero",
+            Code::NotFinite => "not-finite",
+            Code::OutOfDomain => "out-of-domain",
+            Code::CheckFailed => "check-failed",
+        }
+    }
+
+    /// Every code, for documentation and tests.
+    pub const ALL: [Code; 16] = [
+        Code::ParseError,
+        Code::EncodingError,
+        Code::HeaderError,
+        Code::UnknownUnit,
+        Code::AmbiguousUnit,
+        Code::UndefinedName,
+        Code::BadCall,
+        Code::DuplicateName,
+        Code::Cycle,
+        Code::DimensionMismatch,
+        Code::DeclaredUnitMismatch,
+        Code::MassWeightMixup,
+        Code::DivisionByZero,
+        Code::NotFinite,
+        Code::OutOfDomain,
+        Code::CheckFailed,
+    ];
+}
+
+impl std::fmt::Display for Code {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(self.as_str())
+    }
+}
+
+/// A secondary place in the source with a short remark, such as the other
+/// operand of a mismatched `+`.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Label {
+    /// Where the remark points.
+    pub span: Span,
+    /// What to say there.
+    pub message: String,
+}
+
+/// One finding: what, where, and what to do about it.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Diagnostic {
+    /// Error, warning or info.
+    pub severity: Severity,
+    /// The stable code.
+    pub code: Code,
+    /// The primary place in the source (byte offsets).
+    pub span: Span,
+    /// One sentence saying what is wrong.
+    pub message: String,
+    /// Further places with remarks.
+    pub labels: Vec<Label>,
+    /// A concrete suggestion, ideally with the number it would give.
+    pub help: Option<String>,
+}
+
+impl Diagnostic {
+    /// An error at `span`.
+    pub fn error(code: Code, span: Span, message: impl Into<String>) -> Self {
+        Self::new(Severity::Error, code, span, message)
+    }
+
+    /// A diagnostic of any severity at `span`.
+    pub fn new(severity: Severity, code: Code, span: Span, message: impl Into<String>) -> Self {
+        Diagnostic {
+            severity,
+            code,
+            span,
+            message: message.into(),
+            labels: Vec::new(),
+            help: None,
+        }
+    }
+
+    /// Adds a remark at another place.
+    pub fn with_label(mut self, span: Span, message: impl Into<String>) -> Self {
+        self.labels.push(Label {
+            span,
+            message: message.into(),
+        });
+        self
+    }
+
+    /// Adds the suggested fix.
+    pub fn with_help(mut self, help: impl Into<String>) -> Self {
+        self.help = Some(help.into());
+        self
+    }
+}

@@ -1,0 +1,142 @@
+//! Diagnostics for quantities that do not fit together, with the
+//! mass-versus-weight case spelled out and a fix with its number.
+
+use crate::diag::{Code, Diagnostic};
+use crate::syntax::Span;
+use crate::units::{format_significant, pick_unit, Dimension, DisplaySystem, Quantity};
+
+/// How values are written in messages.
+#[derive(Clone, Copy, Debug)]
+pub(crate) struct Style {
+    /// Unit system for values without a unit of their own.
+    pub system: DisplaySystem,
+    /// Significant digits.
+    pub sig_figs: u32,
+}
+
+impl Style {
+    /// `1850 kg`, `4079 lbf`, `0.5` — rounded, in a readable unit.
+    pub fn show(self, quantity: Quantity) -> String {
+        let unit = pick_unit(quantity.dimension, quantity.si, self.system);
+        with_unit(format_significant(unit.value_of(quantity.si), self.sig_figs), &unit.text)
+    }
+
+    /// `si` in a given unit: `4079 lbf`.
+    pub fn show_in(self, si: f64, unit_text: &str, unit_si_factor: f64) -> String {
+        with_unit(format_significant(si / unit_si_factor, self.sig_figs), unit_text)
+    }
+}
+
+fn with_unit(number: String, unit: &str) -> String {
+    if unit.is_empty() { number } else { format!("{number} {unit}") }
+}
+
+/// Whether `heavier` is `lighter` times an acceleration: a force against a
+/// mass, a pressure against a mass per area, and so on.
+pub(crate) fn differs_by_acceleration(heavier: Dimension, lighter: Dimension) -> bool {
+    lighter.checked_mul(Dimension::ACCELERATION) == Some(heavier)
+}
+
+/// An operand as written, with its value.
+pub(crate) struct Operand<'a> {
+    /// Where it is written.
+    pub span: Span,
+    /// Its text.
+    pub text: &'a str,
+    /// Its value.
+    pub value: Quantity,
+}
+
+/// `cannot add a mass (10 kg) and a force (5 N)`, with the weight/mass fix
+/// when the two differ by an acceleration.
+pub(crate) fn mismatch(action: &str, left: &Operand<'_>, right: &Operand<'_>, style: Style) -> Diagnostic {
+    let (l, r) = (left.value, right.value);
+    let describe = |operand: &Operand<'_>| format!("{} ({})", operand.value.dimension.describe(), style.show(operand.value));
+    let message = format!("cannot {action} {} and {}", describe(left), describe(right));
+    let weight_mass = if differs_by_acceleration(l.dimension, r.dimension) {
+        Some((right, left))
+    } else if differs_by_acceleration(r.dimension, l.dimension) {
+        Some((left, right))
+    } else {
+        None
+    };
+    let (code, message) = match weight_mass {
+        Some(_) if [l.dimension, r.dimension].contains(&Dimension::MASS) => {
+            (Code::MassWeightMixup, format!("{message}: a weight is not a mass"))
+        }
+        Some(_) => (Code::MassWeightMixup, format!("{message}: they differ by an acceleration, as a weight differs from a mass")),
+        None => (Code::DimensionMismatch, message),
+    };
+    let mut diagnostic = Diagnostic::error(code, left.span.to(right.span), message)
+        .with_label(left.span, describe(left))
+        .with_label(right.span, describe(right));
+    if let Some((lighter, heavier)) = weight_mass {
+        let as_mass = Quantity::new(heavier.value.si / crate::units::STANDARD_GRAVITY, lighter.value.dimension);
+        let as_weight = Quantity::new(lighter.value.si * crate::units::STANDARD_GRAVITY, heavier.value.dimension);
+        diagnostic = diagnostic.with_help(format!(
+            "if `{}` is a weight, its mass is `({}) / g0` = {}; the weight of `{}` is `({}) * g0` = {}",
+            heavier.text,
+            heavier.text,
+            style.show(as_mass),
+            lighter.text,
+            lighter.text,
+            style.show(as_weight),
+        ));
+    }
+    diagnostic
+}
+
+/// A cell whose formula's dimension differs from its declared unit.
+pub(crate) struct DeclaredMismatch<'a> {
+    /// The cell's name.
+    pub name: &'a str,
+    /// The declared unit as written, its span and SI factor.
+    pub unit_text: &'a str,
+    /// Where the unit is written.
+    pub unit_span: Span,
+    /// SI value of one declared unit.
+    pub unit_si_factor: f64,
+    /// The declared dimension.
+    pub declared: Dimension,
+    /// The formula as written and where.
+    pub formula: &'a str,
+    /// Where the formula is written.
+    pub formula_span: Span,
+    /// Whether the formula is a single name (so the message can name it).
+    pub formula_is_name: bool,
+    /// What the formula gives.
+    pub value: Quantity,
+}
+
+/// `W is a force but m_skid is a mass (1850 kg); a weight is mass × g0 = 4079 lbf`.
+pub(crate) fn declared_mismatch(cell: &DeclaredMismatch<'_>, style: Style) -> Diagnostic {
+    let found = cell.value.dimension;
+    let gives = if cell.formula_is_name {
+        format!("`{}` is {} ({})", cell.formula, found.describe(), style.show(cell.value))
+    } else {
+        format!("its formula gives {} ({})", found.describe(), style.show(cell.value))
+    };
+    let declared = format!("`{}` is {} (declared in {})", cell.name, cell.declared.describe(), cell.unit_text);
+    let in_declared = |si: f64| style.show_in(si, cell.unit_text, cell.unit_si_factor);
+    let g0 = crate::units::STANDARD_GRAVITY;
+    let formula = if cell.formula_is_name { cell.formula.to_string() } else { format!("({})", cell.formula) };
+    let diagnostic = if differs_by_acceleration(cell.declared, found) {
+        let weight = in_declared(cell.value.si * g0);
+        let what = if found == Dimension::MASS { "a weight is mass × g0" } else { "multiplied by g0 it would be" };
+        Diagnostic::error(Code::MassWeightMixup, cell.formula_span, format!("{declared} but {gives}; {what} = {weight}"))
+            .with_help(format!("write `{formula} * g0` (= {weight})"))
+    } else if differs_by_acceleration(found, cell.declared) {
+        let mass = in_declared(cell.value.si / g0);
+        let what = if cell.declared == Dimension::MASS { "a mass is weight / g0" } else { "divided by g0 it would be" };
+        Diagnostic::error(Code::MassWeightMixup, cell.formula_span, format!("{declared} but {gives}; {what} = {mass}"))
+            .with_help(format!("write `{formula} / g0` (= {mass})"))
+    } else {
+        Diagnostic::error(Code::DeclaredUnitMismatch, cell.formula_span, format!("{declared} but {gives}"))
+            .with_help(format!(
+                "change the unit in brackets to one for {}, such as [{}], or fix the formula",
+                found.describe(),
+                pick_unit(found, cell.value.si, style.system).text
+            ))
+    };
+    diagnostic.with_label(cell.unit_span, format!("declared as {}", cell.declared.describe()))
+}

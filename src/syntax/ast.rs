@@ -1,0 +1,220 @@
+//! The syntax tree of a sheet: what the user wrote, with spans, before any
+//! unit is looked up or any value computed.
+
+use super::Span;
+
+/// One statement of a sheet, with the span of its line.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Statement {
+    /// The whole statement (its line, without the line break).
+    pub span: Span,
+    /// What kind of statement it is.
+    pub kind: StatementKind,
+}
+
+/// The kinds of statement.
+#[derive(Clone, Debug, PartialEq)]
+pub enum StatementKind {
+    /// A heading: `# Rope tension` (level 1) or `## Braking` (level 2).
+    Heading {
+        /// Number of `#` marks.
+        level: u8,
+        /// The heading text.
+        text: String,
+    },
+    /// A note the report keeps: `> Skid mass from the weigh ticket.`
+    Note {
+        /// The note text.
+        text: String,
+    },
+    /// A named cell: `T_up [kN] = m_tot * (g0 + a_up) "rope tension"`.
+    Cell(CellDef),
+    /// A check: `check T_up <= WLL "rope within its rated load"`.
+    Check(CheckDef),
+    /// A line that did not parse; its diagnostic says why.
+    Invalid,
+}
+
+/// A name as written, with its place.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Ident {
+    /// The name.
+    pub text: String,
+    /// Where it is written.
+    pub span: Span,
+}
+
+/// A quoted description or label, unescaped.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Description {
+    /// The text between the quotes, with `\"` and `\\` resolved.
+    pub text: String,
+    /// Where it is written, quotes included.
+    pub span: Span,
+}
+
+/// A cell definition: `name [unit] = expression "description"`.
+#[derive(Clone, Debug, PartialEq)]
+pub struct CellDef {
+    /// The cell's name.
+    pub name: Ident,
+    /// The declared display unit, which also fixes the dimension.
+    pub unit: Option<UnitExpr>,
+    /// The formula.
+    pub expr: Expr,
+    /// The optional description.
+    pub description: Option<Description>,
+}
+
+/// A check: `check A op B "label"`.
+#[derive(Clone, Debug, PartialEq)]
+pub struct CheckDef {
+    /// Left side.
+    pub lhs: Expr,
+    /// The comparison.
+    pub comparison: Comparison,
+    /// Right side.
+    pub rhs: Expr,
+    /// The optional label.
+    pub label: Option<Description>,
+}
+
+/// The comparison of a check.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Comparison {
+    /// `<=`
+    AtMost,
+    /// `<`
+    Below,
+    /// `>=`
+    AtLeast,
+    /// `>`
+    Above,
+}
+
+impl Comparison {
+    /// The operator as written.
+    pub fn symbol(self) -> &'static str {
+        match self {
+            Comparison::AtMost => "<=",
+            Comparison::Below => "<",
+            Comparison::AtLeast => ">=",
+            Comparison::Above => ">",
+        }
+    }
+}
+
+/// An expression with its span.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Expr {
+    /// What the expression is.
+    pub kind: ExprKind,
+    /// Where it is written.
+    pub span: Span,
+}
+
+/// The kinds of expression.
+#[derive(Clone, Debug, PartialEq)]
+pub enum ExprKind {
+    /// A plain number: `12`, `0.35`, `2.5e3`.
+    Number(f64),
+    /// A number with a unit: `1850 kg`, `0.35 m/s^2`.
+    Quantity {
+        /// The number as written.
+        value: f64,
+        /// Where the number is written.
+        number_span: Span,
+        /// The unit written after it.
+        unit: UnitExpr,
+    },
+    /// One of a unit: `[kN]`, so `T / [kN]` is a plain number.
+    UnitValue(UnitExpr),
+    /// A reference to a cell or a built-in constant: `m_tot`, `g0`.
+    Name(String),
+    /// Unary minus: `-x`.
+    Negate(Box<Expr>),
+    /// A binary operation: `a + b`, `m * g0`, `x ^ 2`.
+    Binary {
+        /// The operator.
+        op: BinaryOp,
+        /// Left operand.
+        lhs: Box<Expr>,
+        /// Right operand.
+        rhs: Box<Expr>,
+    },
+    /// A function call: `sqrt(x)`, `atan2(y, x)`.
+    Call {
+        /// The function's name.
+        function: Ident,
+        /// The arguments.
+        args: Vec<Expr>,
+    },
+}
+
+/// Binary operators.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum BinaryOp {
+    /// `+`
+    Add,
+    /// `-`
+    Subtract,
+    /// `*`
+    Multiply,
+    /// `/`
+    Divide,
+    /// `^`
+    Power,
+}
+
+impl BinaryOp {
+    /// The operator as written.
+    pub fn symbol(self) -> &'static str {
+        match self {
+            BinaryOp::Add => "+",
+            BinaryOp::Subtract => "-",
+            BinaryOp::Multiply => "*",
+            BinaryOp::Divide => "/",
+            BinaryOp::Power => "^",
+        }
+    }
+}
+
+/// A unit expression, flattened to a product of symbols with integer
+/// exponents: `lbm*ft/(lbf*s^2)` is lbm¹·ft¹·lbf⁻¹·s⁻².
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct UnitExpr {
+    /// The factors in written order.
+    pub factors: Vec<UnitFactor>,
+    /// Where the whole unit expression is written.
+    pub span: Span,
+}
+
+/// One unit symbol raised to an integer power.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct UnitFactor {
+    /// The symbol as written: `kN`, `lbf`, `s`.
+    pub symbol: String,
+    /// The net exponent after division and grouping.
+    pub exponent: i32,
+    /// Where the symbol is written.
+    pub span: Span,
+}
+
+impl Expr {
+    /// Calls `visit` on this expression and every sub-expression, parents first.
+    pub fn walk<'a>(&'a self, visit: &mut impl FnMut(&'a Expr)) {
+        visit(self);
+        match &self.kind {
+            ExprKind::Negate(inner) => inner.walk(visit),
+            ExprKind::Binary { lhs, rhs, .. } => {
+                lhs.walk(visit);
+                rhs.walk(visit);
+            }
+            ExprKind::Call { args, .. } => args.iter().for_each(|arg| arg.walk(visit)),
+            ExprKind::Number(_)
+            | ExprKind::Quantity { .. }
+            | ExprKind::UnitValue(_)
+            | ExprKind::Name(_) => {}
+        }
+    }
+}

@@ -1,0 +1,317 @@
+//! Pairs → AST. The grammar guarantees the shape of every pair handled here,
+//! so a shape mismatch is a bug in heft, reported with `unreachable!`.
+
+use std::sync::LazyLock;
+
+use pest::iterators::{Pair, Pairs};
+use pest::pratt_parser::{Assoc, Op, PrattParser};
+
+use super::ast::{
+    BinaryOp, CellDef, CheckDef, Comparison, Description, Expr, ExprKind, Ident, StatementKind,
+    UnitExpr, UnitFactor,
+};
+use super::parser::Rule;
+use super::Span;
+
+/// Operator precedence, lowest first; `^` binds tightest and groups to the
+/// right, so `-2^2` is `-(2^2)` and `2^3^2` is `2^(3^2)`.
+static PRATT: LazyLock<PrattParser<Rule>> = LazyLock::new(|| {
+    PrattParser::new()
+        .op(Op::infix(Rule::add, Assoc::Left) | Op::infix(Rule::sub, Assoc::Left))
+        .op(Op::infix(Rule::mul, Assoc::Left) | Op::infix(Rule::div, Assoc::Left))
+        .op(Op::prefix(Rule::neg))
+        .op(Op::infix(Rule::pow, Assoc::Right))
+});
+
+/// A problem found while building the tree (the grammar matched, but a
+/// value cannot be represented).
+pub(crate) struct BuildError {
+    pub span: Span,
+    pub message: String,
+}
+
+type Built<T> = Result<T, BuildError>;
+
+/// Builds the statement from the pairs of `Rule::line`; `offset` is where the
+/// statement starts in the sheet.
+pub(crate) fn statement(mut pairs: Pairs<'_, Rule>, offset: usize) -> Built<Option<StatementKind>> {
+    let Some(pair) = pairs.next() else {
+        return Ok(None);
+    };
+    let builder = Builder { offset };
+    Ok(Some(match pair.as_rule() {
+        Rule::heading => builder.heading(pair),
+        Rule::note => StatementKind::Note {
+            text: inner_text(pair).trim_end().to_string(),
+        },
+        Rule::cell => StatementKind::Cell(builder.cell(pair)?),
+        Rule::check => StatementKind::Check(builder.check(pair)?),
+        Rule::EOI => return Ok(None),
+        rule => unreachable!("expected a statement, found {rule:?}"),
+    }))
+}
+
+/// Builds the expression from the pairs of `Rule::expression_only`.
+pub(crate) fn expression(mut pairs: Pairs<'_, Rule>) -> Built<Option<Expr>> {
+    match pairs.next() {
+        Some(pair) if pair.as_rule() == Rule::expr => Builder { offset: 0 }.expr(pair).map(Some),
+        _ => Ok(None),
+    }
+}
+
+/// Builds the unit from the pairs of `Rule::unit_only`.
+pub(crate) fn unit(mut pairs: Pairs<'_, Rule>) -> Built<Option<UnitExpr>> {
+    match pairs.next() {
+        Some(pair) if pair.as_rule() == Rule::unit_expr => Builder { offset: 0 }.unit_expr(pair).map(Some),
+        _ => Ok(None),
+    }
+}
+
+fn inner_text(pair: Pair<'_, Rule>) -> String {
+    pair.into_inner().last().map_or_else(String::new, |text| text.as_str().to_string())
+}
+
+struct Builder {
+    offset: usize,
+}
+
+impl Builder {
+    fn span(&self, pair: &Pair<'_, Rule>) -> Span {
+        let span = pair.as_span();
+        Span::new(span.start(), span.end()).shifted(self.offset)
+    }
+
+    fn heading(&self, pair: Pair<'_, Rule>) -> StatementKind {
+        let mut inner = pair.into_inner();
+        let level = inner.next().map_or(1, |marks| marks.as_str().len());
+        let text = inner.next().map_or("", |text| text.as_str()).trim_end();
+        StatementKind::Heading {
+            level: u8::try_from(level).unwrap_or(u8::MAX),
+            text: text.to_string(),
+        }
+    }
+
+    fn cell(&self, pair: Pair<'_, Rule>) -> Built<CellDef> {
+        let mut name = None;
+        let mut unit = None;
+        let mut expr = None;
+        let mut description = None;
+        for part in pair.into_inner() {
+            match part.as_rule() {
+                Rule::name => name = Some(self.ident(part)),
+                Rule::declared_unit => unit = Some(self.unit_in_brackets(part)?),
+                Rule::expr => expr = Some(self.expr(part)?),
+                Rule::description => description = Some(self.description(part)),
+                rule => unreachable!("expected a part of a cell, found {rule:?}"),
+            }
+        }
+        match (name, expr) {
+            (Some(name), Some(expr)) => Ok(CellDef {
+                name,
+                unit,
+                expr,
+                description,
+            }),
+            _ => unreachable!("expected a cell with a name and an expression"),
+        }
+    }
+
+    fn check(&self, pair: Pair<'_, Rule>) -> Built<CheckDef> {
+        let mut sides = Vec::with_capacity(2);
+        let mut comparison = None;
+        let mut label = None;
+        for part in pair.into_inner() {
+            match part.as_rule() {
+                Rule::keyword_check => {}
+                Rule::expr => sides.push(self.expr(part)?),
+                Rule::at_most => comparison = Some(Comparison::AtMost),
+                Rule::below => comparison = Some(Comparison::Below),
+                Rule::at_least => comparison = Some(Comparison::AtLeast),
+                Rule::above => comparison = Some(Comparison::Above),
+                Rule::description => label = Some(self.description(part)),
+                rule => unreachable!("expected a part of a check, found {rule:?}"),
+            }
+        }
+        let rhs = sides.pop();
+        let lhs = sides.pop();
+        match (lhs, comparison, rhs) {
+            (Some(lhs), Some(comparison), Some(rhs)) => Ok(CheckDef {
+                lhs,
+                comparison,
+                rhs,
+                label,
+            }),
+            _ => unreachable!("expected a check with two sides and a comparison"),
+        }
+    }
+
+    fn ident(&self, pair: Pair<'_, Rule>) -> Ident {
+        Ident {
+            text: pair.as_str().to_string(),
+            span: self.span(&pair),
+        }
+    }
+
+    fn description(&self, pair: Pair<'_, Rule>) -> Description {
+        let span = self.span(&pair);
+        let raw = pair.into_inner().next().map_or("", |text| text.as_str());
+        Description {
+            text: unescape(raw),
+            span,
+        }
+    }
+
+    fn expr(&self, pair: Pair<'_, Rule>) -> Built<Expr> {
+        PRATT
+            .map_primary(|primary| self.primary(primary))
+            .map_prefix(|op, operand| {
+                let operand = operand?;
+                let span = self.span(&op).to(operand.span);
+                match op.as_rule() {
+                    Rule::neg => Ok(Expr {
+                        kind: ExprKind::Negate(Box::new(operand)),
+                        span,
+                    }),
+                    rule => unreachable!("expected a prefix operator, found {rule:?}"),
+                }
+            })
+            .map_infix(|lhs, op, rhs| {
+                let (lhs, rhs) = (lhs?, rhs?);
+                let op = match op.as_rule() {
+                    Rule::add => BinaryOp::Add,
+                    Rule::sub => BinaryOp::Subtract,
+                    Rule::mul => BinaryOp::Multiply,
+                    Rule::div => BinaryOp::Divide,
+                    Rule::pow => BinaryOp::Power,
+                    rule => unreachable!("expected an infix operator, found {rule:?}"),
+                };
+                Ok(Expr {
+                    span: lhs.span.to(rhs.span),
+                    kind: ExprKind::Binary {
+                        op,
+                        lhs: Box::new(lhs),
+                        rhs: Box::new(rhs),
+                    },
+                })
+            })
+            .parse(pair.into_inner())
+    }
+
+    fn primary(&self, pair: Pair<'_, Rule>) -> Built<Expr> {
+        let span = self.span(&pair);
+        let kind = match pair.as_rule() {
+            Rule::group => {
+                let inner = pair.into_inner().next().unwrap_or_else(|| unreachable!("expected an expression in brackets"));
+                let mut expr = self.expr(inner)?;
+                expr.span = span;
+                return Ok(expr);
+            }
+            Rule::quantity => {
+                let mut inner = pair.into_inner();
+                let number = inner.next().unwrap_or_else(|| unreachable!("expected a number"));
+                let number_span = self.span(&number);
+                let value = self.number(&number)?;
+                match inner.next() {
+                    None => ExprKind::Number(value),
+                    Some(unit) => ExprKind::Quantity {
+                        value,
+                        number_span,
+                        unit: self.unit_expr(unit)?,
+                    },
+                }
+            }
+            Rule::unit_value => ExprKind::UnitValue(self.unit_in_brackets(pair)?),
+            Rule::name => ExprKind::Name(pair.as_str().to_string()),
+            Rule::call => {
+                let mut inner = pair.into_inner();
+                let function = inner.next().unwrap_or_else(|| unreachable!("expected a function name"));
+                let function = self.ident(function);
+                let arguments = inner.next().unwrap_or_else(|| unreachable!("expected arguments"));
+                let args = arguments.into_inner().map(|arg| self.expr(arg)).collect::<Built<Vec<_>>>()?;
+                ExprKind::Call { function, args }
+            }
+            rule => unreachable!("expected an operand, found {rule:?}"),
+        };
+        Ok(Expr { kind, span })
+    }
+
+    fn number(&self, pair: &Pair<'_, Rule>) -> Built<f64> {
+        match pair.as_str().parse::<f64>() {
+            Ok(value) if value.is_finite() => Ok(value),
+            _ => Err(BuildError {
+                span: self.span(pair),
+                message: format!("the number {} is too large to represent", pair.as_str()),
+            }),
+        }
+    }
+
+    fn unit_in_brackets(&self, pair: Pair<'_, Rule>) -> Built<UnitExpr> {
+        let unit = pair.into_inner().next().unwrap_or_else(|| unreachable!("expected a unit in brackets"));
+        self.unit_expr(unit)
+    }
+
+    fn unit_expr(&self, pair: Pair<'_, Rule>) -> Built<UnitExpr> {
+        let span = self.span(&pair);
+        let mut factors = Vec::new();
+        self.collect_unit_factors(pair, 1, &mut factors)?;
+        Ok(UnitExpr { factors, span })
+    }
+
+    /// Flattens `unit_expr` into factors, multiplying exponents by `outer`
+    /// (−1 after a `/`, n inside `(…)^n`).
+    fn collect_unit_factors(&self, pair: Pair<'_, Rule>, outer: i32, factors: &mut Vec<UnitFactor>) -> Built<()> {
+        let mut sign = 1;
+        for part in pair.into_inner() {
+            match part.as_rule() {
+                Rule::unit_mul => sign = 1,
+                Rule::unit_div => sign = -1,
+                Rule::unit_factor => {
+                    let part_span = self.span(&part);
+                    let mut inner = part.into_inner();
+                    let base = inner.next().unwrap_or_else(|| unreachable!("expected a unit symbol"));
+                    let exponent = match inner.next() {
+                        Some(exponent) => exponent.as_str().parse::<i32>().map_err(|_| BuildError {
+                            span: self.span(&exponent),
+                            message: format!("the unit exponent {} is too large", exponent.as_str()),
+                        })?,
+                        None => 1,
+                    };
+                    let total = exponent
+                        .checked_mul(sign)
+                        .and_then(|e| e.checked_mul(outer))
+                        .ok_or_else(|| BuildError {
+                            span: part_span,
+                            message: "the unit exponent is too large".to_string(),
+                        })?;
+                    match base.as_rule() {
+                        Rule::unit_symbol => factors.push(UnitFactor {
+                            symbol: base.as_str().to_string(),
+                            exponent: total,
+                            span: self.span(&base),
+                        }),
+                        Rule::unit_expr => self.collect_unit_factors(base, total, factors)?,
+                        rule => unreachable!("expected a unit symbol or group, found {rule:?}"),
+                    }
+                }
+                rule => unreachable!("expected a unit factor, found {rule:?}"),
+            }
+        }
+        Ok(())
+    }
+}
+
+/// Resolves `\"` and `\\` (and any other `\x` to `x`) in a description.
+fn unescape(raw: &str) -> String {
+    let mut text = String::with_capacity(raw.len());
+    let mut chars = raw.chars();
+    while let Some(c) = chars.next() {
+        if c == '\\' {
+            if let Some(escaped) = chars.next() {
+                text.push(escaped);
+            }
+        } else {
+            text.push(c);
+        }
+    }
+    text
+}

@@ -1,0 +1,96 @@
+//! Byte-offset spans and the line index that turns them into line and column.
+
+/// A byte range `start..end` into the sheet's source text.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Default, PartialOrd, Ord)]
+pub struct Span {
+    /// First byte.
+    pub start: usize,
+    /// One past the last byte.
+    pub end: usize,
+}
+
+impl Span {
+    /// The span `start..end`.
+    pub fn new(start: usize, end: usize) -> Self {
+        Span { start, end }
+    }
+
+    /// The smallest span covering both.
+    pub fn to(self, other: Span) -> Span {
+        Span::new(self.start.min(other.start), self.end.max(other.end))
+    }
+
+    /// This span moved right by `offset` bytes.
+    pub fn shifted(self, offset: usize) -> Span {
+        Span::new(self.start + offset, self.end + offset)
+    }
+
+    /// The text this span covers, or "" if it does not fit `source`.
+    pub fn text(self, source: &str) -> &str {
+        source.get(self.start..self.end).unwrap_or("")
+    }
+}
+
+/// A 1-based line and column (the column counts characters, not bytes).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct LineColumn {
+    /// 1-based line number.
+    pub line: usize,
+    /// 1-based column, in characters.
+    pub column: usize,
+}
+
+/// Start offsets of every line of a source text, for offset → line/column.
+#[derive(Clone, Debug, Default)]
+pub struct LineIndex {
+    line_starts: Vec<usize>,
+}
+
+impl LineIndex {
+    /// Indexes `source`.
+    pub fn new(source: &str) -> Self {
+        let mut line_starts = vec![0];
+        line_starts.extend(memchr_newlines(source));
+        LineIndex { line_starts }
+    }
+
+    /// The 0-based line that holds byte `offset`.
+    pub fn line_of(&self, offset: usize) -> usize {
+        match self.line_starts.binary_search(&offset) {
+            Ok(line) => line,
+            Err(next) => next - 1,
+        }
+    }
+
+    /// Line and character column of byte `offset` in `source`.
+    pub fn line_column(&self, source: &str, offset: usize) -> LineColumn {
+        let line = self.line_of(offset);
+        let start = self.line_starts[line];
+        let end = offset.min(source.len()).max(start);
+        let column = source
+            .get(start..end)
+            .map_or(end - start, |prefix| prefix.chars().count());
+        LineColumn {
+            line: line + 1,
+            column: column + 1,
+        }
+    }
+
+    /// Byte offset where 0-based `line` starts.
+    pub fn line_start(&self, line: usize) -> Option<usize> {
+        self.line_starts.get(line).copied()
+    }
+
+    /// Number of lines.
+    pub fn n_lines(&self) -> usize {
+        self.line_starts.len()
+    }
+}
+
+fn memchr_newlines(source: &str) -> impl Iterator<Item = usize> + '_ {
+    source
+        .bytes()
+        .enumerate()
+        .filter(|&(_, byte)| byte == b'\n')
+        .map(|(offset, _)| offset + 1)
+}

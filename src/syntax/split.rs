@@ -1,0 +1,219 @@
+//! Cuts a sheet into its `+++` header and its statements, one per line, and
+//! parses each statement on its own so that one bad line never hides the rest.
+
+use pest::Parser;
+
+use super::ast::{Statement, StatementKind};
+use super::parser::{describe_error, HeftParser, Rule};
+use super::{build, Span};
+use crate::diag::{Code, Diagnostic};
+
+/// Deepest bracket nesting a statement may have. pest and the tree walkers
+/// recurse once per level, so the limit keeps any input from overflowing the
+/// stack; real formulas stay far below it.
+pub const MAX_NESTING: usize = 64;
+
+/// Most operators a statement may have (every operator can deepen the tree).
+pub const MAX_OPERATORS: usize = 1000;
+
+/// The `+++` header block.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct HeaderBlock {
+    /// From the opening `+++` to the end of the closing one.
+    pub span: Span,
+    /// The TOML text between the delimiters.
+    pub body: Span,
+}
+
+/// A parsed sheet: header block, statements and the syntax errors found.
+#[derive(Clone, Debug, Default)]
+pub struct ParsedSheet {
+    /// The header block, if the sheet has one.
+    pub header: Option<HeaderBlock>,
+    /// Every statement that is not blank or a comment, in file order.
+    pub statements: Vec<Statement>,
+    /// Syntax errors, in file order.
+    pub diagnostics: Vec<Diagnostic>,
+}
+
+/// A line of the source: its span without the line break.
+struct Line {
+    start: usize,
+    end: usize,
+}
+
+fn lines(source: &str) -> impl Iterator<Item = Line> + '_ {
+    let mut start = 0;
+    std::iter::from_fn(move || {
+        if start > source.len() || (start == source.len() && !source.is_empty()) {
+            return None;
+        }
+        let rest = &source[start..];
+        let (end, next) = match rest.find('\n') {
+            Some(newline) => (start + newline, start + newline + 1),
+            None => (source.len(), source.len() + 1),
+        };
+        let end = if end > start && source.as_bytes()[end - 1] == b'\r' { end - 1 } else { end };
+        let line = Line { start, end };
+        start = next;
+        Some(line)
+    })
+}
+
+/// Parses a whole sheet. Never fails: problems become diagnostics and the
+/// statements that did parse are kept.
+pub fn parse(source: &str) -> ParsedSheet {
+    let mut sheet = ParsedSheet::default();
+    let mut lines = lines(source).peekable();
+
+    // The header must open on the first line that is not blank.
+    while lines.peek().is_some_and(|line| source[line.start..line.end].trim().is_empty()) {
+        lines.next();
+    }
+    if let Some(open) = lines.next_if(|line| source[line.start..line.end].trim() == "+++") {
+        let body_start = (open.end + 1).min(source.len());
+        let close = lines.by_ref().find(|line| source[line.start..line.end].trim() == "+++");
+        match close {
+            Some(close) => {
+                sheet.header = Some(HeaderBlock {
+                    span: Span::new(open.start, close.end),
+                    body: Span::new(body_start, close.start.max(body_start)),
+                });
+            }
+            None => {
+                sheet.diagnostics.push(
+                    Diagnostic::error(
+                        Code::HeaderError,
+                        Span::new(open.start, open.end),
+                        "the header opened here is never closed",
+                    )
+                    .with_help("add a line `+++` after the last header key"),
+                );
+                sheet.header = Some(HeaderBlock {
+                    span: Span::new(open.start, source.len()),
+                    body: Span::new(body_start, source.len()),
+                });
+            }
+        }
+    }
+
+    for line in lines {
+        let text = &source[line.start..line.end];
+        let trimmed = text.trim_start();
+        if trimmed.is_empty() || trimmed.starts_with("//") {
+            continue;
+        }
+        let span = Span::new(line.start, line.end);
+        let kind = parse_statement(text, line.start, &mut sheet.diagnostics);
+        sheet.statements.push(Statement { span, kind });
+    }
+    sheet
+}
+
+/// Parses one statement written at `offset`; on failure records the error and
+/// returns [`StatementKind::Invalid`].
+fn parse_statement(text: &str, offset: usize, diagnostics: &mut Vec<Diagnostic>) -> StatementKind {
+    if let Some(diagnostic) = check_limits(text, offset) {
+        diagnostics.push(diagnostic);
+        return StatementKind::Invalid;
+    }
+    match HeftParser::parse(Rule::line, text) {
+        Ok(pairs) => match build::statement(pairs, offset) {
+            Ok(Some(kind)) => kind,
+            Ok(None) => StatementKind::Invalid,
+            Err(error) => {
+                diagnostics.push(Diagnostic::error(Code::ParseError, error.span, error.message));
+                StatementKind::Invalid
+            }
+        },
+        Err(error) => {
+            let (span, message) = describe_error(&error, text, offset);
+            diagnostics.push(Diagnostic::error(Code::ParseError, span, message));
+            StatementKind::Invalid
+        }
+    }
+}
+
+/// Refuses statements nested deeper than [`MAX_NESTING`] or with more than
+/// [`MAX_OPERATORS`] operators, before any recursive code sees them.
+fn check_limits(text: &str, offset: usize) -> Option<Diagnostic> {
+    let mut depth = 0usize;
+    let mut n_operators = 0usize;
+    let mut in_quotes = false;
+    let mut escaped = false;
+    let mut previous = '\0';
+    for (position, c) in text.char_indices() {
+        if in_quotes {
+            match (escaped, c) {
+                (true, _) => escaped = false,
+                (false, '\\') => escaped = true,
+                (false, '"') => in_quotes = false,
+                _ => {}
+            }
+            continue;
+        }
+        match c {
+            '"' => in_quotes = true,
+            '/' if previous == '/' => break,
+            '(' | '[' => {
+                depth += 1;
+                if depth > MAX_NESTING {
+                    return Some(
+                        Diagnostic::error(
+                            Code::ParseError,
+                            Span::new(offset + position, offset + position + 1),
+                            format!("brackets nest more than {MAX_NESTING} deep here"),
+                        )
+                        .with_help("split the formula into several cells"),
+                    );
+                }
+            }
+            ')' | ']' => depth = depth.saturating_sub(1),
+            '+' | '-' | '*' | '/' | '^' => {
+                n_operators += 1;
+                if n_operators > MAX_OPERATORS {
+                    return Some(
+                        Diagnostic::error(
+                            Code::ParseError,
+                            Span::new(offset + position, offset + position + 1),
+                            format!("this statement has more than {MAX_OPERATORS} operators"),
+                        )
+                        .with_help("split the formula into several cells"),
+                    );
+                }
+            }
+            _ => {}
+        }
+        previous = c;
+    }
+    None
+}
+
+/// Parses `text` as one expression (for `heft convert`).
+pub fn parse_expression(text: &str) -> Result<super::ast::Expr, Diagnostic> {
+    if let Some(diagnostic) = check_limits(text, 0) {
+        return Err(diagnostic);
+    }
+    let pairs = HeftParser::parse(Rule::expression_only, text).map_err(|error| {
+        let (span, message) = describe_error(&error, text, 0);
+        Diagnostic::error(Code::ParseError, span, message)
+    })?;
+    match build::expression(pairs) {
+        Ok(Some(expr)) => Ok(expr),
+        Ok(None) => Err(Diagnostic::error(Code::ParseError, Span::new(0, text.len()), "expected an expression")),
+        Err(error) => Err(Diagnostic::error(Code::ParseError, error.span, error.message)),
+    }
+}
+
+/// Parses `text` as one unit expression (for `heft convert`).
+pub fn parse_unit(text: &str) -> Result<super::ast::UnitExpr, Diagnostic> {
+    let pairs = HeftParser::parse(Rule::unit_only, text).map_err(|error| {
+        let (span, message) = describe_error(&error, text, 0);
+        Diagnostic::error(Code::ParseError, span, message)
+    })?;
+    match build::unit(pairs) {
+        Ok(Some(unit)) => Ok(unit),
+        Ok(None) => Err(Diagnostic::error(Code::ParseError, Span::new(0, text.len()), "expected a unit")),
+        Err(error) => Err(Diagnostic::error(Code::ParseError, error.span, error.message)),
+    }
+}
