@@ -31,7 +31,9 @@ pub fn decode_source(bytes: &[u8]) -> (String, Option<diag::Diagnostic>) {
             let diagnostic = diag::Diagnostic::error(
                 diag::Code::EncodingError,
                 syntax::Span::new(at, at + 1),
-                format!("the file is not valid UTF-8 from byte {at} on; those bytes are shown as �"),
+                format!(
+                    "the file is not valid UTF-8 from byte {at} on; those bytes are shown as �"
+                ),
             )
             .with_help("save the sheet as UTF-8 text");
             (text, Some(diagnostic))

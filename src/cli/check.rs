@@ -7,8 +7,8 @@ use std::path::Path;
 
 use anstyle::{AnsiColor, Style};
 
-use super::{json, print, read_sheet, EXIT_CLEAN, EXIT_FINDINGS};
-use crate::diag::{render::render, Severity};
+use super::{EXIT_CLEAN, EXIT_FINDINGS, json, print, read_sheet};
+use crate::diag::{Severity, render::render};
 use crate::eval::{self, CellStatus, CheckStatus, Evaluated, OutlineItem};
 use crate::units::format_significant;
 
@@ -37,13 +37,21 @@ struct Painter {
 
 impl Painter {
     fn paint(&self, style: Style, text: &str) -> String {
-        if self.colour { format!("{style}{text}{style:#}") } else { text.to_string() }
+        if self.colour {
+            format!("{style}{text}{style:#}")
+        } else {
+            text.to_string()
+        }
     }
 }
 
 const BOLD: Style = Style::new().bold();
-const PASS: Style = Style::new().bold().fg_color(Some(anstyle::Color::Ansi(AnsiColor::Green)));
-const FAIL: Style = Style::new().bold().fg_color(Some(anstyle::Color::Ansi(AnsiColor::Red)));
+const PASS: Style = Style::new()
+    .bold()
+    .fg_color(Some(anstyle::Color::Ansi(AnsiColor::Green)));
+const FAIL: Style = Style::new()
+    .bold()
+    .fg_color(Some(anstyle::Color::Ansi(AnsiColor::Red)));
 const DIM: Style = Style::new().dimmed();
 
 /// The text report of `heft check`.
@@ -58,7 +66,10 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
     facts.extend(header.project.as_ref().map(|p| format!("project {p}")));
     facts.extend(header.revision.as_ref().map(|r| format!("revision {r}")));
     facts.extend(header.date.as_ref().map(|d| format!("dated {d}")));
-    facts.push(format!("display {}, {sig_figs} significant figures", header.display.label()));
+    facts.push(format!(
+        "display {}, {sig_figs} significant figures",
+        header.display.label()
+    ));
     let _ = writeln!(out, "{}", painter.paint(DIM, &facts.join(" · ")));
 
     // Which heading each cell sits under, to print headings in dependency order.
@@ -71,8 +82,20 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
             _ => {}
         }
     }
-    let name_width = evaluated.cells.iter().map(|c| c.name.chars().count()).max().unwrap_or(0).min(24);
-    let formula_width = evaluated.cells.iter().map(|c| c.formula.chars().count()).max().unwrap_or(0).min(36);
+    let name_width = evaluated
+        .cells
+        .iter()
+        .map(|c| c.name.chars().count())
+        .max()
+        .unwrap_or(0)
+        .min(24);
+    let formula_width = evaluated
+        .cells
+        .iter()
+        .map(|c| c.formula.chars().count())
+        .max()
+        .unwrap_or(0)
+        .min(36);
     let mut printed_section = None;
     let mut seen_sections = std::collections::HashSet::new();
     for &id in &evaluated.order {
@@ -87,17 +110,34 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
         let value = match (cell.status, cell.value) {
             (CellStatus::Ok, Some(value)) => {
                 let number = format_significant(cell.display.value_of(value.si), sig_figs);
-                if cell.display.text.is_empty() { number } else { format!("{number} {}", cell.display.text) }
+                if cell.display.text.is_empty() {
+                    number
+                } else {
+                    format!("{number} {}", cell.display.text)
+                }
             }
             (CellStatus::Blocked { by }, _) => format!("(blocked by {})", evaluated.cells[by].name),
             _ => painter.paint(FAIL, "(error)"),
         };
-        let description = cell.description.as_deref().map(|d| format!("  {}", painter.paint(DIM, d))).unwrap_or_default();
+        let description = cell
+            .description
+            .as_deref()
+            .map(|d| format!("  {}", painter.paint(DIM, d)))
+            .unwrap_or_default();
         let name = format!("{:<name_width$}", cell.name);
         if cell.is_input && cell.status == CellStatus::Ok && !cell.declared_unit {
-            let _ = writeln!(out, "  {name} = {:<formula_width$}{description}", cell.formula);
+            let _ = writeln!(
+                out,
+                "  {name} = {:<formula_width$}{description}",
+                cell.formula
+            );
         } else {
-            let _ = writeln!(out, "  {name} = {:<formula_width$} → {}{description}", cell.formula, painter.paint(BOLD, &value));
+            let _ = writeln!(
+                out,
+                "  {name} = {:<formula_width$} → {}{description}",
+                cell.formula,
+                painter.paint(BOLD, &value)
+            );
         }
     }
 
@@ -108,19 +148,45 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
                 (CheckStatus::Passed | CheckStatus::Failed, Some(lhs), Some(rhs)) => {
                     let show = |si: f64| {
                         let number = format_significant(si / check.display.si_factor, sig_figs);
-                        if check.display.text.is_empty() { number } else { format!("{number} {}", check.display.text) }
+                        if check.display.text.is_empty() {
+                            number
+                        } else {
+                            format!("{number} {}", check.display.text)
+                        }
                     };
                     let utilization = check
                         .utilization
                         .map(|u| format!("   utilization {} %", format_significant(u * 100.0, 3)))
                         .unwrap_or_default();
-                    let mark = if check.status == CheckStatus::Passed { painter.paint(PASS, "pass") } else { painter.paint(FAIL, "FAIL") };
-                    (mark, format!("{} {} {}{utilization}", show(lhs.si), check.comparison.symbol(), show(rhs.si)))
+                    let mark = if check.status == CheckStatus::Passed {
+                        painter.paint(PASS, "pass")
+                    } else {
+                        painter.paint(FAIL, "FAIL")
+                    };
+                    (
+                        mark,
+                        format!(
+                            "{} {} {}{utilization}",
+                            show(lhs.si),
+                            check.comparison.symbol(),
+                            show(rhs.si)
+                        ),
+                    )
                 }
-                (CheckStatus::Blocked { by }, _, _) => ("  --".to_string(), format!("blocked by {}", evaluated.cells[by].name)),
-                _ => (painter.paint(FAIL, " err"), "could not be evaluated".to_string()),
+                (CheckStatus::Blocked { by }, _, _) => (
+                    "  --".to_string(),
+                    format!("blocked by {}", evaluated.cells[by].name),
+                ),
+                _ => (
+                    painter.paint(FAIL, " err"),
+                    "could not be evaluated".to_string(),
+                ),
             };
-            let label = check.label.as_deref().map(|l| format!("  {}", painter.paint(DIM, l))).unwrap_or_default();
+            let label = check
+                .label
+                .as_deref()
+                .map(|l| format!("  {}", painter.paint(DIM, l)))
+                .unwrap_or_default();
             let _ = writeln!(
                 out,
                 "  {mark}  {} {} {}:  {detail}{label}",
@@ -138,7 +204,11 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
 
     let n_errors = evaluated.count(Severity::Error);
     let n_warnings = evaluated.count(Severity::Warning);
-    let n_passed = evaluated.checks.iter().filter(|c| c.status == CheckStatus::Passed).count();
+    let n_passed = evaluated
+        .checks
+        .iter()
+        .filter(|c| c.status == CheckStatus::Passed)
+        .count();
     let plural = |n: usize, word: &str| format!("{n} {word}{}", if n == 1 { "" } else { "s" });
     let summary = format!(
         "{} cells, {}, {}; {} of {} passed",
@@ -155,13 +225,23 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
 }
 
 /// Prints a heading and, the first time, the notes right after it.
-fn write_section(out: &mut String, evaluated: &Evaluated, position: usize, first_time: bool, painter: &Painter) {
+fn write_section(
+    out: &mut String,
+    evaluated: &Evaluated,
+    position: usize,
+    first_time: bool,
+    painter: &Painter,
+) {
     let OutlineItem::Heading { level, text } = &evaluated.outline[position] else {
         return;
     };
     let marks = "#".repeat(usize::from(*level));
     let continued = if first_time { "" } else { " (continued)" };
-    let _ = writeln!(out, "\n{}", painter.paint(BOLD, &format!("{marks} {text}{continued}")));
+    let _ = writeln!(
+        out,
+        "\n{}",
+        painter.paint(BOLD, &format!("{marks} {text}{continued}"))
+    );
     if first_time {
         for item in &evaluated.outline[position + 1..] {
             match item {

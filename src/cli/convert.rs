@@ -4,11 +4,11 @@
 use std::fmt::Write as _;
 use std::io;
 
-use super::{print, EXIT_CLEAN, EXIT_USAGE};
+use super::{EXIT_CLEAN, EXIT_USAGE, print};
 use crate::diag::render::render;
 use crate::eval;
 use crate::syntax::ast::{ExprKind, UnitExpr};
-use crate::units::{self, catalog, ExactFactor, Quantity};
+use crate::units::{self, ExactFactor, Quantity, catalog};
 
 /// Runs `heft convert QUANTITY UNIT`.
 pub fn run(quantity_text: &str, unit_text: &str, colour: bool) -> io::Result<u8> {
@@ -27,71 +27,135 @@ pub fn run(quantity_text: &str, unit_text: &str, colour: bool) -> io::Result<u8>
         }
     };
     if value.dimension != resolved.dimension {
-        print(&mismatch_text(quantity_text, value, unit_text, resolved.dimension))?;
+        print(&mismatch_text(
+            quantity_text,
+            value,
+            unit_text,
+            resolved.dimension,
+        ))?;
         return Ok(EXIT_USAGE);
     }
-    print(&conversion_text(quantity_text, value, unit_text, &target, resolved.si_factor))?;
+    print(&conversion_text(
+        quantity_text,
+        value,
+        unit_text,
+        &target,
+        resolved.si_factor,
+    ))?;
     Ok(EXIT_CLEAN)
 }
 
-fn mismatch_text(quantity_text: &str, value: Quantity, unit_text: &str, target: units::Dimension) -> String {
+fn mismatch_text(
+    quantity_text: &str,
+    value: Quantity,
+    unit_text: &str,
+    target: units::Dimension,
+) -> String {
     let mut text = format!(
         "cannot convert `{quantity_text}` ({}) to {unit_text} ({})\n",
         value.dimension.describe(),
         target.describe()
     );
     if value.dimension.checked_mul(units::Dimension::ACCELERATION) == Some(target) {
-        let _ = writeln!(text, "help: a weight is mass × g0: try `heft convert \"({quantity_text}) * g0\" {unit_text}`");
+        let _ = writeln!(
+            text,
+            "help: a weight is mass × g0: try `heft convert \"({quantity_text}) * g0\" {unit_text}`"
+        );
     } else if target.checked_mul(units::Dimension::ACCELERATION) == Some(value.dimension) {
-        let _ = writeln!(text, "help: a mass is weight / g0: try `heft convert \"({quantity_text}) / g0\" {unit_text}`");
+        let _ = writeln!(
+            text,
+            "help: a mass is weight / g0: try `heft convert \"({quantity_text}) / g0\" {unit_text}`"
+        );
     }
     text
 }
 
-fn conversion_text(quantity_text: &str, value: Quantity, unit_text: &str, target: &UnitExpr, target_si: f64) -> String {
+fn conversion_text(
+    quantity_text: &str,
+    value: Quantity,
+    unit_text: &str,
+    target: &UnitExpr,
+    target_si: f64,
+) -> String {
     let converted = value.si / target_si;
     let mut text = format!("{quantity_text} = {converted} {unit_text}\n");
     let target_exact = exact(target);
-    let literal = crate::syntax::parse_expression(quantity_text).ok().and_then(|expr| match expr.kind {
-        ExprKind::Quantity { number_span, unit, .. } => Some((number_span.text(quantity_text).to_string(), unit)),
-        _ => None,
-    });
+    let literal = crate::syntax::parse_expression(quantity_text)
+        .ok()
+        .and_then(|expr| match expr.kind {
+            ExprKind::Quantity {
+                number_span, unit, ..
+            } => Some((number_span.text(quantity_text).to_string(), unit)),
+            _ => None,
+        });
     let mut involved: Vec<String> = Vec::new();
     if let Some((number, unit)) = &literal
         && let (Some(from), Some(to)) = (exact(unit), target_exact.as_ref())
     {
         let factor = from.over(to);
         let source_unit = unit.span.text(quantity_text);
-        let _ = writeln!(text, "\nfactor: 1 {source_unit} = {} {unit_text}", factor.approximate_text(20));
+        let _ = writeln!(
+            text,
+            "\nfactor: 1 {source_unit} = {} {unit_text}",
+            factor.approximate_text(20)
+        );
         if !factor.terminates() && factor.pi_power == 0 {
             let _ = writeln!(text, "        exactly {} {unit_text}", factor.exact_text());
         }
         let result = ExactFactor::decimal(number).times(&factor);
-        let exactly = if result.terminates() || result.pi_power != 0 { result.exact_text() } else { format!("{} (= {})", result.exact_text(), result.approximate_text(20)) };
-        let _ = writeln!(text, "result: {number} {source_unit} = {exactly} {unit_text} exactly");
-        involved.extend(unit.factors.iter().map(|f| f.symbol.clone()));
+        let exactly = if result.terminates() || result.pi_power != 0 {
+            result.exact_text()
+        } else {
+            format!(
+                "{} (= {})",
+                result.exact_text(),
+                result.approximate_text(20)
+            )
+        };
+        let _ = writeln!(
+            text,
+            "result: {number} {source_unit} = {exactly} {unit_text} exactly"
+        );
+        involved.extend(unit.factors.iter().map(|f| f.symbol.to_string()));
     } else {
-        let _ = writeln!(text, "\n(an expression: its units are listed below; the value is computed in SI and rounded once)");
+        let _ = writeln!(
+            text,
+            "\n(an expression: its units are listed below; the value is computed in SI and rounded once)"
+        );
         if let Ok(expr) = crate::syntax::parse_expression(quantity_text) {
             expr.walk(&mut |node| {
                 if let ExprKind::Quantity { unit, .. } | ExprKind::UnitValue(unit) = &node.kind {
-                    involved.extend(unit.factors.iter().map(|f| f.symbol.clone()));
+                    involved.extend(unit.factors.iter().map(|f| f.symbol.to_string()));
                 }
             });
         }
     }
-    involved.extend(target.factors.iter().map(|f| f.symbol.clone()));
+    involved.extend(target.factors.iter().map(|f| f.symbol.to_string()));
     let mut seen = std::collections::HashSet::new();
     involved.retain(|symbol| seen.insert(symbol.clone()));
     let _ = writeln!(text, "\nunits:");
     for symbol in involved {
-        let Some(unit) = catalog().get(&symbol) else { continue };
+        let Some(unit) = catalog().get(&symbol) else {
+            continue;
+        };
         let si_units = unit.dimension.si_units();
-        let si_units = if unit.dimension.is_dimensionless() { String::new() } else { format!(" {si_units}") };
+        let si_units = if unit.dimension.is_dimensionless() {
+            String::new()
+        } else {
+            format!(" {si_units}")
+        };
         let _ = writeln!(text, "  {symbol:<5} {} ({})", unit.definition, unit.name);
-        let _ = writeln!(text, "        1 {symbol} = {}{si_units}", unit.factor.approximate_text(20));
+        let _ = writeln!(
+            text,
+            "        1 {symbol} = {}{si_units}",
+            unit.factor.approximate_text(20)
+        );
         if !unit.factor.terminates() && unit.factor.pi_power == 0 {
-            let _ = writeln!(text, "        exactly {}{si_units}", unit.factor.exact_text());
+            let _ = writeln!(
+                text,
+                "        exactly {}{si_units}",
+                unit.factor.exact_text()
+            );
         }
         let _ = writeln!(text, "        source: {}", unit.source);
     }
@@ -99,5 +163,5 @@ fn conversion_text(quantity_text: &str, value: Quantity, unit_text: &str, target
 }
 
 fn exact(unit: &UnitExpr) -> Option<ExactFactor> {
-    units::exact_factor(unit.factors.iter().map(|f| (f.symbol.as_str(), f.exponent)))
+    units::exact_factor(unit.factors.iter().map(|f| (&*f.symbol, f.exponent)))
 }

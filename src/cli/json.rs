@@ -63,7 +63,9 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
         .cells
         .iter()
         .map(|cell| {
-            let value = cell.value.filter(|_| cell.status == crate::eval::CellStatus::Ok);
+            let value = cell
+                .value
+                .filter(|_| cell.status == crate::eval::CellStatus::Ok);
             let dimension = value.map(|v| v.dimension).unwrap_or_default();
             Cell {
                 name: &cell.name,
@@ -79,7 +81,9 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
                     .collect(),
                 status: cell.status.as_str(),
                 blocked_by: match cell.status {
-                    crate::eval::CellStatus::Blocked { by } => Some(evaluated.cells[by].name.as_str()),
+                    crate::eval::CellStatus::Blocked { by } => {
+                        Some(evaluated.cells[by].name.as_str())
+                    }
                     _ => None,
                 },
             }
@@ -89,9 +93,14 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
         .checks
         .iter()
         .map(|check| Check {
-            line: lines.line_of(check.span.start) + 1,
+            line: lines.line_of(check.span.start()) + 1,
             label: check.label.as_deref(),
-            expression: format!("{} {} {}", check.lhs_text, check.comparison.symbol(), check.rhs_text),
+            expression: format!(
+                "{} {} {}",
+                check.lhs_text,
+                check.comparison.symbol(),
+                check.rhs_text
+            ),
             passed: check.passed(),
             utilization: check.utilization,
         })
@@ -106,15 +115,24 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
         clean: evaluated.is_clean(),
         cells,
         checks,
-        diagnostics: evaluated.diagnostics.iter().map(|d| diagnostic(d, source, lines)).collect(),
+        diagnostics: evaluated
+            .diagnostics
+            .iter()
+            .map(|d| diagnostic(d, source, lines))
+            .collect(),
     };
-    let mut text = serde_json::to_string_pretty(&report).unwrap_or_else(|error| format!("{{\"error\": \"{error}\"}}"));
+    let mut text = serde_json::to_string_pretty(&report)
+        .unwrap_or_else(|error| format!("{{\"error\": \"{error}\"}}"));
     text.push('\n');
     text
 }
 
-fn diagnostic<'a>(diagnostic: &'a Diagnostic, source: &str, lines: &LineIndex) -> JsonDiagnostic<'a> {
-    let position = lines.line_column(source, diagnostic.span.start);
+fn diagnostic<'a>(
+    diagnostic: &'a Diagnostic,
+    source: &str,
+    lines: &LineIndex,
+) -> JsonDiagnostic<'a> {
+    let position = lines.line_column(source, diagnostic.span.start());
     JsonDiagnostic {
         severity: diagnostic.severity.as_str(),
         code: diagnostic.code.as_str(),

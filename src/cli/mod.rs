@@ -72,10 +72,16 @@ pub fn run(args: Args) -> ExitCode {
     let colour = match args.color {
         Colour::Always => true,
         Colour::Never => false,
-        Colour::Auto => io::stdout().is_terminal() && std::env::var_os("NO_COLOR").is_none_or(|v| v.is_empty()),
+        Colour::Auto => {
+            io::stdout().is_terminal() && std::env::var_os("NO_COLOR").is_none_or(|v| v.is_empty())
+        }
     };
     let outcome = match args.command {
-        Command::Check { file, json, deny_warnings } => check::run(&file, json, deny_warnings, colour),
+        Command::Check {
+            file,
+            json,
+            deny_warnings,
+        } => check::run(&file, json, deny_warnings, colour),
         Command::Convert { quantity, unit } => convert::run(&quantity, &unit, colour),
         Command::Units => units_list::run(),
     };
@@ -91,7 +97,18 @@ pub fn run(args: Args) -> ExitCode {
 
 /// Reads a sheet, turning a missing or unreadable file into a message.
 fn read_sheet(path: &Path) -> io::Result<(String, Option<crate::diag::Diagnostic>)> {
-    let bytes = std::fs::read(path).map_err(|error| io::Error::new(error.kind(), format!("cannot read {}: {error}", path.display())))?;
+    let bytes = std::fs::read(path).map_err(|error| {
+        io::Error::new(
+            error.kind(),
+            format!("cannot read {}: {error}", path.display()),
+        )
+    })?;
+    if bytes.len() > crate::syntax::MAX_SOURCE_LEN {
+        return Err(io::Error::new(
+            io::ErrorKind::InvalidData,
+            format!("{} is larger than 4 GiB", path.display()),
+        ));
+    }
     Ok(crate::decode_source(&bytes))
 }
 

@@ -3,13 +3,17 @@
 use std::fmt::Write as _;
 use std::io;
 
-use super::{print, EXIT_CLEAN};
-use crate::units::{catalog, AMBIGUOUS};
+use super::{EXIT_CLEAN, print};
+use crate::units::{AMBIGUOUS, catalog};
 
 /// Runs `heft units`.
 pub fn run() -> io::Result<u8> {
     let mut text = String::new();
-    let _ = writeln!(text, "{:<6} {:<28} {:<26} {:<24} definition", "symbol", "name", "dimension", "SI value");
+    let _ = writeln!(
+        text,
+        "{:<6} {:<28} {:<26} {:<24} definition",
+        "symbol", "name", "dimension", "SI value"
+    );
     for unit in catalog().units() {
         let _ = writeln!(
             text,
@@ -23,7 +27,11 @@ pub fn run() -> io::Result<u8> {
     }
     let _ = writeln!(text, "\nrefused as ambiguous:");
     for ambiguity in AMBIGUOUS {
-        let _ = writeln!(text, "  {:<8} write {}", ambiguity.symbol, ambiguity.choices);
+        let _ = writeln!(
+            text,
+            "  {:<8} write {}",
+            ambiguity.symbol, ambiguity.choices
+        );
     }
     print(&text)?;
     Ok(EXIT_CLEAN)

@@ -3,7 +3,7 @@
 
 use crate::diag::{Code, Diagnostic};
 use crate::syntax::Span;
-use crate::units::{format_significant, pick_unit, Dimension, DisplaySystem, Quantity};
+use crate::units::{Dimension, DisplaySystem, Quantity, format_significant, pick_unit};
 
 /// How values are written in messages.
 #[derive(Clone, Copy, Debug)]
@@ -18,17 +18,27 @@ impl Style {
     /// `1850 kg`, `4079 lbf`, `0.5` — rounded, in a readable unit.
     pub fn show(self, quantity: Quantity) -> String {
         let unit = pick_unit(quantity.dimension, quantity.si, self.system);
-        with_unit(format_significant(unit.value_of(quantity.si), self.sig_figs), &unit.text)
+        with_unit(
+            format_significant(unit.value_of(quantity.si), self.sig_figs),
+            &unit.text,
+        )
     }
 
     /// `si` in a given unit: `4079 lbf`.
     pub fn show_in(self, si: f64, unit_text: &str, unit_si_factor: f64) -> String {
-        with_unit(format_significant(si / unit_si_factor, self.sig_figs), unit_text)
+        with_unit(
+            format_significant(si / unit_si_factor, self.sig_figs),
+            unit_text,
+        )
     }
 }
 
 fn with_unit(number: String, unit: &str) -> String {
-    if unit.is_empty() { number } else { format!("{number} {unit}") }
+    if unit.is_empty() {
+        number
+    } else {
+        format!("{number} {unit}")
+    }
 }
 
 /// Whether `heavier` is `lighter` times an acceleration: a force against a
@@ -49,9 +59,20 @@ pub(crate) struct Operand<'a> {
 
 /// `cannot add a mass (10 kg) and a force (5 N)`, with the weight/mass fix
 /// when the two differ by an acceleration.
-pub(crate) fn mismatch(action: &str, left: &Operand<'_>, right: &Operand<'_>, style: Style) -> Diagnostic {
+pub(crate) fn mismatch(
+    action: &str,
+    left: &Operand<'_>,
+    right: &Operand<'_>,
+    style: Style,
+) -> Diagnostic {
     let (l, r) = (left.value, right.value);
-    let describe = |operand: &Operand<'_>| format!("{} ({})", operand.value.dimension.describe(), style.show(operand.value));
+    let describe = |operand: &Operand<'_>| {
+        format!(
+            "{} ({})",
+            operand.value.dimension.describe(),
+            style.show(operand.value)
+        )
+    };
     let message = format!("cannot {action} {} and {}", describe(left), describe(right));
     let weight_mass = if differs_by_acceleration(l.dimension, r.dimension) {
         Some((right, left))
@@ -61,18 +82,28 @@ pub(crate) fn mismatch(action: &str, left: &Operand<'_>, right: &Operand<'_>, st
         None
     };
     let (code, message) = match weight_mass {
-        Some(_) if [l.dimension, r.dimension].contains(&Dimension::MASS) => {
-            (Code::MassWeightMixup, format!("{message}: a weight is not a mass"))
-        }
-        Some(_) => (Code::MassWeightMixup, format!("{message}: they differ by an acceleration, as a weight differs from a mass")),
+        Some(_) if [l.dimension, r.dimension].contains(&Dimension::MASS) => (
+            Code::MassWeightMixup,
+            format!("{message}: a weight is not a mass"),
+        ),
+        Some(_) => (
+            Code::MassWeightMixup,
+            format!("{message}: they differ by an acceleration, as a weight differs from a mass"),
+        ),
         None => (Code::DimensionMismatch, message),
     };
     let mut diagnostic = Diagnostic::error(code, left.span.to(right.span), message)
         .with_label(left.span, describe(left))
         .with_label(right.span, describe(right));
     if let Some((lighter, heavier)) = weight_mass {
-        let as_mass = Quantity::new(heavier.value.si / crate::units::STANDARD_GRAVITY, lighter.value.dimension);
-        let as_weight = Quantity::new(lighter.value.si * crate::units::STANDARD_GRAVITY, heavier.value.dimension);
+        let as_mass = Quantity::new(
+            heavier.value.si / crate::units::STANDARD_GRAVITY,
+            lighter.value.dimension,
+        );
+        let as_weight = Quantity::new(
+            lighter.value.si * crate::units::STANDARD_GRAVITY,
+            heavier.value.dimension,
+        );
         diagnostic = diagnostic.with_help(format!(
             "if `{}` is a weight, its mass is `({}) / g0` = {}; the weight of `{}` is `({}) * g0` = {}",
             heavier.text,
@@ -112,31 +143,72 @@ pub(crate) struct DeclaredMismatch<'a> {
 pub(crate) fn declared_mismatch(cell: &DeclaredMismatch<'_>, style: Style) -> Diagnostic {
     let found = cell.value.dimension;
     let gives = if cell.formula_is_name {
-        format!("`{}` is {} ({})", cell.formula, found.describe(), style.show(cell.value))
+        format!(
+            "`{}` is {} ({})",
+            cell.formula,
+            found.describe(),
+            style.show(cell.value)
+        )
     } else {
-        format!("its formula gives {} ({})", found.describe(), style.show(cell.value))
+        format!(
+            "its formula gives {} ({})",
+            found.describe(),
+            style.show(cell.value)
+        )
     };
-    let declared = format!("`{}` is {} (declared in {})", cell.name, cell.declared.describe(), cell.unit_text);
+    let declared = format!(
+        "`{}` is {} (declared in {})",
+        cell.name,
+        cell.declared.describe(),
+        cell.unit_text
+    );
     let in_declared = |si: f64| style.show_in(si, cell.unit_text, cell.unit_si_factor);
     let g0 = crate::units::STANDARD_GRAVITY;
-    let formula = if cell.formula_is_name { cell.formula.to_string() } else { format!("({})", cell.formula) };
+    let formula = if cell.formula_is_name {
+        cell.formula.to_string()
+    } else {
+        format!("({})", cell.formula)
+    };
     let diagnostic = if differs_by_acceleration(cell.declared, found) {
         let weight = in_declared(cell.value.si * g0);
-        let what = if found == Dimension::MASS { "a weight is mass × g0" } else { "multiplied by g0 it would be" };
-        Diagnostic::error(Code::MassWeightMixup, cell.formula_span, format!("{declared} but {gives}; {what} = {weight}"))
-            .with_help(format!("write `{formula} * g0` (= {weight})"))
+        let what = if found == Dimension::MASS {
+            "a weight is mass × g0"
+        } else {
+            "multiplied by g0 it would be"
+        };
+        Diagnostic::error(
+            Code::MassWeightMixup,
+            cell.formula_span,
+            format!("{declared} but {gives}; {what} = {weight}"),
+        )
+        .with_help(format!("write `{formula} * g0` (= {weight})"))
     } else if differs_by_acceleration(found, cell.declared) {
         let mass = in_declared(cell.value.si / g0);
-        let what = if cell.declared == Dimension::MASS { "a mass is weight / g0" } else { "divided by g0 it would be" };
-        Diagnostic::error(Code::MassWeightMixup, cell.formula_span, format!("{declared} but {gives}; {what} = {mass}"))
-            .with_help(format!("write `{formula} / g0` (= {mass})"))
+        let what = if cell.declared == Dimension::MASS {
+            "a mass is weight / g0"
+        } else {
+            "divided by g0 it would be"
+        };
+        Diagnostic::error(
+            Code::MassWeightMixup,
+            cell.formula_span,
+            format!("{declared} but {gives}; {what} = {mass}"),
+        )
+        .with_help(format!("write `{formula} / g0` (= {mass})"))
     } else {
-        Diagnostic::error(Code::DeclaredUnitMismatch, cell.formula_span, format!("{declared} but {gives}"))
-            .with_help(format!(
-                "change the unit in brackets to one for {}, such as [{}], or fix the formula",
-                found.describe(),
-                pick_unit(found, cell.value.si, style.system).text
-            ))
+        Diagnostic::error(
+            Code::DeclaredUnitMismatch,
+            cell.formula_span,
+            format!("{declared} but {gives}"),
+        )
+        .with_help(format!(
+            "change the unit in brackets to one for {}, such as [{}], or fix the formula",
+            found.describe(),
+            pick_unit(found, cell.value.si, style.system).text
+        ))
     };
-    diagnostic.with_label(cell.unit_span, format!("declared as {}", cell.declared.describe()))
+    diagnostic.with_label(
+        cell.unit_span,
+        format!("declared as {}", cell.declared.describe()),
+    )
 }

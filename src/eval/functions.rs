@@ -68,21 +68,96 @@ pub struct Function {
 
 /// Every built-in function.
 pub const FUNCTIONS: &[Function] = &[
-    Function { name: "sqrt", arity: Arity::Exactly(1), doc: "square root; halves every dimension exponent", apply: sqrt },
-    Function { name: "abs", arity: Arity::Exactly(1), doc: "absolute value, same dimension", apply: abs },
-    Function { name: "sin", arity: Arity::Exactly(1), doc: "sine of an angle (a plain number in radians; write 30 deg)", apply: |a| plain(a, libm::sin) },
-    Function { name: "cos", arity: Arity::Exactly(1), doc: "cosine of an angle", apply: |a| plain(a, libm::cos) },
-    Function { name: "tan", arity: Arity::Exactly(1), doc: "tangent of an angle", apply: |a| plain(a, libm::tan) },
-    Function { name: "asin", arity: Arity::Exactly(1), doc: "inverse sine, in radians", apply: |a| unit_interval(a, libm::asin) },
-    Function { name: "acos", arity: Arity::Exactly(1), doc: "inverse cosine, in radians", apply: |a| unit_interval(a, libm::acos) },
-    Function { name: "atan", arity: Arity::Exactly(1), doc: "inverse tangent, in radians", apply: |a| plain(a, libm::atan) },
-    Function { name: "atan2", arity: Arity::Exactly(2), doc: "angle of the point (x, y): atan2(y, x), both of one dimension", apply: atan2 },
-    Function { name: "exp", arity: Arity::Exactly(1), doc: "e to the power of a plain number", apply: |a| plain(a, libm::exp) },
-    Function { name: "ln", arity: Arity::Exactly(1), doc: "natural logarithm of a positive plain number", apply: |a| positive(a, libm::log) },
-    Function { name: "log10", arity: Arity::Exactly(1), doc: "base-10 logarithm of a positive plain number", apply: |a| positive(a, libm::log10) },
-    Function { name: "min", arity: Arity::AtLeast(1), doc: "smallest of its arguments, all of one dimension", apply: |a| extreme(a, f64::min) },
-    Function { name: "max", arity: Arity::AtLeast(1), doc: "largest of its arguments, all of one dimension", apply: |a| extreme(a, f64::max) },
-    Function { name: "hypot", arity: Arity::AtLeast(2), doc: "√(a² + b² + …), all of one dimension", apply: hypot },
+    Function {
+        name: "sqrt",
+        arity: Arity::Exactly(1),
+        doc: "square root; halves every dimension exponent",
+        apply: sqrt,
+    },
+    Function {
+        name: "abs",
+        arity: Arity::Exactly(1),
+        doc: "absolute value, same dimension",
+        apply: abs,
+    },
+    Function {
+        name: "sin",
+        arity: Arity::Exactly(1),
+        doc: "sine of an angle (a plain number in radians; write 30 deg)",
+        apply: |a| plain(a, libm::sin),
+    },
+    Function {
+        name: "cos",
+        arity: Arity::Exactly(1),
+        doc: "cosine of an angle",
+        apply: |a| plain(a, libm::cos),
+    },
+    Function {
+        name: "tan",
+        arity: Arity::Exactly(1),
+        doc: "tangent of an angle",
+        apply: |a| plain(a, libm::tan),
+    },
+    Function {
+        name: "asin",
+        arity: Arity::Exactly(1),
+        doc: "inverse sine, in radians",
+        apply: |a| unit_interval(a, libm::asin),
+    },
+    Function {
+        name: "acos",
+        arity: Arity::Exactly(1),
+        doc: "inverse cosine, in radians",
+        apply: |a| unit_interval(a, libm::acos),
+    },
+    Function {
+        name: "atan",
+        arity: Arity::Exactly(1),
+        doc: "inverse tangent, in radians",
+        apply: |a| plain(a, libm::atan),
+    },
+    Function {
+        name: "atan2",
+        arity: Arity::Exactly(2),
+        doc: "angle of the point (x, y): atan2(y, x), both of one dimension",
+        apply: atan2,
+    },
+    Function {
+        name: "exp",
+        arity: Arity::Exactly(1),
+        doc: "e to the power of a plain number",
+        apply: |a| plain(a, libm::exp),
+    },
+    Function {
+        name: "ln",
+        arity: Arity::Exactly(1),
+        doc: "natural logarithm of a positive plain number",
+        apply: |a| positive(a, libm::log),
+    },
+    Function {
+        name: "log10",
+        arity: Arity::Exactly(1),
+        doc: "base-10 logarithm of a positive plain number",
+        apply: |a| positive(a, libm::log10),
+    },
+    Function {
+        name: "min",
+        arity: Arity::AtLeast(1),
+        doc: "smallest of its arguments, all of one dimension",
+        apply: |a| extreme(a, f64::min),
+    },
+    Function {
+        name: "max",
+        arity: Arity::AtLeast(1),
+        doc: "largest of its arguments, all of one dimension",
+        apply: |a| extreme(a, f64::max),
+    },
+    Function {
+        name: "hypot",
+        arity: Arity::AtLeast(2),
+        doc: "√(a² + b² + …), all of one dimension",
+        apply: hypot,
+    },
 ];
 
 /// The function with this name.
@@ -91,7 +166,10 @@ pub fn function(name: &str) -> Option<&'static Function> {
 }
 
 fn require_plain(args: &[Quantity]) -> Result<(), CallError> {
-    match args.iter().position(|arg| !arg.dimension.is_dimensionless()) {
+    match args
+        .iter()
+        .position(|arg| !arg.dimension.is_dimensionless())
+    {
         Some(argument) => Err(CallError::NotDimensionless { argument }),
         None => Ok(()),
     }
@@ -113,7 +191,10 @@ fn plain(args: &[Quantity], f: fn(f64) -> f64) -> Result<Quantity, CallError> {
 fn unit_interval(args: &[Quantity], f: fn(f64) -> f64) -> Result<Quantity, CallError> {
     require_plain(args)?;
     if !(-1.0..=1.0).contains(&args[0].si) {
-        return Err(CallError::Domain { argument: 0, expected: "a number from -1 to 1" });
+        return Err(CallError::Domain {
+            argument: 0,
+            expected: "a number from -1 to 1",
+        });
     }
     Ok(Quantity::number(f(args[0].si)))
 }
@@ -121,7 +202,10 @@ fn unit_interval(args: &[Quantity], f: fn(f64) -> f64) -> Result<Quantity, CallE
 fn positive(args: &[Quantity], f: fn(f64) -> f64) -> Result<Quantity, CallError> {
     require_plain(args)?;
     if args[0].si <= 0.0 {
-        return Err(CallError::Domain { argument: 0, expected: "a number greater than zero" });
+        return Err(CallError::Domain {
+            argument: 0,
+            expected: "a number greater than zero",
+        });
     }
     Ok(Quantity::number(f(args[0].si)))
 }
@@ -129,7 +213,10 @@ fn positive(args: &[Quantity], f: fn(f64) -> f64) -> Result<Quantity, CallError>
 fn sqrt(args: &[Quantity]) -> Result<Quantity, CallError> {
     let dimension = args[0].dimension.root(2).ok_or(CallError::OddRoot)?;
     if args[0].si < 0.0 {
-        return Err(CallError::Domain { argument: 0, expected: "a value of zero or more" });
+        return Err(CallError::Domain {
+            argument: 0,
+            expected: "a value of zero or more",
+        });
     }
     Ok(Quantity::new(libm::sqrt(args[0].si), dimension))
 }
@@ -145,7 +232,11 @@ fn atan2(args: &[Quantity]) -> Result<Quantity, CallError> {
 
 fn extreme(args: &[Quantity], pick: fn(f64, f64) -> f64) -> Result<Quantity, CallError> {
     let dimension = require_same(args)?;
-    let value = args.iter().map(|arg| arg.si).reduce(pick).unwrap_or(f64::NAN);
+    let value = args
+        .iter()
+        .map(|arg| arg.si)
+        .reduce(pick)
+        .unwrap_or(f64::NAN);
     Ok(Quantity::new(value, dimension))
 }
 

@@ -8,14 +8,22 @@ mod model;
 
 pub use model::{CellResult, CellStatus, CheckResult, CheckStatus, Evaluated, OutlineItem};
 
-use explain::{declared_mismatch, mismatch, DeclaredMismatch, Operand, Style};
-use functions::{function, CallError};
+use std::cell::RefCell;
+
+use rustc_hash::FxHashMap;
+
+use explain::{DeclaredMismatch, Operand, Style, declared_mismatch, mismatch};
+use functions::{CallError, function};
 
 use crate::diag::{Code, Diagnostic};
 use crate::sheet::{CellId, Item, Sheet};
-use crate::syntax::ast::{BinaryOp, Comparison, Expr, ExprKind, StatementKind, UnitExpr};
+use crate::syntax::ast::{
+    BinaryOp, Comparison, Expr, ExprKind, NameRef, StatementKind, Target, UnitExpr,
+};
 use crate::syntax::{LineIndex, Span};
-use crate::units::{self, pick_unit, DisplayUnit, Quantity, QuantityError, ResolvedUnit, UnitErrorKind};
+use crate::units::{
+    self, DisplayUnit, Quantity, QuantityError, ResolvedUnit, UnitErrorKind, pick_unit,
+};
 
 type Evaluation = Result<Quantity, Box<Diagnostic>>;
 
@@ -30,13 +38,18 @@ pub fn evaluate(sheet: &Sheet, source: &str) -> Evaluated {
     for &id in &sheet.order.order {
         evaluator.evaluate_cell(id);
     }
-    let checks = (0..sheet.checks.len()).map(|index| evaluator.evaluate_check(index)).collect();
+    let checks = (0..sheet.checks.len())
+        .map(|index| evaluator.evaluate_check(index))
+        .collect();
     evaluator.finish(checks)
 }
 
 struct Evaluator<'a> {
     sheet: &'a Sheet,
     source: &'a str,
+    /// Units already looked up, by their text: a sheet repeats a few units
+    /// many times.
+    unit_cache: RefCell<FxHashMap<&'a str, ResolvedUnit>>,
     style: Style,
     values: Vec<Option<Quantity>>,
     statuses: Vec<CellStatus>,
@@ -48,7 +61,9 @@ struct Evaluator<'a> {
 pub fn evaluate_expression(text: &str) -> Result<Quantity, Diagnostic> {
     let expr = crate::syntax::parse_expression(text)?;
     let sheet = Sheet::parse("");
-    Evaluator::new(&sheet, text).eval(&expr).map_err(|diagnostic| *diagnostic)
+    Evaluator::new(&sheet, text)
+        .eval(&expr)
+        .map_err(|diagnostic| *diagnostic)
 }
 
 /// Reads one unit expression on its own: the unit as parsed, and its
@@ -56,7 +71,9 @@ pub fn evaluate_expression(text: &str) -> Result<Quantity, Diagnostic> {
 pub fn evaluate_unit(text: &str) -> Result<(UnitExpr, ResolvedUnit), Diagnostic> {
     let unit = crate::syntax::parse_unit(text)?;
     let sheet = Sheet::parse("");
-    let resolved = Evaluator::new(&sheet, text).resolve_unit(&unit).map_err(|diagnostic| *diagnostic)?;
+    let resolved = Evaluator::new(&sheet, text)
+        .resolve_unit(&unit)
+        .map_err(|diagnostic| *diagnostic)?;
     Ok((unit, resolved))
 }
 
@@ -65,6 +82,7 @@ impl<'a> Evaluator<'a> {
         Evaluator {
             sheet,
             source,
+            unit_cache: RefCell::default(),
             style: Style {
                 system: sheet.header.display,
                 sig_figs: sheet.header.sig_figs,
@@ -153,7 +171,9 @@ impl<'a> Evaluator<'a> {
             result.status = CheckStatus::Blocked { by: blocker };
             return result;
         }
-        let sides = self.eval(&check.lhs).and_then(|lhs| Ok((lhs, self.eval(&check.rhs)?)));
+        let sides = self
+            .eval(&check.lhs)
+            .and_then(|lhs| Ok((lhs, self.eval(&check.rhs)?)));
         let (lhs, rhs) = match sides {
             Ok(sides) => sides,
             Err(diagnostic) => {
@@ -162,9 +182,18 @@ impl<'a> Evaluator<'a> {
             }
         };
         if lhs.dimension != rhs.dimension {
-            let left = Operand { span: check.lhs.span, text: &result.lhs_text, value: lhs };
-            let right = Operand { span: check.rhs.span, text: &result.rhs_text, value: rhs };
-            self.diagnostics.push(mismatch("compare", &left, &right, self.style));
+            let left = Operand {
+                span: check.lhs.span,
+                text: &result.lhs_text,
+                value: lhs,
+            };
+            let right = Operand {
+                span: check.rhs.span,
+                text: &result.rhs_text,
+                value: rhs,
+            };
+            self.diagnostics
+                .push(mismatch("compare", &left, &right, self.style));
             return result;
         }
         result.display = self.check_display_unit(&check.lhs, &check.rhs, lhs);
@@ -179,20 +208,41 @@ impl<'a> Evaluator<'a> {
             Comparison::AtMost | Comparison::Below => (a, b),
             Comparison::AtLeast | Comparison::Above => (b, a),
         };
-        result.utilization = (denominator != 0.0).then(|| numerator / denominator).filter(|u| u.is_finite());
+        result.utilization = (denominator != 0.0)
+            .then(|| numerator / denominator)
+            .filter(|u| u.is_finite());
         result.lhs = Some(lhs);
         result.rhs = Some(rhs);
-        result.status = if passed { CheckStatus::Passed } else { CheckStatus::Failed };
+        result.status = if passed {
+            CheckStatus::Passed
+        } else {
+            CheckStatus::Failed
+        };
         if !passed {
             let shown = |text: &str, q: Quantity| {
-                let value = self.style.show_in(q.si, &result.display.text, result.display.si_factor);
-                if value == text { value } else { format!("{text} = {value}") }
+                let value =
+                    self.style
+                        .show_in(q.si, &result.display.text, result.display.si_factor);
+                if value == text {
+                    value
+                } else {
+                    format!("{text} = {value}")
+                }
             };
             let utilization = result
                 .utilization
-                .map(|u| format!(" (utilization {} %)", units::format_significant(u * 100.0, 4)))
+                .map(|u| {
+                    format!(
+                        " (utilization {} %)",
+                        units::format_significant(u * 100.0, 4)
+                    )
+                })
                 .unwrap_or_default();
-            let label = result.label.as_deref().map(|label| format!(": {label}")).unwrap_or_default();
+            let label = result
+                .label
+                .as_deref()
+                .map(|label| format!(": {label}"))
+                .unwrap_or_default();
             self.diagnostics.push(
                 Diagnostic::error(
                     Code::CheckFailed,
@@ -216,8 +266,11 @@ impl<'a> Evaluator<'a> {
         [lhs, rhs]
             .into_iter()
             .find_map(|side| match &side.kind {
-                ExprKind::Name(name) => {
-                    let id = *self.sheet.names.get(name)?;
+                ExprKind::Name(NameRef {
+                    target: Target::Cell(id),
+                    ..
+                }) => {
+                    let id = *id;
                     let unit = self.sheet.cell(id).unit.as_ref()?;
                     let resolved = self.resolve_unit(unit).ok()?;
                     Some(DisplayUnit {
@@ -242,42 +295,54 @@ impl<'a> Evaluator<'a> {
                 Quantity::new(unit.si_factor, unit.dimension)
             }
             ExprKind::Name(name) => self.lookup(name, expr.span)?,
-            ExprKind::Negate(inner) => self.eval(inner)?.neg(),
+            ExprKind::Negate(inner) => -self.eval(inner)?,
             ExprKind::Binary { op, lhs, rhs } => self.binary(*op, lhs, rhs, expr.span)?,
-            ExprKind::Call { function: name, args } => self.call(&name.text, name.span, args, expr.span)?,
+            ExprKind::Call {
+                function: name,
+                args,
+            } => self.call(&name.text, name.span, args, expr.span)?,
         };
         if value.si.is_finite() {
             Ok(value)
         } else {
             Err(Box::new(
-                Diagnostic::error(Code::NotFinite, expr.span, format!("`{}` is not a finite number", expr.span.text(self.source)))
-                    .with_help("a value overflowed; check the exponents and units of the inputs"),
+                Diagnostic::error(
+                    Code::NotFinite,
+                    expr.span,
+                    format!("`{}` is not a finite number", expr.span.text(self.source)),
+                )
+                .with_help("a value overflowed; check the exponents and units of the inputs"),
             ))
         }
     }
 
-    fn lookup(&self, name: &str, span: Span) -> Evaluation {
-        if let Some(&id) = self.sheet.names.get(name) {
-            return self.values[id].ok_or_else(|| {
-                Box::new(Diagnostic::error(Code::UndefinedName, span, format!("`{name}` has no value")))
-            });
-        }
-        match units::constant(name) {
-            Some(constant) => Ok(constant.value),
-            None => Err(Box::new(Diagnostic::error(Code::UndefinedName, span, format!("`{name}` is not defined")))),
-        }
+    fn lookup(&self, name: &NameRef, span: Span) -> Evaluation {
+        let value = match name.target {
+            Target::Cell(id) => self.values[id],
+            Target::Constant(index) => units::CONSTANTS.get(index).map(|constant| constant.value),
+            Target::Unresolved => units::constant(&name.text).map(|constant| constant.value),
+        };
+        value.ok_or_else(|| {
+            Box::new(Diagnostic::error(
+                Code::UndefinedName,
+                span,
+                format!("`{}` is not defined", name.text),
+            ))
+        })
     }
 
     fn binary(&self, op: BinaryOp, lhs: &Expr, rhs: &Expr, span: Span) -> Evaluation {
         let (left, right) = (self.eval(lhs)?, self.eval(rhs)?);
         let result = match op {
-            BinaryOp::Add => left.add(right),
-            BinaryOp::Subtract => left.sub(right),
-            BinaryOp::Multiply => left.mul(right),
-            BinaryOp::Divide => left.div(right),
-            BinaryOp::Power => left.pow(right),
+            BinaryOp::Add => left.try_add(right),
+            BinaryOp::Subtract => left.try_sub(right),
+            BinaryOp::Multiply => left.try_mul(right),
+            BinaryOp::Divide => left.try_div(right),
+            BinaryOp::Power => left.try_pow(right),
         };
-        result.map_err(|error| Box::new(self.operation_error(error, op, (lhs, left), (rhs, right), span)))
+        result.map_err(|error| {
+            Box::new(self.operation_error(error, op, (lhs, left), (rhs, right), span))
+        })
     }
 
     fn operation_error(
@@ -331,8 +396,11 @@ impl<'a> Evaluator<'a> {
 
     fn call(&self, name: &str, name_span: Span, args: &[Expr], span: Span) -> Evaluation {
         let Some(function) = function(name) else {
-            let mut diagnostic =
-                Diagnostic::error(Code::BadCall, name_span, format!("there is no function `{name}`"));
+            let mut diagnostic = Diagnostic::error(
+                Code::BadCall,
+                name_span,
+                format!("there is no function `{name}`"),
+            );
             let closest = functions::FUNCTIONS
                 .iter()
                 .map(|f| (strsim::jaro_winkler(f.name, name), f.name))
@@ -349,10 +417,17 @@ impl<'a> Evaluator<'a> {
             return Err(Box::new(Diagnostic::error(
                 Code::BadCall,
                 span,
-                format!("`{name}` takes {}, not {}", function.arity.describe(), args.len()),
+                format!(
+                    "`{name}` takes {}, not {}",
+                    function.arity.describe(),
+                    args.len()
+                ),
             )));
         }
-        let values = args.iter().map(|arg| self.eval(arg)).collect::<Result<Vec<_>, _>>()?;
+        let values = args
+            .iter()
+            .map(|arg| self.eval(arg))
+            .collect::<Result<Vec<_>, _>>()?;
         (function.apply)(&values).map_err(|error| {
             let arg_text = |index: usize| args[index].span.text(self.source);
             Box::new(match error {
@@ -366,11 +441,21 @@ impl<'a> Evaluator<'a> {
                         self.style.show(values[argument]),
                     ),
                 )
-                .with_help("angles are plain numbers: write them with `deg` or `rad`, e.g. `sin(30 deg)`"),
+                .with_help(
+                    "angles are plain numbers: write them with `deg` or `rad`, e.g. `sin(30 deg)`",
+                ),
                 CallError::Mismatch { argument } => mismatch(
                     &format!("mix in `{name}`"),
-                    &Operand { span: args[0].span, text: arg_text(0), value: values[0] },
-                    &Operand { span: args[argument].span, text: arg_text(argument), value: values[argument] },
+                    &Operand {
+                        span: args[0].span,
+                        text: arg_text(0),
+                        value: values[0],
+                    },
+                    &Operand {
+                        span: args[argument].span,
+                        text: arg_text(argument),
+                        value: values[argument],
+                    },
                     self.style,
                 ),
                 CallError::OddRoot => Diagnostic::error(
@@ -395,7 +480,22 @@ impl<'a> Evaluator<'a> {
     }
 
     fn resolve_unit(&self, unit: &UnitExpr) -> Result<ResolvedUnit, Box<Diagnostic>> {
-        units::resolve(unit.factors.iter().map(|factor| (factor.symbol.as_str(), factor.exponent))).map_err(|error| {
+        let text = unit.span.text(self.source);
+        if let Some(resolved) = self.unit_cache.borrow().get(text) {
+            return Ok(*resolved);
+        }
+        let resolved = self.resolve_unit_uncached(unit)?;
+        self.unit_cache.borrow_mut().insert(text, resolved);
+        Ok(resolved)
+    }
+
+    fn resolve_unit_uncached(&self, unit: &UnitExpr) -> Result<ResolvedUnit, Box<Diagnostic>> {
+        units::resolve(
+            unit.factors
+                .iter()
+                .map(|factor| (&*factor.symbol, factor.exponent)),
+        )
+        .map_err(|error| {
             let factor = &unit.factors[error.factor];
             Box::new(match error.kind {
                 UnitErrorKind::Unknown { suggestion } => {
@@ -405,7 +505,9 @@ impl<'a> Evaluator<'a> {
                         format!("`{}` is not a unit heft knows", factor.symbol),
                     );
                     match suggestion {
-                        Some(suggestion) => diagnostic.with_help(format!("did you mean `{suggestion}`?")),
+                        Some(suggestion) => {
+                            diagnostic.with_help(format!("did you mean `{suggestion}`?"))
+                        }
                         None => diagnostic.with_help("run `heft units` to list every unit"),
                     }
                 }
@@ -424,25 +526,25 @@ impl<'a> Evaluator<'a> {
         })
     }
 
-    fn finish(self, checks: Vec<CheckResult>) -> Evaluated {
-        let Evaluator { sheet, source, style, values, statuses, mut diagnostics } = self;
+    fn finish(mut self, checks: Vec<CheckResult>) -> Evaluated {
+        let (sheet, source) = (self.sheet, self.source);
         let lines = LineIndex::new(source);
         let cells = (0..sheet.cells.len())
             .map(|id| {
                 let cell = sheet.cell(id);
-                let value = values[id];
-                let (display, is_input) = display_unit(sheet, source, id, value, style);
+                let value = self.values[id];
+                let (display, is_input) = self.display_unit(id, value);
                 CellResult {
                     name: cell.name.text.clone(),
                     span: sheet.cell_span(id),
-                    line: lines.line_of(sheet.cell_span(id).start) + 1,
+                    line: lines.line_of(sheet.cell_span(id).start()) + 1,
                     formula: cell.expr.span.text(source).to_string(),
                     description: cell.description.as_ref().map(|d| d.text.clone()),
                     declared_unit: cell.unit.is_some(),
                     is_input,
                     display,
                     value,
-                    status: statuses[id],
+                    status: self.statuses[id],
                     uses: sheet.uses[id].clone(),
                 }
             })
@@ -452,19 +554,29 @@ impl<'a> Evaluator<'a> {
             .iter()
             .map(|item| match *item {
                 Item::Heading(index) => match &sheet.statements[index].kind {
-                    StatementKind::Heading { level, text } => OutlineItem::Heading { level: *level, text: text.clone() },
-                    _ => OutlineItem::Invalid { span: sheet.statements[index].span },
+                    StatementKind::Heading { level, text } => OutlineItem::Heading {
+                        level: *level,
+                        text: text.clone(),
+                    },
+                    _ => OutlineItem::Invalid {
+                        span: sheet.statements[index].span,
+                    },
                 },
                 Item::Note(index) => match &sheet.statements[index].kind {
                     StatementKind::Note { text } => OutlineItem::Note { text: text.clone() },
-                    _ => OutlineItem::Invalid { span: sheet.statements[index].span },
+                    _ => OutlineItem::Invalid {
+                        span: sheet.statements[index].span,
+                    },
                 },
                 Item::Cell(id) => OutlineItem::Cell(id),
                 Item::Check(index) => OutlineItem::Check(index),
-                Item::Invalid(index) => OutlineItem::Invalid { span: sheet.statements[index].span },
+                Item::Invalid(index) => OutlineItem::Invalid {
+                    span: sheet.statements[index].span,
+                },
             })
             .collect();
-        diagnostics.sort_by_key(|diagnostic| (diagnostic.span.start, diagnostic.code));
+        let mut diagnostics = std::mem::take(&mut self.diagnostics);
+        diagnostics.sort_by_key(|diagnostic| (diagnostic.span.start(), diagnostic.code));
         Evaluated {
             header: sheet.header.clone(),
             cells,
@@ -475,41 +587,42 @@ impl<'a> Evaluator<'a> {
             lines,
         }
     }
-}
 
-/// The unit a cell is shown in, and whether it is an input: a declared unit
-/// wins; an input written as one quantity (`1850 kg`) shows as written;
-/// everything else gets the display system's readable unit.
-fn display_unit(sheet: &Sheet, source: &str, id: CellId, value: Option<Quantity>, style: Style) -> (DisplayUnit, bool) {
-    let cell = sheet.cell(id);
-    let literal_unit = match &cell.expr.kind {
-        ExprKind::Number(_) => Some(None),
-        ExprKind::Quantity { unit, .. } => Some(Some(unit)),
-        ExprKind::Negate(inner) => match &inner.kind {
+    /// The unit a cell is shown in, and whether it is an input: a declared unit
+    /// wins; an input written as one quantity (`1850 kg`) shows as written;
+    /// everything else gets the display system's readable unit.
+    fn display_unit(&self, id: CellId, value: Option<Quantity>) -> (DisplayUnit, bool) {
+        let cell = self.sheet.cell(id);
+        let literal_unit = match &cell.expr.kind {
             ExprKind::Number(_) => Some(None),
             ExprKind::Quantity { unit, .. } => Some(Some(unit)),
+            ExprKind::Negate(inner) => match &inner.kind {
+                ExprKind::Number(_) => Some(None),
+                ExprKind::Quantity { unit, .. } => Some(Some(unit)),
+                _ => None,
+            },
             _ => None,
-        },
-        _ => None,
-    };
-    let is_input = literal_unit.is_some();
-    let written = |unit: &UnitExpr| {
-        let text = unit.span.text(source).to_string();
-        units::resolve(unit.factors.iter().map(|f| (f.symbol.as_str(), f.exponent)))
-            .ok()
-            .map(|resolved| DisplayUnit { text, si_factor: resolved.si_factor })
-    };
-    if let Some(declared) = cell.unit.as_ref().and_then(written) {
-        return (declared, is_input);
+        };
+        let is_input = literal_unit.is_some();
+        let written = |unit: &UnitExpr| {
+            let text = unit.span.text(self.source).to_string();
+            self.resolve_unit(unit).ok().map(|resolved| DisplayUnit {
+                text,
+                si_factor: resolved.si_factor,
+            })
+        };
+        if let Some(declared) = cell.unit.as_ref().and_then(written) {
+            return (declared, is_input);
+        }
+        if let Some(Some(unit)) = literal_unit
+            && let Some(as_written) = written(unit)
+        {
+            return (as_written, true);
+        }
+        let display = match value {
+            Some(value) => pick_unit(value.dimension, value.si, self.style.system),
+            None => DisplayUnit::none(),
+        };
+        (display, is_input)
     }
-    if let Some(Some(unit)) = literal_unit
-        && let Some(as_written) = written(unit)
-    {
-        return (as_written, true);
-    }
-    let display = match value {
-        Some(value) => pick_unit(value.dimension, value.si, style.system),
-        None => DisplayUnit::none(),
-    };
-    (display, is_input)
 }

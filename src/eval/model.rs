@@ -165,11 +165,15 @@ impl Evaluated {
 
     /// Number of diagnostics of this severity.
     pub fn count(&self, severity: Severity) -> usize {
-        self.diagnostics.iter().filter(|d| d.severity == severity).count()
+        self.diagnostics
+            .iter()
+            .filter(|d| d.severity == severity)
+            .count()
     }
 
     /// Whether the sheet has no errors and every check passed.
     pub fn is_clean(&self) -> bool {
-        self.count(Severity::Error) == 0 && self.checks.iter().all(|check| check.passed() == Some(true))
+        self.count(Severity::Error) == 0
+            && self.checks.iter().all(|check| check.passed() == Some(true))
     }
 }

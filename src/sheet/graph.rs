@@ -109,8 +109,12 @@ mod tests {
 
     #[test]
     fn a_million_cell_chain_does_not_overflow() {
-        let uses: Vec<Vec<CellId>> = (0..1_000_000).map(|i| if i == 0 { vec![] } else { vec![i - 1] }).collect();
-        let reversed: Vec<Vec<CellId>> = (0..1_000_000).map(|i| if i == 999_999 { vec![] } else { vec![i + 1] }).collect();
+        let uses: Vec<Vec<CellId>> = (0..1_000_000)
+            .map(|i| if i == 0 { vec![] } else { vec![i - 1] })
+            .collect();
+        let reversed: Vec<Vec<CellId>> = (0..1_000_000)
+            .map(|i| if i == 999_999 { vec![] } else { vec![i + 1] })
+            .collect();
         assert_eq!(evaluation_order(&uses).order.len(), 1_000_000);
         assert_eq!(evaluation_order(&reversed).order[0], 999_999);
     }

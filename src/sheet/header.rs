@@ -46,7 +46,11 @@ struct RawHeader {
 }
 
 /// Reads the header block of `source`, reporting problems at their place.
-pub fn read_header(source: &str, block: Option<HeaderBlock>, diagnostics: &mut Vec<Diagnostic>) -> Header {
+pub fn read_header(
+    source: &str,
+    block: Option<HeaderBlock>,
+    diagnostics: &mut Vec<Diagnostic>,
+) -> Header {
     let mut header = Header {
         sig_figs: DEFAULT_SIG_FIGS,
         ..Header::default()
@@ -58,9 +62,9 @@ pub fn read_header(source: &str, block: Option<HeaderBlock>, diagnostics: &mut V
     let raw: RawHeader = match toml::from_str(body) {
         Ok(raw) => raw,
         Err(error) => {
-            let span = error
-                .span()
-                .map_or(block.span, |range| Span::new(range.start, range.end.max(range.start)).shifted(block.body.start));
+            let span = error.span().map_or(block.span, |range| {
+                Span::new(range.start, range.end.max(range.start)).shifted(block.body.start())
+            });
             diagnostics.push(
                 Diagnostic::error(Code::HeaderError, span, header_message(error.message()))
                     .with_help("header keys: title, project, revision, date, prepared_by, checked_by, display, sig_figs"),
@@ -76,12 +80,17 @@ pub fn read_header(source: &str, block: Option<HeaderBlock>, diagnostics: &mut V
     header.checked_by = raw.checked_by;
     header.display = raw.display.unwrap_or_default();
     if let Some(sig_figs) = raw.sig_figs {
-        let span = Span::new(sig_figs.span().start, sig_figs.span().end).shifted(block.body.start);
+        let span =
+            Span::new(sig_figs.span().start, sig_figs.span().end).shifted(block.body.start());
         match u32::try_from(*sig_figs.get_ref()) {
             Ok(value @ 1..=15) => header.sig_figs = value,
             _ => diagnostics.push(
-                Diagnostic::error(Code::HeaderError, span, format!("sig_figs must be from 1 to 15, not {}", sig_figs.get_ref()))
-                    .with_help(format!("the default is {DEFAULT_SIG_FIGS}")),
+                Diagnostic::error(
+                    Code::HeaderError,
+                    span,
+                    format!("sig_figs must be from 1 to 15, not {}", sig_figs.get_ref()),
+                )
+                .with_help(format!("the default is {DEFAULT_SIG_FIGS}")),
             ),
         }
     }

@@ -4,14 +4,14 @@
 mod graph;
 mod header;
 
-use std::collections::HashMap;
+use rustc_hash::FxHashMap as HashMap;
 
-pub use graph::{evaluation_order, EvaluationOrder};
-pub use header::{read_header, Header, DEFAULT_SIG_FIGS};
+pub use graph::{EvaluationOrder, evaluation_order};
+pub use header::{DEFAULT_SIG_FIGS, Header, read_header};
 
 use crate::diag::{Code, Diagnostic};
-use crate::syntax::ast::{CellDef, CheckDef, Expr, ExprKind, StatementKind};
 use crate::syntax::ast::Statement;
+use crate::syntax::ast::{CellDef, CheckDef, Expr, StatementKind, Target};
 use crate::syntax::{self, ParsedSheet, Span};
 use crate::units;
 
@@ -79,7 +79,11 @@ impl Sheet {
     }
 
     /// Links parsed statements: names, dependencies and evaluation order.
-    pub fn link(header: Header, statements: Vec<Statement>, mut diagnostics: Vec<Diagnostic>) -> Sheet {
+    pub fn link(
+        header: Header,
+        mut statements: Vec<Statement>,
+        mut diagnostics: Vec<Diagnostic>,
+    ) -> Sheet {
         let mut cells = Vec::new();
         let mut checks = Vec::new();
         let mut items = Vec::with_capacity(statements.len());
@@ -100,7 +104,8 @@ impl Sheet {
         }
 
         let mut broken = vec![false; cells.len()];
-        let mut names: HashMap<String, CellId> = HashMap::with_capacity(cells.len());
+        let mut names: HashMap<String, CellId> = HashMap::default();
+        names.reserve(cells.len());
         for (id, &statement) in cells.iter().enumerate() {
             let cell = cell_def(&statements[statement]);
             if let Some(&first) = names.get(&cell.name.text) {
@@ -121,34 +126,36 @@ impl Sheet {
         }
 
         let mut suggestions_left = MAX_SUGGESTIONS;
-        let mut resolve_uses = |exprs: &[&Expr], diagnostics: &mut Vec<Diagnostic>| {
+        let mut resolve_uses = |exprs: [Option<&mut Expr>; 2],
+                                diagnostics: &mut Vec<Diagnostic>| {
             let mut uses = Vec::new();
             let mut ok = true;
-            for expr in exprs {
-                expr.walk(&mut |node| {
-                    let ExprKind::Name(name) = &node.kind else { return };
-                    match names.get(name) {
-                        Some(&id) => {
-                            if !uses.contains(&id) {
-                                uses.push(id);
+            for expr in exprs.into_iter().flatten() {
+                expr.walk_names_mut(&mut |name, span| {
+                    if let Some(&id) = names.get(&*name.text) {
+                        name.target = Target::Cell(id);
+                        if !uses.contains(&id) {
+                            uses.push(id);
+                        }
+                    } else if let Some(index) =
+                        units::CONSTANTS.iter().position(|c| *c.name == *name.text)
+                    {
+                        name.target = Target::Constant(index);
+                    } else {
+                        ok = false;
+                        let mut diagnostic = Diagnostic::error(
+                            Code::UndefinedName,
+                            span,
+                            format!("`{}` is not defined", name.text),
+                        );
+                        if suggestions_left > 0 {
+                            suggestions_left -= 1;
+                            if let Some(similar) = did_you_mean(&name.text, &names) {
+                                diagnostic =
+                                    diagnostic.with_help(format!("did you mean `{similar}`?"));
                             }
                         }
-                        None if units::constant(name).is_some() => {}
-                        None => {
-                            ok = false;
-                            let mut diagnostic = Diagnostic::error(
-                                Code::UndefinedName,
-                                node.span,
-                                format!("`{name}` is not defined"),
-                            );
-                            if suggestions_left > 0 {
-                                suggestions_left -= 1;
-                                if let Some(similar) = did_you_mean(name, &names) {
-                                    diagnostic = diagnostic.with_help(format!("did you mean `{similar}`?"));
-                                }
-                            }
-                            diagnostics.push(diagnostic);
-                        }
+                        diagnostics.push(diagnostic);
                     }
                 });
             }
@@ -156,25 +163,39 @@ impl Sheet {
         };
 
         let mut uses = Vec::with_capacity(cells.len());
-        for (id, &statement) in cells.iter().enumerate() {
-            let (cell_uses, ok) = resolve_uses(&[&cell_def(&statements[statement]).expr], &mut diagnostics);
-            broken[id] |= !ok;
-            uses.push(cell_uses);
-        }
         let mut check_uses = Vec::with_capacity(checks.len());
         let mut broken_checks = Vec::with_capacity(checks.len());
-        for &statement in &checks {
-            let check = check_def(&statements[statement]);
-            let (used, ok) = resolve_uses(&[&check.lhs, &check.rhs], &mut diagnostics);
-            check_uses.push(used);
-            broken_checks.push(!ok);
+        for statement in &mut statements {
+            match &mut statement.kind {
+                StatementKind::Cell(cell) => {
+                    let (cell_uses, ok) =
+                        resolve_uses([Some(&mut cell.expr), None], &mut diagnostics);
+                    let id = uses.len();
+                    broken[id] |= !ok;
+                    uses.push(cell_uses);
+                }
+                StatementKind::Check(check) => {
+                    let (used, ok) = resolve_uses(
+                        [Some(&mut check.lhs), Some(&mut check.rhs)],
+                        &mut diagnostics,
+                    );
+                    check_uses.push(used);
+                    broken_checks.push(!ok);
+                }
+                _ => {}
+            }
         }
 
         let order = evaluation_order(&uses);
         for cycle in &order.cycles {
-            let spans: Vec<Span> = cycle.iter().map(|&id| cell_def(&statements[cells[id]]).name.span).collect();
-            let names_in_cycle: Vec<String> =
-                cycle.iter().map(|&id| format!("`{}`", cell_def(&statements[cells[id]]).name.text)).collect();
+            let spans: Vec<Span> = cycle
+                .iter()
+                .map(|&id| cell_def(&statements[cells[id]]).name.span)
+                .collect();
+            let names_in_cycle: Vec<String> = cycle
+                .iter()
+                .map(|&id| format!("`{}`", cell_def(&statements[cells[id]]).name.text))
+                .collect();
             let mut diagnostic = Diagnostic::error(
                 Code::Cycle,
                 spans[0],
@@ -253,7 +274,10 @@ fn cycle_text(names: &[String]) -> String {
 
 /// The defined name or constant most like `name`.
 fn did_you_mean(name: &str, names: &HashMap<String, CellId>) -> Option<String> {
-    let candidates = names.keys().map(String::as_str).chain(units::CONSTANTS.iter().map(|constant| constant.name));
+    let candidates = names
+        .keys()
+        .map(String::as_str)
+        .chain(units::CONSTANTS.iter().map(|constant| constant.name));
     let lower = name.to_lowercase();
     candidates
         .map(|candidate| {

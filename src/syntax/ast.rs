@@ -28,9 +28,9 @@ pub enum StatementKind {
         text: String,
     },
     /// A named cell: `T_up [kN] = m_tot * (g0 + a_up) "rope tension"`.
-    Cell(CellDef),
+    Cell(Box<CellDef>),
     /// A check: `check T_up <= WLL "rope within its rated load"`.
-    Check(CheckDef),
+    Check(Box<CheckDef>),
     /// A line that did not parse; its diagnostic says why.
     Invalid,
 }
@@ -130,7 +130,7 @@ pub enum ExprKind {
     /// One of a unit: `[kN]`, so `T / [kN]` is a plain number.
     UnitValue(UnitExpr),
     /// A reference to a cell or a built-in constant: `m_tot`, `g0`.
-    Name(String),
+    Name(NameRef),
     /// Unary minus: `-x`.
     Negate(Box<Expr>),
     /// A binary operation: `a + b`, `m * g0`, `x ^ 2`.
@@ -149,6 +149,27 @@ pub enum ExprKind {
         /// The arguments.
         args: Vec<Expr>,
     },
+}
+
+/// A name used in a formula, with the slot that linking fills in.
+#[derive(Clone, Debug, PartialEq)]
+pub struct NameRef {
+    /// The name as written.
+    pub text: Box<str>,
+    /// What the name refers to; [`Target::Unresolved`] until the sheet is
+    /// linked (`sheet::Sheet::link`), so evaluation indexes instead of hashing.
+    pub target: Target,
+}
+
+/// What a name refers to, once linked.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Target {
+    /// Not linked, or not defined.
+    Unresolved,
+    /// The cell with this id.
+    Cell(usize),
+    /// The built-in constant with this index.
+    Constant(usize),
 }
 
 /// Binary operators.
@@ -193,7 +214,7 @@ pub struct UnitExpr {
 #[derive(Clone, Debug, PartialEq, Eq)]
 pub struct UnitFactor {
     /// The symbol as written: `kN`, `lbf`, `s`.
-    pub symbol: String,
+    pub symbol: Box<str>,
     /// The net exponent after division and grouping.
     pub exponent: i32,
     /// Where the symbol is written.
@@ -201,6 +222,22 @@ pub struct UnitFactor {
 }
 
 impl Expr {
+    /// Calls `visit` on every name in this expression, in written order.
+    pub fn walk_names_mut(&mut self, visit: &mut impl FnMut(&mut NameRef, Span)) {
+        match &mut self.kind {
+            ExprKind::Name(name) => visit(name, self.span),
+            ExprKind::Negate(inner) => inner.walk_names_mut(visit),
+            ExprKind::Binary { lhs, rhs, .. } => {
+                lhs.walk_names_mut(visit);
+                rhs.walk_names_mut(visit);
+            }
+            ExprKind::Call { args, .. } => {
+                args.iter_mut().for_each(|arg| arg.walk_names_mut(visit))
+            }
+            ExprKind::Number(_) | ExprKind::Quantity { .. } | ExprKind::UnitValue(_) => {}
+        }
+    }
+
     /// Calls `visit` on this expression and every sub-expression, parents first.
     pub fn walk<'a>(&'a self, visit: &mut impl FnMut(&'a Expr)) {
         visit(self);

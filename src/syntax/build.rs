@@ -6,12 +6,12 @@ use std::sync::LazyLock;
 use pest::iterators::{Pair, Pairs};
 use pest::pratt_parser::{Assoc, Op, PrattParser};
 
+use super::Span;
 use super::ast::{
-    BinaryOp, CellDef, CheckDef, Comparison, Description, Expr, ExprKind, Ident, StatementKind,
-    UnitExpr, UnitFactor,
+    BinaryOp, CellDef, CheckDef, Comparison, Description, Expr, ExprKind, Ident, NameRef,
+    StatementKind, Target, UnitExpr, UnitFactor,
 };
 use super::parser::Rule;
-use super::Span;
 
 /// Operator precedence, lowest first; `^` binds tightest and groups to the
 /// right, so `-2^2` is `-(2^2)` and `2^3^2` is `2^(3^2)`.
@@ -44,8 +44,8 @@ pub(crate) fn statement(mut pairs: Pairs<'_, Rule>, offset: usize) -> Built<Opti
         Rule::note => StatementKind::Note {
             text: inner_text(pair).trim_end().to_string(),
         },
-        Rule::cell => StatementKind::Cell(builder.cell(pair)?),
-        Rule::check => StatementKind::Check(builder.check(pair)?),
+        Rule::cell => StatementKind::Cell(Box::new(builder.cell(pair)?)),
+        Rule::check => StatementKind::Check(Box::new(builder.check(pair)?)),
         Rule::EOI => return Ok(None),
         rule => unreachable!("expected a statement, found {rule:?}"),
     }))
@@ -62,13 +62,17 @@ pub(crate) fn expression(mut pairs: Pairs<'_, Rule>) -> Built<Option<Expr>> {
 /// Builds the unit from the pairs of `Rule::unit_only`.
 pub(crate) fn unit(mut pairs: Pairs<'_, Rule>) -> Built<Option<UnitExpr>> {
     match pairs.next() {
-        Some(pair) if pair.as_rule() == Rule::unit_expr => Builder { offset: 0 }.unit_expr(pair).map(Some),
+        Some(pair) if pair.as_rule() == Rule::unit_expr => {
+            Builder { offset: 0 }.unit_expr(pair).map(Some)
+        }
         _ => Ok(None),
     }
 }
 
 fn inner_text(pair: Pair<'_, Rule>) -> String {
-    pair.into_inner().last().map_or_else(String::new, |text| text.as_str().to_string())
+    pair.into_inner()
+        .last()
+        .map_or_else(String::new, |text| text.as_str().to_string())
 }
 
 struct Builder {
@@ -201,14 +205,19 @@ impl Builder {
         let span = self.span(&pair);
         let kind = match pair.as_rule() {
             Rule::group => {
-                let inner = pair.into_inner().next().unwrap_or_else(|| unreachable!("expected an expression in brackets"));
+                let inner = pair
+                    .into_inner()
+                    .next()
+                    .unwrap_or_else(|| unreachable!("expected an expression in brackets"));
                 let mut expr = self.expr(inner)?;
                 expr.span = span;
                 return Ok(expr);
             }
             Rule::quantity => {
                 let mut inner = pair.into_inner();
-                let number = inner.next().unwrap_or_else(|| unreachable!("expected a number"));
+                let number = inner
+                    .next()
+                    .unwrap_or_else(|| unreachable!("expected a number"));
                 let number_span = self.span(&number);
                 let value = self.number(&number)?;
                 match inner.next() {
@@ -221,14 +230,24 @@ impl Builder {
                 }
             }
             Rule::unit_value => ExprKind::UnitValue(self.unit_in_brackets(pair)?),
-            Rule::name => ExprKind::Name(pair.as_str().to_string()),
-            Rule::call => {
+            Rule::reference => {
                 let mut inner = pair.into_inner();
-                let function = inner.next().unwrap_or_else(|| unreachable!("expected a function name"));
-                let function = self.ident(function);
-                let arguments = inner.next().unwrap_or_else(|| unreachable!("expected arguments"));
-                let args = arguments.into_inner().map(|arg| self.expr(arg)).collect::<Built<Vec<_>>>()?;
-                ExprKind::Call { function, args }
+                let name = inner
+                    .next()
+                    .unwrap_or_else(|| unreachable!("expected a name"));
+                match inner.next() {
+                    None => ExprKind::Name(NameRef {
+                        text: name.as_str().into(),
+                        target: Target::Unresolved,
+                    }),
+                    Some(arguments) => ExprKind::Call {
+                        function: self.ident(name),
+                        args: arguments
+                            .into_inner()
+                            .map(|arg| self.expr(arg))
+                            .collect::<Built<Vec<_>>>()?,
+                    },
+                }
             }
             rule => unreachable!("expected an operand, found {rule:?}"),
         };
@@ -246,7 +265,10 @@ impl Builder {
     }
 
     fn unit_in_brackets(&self, pair: Pair<'_, Rule>) -> Built<UnitExpr> {
-        let unit = pair.into_inner().next().unwrap_or_else(|| unreachable!("expected a unit in brackets"));
+        let unit = pair
+            .into_inner()
+            .next()
+            .unwrap_or_else(|| unreachable!("expected a unit in brackets"));
         self.unit_expr(unit)
     }
 
@@ -259,7 +281,12 @@ impl Builder {
 
     /// Flattens `unit_expr` into factors, multiplying exponents by `outer`
     /// (−1 after a `/`, n inside `(…)^n`).
-    fn collect_unit_factors(&self, pair: Pair<'_, Rule>, outer: i32, factors: &mut Vec<UnitFactor>) -> Built<()> {
+    fn collect_unit_factors(
+        &self,
+        pair: Pair<'_, Rule>,
+        outer: i32,
+        factors: &mut Vec<UnitFactor>,
+    ) -> Built<()> {
         let mut sign = 1;
         for part in pair.into_inner() {
             match part.as_rule() {
@@ -268,12 +295,19 @@ impl Builder {
                 Rule::unit_factor => {
                     let part_span = self.span(&part);
                     let mut inner = part.into_inner();
-                    let base = inner.next().unwrap_or_else(|| unreachable!("expected a unit symbol"));
+                    let base = inner
+                        .next()
+                        .unwrap_or_else(|| unreachable!("expected a unit symbol"));
                     let exponent = match inner.next() {
-                        Some(exponent) => exponent.as_str().parse::<i32>().map_err(|_| BuildError {
-                            span: self.span(&exponent),
-                            message: format!("the unit exponent {} is too large", exponent.as_str()),
-                        })?,
+                        Some(exponent) => {
+                            exponent.as_str().parse::<i32>().map_err(|_| BuildError {
+                                span: self.span(&exponent),
+                                message: format!(
+                                    "the unit exponent {} is too large",
+                                    exponent.as_str()
+                                ),
+                            })?
+                        }
                         None => 1,
                     };
                     let total = exponent
@@ -285,7 +319,7 @@ impl Builder {
                         })?;
                     match base.as_rule() {
                         Rule::unit_symbol => factors.push(UnitFactor {
-                            symbol: base.as_str().to_string(),
+                            symbol: base.as_str().into(),
                             exponent: total,
                             span: self.span(&base),
                         }),

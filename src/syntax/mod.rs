@@ -7,5 +7,7 @@ mod parser;
 mod span;
 mod split;
 
-pub use span::{LineColumn, LineIndex, Span};
-pub use split::{parse, parse_expression, parse_unit, HeaderBlock, ParsedSheet, MAX_NESTING, MAX_OPERATORS};
+pub use span::{LineColumn, LineIndex, MAX_SOURCE_LEN, Span};
+pub use split::{
+    HeaderBlock, MAX_NESTING, MAX_OPERATORS, ParsedSheet, parse, parse_expression, parse_unit,
+};

@@ -24,7 +24,10 @@ pub(crate) fn describe_error(
     let found = describe_found(statement, position);
     let message = match &error.variant {
         ErrorVariant::ParsingError { positives, .. } => {
-            let mut wanted: Vec<&str> = positives.iter().filter_map(|&rule| describe_rule(rule)).collect();
+            let mut wanted: Vec<&str> = positives
+                .iter()
+                .filter_map(|&rule| describe_rule(rule))
+                .collect();
             wanted.sort_unstable();
             wanted.dedup();
             if wanted.is_empty() {
@@ -35,8 +38,14 @@ pub(crate) fn describe_error(
         }
         ErrorVariant::CustomError { message } => message.clone(),
     };
-    let width = statement[position..].chars().next().map_or(0, char::len_utf8);
-    (Span::new(offset + position, offset + position + width), message)
+    let width = statement[position..]
+        .chars()
+        .next()
+        .map_or(0, char::len_utf8);
+    (
+        Span::new(offset + position, offset + position + width),
+        message,
+    )
 }
 
 fn describe_found(statement: &str, position: usize) -> String {
@@ -45,7 +54,10 @@ fn describe_found(statement: &str, position: usize) -> String {
         None => "the end of the line".to_string(),
         Some(first) => {
             let token: String = if first.is_alphanumeric() || first == '_' {
-                rest.chars().take_while(|c| c.is_alphanumeric() || *c == '_').take(24).collect()
+                rest.chars()
+                    .take_while(|c| c.is_alphanumeric() || *c == '_')
+                    .take(24)
+                    .collect()
             } else {
                 first.to_string()
             };
@@ -73,13 +85,19 @@ fn describe_rule(rule: Rule) -> Option<&'static str> {
         Rule::cell => "a cell (`name = expression`)",
         Rule::declared_unit => "a unit in brackets (`[kN]`)",
         Rule::description | Rule::description_text => "a description in quotes",
-        Rule::at_most | Rule::at_least | Rule::below | Rule::above => "a comparison (`<=`, `<`, `>=`, `>`)",
-        Rule::expr | Rule::group | Rule::quantity | Rule::number | Rule::call | Rule::unit_value | Rule::name => {
-            "an expression"
+        Rule::at_most | Rule::at_least | Rule::below | Rule::above => {
+            "a comparison (`<=`, `<`, `>=`, `>`)"
         }
+        Rule::expr
+        | Rule::group
+        | Rule::quantity
+        | Rule::number
+        | Rule::reference
+        | Rule::unit_value
+        | Rule::name => "an expression",
         Rule::add | Rule::sub | Rule::mul | Rule::div | Rule::pow => "an operator",
         Rule::neg => "an expression",
-        Rule::arguments => "an argument",
+        Rule::arguments => "`(`",
         Rule::unit_expr | Rule::unit_factor | Rule::unit_symbol => "a unit",
         Rule::unit_exponent => "an integer exponent",
         Rule::unit_mul | Rule::unit_div => "`*` or `/`",

@@ -1,33 +1,54 @@
 //! Byte-offset spans and the line index that turns them into line and column.
 
 /// A byte range `start..end` into the sheet's source text.
+///
+/// Offsets are stored as `u32` to keep the syntax tree small (a sheet is
+/// far below 4 GiB; [`crate::decode_source`] refuses larger input).
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Default, PartialOrd, Ord)]
 pub struct Span {
-    /// First byte.
-    pub start: usize,
-    /// One past the last byte.
-    pub end: usize,
+    start: u32,
+    end: u32,
 }
 
+/// Largest source a span can address.
+pub const MAX_SOURCE_LEN: usize = u32::MAX as usize;
+
 impl Span {
-    /// The span `start..end`.
+    /// The span `start..end` (offsets past [`MAX_SOURCE_LEN`] saturate).
     pub fn new(start: usize, end: usize) -> Self {
-        Span { start, end }
+        let clamp = |offset: usize| u32::try_from(offset).unwrap_or(u32::MAX);
+        Span {
+            start: clamp(start),
+            end: clamp(end),
+        }
+    }
+
+    /// First byte.
+    pub fn start(self) -> usize {
+        self.start as usize
+    }
+
+    /// One past the last byte.
+    pub fn end(self) -> usize {
+        self.end as usize
     }
 
     /// The smallest span covering both.
     pub fn to(self, other: Span) -> Span {
-        Span::new(self.start.min(other.start), self.end.max(other.end))
+        Span {
+            start: self.start.min(other.start),
+            end: self.end.max(other.end),
+        }
     }
 
     /// This span moved right by `offset` bytes.
     pub fn shifted(self, offset: usize) -> Span {
-        Span::new(self.start + offset, self.end + offset)
+        Span::new(self.start() + offset, self.end() + offset)
     }
 
     /// The text this span covers, or "" if it does not fit `source`.
     pub fn text(self, source: &str) -> &str {
-        source.get(self.start..self.end).unwrap_or("")
+        source.get(self.start()..self.end()).unwrap_or("")
     }
 }
 

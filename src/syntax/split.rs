@@ -4,8 +4,8 @@
 use pest::Parser;
 
 use super::ast::{Statement, StatementKind};
-use super::parser::{describe_error, HeftParser, Rule};
-use super::{build, Span};
+use super::parser::{HeftParser, Rule, describe_error};
+use super::{Span, build};
 use crate::diag::{Code, Diagnostic};
 
 /// Deepest bracket nesting a statement may have. pest and the tree walkers
@@ -53,7 +53,11 @@ fn lines(source: &str) -> impl Iterator<Item = Line> + '_ {
             Some(newline) => (start + newline, start + newline + 1),
             None => (source.len(), source.len() + 1),
         };
-        let end = if end > start && source.as_bytes()[end - 1] == b'\r' { end - 1 } else { end };
+        let end = if end > start && source.as_bytes()[end - 1] == b'\r' {
+            end - 1
+        } else {
+            end
+        };
         let line = Line { start, end };
         start = next;
         Some(line)
@@ -67,12 +71,17 @@ pub fn parse(source: &str) -> ParsedSheet {
     let mut lines = lines(source).peekable();
 
     // The header must open on the first line that is not blank.
-    while lines.peek().is_some_and(|line| source[line.start..line.end].trim().is_empty()) {
+    while lines
+        .peek()
+        .is_some_and(|line| source[line.start..line.end].trim().is_empty())
+    {
         lines.next();
     }
     if let Some(open) = lines.next_if(|line| source[line.start..line.end].trim() == "+++") {
         let body_start = (open.end + 1).min(source.len());
-        let close = lines.by_ref().find(|line| source[line.start..line.end].trim() == "+++");
+        let close = lines
+            .by_ref()
+            .find(|line| source[line.start..line.end].trim() == "+++");
         match close {
             Some(close) => {
                 sheet.header = Some(HeaderBlock {
@@ -97,39 +106,63 @@ pub fn parse(source: &str) -> ParsedSheet {
         }
     }
 
-    for line in lines {
-        let text = &source[line.start..line.end];
-        let trimmed = text.trim_start();
-        if trimmed.is_empty() || trimmed.starts_with("//") {
-            continue;
-        }
-        let span = Span::new(line.start, line.end);
-        let kind = parse_statement(text, line.start, &mut sheet.diagnostics);
+    let spans: Vec<Span> = lines
+        .filter(|line| {
+            let trimmed = source[line.start..line.end].trim_start();
+            !trimmed.is_empty() && !trimmed.starts_with("//")
+        })
+        .map(|line| Span::new(line.start, line.end))
+        .collect();
+    // Statements parse independently, so large sheets parse on every core.
+    let parsed: Vec<(StatementKind, Option<Diagnostic>)> = if spans.len() < PARALLEL_THRESHOLD {
+        spans
+            .iter()
+            .map(|span| parse_statement(span.text(source), span.start()))
+            .collect()
+    } else {
+        use rayon::prelude::*;
+        spans
+            .par_iter()
+            .with_min_len(1024)
+            .map(|span| parse_statement(span.text(source), span.start()))
+            .collect()
+    };
+    sheet.statements.reserve(spans.len());
+    for (span, (kind, diagnostic)) in spans.into_iter().zip(parsed) {
+        sheet.diagnostics.extend(diagnostic);
         sheet.statements.push(Statement { span, kind });
     }
     sheet
 }
 
-/// Parses one statement written at `offset`; on failure records the error and
-/// returns [`StatementKind::Invalid`].
-fn parse_statement(text: &str, offset: usize, diagnostics: &mut Vec<Diagnostic>) -> StatementKind {
+/// Below this many statements, parsing on one thread is faster.
+const PARALLEL_THRESHOLD: usize = 4096;
+
+/// Parses one statement written at `offset`; on failure returns
+/// [`StatementKind::Invalid`] with the error.
+fn parse_statement(text: &str, offset: usize) -> (StatementKind, Option<Diagnostic>) {
     if let Some(diagnostic) = check_limits(text, offset) {
-        diagnostics.push(diagnostic);
-        return StatementKind::Invalid;
+        return (StatementKind::Invalid, Some(diagnostic));
     }
     match HeftParser::parse(Rule::line, text) {
         Ok(pairs) => match build::statement(pairs, offset) {
-            Ok(Some(kind)) => kind,
-            Ok(None) => StatementKind::Invalid,
-            Err(error) => {
-                diagnostics.push(Diagnostic::error(Code::ParseError, error.span, error.message));
-                StatementKind::Invalid
-            }
+            Ok(Some(kind)) => (kind, None),
+            Ok(None) => (StatementKind::Invalid, None),
+            Err(error) => (
+                StatementKind::Invalid,
+                Some(Diagnostic::error(
+                    Code::ParseError,
+                    error.span,
+                    error.message,
+                )),
+            ),
         },
         Err(error) => {
             let (span, message) = describe_error(&error, text, offset);
-            diagnostics.push(Diagnostic::error(Code::ParseError, span, message));
-            StatementKind::Invalid
+            (
+                StatementKind::Invalid,
+                Some(Diagnostic::error(Code::ParseError, span, message)),
+            )
         }
     }
 }
@@ -200,8 +233,16 @@ pub fn parse_expression(text: &str) -> Result<super::ast::Expr, Diagnostic> {
     })?;
     match build::expression(pairs) {
         Ok(Some(expr)) => Ok(expr),
-        Ok(None) => Err(Diagnostic::error(Code::ParseError, Span::new(0, text.len()), "expected an expression")),
-        Err(error) => Err(Diagnostic::error(Code::ParseError, error.span, error.message)),
+        Ok(None) => Err(Diagnostic::error(
+            Code::ParseError,
+            Span::new(0, text.len()),
+            "expected an expression",
+        )),
+        Err(error) => Err(Diagnostic::error(
+            Code::ParseError,
+            error.span,
+            error.message,
+        )),
     }
 }
 
@@ -213,7 +254,15 @@ pub fn parse_unit(text: &str) -> Result<super::ast::UnitExpr, Diagnostic> {
     })?;
     match build::unit(pairs) {
         Ok(Some(unit)) => Ok(unit),
-        Ok(None) => Err(Diagnostic::error(Code::ParseError, Span::new(0, text.len()), "expected a unit")),
-        Err(error) => Err(Diagnostic::error(Code::ParseError, error.span, error.message)),
+        Ok(None) => Err(Diagnostic::error(
+            Code::ParseError,
+            Span::new(0, text.len()),
+            "expected a unit",
+        )),
+        Err(error) => Err(Diagnostic::error(
+            Code::ParseError,
+            error.span,
+            error.message,
+        )),
     }
 }

@@ -3,7 +3,15 @@
 use std::fmt;
 
 /// Names of the base dimensions, in exponent order (also the JSON keys).
-pub const BASE_NAMES: [&str; 7] = ["length", "mass", "time", "current", "temperature", "amount", "luminosity"];
+pub const BASE_NAMES: [&str; 7] = [
+    "length",
+    "mass",
+    "time",
+    "current",
+    "temperature",
+    "amount",
+    "luminosity",
+];
 
 /// Coherent SI symbol of each base dimension, in exponent order.
 pub const SI_BASE_SYMBOLS: [&str; 7] = ["m", "kg", "s", "A", "K", "mol", "cd"];
@@ -107,7 +115,10 @@ impl Dimension {
     /// The everyday name of this dimension with its article ("a force"),
     /// if it has one.
     pub fn name(self) -> Option<&'static str> {
-        NAMED.iter().find(|(dimension, _)| *dimension == self).map(|(_, name)| *name)
+        NAMED
+            .iter()
+            .find(|(dimension, _)| *dimension == self)
+            .map(|(_, name)| *name)
     }
 
     /// The name if known, otherwise "a quantity in <SI units>".
@@ -121,18 +132,21 @@ impl Dimension {
     /// The dimension written in coherent SI base units, in heft's unit
     /// syntax (`kg*m/s^2`); "1" for a pure number.
     pub fn si_units(self) -> String {
-        let factors: Vec<(&str, i32)> = SI_BASE_SYMBOLS
-            .iter()
-            .zip(self.exponents)
+        // Mass first, as in kg*m/s^2.
+        let factors: Vec<(&str, i32)> = [1, 0, 2, 3, 4, 5, 6]
+            .into_iter()
+            .map(|index| (SI_BASE_SYMBOLS[index], i32::from(self.exponents[index])))
             .filter(|(_, exponent)| *exponent != 0)
-            .map(|(symbol, exponent)| (*symbol, i32::from(exponent)))
             .collect();
         super::format_unit_product(&factors)
     }
 
     /// Non-zero exponents keyed by base-dimension name, in exponent order.
     pub fn nonzero_exponents(self) -> impl Iterator<Item = (&'static str, i8)> {
-        BASE_NAMES.into_iter().zip(self.exponents).filter(|(_, exponent)| *exponent != 0)
+        BASE_NAMES
+            .into_iter()
+            .zip(self.exponents)
+            .filter(|(_, exponent)| *exponent != 0)
     }
 }
 

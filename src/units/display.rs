@@ -1,6 +1,6 @@
 //! Choosing a readable unit for a result, and rounding it for display.
 
-use super::{catalog, format_unit_product, Dimension};
+use super::{Dimension, catalog, format_unit_product};
 
 /// The unit system a sheet displays results in when a cell declares none.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Default, serde::Deserialize, serde::Serialize)]
@@ -68,8 +68,14 @@ const SI_LADDERS: &[(Dimension, Ladder)] = &[
     (Dimension::TIME, &[("s", 0.0)]),
     (Dimension::VELOCITY, &[("m/s", 0.0)]),
     (Dimension::ACCELERATION, &[("m/s^2", 0.0)]),
-    (Dimension::PRESSURE, &[("Pa", 0.0), ("kPa", 1.0), ("MPa", 1.0), ("GPa", 1.0)]),
-    (Dimension::ENERGY, &[("N*m", 0.0), ("kN*m", 1.0), ("MN*m", 1.0)]),
+    (
+        Dimension::PRESSURE,
+        &[("Pa", 0.0), ("kPa", 1.0), ("MPa", 1.0), ("GPa", 1.0)],
+    ),
+    (
+        Dimension::ENERGY,
+        &[("N*m", 0.0), ("kN*m", 1.0), ("MN*m", 1.0)],
+    ),
     (Dimension::POWER, &[("W", 0.0), ("kW", 1.0), ("MW", 1.0)]),
     (Dimension::FREQUENCY, &[("Hz", 0.0)]),
     (Dimension::AREA, &[("mm^2", 0.0), ("m^2", 0.01)]),
@@ -148,7 +154,9 @@ fn unit_of(text: &str) -> DisplayUnit {
             Some(body) => (body, -1),
             None => (part.strip_suffix('*').unwrap_or(part), 1),
         };
-        let (symbol, exponent) = body.split_once('^').map_or((body, 1), |(s, e)| (s, e.parse().unwrap_or(1)));
+        let (symbol, exponent) = body
+            .split_once('^')
+            .map_or((body, 1), |(s, e)| (s, e.parse().unwrap_or(1)));
         let factor = catalog().get(symbol).map_or(1.0, |unit| unit.si_factor);
         si_factor *= factor.powi(exponent * sign);
         sign = next_sign;
@@ -165,11 +173,24 @@ fn fps_base_units(dimension: Dimension) -> DisplayUnit {
     let [length, mass, time, rest @ ..] = dimension.exponents.map(i32::from);
     let mut factors = vec![("lbf", mass), ("ft", length - mass), ("s", time + 2 * mass)];
     let others = ["A", "K", "mol", "cd"];
-    factors.extend(others.iter().zip(rest).map(|(symbol, exponent)| (*symbol, exponent)));
-    let factors: Vec<(&str, i32)> = factors.into_iter().filter(|(_, exponent)| *exponent != 0).collect();
+    factors.extend(
+        others
+            .iter()
+            .zip(rest)
+            .map(|(symbol, exponent)| (*symbol, exponent)),
+    );
+    let factors: Vec<(&str, i32)> = factors
+        .into_iter()
+        .filter(|(_, exponent)| *exponent != 0)
+        .collect();
     let si_factor = factors
         .iter()
-        .map(|(symbol, exponent)| catalog().get(symbol).map_or(1.0, |unit| unit.si_factor).powi(*exponent))
+        .map(|(symbol, exponent)| {
+            catalog()
+                .get(symbol)
+                .map_or(1.0, |unit| unit.si_factor)
+                .powi(*exponent)
+        })
         .product();
     DisplayUnit {
         text: format_unit_product(&factors),
@@ -197,7 +218,11 @@ pub fn format_significant(value: f64, sig_figs: u32) -> String {
     let n_decimals = (digits as i32 - 1 - exponent).max(0) as usize;
     let fixed = format!("{rounded:.n_decimals$}");
     let trimmed = trim_zeros(&fixed);
-    if trimmed == "-0" { "0".to_string() } else { trimmed.to_string() }
+    if trimmed == "-0" {
+        "0".to_string()
+    } else {
+        trimmed.to_string()
+    }
 }
 
 fn trim_zeros(text: &str) -> &str {

@@ -150,7 +150,8 @@ impl ExactFactor {
     /// the whole expansion (π factors fall back to `f64`).
     pub fn approximate_text(&self, significant: usize) -> String {
         if self.pi_power != 0 {
-            return format!("{:.*e}", significant.saturating_sub(1), self.to_f64());
+            let digits = u32::try_from(significant.min(16)).unwrap_or(16);
+            return format!("{}…", super::format_significant(self.to_f64(), digits));
         }
         if self.terminates() {
             return decimal_text(&self.ratio);

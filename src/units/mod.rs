@@ -9,9 +9,9 @@ mod factor;
 mod quantity;
 mod typed;
 
-pub use catalog::{catalog, sources, Ambiguity, Catalog, UnitDef, UnitSystem, AMBIGUOUS};
-pub use dimension::{Dimension, BASE_NAMES, SI_BASE_SYMBOLS};
-pub use display::{format_significant, pick_unit, DisplaySystem, DisplayUnit};
+pub use catalog::{AMBIGUOUS, Ambiguity, Catalog, UnitDef, UnitSystem, catalog, sources};
+pub use dimension::{BASE_NAMES, Dimension, SI_BASE_SYMBOLS};
+pub use display::{DisplaySystem, DisplayUnit, format_significant, pick_unit};
 pub use factor::ExactFactor;
 pub use quantity::{Quantity, QuantityError};
 pub use typed::TypedQuantity;
@@ -54,14 +54,19 @@ pub enum UnitErrorKind {
 }
 
 /// Looks up a product of `(symbol, exponent)` factors.
-pub fn resolve<'a>(factors: impl IntoIterator<Item = (&'a str, i32)>) -> Result<ResolvedUnit, UnitError> {
+pub fn resolve<'a>(
+    factors: impl IntoIterator<Item = (&'a str, i32)>,
+) -> Result<ResolvedUnit, UnitError> {
     let catalog = catalog();
     let mut resolved = ResolvedUnit {
         dimension: Dimension::NONE,
         si_factor: 1.0,
     };
     for (index, (symbol, exponent)) in factors.into_iter().enumerate() {
-        let error = |kind| UnitError { factor: index, kind };
+        let error = |kind| UnitError {
+            factor: index,
+            kind,
+        };
         let Some(unit) = catalog.get(symbol) else {
             return Err(error(match catalog.ambiguity(symbol) {
                 Some(ambiguity) => UnitErrorKind::Ambiguous(ambiguity),
@@ -70,8 +75,14 @@ pub fn resolve<'a>(factors: impl IntoIterator<Item = (&'a str, i32)>) -> Result<
                 },
             }));
         };
-        let dimension = unit.dimension.checked_powi(exponent).ok_or_else(|| error(UnitErrorKind::Overflow))?;
-        resolved.dimension = resolved.dimension.checked_mul(dimension).ok_or_else(|| error(UnitErrorKind::Overflow))?;
+        let dimension = unit
+            .dimension
+            .checked_powi(exponent)
+            .ok_or_else(|| error(UnitErrorKind::Overflow))?;
+        resolved.dimension = resolved
+            .dimension
+            .checked_mul(dimension)
+            .ok_or_else(|| error(UnitErrorKind::Overflow))?;
         resolved.si_factor *= unit.si_factor.powi(exponent);
     }
     Ok(resolved)
@@ -81,20 +92,38 @@ pub fn resolve<'a>(factors: impl IntoIterator<Item = (&'a str, i32)>) -> Result<
 /// not in the catalog).
 pub fn exact_factor<'a>(factors: impl IntoIterator<Item = (&'a str, i32)>) -> Option<ExactFactor> {
     let catalog = catalog();
-    factors.into_iter().try_fold(ExactFactor::one(), |product, (symbol, exponent)| {
-        Some(product.times(&catalog.get(symbol)?.factor.powi(exponent)))
-    })
+    factors
+        .into_iter()
+        .try_fold(ExactFactor::one(), |product, (symbol, exponent)| {
+            Some(product.times(&catalog.get(symbol)?.factor.powi(exponent)))
+        })
 }
 
 /// Writes a product of unit factors in heft unit syntax: `kg*m/s^2`,
 /// `lbf*s/ft`, `1/s`, `N/(m*s)`; "1" for an empty product.
 pub fn format_unit_product(factors: &[(&str, i32)]) -> String {
     let power = |symbol: &str, exponent: i32| {
-        if exponent == 1 { symbol.to_string() } else { format!("{symbol}^{exponent}") }
+        if exponent == 1 {
+            symbol.to_string()
+        } else {
+            format!("{symbol}^{exponent}")
+        }
     };
-    let numerator: Vec<String> = factors.iter().filter(|(_, e)| *e > 0).map(|(s, e)| power(s, *e)).collect();
-    let denominator: Vec<String> = factors.iter().filter(|(_, e)| *e < 0).map(|(s, e)| power(s, -e)).collect();
-    let top = if numerator.is_empty() { "1".to_string() } else { numerator.join("*") };
+    let numerator: Vec<String> = factors
+        .iter()
+        .filter(|(_, e)| *e > 0)
+        .map(|(s, e)| power(s, *e))
+        .collect();
+    let denominator: Vec<String> = factors
+        .iter()
+        .filter(|(_, e)| *e < 0)
+        .map(|(s, e)| power(s, -e))
+        .collect();
+    let top = if numerator.is_empty() {
+        "1".to_string()
+    } else {
+        numerator.join("*")
+    };
     match denominator.len() {
         0 => top,
         1 => format!("{top}/{}", denominator[0]),

@@ -45,35 +45,41 @@ impl Quantity {
     }
 
     /// `self + other`, same dimension required.
-    pub fn add(self, other: Quantity) -> Result<Quantity, QuantityError> {
+    pub fn try_add(self, other: Quantity) -> Result<Quantity, QuantityError> {
         self.same_dimension(other)?;
         Ok(Quantity::new(self.si + other.si, self.dimension))
     }
 
     /// `self - other`, same dimension required.
-    pub fn sub(self, other: Quantity) -> Result<Quantity, QuantityError> {
+    pub fn try_sub(self, other: Quantity) -> Result<Quantity, QuantityError> {
         self.same_dimension(other)?;
         Ok(Quantity::new(self.si - other.si, self.dimension))
     }
 
     /// `self * other`.
-    pub fn mul(self, other: Quantity) -> Result<Quantity, QuantityError> {
-        let dimension = self.dimension.checked_mul(other.dimension).ok_or(QuantityError::DimensionOverflow)?;
+    pub fn try_mul(self, other: Quantity) -> Result<Quantity, QuantityError> {
+        let dimension = self
+            .dimension
+            .checked_mul(other.dimension)
+            .ok_or(QuantityError::DimensionOverflow)?;
         Ok(Quantity::new(self.si * other.si, dimension))
     }
 
     /// `self / other`; an exact zero divisor is an error.
-    pub fn div(self, other: Quantity) -> Result<Quantity, QuantityError> {
+    pub fn try_div(self, other: Quantity) -> Result<Quantity, QuantityError> {
         if other.si == 0.0 {
             return Err(QuantityError::DivisionByZero);
         }
-        let dimension = self.dimension.checked_div(other.dimension).ok_or(QuantityError::DimensionOverflow)?;
+        let dimension = self
+            .dimension
+            .checked_div(other.dimension)
+            .ok_or(QuantityError::DimensionOverflow)?;
         Ok(Quantity::new(self.si / other.si, dimension))
     }
 
     /// `self ^ exponent`: the exponent must be a plain number, and an integer
     /// (or give integer dimension exponents) when the base has a dimension.
-    pub fn pow(self, exponent: Quantity) -> Result<Quantity, QuantityError> {
+    pub fn try_pow(self, exponent: Quantity) -> Result<Quantity, QuantityError> {
         if !exponent.dimension.is_dimensionless() {
             return Err(QuantityError::BadExponent);
         }
@@ -91,11 +97,6 @@ impl Quantity {
         Ok(Quantity::new(si, dimension))
     }
 
-    /// `-self`.
-    pub fn neg(self) -> Quantity {
-        Quantity::new(-self.si, self.dimension)
-    }
-
     /// Fails unless both quantities share a dimension.
     pub fn same_dimension(self, other: Quantity) -> Result<(), QuantityError> {
         if self.dimension == other.dimension {
@@ -109,6 +110,15 @@ impl Quantity {
     }
 }
 
+impl std::ops::Neg for Quantity {
+    type Output = Quantity;
+
+    /// `-self`, same dimension.
+    fn neg(self) -> Quantity {
+        Quantity::new(-self.si, self.dimension)
+    }
+}
+
 /// The dimension of `base ^ power` when it has integer exponents.
 fn power_dimension(base: Dimension, power: f64) -> Option<Dimension> {
     if power.fract() == 0.0 && power.abs() <= 127.0 {
@@ -118,7 +128,9 @@ fn power_dimension(base: Dimension, power: f64) -> Option<Dimension> {
     for denominator in 2..=6i8 {
         let numerator = power * f64::from(denominator);
         if (numerator - numerator.round()).abs() < 1e-12 && numerator.abs() <= 127.0 {
-            return base.root(denominator)?.checked_powi(numerator.round() as i32);
+            return base
+                .root(denominator)?
+                .checked_powi(numerator.round() as i32);
         }
     }
     None
