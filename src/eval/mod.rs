@@ -295,6 +295,14 @@ impl<'a> Evaluator<'a> {
                 Quantity::new(unit.si_factor, unit.dimension)
             }
             ExprKind::Name(name) => self.lookup(name, expr.span)?,
+            // Linking marks such cells broken, so this only guards the invariant.
+            ExprKind::Invalid => {
+                return Err(Box::new(Diagnostic::error(
+                    Code::ParseError,
+                    expr.span,
+                    "this formula did not parse",
+                )));
+            }
             ExprKind::Negate(inner) => -self.eval(inner)?,
             ExprKind::Binary { op, lhs, rhs } => self.binary(*op, lhs, rhs, expr.span)?,
             ExprKind::Call {

@@ -11,7 +11,7 @@ pub use header::{DEFAULT_SIG_FIGS, Header, read_header};
 
 use crate::diag::{Code, Diagnostic};
 use crate::syntax::ast::Statement;
-use crate::syntax::ast::{CellDef, CheckDef, Expr, StatementKind, Target};
+use crate::syntax::ast::{CellDef, CheckDef, Expr, ExprKind, StatementKind, Target};
 use crate::syntax::{self, ParsedSheet, Span};
 use crate::units;
 
@@ -171,7 +171,7 @@ impl Sheet {
                     let (cell_uses, ok) =
                         resolve_uses([Some(&mut cell.expr), None], &mut diagnostics);
                     let id = uses.len();
-                    broken[id] |= !ok;
+                    broken[id] |= !ok || matches!(cell.expr.kind, ExprKind::Invalid);
                     uses.push(cell_uses);
                 }
                 StatementKind::Check(check) => {

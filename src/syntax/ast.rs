@@ -142,6 +142,9 @@ pub enum ExprKind {
         /// Right operand.
         rhs: Box<Expr>,
     },
+    /// A formula that did not parse (its error is already reported); the
+    /// cell keeps its name so that what uses it is blocked, not undefined.
+    Invalid,
     /// A function call: `sqrt(x)`, `atan2(y, x)`.
     Call {
         /// The function's name.
@@ -234,7 +237,10 @@ impl Expr {
             ExprKind::Call { args, .. } => {
                 args.iter_mut().for_each(|arg| arg.walk_names_mut(visit))
             }
-            ExprKind::Number(_) | ExprKind::Quantity { .. } | ExprKind::UnitValue(_) => {}
+            ExprKind::Number(_)
+            | ExprKind::Quantity { .. }
+            | ExprKind::UnitValue(_)
+            | ExprKind::Invalid => {}
         }
     }
 
@@ -251,6 +257,7 @@ impl Expr {
             ExprKind::Number(_)
             | ExprKind::Quantity { .. }
             | ExprKind::UnitValue(_)
+            | ExprKind::Invalid
             | ExprKind::Name(_) => {}
         }
     }

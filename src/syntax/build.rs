@@ -51,6 +51,28 @@ pub(crate) fn statement(mut pairs: Pairs<'_, Rule>, offset: usize) -> Built<Opti
     }))
 }
 
+/// The name and declared unit from the pairs of `Rule::cell_head` (a unit
+/// that fails to build is dropped: the line's error is reported already).
+/// Also returns where the text after `=` starts.
+pub(crate) fn cell_head(
+    pairs: Pairs<'_, Rule>,
+    offset: usize,
+) -> Option<(Ident, Option<UnitExpr>, usize)> {
+    let builder = Builder { offset };
+    let mut name = None;
+    let mut unit = None;
+    let mut formula_start = offset;
+    for pair in pairs {
+        match pair.as_rule() {
+            Rule::name => name = Some(builder.ident(pair)),
+            Rule::declared_unit => unit = builder.unit_in_brackets(pair).ok(),
+            Rule::assign => formula_start = builder.span(&pair).end(),
+            _ => {}
+        }
+    }
+    Some((name?, unit, formula_start))
+}
+
 /// Builds the expression from the pairs of `Rule::expression_only`.
 pub(crate) fn expression(mut pairs: Pairs<'_, Rule>) -> Built<Option<Expr>> {
     match pairs.next() {
@@ -103,6 +125,7 @@ impl Builder {
         for part in pair.into_inner() {
             match part.as_rule() {
                 Rule::name => name = Some(self.ident(part)),
+                Rule::assign => {}
                 Rule::declared_unit => unit = Some(self.unit_in_brackets(part)?),
                 Rule::expr => expr = Some(self.expr(part)?),
                 Rule::description => description = Some(self.description(part)),
@@ -236,10 +259,16 @@ impl Builder {
                     .next()
                     .unwrap_or_else(|| unreachable!("expected a name"));
                 match inner.next() {
-                    None => ExprKind::Name(NameRef {
-                        text: name.as_str().into(),
-                        target: Target::Unresolved,
-                    }),
+                    // The pair also covers the blanks after the name; the span must not.
+                    None => {
+                        return Ok(Expr {
+                            span: self.span(&name),
+                            kind: ExprKind::Name(NameRef {
+                                text: name.as_str().into(),
+                                target: Target::Unresolved,
+                            }),
+                        });
+                    }
                     Some(arguments) => ExprKind::Call {
                         function: self.ident(name),
                         args: arguments

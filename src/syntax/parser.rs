@@ -30,6 +30,9 @@ pub(crate) fn describe_error(
                 .collect();
             wanted.sort_unstable();
             wanted.dedup();
+            if wanted.contains(&"an expression") {
+                wanted.retain(|word| *word != "a name");
+            }
             if wanted.is_empty() {
                 format!("unexpected {found}")
             } else {
@@ -93,8 +96,9 @@ fn describe_rule(rule: Rule) -> Option<&'static str> {
         | Rule::quantity
         | Rule::number
         | Rule::reference
-        | Rule::unit_value
-        | Rule::name => "an expression",
+        | Rule::unit_value => "an expression",
+        Rule::name => "a name",
+        Rule::assign => "`=`",
         Rule::add | Rule::sub | Rule::mul | Rule::div | Rule::pow => "an operator",
         Rule::neg => "an expression",
         Rule::arguments => "`(`",

@@ -3,7 +3,7 @@
 
 use pest::Parser;
 
-use super::ast::{Statement, StatementKind};
+use super::ast::{CellDef, Expr, ExprKind, Statement, StatementKind};
 use super::parser::{HeftParser, Rule, describe_error};
 use super::{Span, build};
 use crate::diag::{Code, Diagnostic};
@@ -70,11 +70,11 @@ pub fn parse(source: &str) -> ParsedSheet {
     let mut sheet = ParsedSheet::default();
     let mut lines = lines(source).peekable();
 
-    // The header must open on the first line that is not blank.
-    while lines
-        .peek()
-        .is_some_and(|line| source[line.start..line.end].trim().is_empty())
-    {
+    // The header must open on the first line that is not blank or a comment.
+    while lines.peek().is_some_and(|line| {
+        let text = source[line.start..line.end].trim();
+        text.is_empty() || text.starts_with("//")
+    }) {
         lines.next();
     }
     if let Some(open) = lines.next_if(|line| source[line.start..line.end].trim() == "+++") {
@@ -138,33 +138,61 @@ pub fn parse(source: &str) -> ParsedSheet {
 /// Below this many statements, parsing on one thread is faster.
 const PARALLEL_THRESHOLD: usize = 4096;
 
-/// Parses one statement written at `offset`; on failure returns
-/// [`StatementKind::Invalid`] with the error.
+/// Parses one statement written at `offset`. On failure the statement is
+/// [`StatementKind::Invalid`], or, when the line still reads as
+/// `name [unit] =`, a cell whose formula is [`ExprKind::Invalid`], so the name
+/// stays defined and its dependents are blocked rather than undefined.
 fn parse_statement(text: &str, offset: usize) -> (StatementKind, Option<Diagnostic>) {
-    if let Some(diagnostic) = check_limits(text, offset) {
+    let code_part = text.split("//").next().unwrap_or(text);
+    if code_part.trim() == "+++" {
+        let diagnostic = Diagnostic::error(
+            Code::HeaderError,
+            Span::new(offset, offset + text.len()),
+            "a `+++` header block must come first in the sheet",
+        )
+        .with_help(
+            "move the header to the top; only blank lines and `//` comments may come before it",
+        );
         return (StatementKind::Invalid, Some(diagnostic));
     }
-    match HeftParser::parse(Rule::line, text) {
-        Ok(pairs) => match build::statement(pairs, offset) {
-            Ok(Some(kind)) => (kind, None),
-            Ok(None) => (StatementKind::Invalid, None),
-            Err(error) => (
-                StatementKind::Invalid,
-                Some(Diagnostic::error(
-                    Code::ParseError,
-                    error.span,
-                    error.message,
-                )),
-            ),
-        },
-        Err(error) => {
-            let (span, message) = describe_error(&error, text, offset);
-            (
-                StatementKind::Invalid,
-                Some(Diagnostic::error(Code::ParseError, span, message)),
-            )
+    let failure = if let Some(diagnostic) = check_limits(text, offset) {
+        diagnostic
+    } else {
+        match HeftParser::parse(Rule::line, text) {
+            Ok(pairs) => match build::statement(pairs, offset) {
+                Ok(Some(kind)) => return (kind, None),
+                Ok(None) => return (StatementKind::Invalid, None),
+                Err(error) => Diagnostic::error(Code::ParseError, error.span, error.message),
+            },
+            Err(error) => {
+                let (span, message) = describe_error(&error, text, offset);
+                Diagnostic::error(Code::ParseError, span, message)
+            }
         }
-    }
+    };
+    (
+        recover_cell(text, offset).unwrap_or(StatementKind::Invalid),
+        Some(failure),
+    )
+}
+
+/// The cell a broken line still defines, read from its `name [unit] =` head.
+fn recover_cell(text: &str, offset: usize) -> Option<StatementKind> {
+    let pairs = HeftParser::parse(Rule::cell_head, text).ok()?;
+    let (name, unit, formula_start) = build::cell_head(pairs, offset)?;
+    let code_end = offset + text.split("//").next().unwrap_or(text).trim_end().len();
+    let formula = &text[formula_start - offset..];
+    let blank = formula.len() - formula.trim_start().len();
+    let rest = Span::new((formula_start + blank).min(code_end), code_end);
+    Some(StatementKind::Cell(Box::new(CellDef {
+        name,
+        unit,
+        expr: Expr {
+            kind: ExprKind::Invalid,
+            span: rest,
+        },
+        description: None,
+    })))
 }
 
 /// Refuses statements nested deeper than [`MAX_NESTING`] or with more than

@@ -1,0 +1,71 @@
+//! Helpers shared by the integration tests: one place that runs a sheet
+//! through the public API, so a refactor touches one function.
+
+#![allow(dead_code)]
+
+use heftsheet::eval::{CellStatus, Evaluated, evaluate_source};
+
+/// Evaluates `source` and returns the model.
+#[track_caller]
+pub fn run(source: &str) -> Evaluated {
+    evaluate_source(source)
+}
+
+/// Evaluates `source`, asserts it has no diagnostics at all, and returns it.
+#[track_caller]
+pub fn run_clean(source: &str) -> Evaluated {
+    let evaluated = evaluate_source(source);
+    let codes: Vec<String> = evaluated
+        .diagnostics
+        .iter()
+        .map(|d| format!("{} {}: {}", d.severity.as_str(), d.code, d.message))
+        .collect();
+    assert!(codes.is_empty(), "expected no diagnostics, got {codes:#?}");
+    evaluated
+}
+
+/// The SI value of cell `name`, which must have evaluated.
+#[track_caller]
+pub fn si(evaluated: &Evaluated, name: &str) -> f64 {
+    let cell = evaluated
+        .cell(name)
+        .unwrap_or_else(|| panic!("no cell `{name}`"));
+    assert_eq!(
+        cell.status,
+        CellStatus::Ok,
+        "cell `{name}` did not evaluate"
+    );
+    cell.value.map(|v| v.si).unwrap_or(f64::NAN)
+}
+
+/// The value of cell `name` in its display unit.
+#[track_caller]
+pub fn shown(evaluated: &Evaluated, name: &str) -> f64 {
+    let cell = evaluated
+        .cell(name)
+        .unwrap_or_else(|| panic!("no cell `{name}`"));
+    cell.display.value_of(si(evaluated, name))
+}
+
+/// Asserts `actual` is within `relative` of `expected`.
+#[track_caller]
+pub fn assert_close(actual: f64, expected: f64, relative: f64) {
+    let error = if expected == 0.0 {
+        actual.abs()
+    } else {
+        ((actual - expected) / expected).abs()
+    };
+    assert!(
+        error <= relative,
+        "{actual} differs from {expected} by {error:e} relative (allowed {relative:e})"
+    );
+}
+
+/// The codes of all diagnostics, in order.
+pub fn codes(evaluated: &Evaluated) -> Vec<&'static str> {
+    evaluated
+        .diagnostics
+        .iter()
+        .map(|d| d.code.as_str())
+        .collect()
+}

@@ -1,0 +1,123 @@
+//! Data-driven sheet tests. Every `tests/sheets/ok/*.heft` and `sheets/*.heft`
+//! must evaluate with no error or warning (infos are allowed); every `tests/sheets/err/*.heft`
+//! must give exactly the diagnostic codes its annotations name, on the lines
+//! that carry them: `… // expect: code, code` (or `# expect:` in a header).
+
+mod common;
+
+use std::collections::BTreeMap;
+use std::fs;
+use std::path::{Path, PathBuf};
+
+use heftsheet::diag::Severity;
+use heftsheet::eval::evaluate_source;
+
+fn sheets_in(dir: &str) -> Vec<PathBuf> {
+    let root = Path::new(env!("CARGO_MANIFEST_DIR")).join(dir);
+    let mut paths: Vec<PathBuf> = fs::read_dir(&root)
+        .unwrap_or_else(|e| panic!("{}: {e}", root.display()))
+        .filter_map(|entry| entry.ok().map(|e| e.path()))
+        .filter(|path| path.extension().is_some_and(|ext| ext == "heft"))
+        .collect();
+    paths.sort();
+    paths
+}
+
+/// (line, code) pairs the sheet must produce, from its annotations.
+fn expectations(source: &str) -> BTreeMap<(usize, String), usize> {
+    let mut expected = BTreeMap::new();
+    for (index, line) in source.lines().enumerate() {
+        for marker in ["// expect:", "# expect:"] {
+            if let Some(at) = line.find(marker) {
+                for code in line[at + marker.len()..].split(',') {
+                    *expected
+                        .entry((index + 1, code.trim().to_string()))
+                        .or_insert(0) += 1;
+                }
+            }
+        }
+    }
+    expected
+}
+
+fn produced(source: &str) -> BTreeMap<(usize, String), usize> {
+    found_at_least(source, Severity::Info)
+}
+
+fn found_at_least(source: &str, severity: Severity) -> BTreeMap<(usize, String), usize> {
+    let evaluated = evaluate_source(source);
+    let mut found = BTreeMap::new();
+    for diagnostic in evaluated
+        .diagnostics
+        .iter()
+        .filter(|d| d.severity >= severity)
+    {
+        let line = evaluated.lines.line_of(diagnostic.span.start()) + 1;
+        *found
+            .entry((line, diagnostic.code.as_str().to_string()))
+            .or_insert(0) += 1;
+    }
+    found
+}
+
+#[test]
+fn clean_sheets_have_no_findings() {
+    let mut paths = sheets_in("tests/sheets/ok");
+    paths.extend(sheets_in("sheets"));
+    assert!(
+        paths.len() >= 10,
+        "expected at least 10 clean sheets, found {}",
+        paths.len()
+    );
+    for path in paths {
+        let source = fs::read_to_string(&path).unwrap_or_default();
+        let found = found_at_least(&source, Severity::Warning);
+        assert!(
+            found.is_empty(),
+            "{}: unexpected findings {found:?}",
+            path.display()
+        );
+    }
+}
+
+#[test]
+fn broken_sheets_give_exactly_their_annotated_codes() {
+    let paths = sheets_in("tests/sheets/err");
+    assert!(!paths.is_empty());
+    let mut failures = Vec::new();
+    for path in &paths {
+        let source = fs::read_to_string(path).unwrap_or_default();
+        let expected = expectations(&source);
+        assert!(
+            !expected.is_empty(),
+            "{} has no `expect:` annotation",
+            path.display()
+        );
+        let found = produced(&source);
+        if expected != found {
+            failures.push(format!(
+                "{}:\n  expected {expected:?}\n  found    {found:?}",
+                path.display()
+            ));
+        }
+    }
+    assert!(failures.is_empty(), "{}", failures.join("\n"));
+}
+
+#[test]
+fn every_error_code_is_exercised_by_the_corpus() {
+    let mut seen = std::collections::BTreeSet::new();
+    for path in sheets_in("tests/sheets/err") {
+        let source = fs::read_to_string(&path).unwrap_or_default();
+        seen.extend(expectations(&source).into_keys().map(|(_, code)| code));
+    }
+    for code in heftsheet::diag::Code::ALL {
+        if code == heftsheet::diag::Code::EncodingError {
+            continue; // needs invalid bytes; covered in tests/robustness.rs
+        }
+        assert!(
+            seen.contains(code.as_str()),
+            "no corpus sheet produces `{code}`"
+        );
+    }
+}
