@@ -1,6 +1,9 @@
 //! The unit catalog against published definitions. Each check names its
 //! source; values are copied here so the tests need nothing outside the repo.
 
+// Reference values are copied with all the digits their source gives.
+#![allow(clippy::excessive_precision)]
+
 mod common;
 
 use common::{assert_close, run_clean, shown, si};

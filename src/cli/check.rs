@@ -57,7 +57,7 @@ const DIM: Style = Style::new().dimmed();
 /// The text report of `heft check`.
 pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour: bool) -> String {
     let painter = Painter { colour };
-    let header = &evaluated.header;
+    let header = evaluated.header();
     let sig_figs = header.sig_figs;
     let mut out = String::new();
     let title = header.title.as_deref().unwrap_or("(untitled sheet)");
@@ -73,7 +73,7 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
     let _ = writeln!(out, "{}", painter.paint(DIM, &facts.join(" · ")));
 
     // Which heading each cell sits under, to print headings in dependency order.
-    let mut section_of = vec![None; evaluated.cells.len()];
+    let mut section_of = vec![None; evaluated.n_cells()];
     let mut current = None;
     for (position, item) in evaluated.outline.iter().enumerate() {
         match item {
@@ -83,23 +83,21 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
         }
     }
     let name_width = evaluated
-        .cells
-        .iter()
+        .cells()
         .map(|c| c.name.chars().count())
         .max()
         .unwrap_or(0)
         .min(24);
     let formula_width = evaluated
-        .cells
-        .iter()
+        .cells()
         .map(|c| c.formula.chars().count())
         .max()
         .unwrap_or(0)
         .min(36);
     let mut printed_section = None;
     let mut seen_sections = std::collections::HashSet::new();
-    for &id in &evaluated.order {
-        let cell = &evaluated.cells[id];
+    for &id in evaluated.order() {
+        let cell = evaluated.cell_at(id);
         if section_of[id] != printed_section {
             printed_section = section_of[id];
             if let Some(position) = printed_section {
@@ -116,12 +114,13 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
                     format!("{number} {}", cell.display.text)
                 }
             }
-            (CellStatus::Blocked { by }, _) => format!("(blocked by {})", evaluated.cells[by].name),
+            (CellStatus::Blocked { by }, _) => {
+                format!("(blocked by {})", evaluated.cell_at(by).name)
+            }
             _ => painter.paint(FAIL, "(error)"),
         };
         let description = cell
             .description
-            .as_deref()
             .map(|d| format!("  {}", painter.paint(DIM, d)))
             .unwrap_or_default();
         let name = format!("{:<name_width$}", cell.name);
@@ -175,7 +174,7 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
                 }
                 (CheckStatus::Blocked { by }, _, _) => (
                     "  --".to_string(),
-                    format!("blocked by {}", evaluated.cells[by].name),
+                    format!("blocked by {}", evaluated.cell_at(by).name),
                 ),
                 _ => (
                     painter.paint(FAIL, " err"),
@@ -212,7 +211,7 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
     let plural = |n: usize, word: &str| format!("{n} {word}{}", if n == 1 { "" } else { "s" });
     let summary = format!(
         "{} cells, {}, {}; {} of {} passed",
-        evaluated.cells.len(),
+        evaluated.n_cells(),
         plural(n_errors, "error"),
         plural(n_warnings, "warning"),
         plural(n_passed, "check"),

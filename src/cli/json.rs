@@ -60,18 +60,17 @@ struct JsonDiagnostic<'a> {
 pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> String {
     let lines = &evaluated.lines;
     let cells = evaluated
-        .cells
-        .iter()
+        .cells()
         .map(|cell| {
             let value = cell
                 .value
                 .filter(|_| cell.status == crate::eval::CellStatus::Ok);
             let dimension = value.map(|v| v.dimension).unwrap_or_default();
             Cell {
-                name: &cell.name,
+                name: cell.name,
                 line: cell.line,
-                formula: &cell.formula,
-                description: cell.description.as_deref(),
+                formula: cell.formula,
+                description: cell.description,
                 unit: &cell.display.text,
                 value: value.map(|v| cell.display.value_of(v.si)),
                 si: value.map(|v| v.si),
@@ -81,9 +80,7 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
                     .collect(),
                 status: cell.status.as_str(),
                 blocked_by: match cell.status {
-                    crate::eval::CellStatus::Blocked { by } => {
-                        Some(evaluated.cells[by].name.as_str())
-                    }
+                    crate::eval::CellStatus::Blocked { by } => Some(evaluated.cell_at(by).name),
                     _ => None,
                 },
             }
@@ -108,10 +105,10 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
     let report = Report {
         schema: SCHEMA,
         file: file_name,
-        title: evaluated.header.title.as_deref(),
-        revision: evaluated.header.revision.as_deref(),
-        display: evaluated.header.display.label(),
-        sig_figs: evaluated.header.sig_figs,
+        title: evaluated.header().title.as_deref(),
+        revision: evaluated.header().revision.as_deref(),
+        display: evaluated.header().display.label(),
+        sig_figs: evaluated.header().sig_figs,
         clean: evaluated.is_clean(),
         cells,
         checks,

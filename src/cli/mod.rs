@@ -60,6 +60,11 @@ pub enum Command {
     Units,
 }
 
+/// The text report of `heft check`, without colour (for tests and tools).
+pub fn check_text(file_name: &str, source: &str, evaluated: &crate::eval::Evaluated) -> String {
+    check::text_report(file_name, source, evaluated, false)
+}
+
 /// Exit code: the sheet is clean.
 pub const EXIT_CLEAN: u8 = 0;
 /// Exit code: the sheet has errors or failed checks.

@@ -6,9 +6,12 @@ mod explain;
 pub mod functions;
 mod model;
 
-pub use model::{CellResult, CellStatus, CheckResult, CheckStatus, Evaluated, OutlineItem};
+pub use model::{
+    CellOutcome, CellResult, CellStatus, CheckResult, CheckStatus, Evaluated, OutlineItem,
+};
 
 use std::cell::RefCell;
+use std::sync::Arc;
 
 use rustc_hash::FxHashMap;
 
@@ -29,12 +32,12 @@ type Evaluation = Result<Quantity, Box<Diagnostic>>;
 
 /// Parses, links and evaluates a sheet's source text in one call.
 pub fn evaluate_source(source: &str) -> Evaluated {
-    evaluate(&Sheet::parse(source), source)
+    evaluate(Arc::new(Sheet::parse(source)), Arc::from(source))
 }
 
 /// Evaluates every cell and check of a linked sheet.
-pub fn evaluate(sheet: &Sheet, source: &str) -> Evaluated {
-    let mut evaluator = Evaluator::new(sheet, source);
+pub fn evaluate(sheet: Arc<Sheet>, source: Arc<str>) -> Evaluated {
+    let mut evaluator = Evaluator::new(&sheet, &source);
     for &id in &sheet.order.order {
         evaluator.evaluate_cell(id);
     }
@@ -45,11 +48,13 @@ pub fn evaluate(sheet: &Sheet, source: &str) -> Evaluated {
 }
 
 struct Evaluator<'a> {
-    sheet: &'a Sheet,
-    source: &'a str,
+    sheet: &'a Arc<Sheet>,
+    source: &'a Arc<str>,
     /// Units already looked up, by their text: a sheet repeats a few units
     /// many times.
     unit_cache: RefCell<FxHashMap<&'a str, ResolvedUnit>>,
+    /// Display texts already shared, by their text.
+    unit_texts: RefCell<FxHashMap<&'a str, Arc<str>>>,
     style: Style,
     values: Vec<Option<Quantity>>,
     statuses: Vec<CellStatus>,
@@ -60,8 +65,8 @@ struct Evaluator<'a> {
 /// cells (`heft convert "100 lbm * g0" lbf`).
 pub fn evaluate_expression(text: &str) -> Result<Quantity, Diagnostic> {
     let expr = crate::syntax::parse_expression(text)?;
-    let sheet = Sheet::parse("");
-    Evaluator::new(&sheet, text)
+    let (sheet, source) = (Arc::new(Sheet::parse("")), Arc::from(text));
+    Evaluator::new(&sheet, &source)
         .eval(&expr)
         .map_err(|diagnostic| *diagnostic)
 }
@@ -70,19 +75,20 @@ pub fn evaluate_expression(text: &str) -> Result<Quantity, Diagnostic> {
 /// dimension and SI factor.
 pub fn evaluate_unit(text: &str) -> Result<(UnitExpr, ResolvedUnit), Diagnostic> {
     let unit = crate::syntax::parse_unit(text)?;
-    let sheet = Sheet::parse("");
-    let resolved = Evaluator::new(&sheet, text)
+    let (sheet, source) = (Arc::new(Sheet::parse("")), Arc::from(text));
+    let resolved = Evaluator::new(&sheet, &source)
         .resolve_unit(&unit)
         .map_err(|diagnostic| *diagnostic)?;
     Ok((unit, resolved))
 }
 
 impl<'a> Evaluator<'a> {
-    fn new(sheet: &'a Sheet, source: &'a str) -> Self {
+    fn new(sheet: &'a Arc<Sheet>, source: &'a Arc<str>) -> Self {
         Evaluator {
             sheet,
             source,
             unit_cache: RefCell::default(),
+            unit_texts: RefCell::default(),
             style: Style {
                 system: sheet.header.display,
                 sig_figs: sheet.header.sig_figs,
@@ -274,7 +280,7 @@ impl<'a> Evaluator<'a> {
                     let unit = self.sheet.cell(id).unit.as_ref()?;
                     let resolved = self.resolve_unit(unit).ok()?;
                     Some(DisplayUnit {
-                        text: unit.span.text(self.source).to_string(),
+                        text: self.shared_text(unit.span.text(self.source)),
                         si_factor: resolved.si_factor,
                     })
                 }
@@ -497,6 +503,16 @@ impl<'a> Evaluator<'a> {
         Ok(resolved)
     }
 
+    /// One shared copy of each unit text a sheet displays.
+    fn shared_text(&self, text: &'a str) -> Arc<str> {
+        Arc::clone(
+            self.unit_texts
+                .borrow_mut()
+                .entry(text)
+                .or_insert_with(|| Arc::from(text)),
+        )
+    }
+
     fn resolve_unit_uncached(&self, unit: &UnitExpr) -> Result<ResolvedUnit, Box<Diagnostic>> {
         units::resolve(
             unit.factors
@@ -537,23 +553,15 @@ impl<'a> Evaluator<'a> {
     fn finish(mut self, checks: Vec<CheckResult>) -> Evaluated {
         let (sheet, source) = (self.sheet, self.source);
         let lines = LineIndex::new(source);
-        let cells = (0..sheet.cells.len())
+        let outcomes = (0..sheet.cells.len())
             .map(|id| {
-                let cell = sheet.cell(id);
                 let value = self.values[id];
                 let (display, is_input) = self.display_unit(id, value);
-                CellResult {
-                    name: cell.name.text.clone(),
-                    span: sheet.cell_span(id),
-                    line: lines.line_of(sheet.cell_span(id).start()) + 1,
-                    formula: cell.expr.span.text(source).to_string(),
-                    description: cell.description.as_ref().map(|d| d.text.clone()),
-                    declared_unit: cell.unit.is_some(),
-                    is_input,
-                    display,
+                CellOutcome {
                     value,
                     status: self.statuses[id],
-                    uses: sheet.uses[id].clone(),
+                    display,
+                    is_input,
                 }
             })
             .collect();
@@ -586,11 +594,11 @@ impl<'a> Evaluator<'a> {
         let mut diagnostics = std::mem::take(&mut self.diagnostics);
         diagnostics.sort_by_key(|diagnostic| (diagnostic.span.start(), diagnostic.code));
         Evaluated {
-            header: sheet.header.clone(),
-            cells,
+            sheet: Arc::clone(sheet),
+            source: Arc::clone(source),
+            outcomes,
             checks,
             outline,
-            order: sheet.order.order.clone(),
             diagnostics,
             lines,
         }
@@ -613,7 +621,7 @@ impl<'a> Evaluator<'a> {
         };
         let is_input = literal_unit.is_some();
         let written = |unit: &UnitExpr| {
-            let text = unit.span.text(self.source).to_string();
+            let text = self.shared_text(unit.span.text(self.source));
             self.resolve_unit(unit).ok().map(|resolved| DisplayUnit {
                 text,
                 si_factor: resolved.si_factor,

@@ -2,7 +2,9 @@
 //! notebook, report) reads. Nothing here refers to the syntax tree.
 
 use crate::diag::{Diagnostic, Severity};
-use crate::sheet::{CellId, Header};
+use std::sync::Arc;
+
+use crate::sheet::{CellId, Header, Sheet};
 use crate::syntax::ast::Comparison;
 use crate::syntax::{LineIndex, Span};
 use crate::units::{DisplayUnit, Quantity};
@@ -32,31 +34,47 @@ impl CellStatus {
     }
 }
 
-/// One evaluated cell.
+/// What evaluation computed for one cell.
 #[derive(Clone, Debug)]
-pub struct CellResult {
+pub struct CellOutcome {
+    /// The value, if it could be computed.
+    pub value: Option<Quantity>,
+    /// Ok, error or blocked.
+    pub status: CellStatus,
+    /// The unit the value is shown in.
+    pub display: DisplayUnit,
+    /// Whether the cell is an input (a number or quantity as written).
+    pub is_input: bool,
+}
+
+/// One evaluated cell as presentation sees it: what was written and what
+/// was computed, borrowed from the [`Evaluated`] sheet.
+#[derive(Clone, Copy, Debug)]
+pub struct CellResult<'a> {
+    /// The cell's id.
+    pub id: CellId,
     /// The cell's name.
-    pub name: String,
+    pub name: &'a str,
     /// Its whole statement.
     pub span: Span,
     /// 1-based line of the statement.
     pub line: usize,
     /// The formula as written.
-    pub formula: String,
+    pub formula: &'a str,
     /// The description, if any.
-    pub description: Option<String>,
+    pub description: Option<&'a str>,
     /// Whether the cell declares its unit in brackets.
     pub declared_unit: bool,
     /// Whether the cell is an input (a number or quantity as written).
     pub is_input: bool,
     /// The unit the value is shown in.
-    pub display: DisplayUnit,
+    pub display: &'a DisplayUnit,
     /// The value, if it could be computed.
     pub value: Option<Quantity>,
     /// Ok, error or blocked.
     pub status: CellStatus,
     /// The cells its formula uses.
-    pub uses: Vec<CellId>,
+    pub uses: &'a [CellId],
 }
 
 /// The state of a check after evaluation.
@@ -138,19 +156,17 @@ pub enum OutlineItem {
     },
 }
 
-/// Everything evaluation found out about a sheet.
+/// Everything evaluation found out about a sheet. It owns the linked sheet
+/// and its source, and lends out [`CellResult`] views of each cell.
 #[derive(Clone, Debug)]
 pub struct Evaluated {
-    /// The header.
-    pub header: Header,
-    /// Cells, by id (file order).
-    pub cells: Vec<CellResult>,
+    pub(super) sheet: Arc<Sheet>,
+    pub(super) source: Arc<str>,
+    pub(super) outcomes: Vec<CellOutcome>,
     /// Checks, in file order.
     pub checks: Vec<CheckResult>,
     /// Headings, notes, cells and checks in file order.
     pub outline: Vec<OutlineItem>,
-    /// Cell ids in evaluation (dependency) order.
-    pub order: Vec<CellId>,
     /// Every finding, sorted by position.
     pub diagnostics: Vec<Diagnostic>,
     /// Line index of the source, for line/column output.
@@ -158,9 +174,60 @@ pub struct Evaluated {
 }
 
 impl Evaluated {
+    /// The sheet's header.
+    pub fn header(&self) -> &Header {
+        &self.sheet.header
+    }
+
+    /// The linked sheet that was evaluated.
+    pub fn sheet(&self) -> &Sheet {
+        &self.sheet
+    }
+
+    /// The source text.
+    pub fn source(&self) -> &str {
+        &self.source
+    }
+
+    /// Number of cells.
+    pub fn n_cells(&self) -> usize {
+        self.outcomes.len()
+    }
+
+    /// The cell with this id.
+    pub fn cell_at(&self, id: CellId) -> CellResult<'_> {
+        let cell = self.sheet.cell(id);
+        let outcome = &self.outcomes[id];
+        let span = self.sheet.cell_span(id);
+        CellResult {
+            id,
+            name: &cell.name.text,
+            span,
+            line: self.lines.line_of(span.start()) + 1,
+            formula: cell.expr.span.text(&self.source),
+            description: cell.description.as_ref().map(|d| d.text.as_str()),
+            declared_unit: cell.unit.is_some(),
+            is_input: outcome.is_input,
+            display: &outcome.display,
+            value: outcome.value,
+            status: outcome.status,
+            uses: &self.sheet.uses[id],
+        }
+    }
+
+    /// Every cell, by id (file order).
+    pub fn cells(&self) -> impl ExactSizeIterator<Item = CellResult<'_>> {
+        (0..self.outcomes.len()).map(|id| self.cell_at(id))
+    }
+
+    /// Cell ids in evaluation (dependency) order.
+    pub fn order(&self) -> &[CellId] {
+        &self.sheet.order.order
+    }
+
     /// The cell with this name.
-    pub fn cell(&self, name: &str) -> Option<&CellResult> {
-        self.cells.iter().find(|cell| cell.name == name)
+    pub fn cell(&self, name: &str) -> Option<CellResult<'_>> {
+        self.sheet.names.get(name).map(|&id| self.cell_at(id))
     }
 
     /// Number of diagnostics of this severity.

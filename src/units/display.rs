@@ -1,5 +1,7 @@
 //! Choosing a readable unit for a result, and rounding it for display.
 
+use std::sync::{Arc, LazyLock};
+
 use super::{Dimension, catalog, format_unit_product};
 
 /// The unit system a sheet displays results in when a cell declares none.
@@ -37,7 +39,8 @@ impl DisplaySystem {
 #[derive(Clone, Debug, PartialEq)]
 pub struct DisplayUnit {
     /// The unit as heft would parse it: `kN`, `lbf*s/ft`; empty for a number.
-    pub text: String,
+    /// Shared, since a sheet shows thousands of values in a handful of units.
+    pub text: Arc<str>,
     /// The SI value of one of this unit.
     pub si_factor: f64,
 }
@@ -46,7 +49,7 @@ impl DisplayUnit {
     /// No unit: a plain number.
     pub fn none() -> Self {
         DisplayUnit {
-            text: String::new(),
+            text: Arc::from(""),
             si_factor: 1.0,
         }
     }
@@ -116,33 +119,52 @@ pub fn pick_unit(dimension: Dimension, si: f64, system: DisplaySystem) -> Displa
     if dimension.is_dimensionless() {
         return DisplayUnit::none();
     }
-    let ladders = match system {
-        DisplaySystem::Si => SI_LADDERS,
-        DisplaySystem::Fps => FPS_LADDERS,
-    };
+    static RESOLVED: LazyLock<[Vec<ResolvedLadder>; 2]> =
+        LazyLock::new(|| [resolve_ladders(SI_LADDERS), resolve_ladders(FPS_LADDERS)]);
+    let ladders = &RESOLVED[match system {
+        DisplaySystem::Si => 0,
+        DisplaySystem::Fps => 1,
+    }];
     if let Some((_, ladder)) = ladders.iter().find(|(d, _)| *d == dimension) {
         return climb(ladder, si.abs());
     }
     match system {
         DisplaySystem::Si => DisplayUnit {
-            text: dimension.si_units(),
+            text: Arc::from(dimension.si_units()),
             si_factor: 1.0,
         },
         DisplaySystem::Fps => fps_base_units(dimension),
     }
 }
 
-fn climb(ladder: Ladder, magnitude: f64) -> DisplayUnit {
-    let mut chosen = unit_of(ladder[0].0);
-    for &(text, threshold) in &ladder[1..] {
-        let candidate = unit_of(text);
-        if magnitude / candidate.si_factor >= threshold {
+/// A ladder with its units looked up once.
+type ResolvedLadder = (Dimension, Vec<(DisplayUnit, f64)>);
+
+fn resolve_ladders(ladders: &[(Dimension, Ladder)]) -> Vec<ResolvedLadder> {
+    ladders
+        .iter()
+        .map(|(dimension, ladder)| {
+            (
+                *dimension,
+                ladder
+                    .iter()
+                    .map(|&(text, threshold)| (unit_of(text), threshold))
+                    .collect(),
+            )
+        })
+        .collect()
+}
+
+fn climb(ladder: &[(DisplayUnit, f64)], magnitude: f64) -> DisplayUnit {
+    let mut chosen = &ladder[0].0;
+    for (candidate, threshold) in &ladder[1..] {
+        if magnitude / candidate.si_factor >= *threshold {
             chosen = candidate;
         } else {
             break;
         }
     }
-    chosen
+    chosen.clone()
 }
 
 /// The display unit for catalog text such as `m/s^2` (internal, trusted).
@@ -162,7 +184,7 @@ fn unit_of(text: &str) -> DisplayUnit {
         sign = next_sign;
     }
     DisplayUnit {
-        text: text.to_string(),
+        text: Arc::from(text),
         si_factor,
     }
 }
@@ -193,7 +215,7 @@ fn fps_base_units(dimension: Dimension) -> DisplayUnit {
         })
         .product();
     DisplayUnit {
-        text: format_unit_product(&factors),
+        text: Arc::from(format_unit_product(&factors)),
         si_factor,
     }
 }

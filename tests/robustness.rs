@@ -1,0 +1,143 @@
+//! No input panics or hangs: hostile, huge and malformed sheets each give a
+//! result or a clean diagnostic.
+
+mod common;
+
+use common::{codes, run, si};
+use heftsheet::eval::{CellStatus, evaluate_source};
+use proptest::prelude::*;
+
+#[test]
+fn an_empty_sheet_is_fine() {
+    let evaluated = run("");
+    assert_eq!(evaluated.n_cells(), 0);
+    assert!(evaluated.diagnostics.is_empty());
+    assert!(evaluated.is_clean());
+}
+
+#[test]
+fn invalid_utf8_is_reported_and_the_rest_still_evaluates() {
+    let mut bytes = b"m = 4 kg\nbad = 3 \xff\xfe kg\nW = m * g0\n".to_vec();
+    bytes.extend_from_slice("F = W * 2\n".as_bytes());
+    let (text, problem) = heftsheet::decode_source(&bytes);
+    let problem = problem.expect("invalid UTF-8 must be reported");
+    assert_eq!(problem.code.as_str(), "encoding-error");
+    assert_eq!(problem.span.start(), 17);
+    let evaluated = evaluate_source(&text);
+    assert!((si(&evaluated, "F") - 4.0 * 9.80665 * 2.0).abs() < 1e-12);
+}
+
+#[test]
+fn ten_thousand_nested_brackets_are_refused_cleanly() {
+    let source = format!(
+        "x = {}1{}\ny = 2 kg\n",
+        "(".repeat(10_000),
+        ")".repeat(10_000)
+    );
+    let evaluated = run(&source);
+    assert_eq!(codes(&evaluated), ["parse-error"]);
+    assert_eq!(si(&evaluated, "y"), 2.0);
+}
+
+#[test]
+fn long_operator_chains_are_refused_cleanly() {
+    for chain in [
+        format!("x = {}1", "-".repeat(100_000)),
+        format!("x = 2{}", "^2".repeat(100_000)),
+        format!("x = 1{}", " + 1".repeat(100_000)),
+        format!("x = {}", "sqrt(".repeat(5_000)),
+        format!("x = 1 {}", "kg*".repeat(100_000)),
+    ] {
+        let evaluated = run(&chain);
+        assert_eq!(codes(&evaluated), ["parse-error"], "{}", &chain[..20]);
+    }
+}
+
+#[test]
+fn a_chain_just_inside_the_limits_evaluates() {
+    let sum = format!(
+        "x = 1{}",
+        " + 1".repeat(heftsheet::syntax::MAX_OPERATORS - 1)
+    );
+    assert_eq!(si(&run(&sum), "x"), heftsheet::syntax::MAX_OPERATORS as f64);
+    let nested = format!(
+        "x = {}2{}",
+        "(".repeat(heftsheet::syntax::MAX_NESTING),
+        ")".repeat(heftsheet::syntax::MAX_NESTING)
+    );
+    assert_eq!(si(&run(&nested), "x"), 2.0);
+}
+
+#[test]
+fn a_million_cell_dependency_chain_evaluates() {
+    let mut source = String::from("c0 = 1 kg\n");
+    for i in 1..1_000_000 {
+        source.push_str(&format!("c{i} = c{} + 1 kg\n", i - 1));
+    }
+    let evaluated = run(&source);
+    assert!(evaluated.diagnostics.is_empty());
+    assert_eq!(si(&evaluated, "c999999"), 1_000_000.0);
+}
+
+#[test]
+fn a_million_cell_chain_written_backwards_evaluates() {
+    // Every cell uses the one after it: the order must be worked out in full.
+    let n = 1_000_000;
+    let mut source = String::new();
+    for i in 0..n - 1 {
+        source.push_str(&format!("c{i} = c{} + 1 kg\n", i + 1));
+    }
+    source.push_str(&format!("c{} = 1 kg\n", n - 1));
+    let evaluated = run(&source);
+    assert!(evaluated.diagnostics.is_empty());
+    assert_eq!(si(&evaluated, "c0"), n as f64);
+}
+
+#[test]
+fn a_long_cycle_is_one_diagnostic() {
+    let n = 100_000;
+    let mut source = String::new();
+    for i in 0..n {
+        source.push_str(&format!("c{i} = c{} + 1 kg\n", (i + 1) % n));
+    }
+    source.push_str("after = c5 * 2\n");
+    let evaluated = run(&source);
+    assert_eq!(codes(&evaluated), ["cycle"]);
+    assert!(matches!(
+        evaluated.cell("after").map(|c| c.status),
+        Some(CellStatus::Blocked { .. })
+    ));
+}
+
+/// Words and symbols of the language, for token soups.
+const TOKENS: &[&str] = &[
+    "m", "x_1", "θ", "g0", "pi", "check", "=", "+", "-", "*", "/", "^", "(", ")", "[", "]", ",",
+    "\"", "\"desc\"", "<=", ">", "1", "0", "2.5e3", "1e999", "kg", "lbf", "lb", "m/s^2", "s^-2",
+    "sqrt", "atan2", "#", ">", "//", "+++", "\n", "\t", " ", "µ", "°", "%", "kN*m", "(kg", "e",
+    ".", "..", "deg", "[kN]", "max(", "\r\n",
+];
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(512))]
+
+    #[test]
+    fn random_bytes_never_panic(bytes in proptest::collection::vec(any::<u8>(), 0..400)) {
+        let (text, _) = heftsheet::decode_source(&bytes);
+        let evaluated = evaluate_source(&text);
+        for diagnostic in &evaluated.diagnostics {
+            prop_assert!(diagnostic.span.end() <= text.len() + 1);
+        }
+    }
+
+    #[test]
+    fn token_soups_never_panic(picks in proptest::collection::vec(0..TOKENS.len(), 0..80)) {
+        let text: String = picks.iter().map(|&i| TOKENS[i]).collect::<Vec<_>>().join(" ");
+        let evaluated = evaluate_source(&text);
+        for diagnostic in &evaluated.diagnostics {
+            prop_assert!(diagnostic.span.end() <= text.len() + 1);
+            prop_assert!(text.is_char_boundary(diagnostic.span.start().min(text.len())));
+        }
+        // Rendering must not panic either.
+        let _ = heftsheet::diag::render::render(&evaluated.diagnostics, "soup.heft", &text, false);
+    }
+}
