@@ -9,7 +9,10 @@ use anstyle::{AnsiColor, Style};
 
 use super::{EXIT_CLEAN, EXIT_FINDINGS, json, print, read_sheet};
 use crate::diag::{Severity, render::render};
-use crate::eval::{self, CellStatus, CheckStatus, Evaluated, OutlineItem};
+use crate::eval::{
+    self, CellStatus, CheckStatus, Evaluated, OutlineItem, SolveStatus, format_value,
+};
+use crate::units::Value;
 use crate::units::format_significant;
 
 /// Runs `heft check FILE`.
@@ -96,7 +99,8 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
         .min(36);
     let mut printed_section = None;
     let mut seen_sections = std::collections::HashSet::new();
-    for &id in evaluated.order() {
+    let mut printed_block = None;
+    for id in evaluated.order() {
         let cell = evaluated.cell_at(id);
         if section_of[id] != printed_section {
             printed_section = section_of[id];
@@ -105,15 +109,14 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
                 write_section(&mut out, evaluated, position, first_time, &painter);
             }
         }
-        let value = match (cell.status, cell.value) {
-            (CellStatus::Ok, Some(value)) => {
-                let number = format_significant(cell.display.value_of(value.si), sig_figs);
-                if cell.display.text.is_empty() {
-                    number
-                } else {
-                    format!("{number} {}", cell.display.text)
-                }
-            }
+        if let Some(report) = cell.solved_by
+            && cell.solved_by != printed_block
+        {
+            printed_block = cell.solved_by;
+            write_solve_block(&mut out, evaluated, report, &painter);
+        }
+        let value = match (cell.status, cell.any_value()) {
+            (CellStatus::Ok, Some(value)) => format_value(value, cell.display, sig_figs),
             (CellStatus::Blocked { by }, _) => {
                 format!("(blocked by {})", evaluated.cell_at(by).name)
             }
@@ -221,6 +224,68 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
     let _ = writeln!(out, "\n{}", painter.paint(style, &summary));
     let _ = writeln!(out, "\n{}", painter.paint(DIM, &wrap(crate::CAUTION, 78)));
     out
+}
+
+/// Prints a solve block: its equations with their residuals, and how the
+/// solver did.
+fn write_solve_block(out: &mut String, evaluated: &Evaluated, index: usize, painter: &Painter) {
+    let report = &evaluated.solves[index];
+    let sig_figs = evaluated.header().sig_figs;
+    let unknowns: Vec<&str> = report
+        .unknowns
+        .iter()
+        .map(|&id| evaluated.cell_at(id).name)
+        .collect();
+    let how = match report.status {
+        SolveStatus::Solved => {
+            let method = if report.linear {
+                "linear system"
+            } else {
+                "Newton's method"
+            };
+            let condition = report
+                .condition
+                .map(|c| format!(", condition {}", format_significant(c, 3)))
+                .unwrap_or_default();
+            let plural = if report.iterations == 1 { "" } else { "s" };
+            format!(
+                "{method}, {} iteration{plural}{condition}",
+                report.iterations
+            )
+        }
+        SolveStatus::Failed => painter.paint(FAIL, "not solved"),
+        SolveStatus::NotRun => "not run".to_string(),
+    };
+    let _ = writeln!(
+        out,
+        "  {} {}  ({how})",
+        painter.paint(BOLD, "solve"),
+        unknowns.join(", ")
+    );
+    let width = report
+        .equations
+        .iter()
+        .map(|e| e.text.chars().count())
+        .max()
+        .unwrap_or(0)
+        .min(48);
+    for equation in &report.equations {
+        let residual = equation
+            .residual
+            .map(|r| {
+                format!(
+                    "   residual {}",
+                    format_value(Value::Scalar(r), &equation.display, sig_figs)
+                )
+            })
+            .unwrap_or_default();
+        let _ = writeln!(
+            out,
+            "    {:<width$}{}",
+            equation.text,
+            painter.paint(DIM, &residual)
+        );
+    }
 }
 
 /// Prints a heading and, the first time, the notes right after it.

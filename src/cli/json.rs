@@ -20,6 +20,7 @@ struct Report<'a> {
     clean: bool,
     cells: Vec<Cell<'a>>,
     checks: Vec<Check<'a>>,
+    solves: Vec<Solve<'a>>,
     diagnostics: Vec<JsonDiagnostic<'a>>,
 }
 
@@ -33,8 +34,32 @@ struct Cell<'a> {
     value: Option<f64>,
     si: Option<f64>,
     dimension: serde_json::Map<String, serde_json::Value>,
+    /// Components of a vector value, in `unit` (absent for scalars).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    vector: Option<Vec<f64>>,
+    /// Components of a vector value in SI units (absent for scalars).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    si_vector: Option<Vec<f64>>,
     status: &'static str,
     blocked_by: Option<&'a str>,
+}
+
+#[derive(Serialize)]
+struct Solve<'a> {
+    line: usize,
+    unknowns: Vec<&'a str>,
+    status: &'static str,
+    linear: bool,
+    iterations: usize,
+    condition: Option<f64>,
+    equations: Vec<SolveEquation<'a>>,
+}
+
+#[derive(Serialize)]
+struct SolveEquation<'a> {
+    equation: &'a str,
+    line: usize,
+    residual_si: Option<f64>,
 }
 
 #[derive(Serialize)]
@@ -62,10 +87,14 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
     let cells = evaluated
         .cells()
         .map(|cell| {
-            let value = cell
-                .value
-                .filter(|_| cell.status == crate::eval::CellStatus::Ok);
-            let dimension = value.map(|v| v.dimension).unwrap_or_default();
+            let ok = cell.status == crate::eval::CellStatus::Ok;
+            let value = cell.value.filter(|_| ok);
+            let vector = cell.vector.filter(|_| ok);
+            let dimension = cell
+                .any_value()
+                .filter(|_| ok)
+                .map(|v| v.dimension())
+                .unwrap_or_default();
             Cell {
                 name: cell.name,
                 line: cell.line,
@@ -78,6 +107,13 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
                     .nonzero_exponents()
                     .map(|(name, exponent)| (name.to_string(), serde_json::Value::from(exponent)))
                     .collect(),
+                vector: vector.map(|v| {
+                    v.components()
+                        .iter()
+                        .map(|&c| cell.display.value_of(c))
+                        .collect()
+                }),
+                si_vector: vector.map(|v| v.components().to_vec()),
                 status: cell.status.as_str(),
                 blocked_by: match cell.status {
                     crate::eval::CellStatus::Blocked { by } => Some(evaluated.cell_at(by).name),
@@ -102,6 +138,35 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
             utilization: check.utilization,
         })
         .collect();
+    let solves = evaluated
+        .solves
+        .iter()
+        .map(|solve| Solve {
+            line: lines.line_of(solve.span.start()) + 1,
+            unknowns: solve
+                .unknowns
+                .iter()
+                .map(|&id| evaluated.cell_at(id).name)
+                .collect(),
+            status: match solve.status {
+                crate::eval::SolveStatus::Solved => "solved",
+                crate::eval::SolveStatus::Failed => "failed",
+                crate::eval::SolveStatus::NotRun => "not-run",
+            },
+            linear: solve.linear,
+            iterations: solve.iterations,
+            condition: solve.condition,
+            equations: solve
+                .equations
+                .iter()
+                .map(|equation| SolveEquation {
+                    equation: &equation.text,
+                    line: lines.line_of(equation.span.start()) + 1,
+                    residual_si: equation.residual.map(|r| r.si),
+                })
+                .collect(),
+        })
+        .collect();
     let report = Report {
         schema: SCHEMA,
         file: file_name,
@@ -112,6 +177,7 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
         clean: evaluated.is_clean(),
         cells,
         checks,
+        solves,
         diagnostics: evaluated
             .diagnostics
             .iter()

@@ -66,6 +66,19 @@ pub enum Code {
     OutOfDomain,
     /// A `check` whose comparison does not hold.
     CheckFailed,
+    /// A force on a `body` that is not a force vector.
+    BadForce,
+    /// A solve block with fewer equations than unknowns.
+    Underdetermined,
+    /// A solve block with more equations than unknowns.
+    Overdetermined,
+    /// A solve block whose equations do not fix every unknown (a singular
+    /// Jacobian: dependent equations, or an unknown that hardly matters).
+    SingularSystem,
+    /// A solve block that Newton's method could not solve.
+    NoConvergence,
+    /// A solve block with more than one solution near the guess.
+    SeveralRoots,
 }
 
 impl Code {
@@ -88,11 +101,17 @@ impl Code {
             Code::NotFinite => "not-finite",
             Code::OutOfDomain => "out-of-domain",
             Code::CheckFailed => "check-failed",
+            Code::BadForce => "bad-force",
+            Code::Underdetermined => "underdetermined",
+            Code::Overdetermined => "overdetermined",
+            Code::SingularSystem => "singular-system",
+            Code::NoConvergence => "no-convergence",
+            Code::SeveralRoots => "several-roots",
         }
     }
 
     /// Every code, for documentation and tests.
-    pub const ALL: [Code; 16] = [
+    pub const ALL: [Code; 22] = [
         Code::ParseError,
         Code::EncodingError,
         Code::HeaderError,
@@ -109,6 +128,12 @@ impl Code {
         Code::NotFinite,
         Code::OutOfDomain,
         Code::CheckFailed,
+        Code::BadForce,
+        Code::Underdetermined,
+        Code::Overdetermined,
+        Code::SingularSystem,
+        Code::NoConvergence,
+        Code::SeveralRoots,
     ];
 }
 

@@ -3,7 +3,9 @@
 
 use crate::diag::{Code, Diagnostic};
 use crate::syntax::Span;
-use crate::units::{Dimension, DisplaySystem, Quantity, format_significant, pick_unit};
+use crate::units::{
+    Dimension, DisplaySystem, DisplayUnit, Quantity, Value, format_significant, pick_unit,
+};
 
 /// How values are written in messages.
 #[derive(Clone, Copy, Debug)]
@@ -17,11 +19,13 @@ pub(crate) struct Style {
 impl Style {
     /// `1850 kg`, `4079 lbf`, `0.5` — rounded, in a readable unit.
     pub fn show(self, quantity: Quantity) -> String {
-        let unit = pick_unit(quantity.dimension, quantity.si, self.system);
-        with_unit(
-            format_significant(unit.value_of(quantity.si), self.sig_figs),
-            &unit.text,
-        )
+        self.show_value(Value::Scalar(quantity))
+    }
+
+    /// A scalar as [`Style::show`]; a vector as `(120, -40) N`.
+    pub fn show_value(self, value: Value) -> String {
+        let unit = pick_unit(value.dimension(), value.magnitude_si(), self.system);
+        format_value(value, &unit, self.sig_figs)
     }
 
     /// `si` in a given unit: `4079 lbf`.
@@ -41,6 +45,25 @@ fn with_unit(number: String, unit: &str) -> String {
     }
 }
 
+/// A value in a given display unit, rounded to `sig_figs`: `19.22 kN`,
+/// `(120, -40) N`.
+pub fn format_value(value: Value, unit: &DisplayUnit, sig_figs: u32) -> String {
+    match value {
+        Value::Scalar(q) => with_unit(
+            format_significant(unit.value_of(q.si), sig_figs),
+            &unit.text,
+        ),
+        Value::Vector(v) => {
+            let components: Vec<String> = v
+                .components()
+                .iter()
+                .map(|&c| format_significant(unit.value_of(c), sig_figs))
+                .collect();
+            with_unit(format!("({})", components.join(", ")), &unit.text)
+        }
+    }
+}
+
 /// Whether `heavier` is `lighter` times an acceleration: a force against a
 /// mass, a pressure against a mass per area, and so on.
 pub(crate) fn differs_by_acceleration(heavier: Dimension, lighter: Dimension) -> bool {
@@ -54,7 +77,7 @@ pub(crate) struct Operand<'a> {
     /// Its text.
     pub text: &'a str,
     /// Its value.
-    pub value: Quantity,
+    pub value: Value,
 }
 
 /// `cannot add a mass (10 kg) and a force (5 N)`, with the weight/mass fix
@@ -65,24 +88,29 @@ pub(crate) fn mismatch(
     right: &Operand<'_>,
     style: Style,
 ) -> Diagnostic {
-    let (l, r) = (left.value, right.value);
+    let (l, r) = (left.value.dimension(), right.value.dimension());
     let describe = |operand: &Operand<'_>| {
+        let kind = if operand.value.vector().is_some() {
+            "a vector: "
+        } else {
+            ""
+        };
         format!(
-            "{} ({})",
-            operand.value.dimension.describe(),
-            style.show(operand.value)
+            "{kind}{} ({})",
+            operand.value.dimension().describe(),
+            style.show_value(operand.value)
         )
     };
     let message = format!("cannot {action} {} and {}", describe(left), describe(right));
-    let weight_mass = if differs_by_acceleration(l.dimension, r.dimension) {
+    let weight_mass = if differs_by_acceleration(l, r) {
         Some((right, left))
-    } else if differs_by_acceleration(r.dimension, l.dimension) {
+    } else if differs_by_acceleration(r, l) {
         Some((left, right))
     } else {
         None
     };
     let (code, message) = match weight_mass {
-        Some(_) if [l.dimension, r.dimension].contains(&Dimension::MASS) => (
+        Some(_) if [l, r].contains(&Dimension::MASS) => (
             Code::MassWeightMixup,
             format!("{message}: a weight is not a mass"),
         ),
@@ -96,14 +124,9 @@ pub(crate) fn mismatch(
         .with_label(left.span, describe(left))
         .with_label(right.span, describe(right));
     if let Some((lighter, heavier)) = weight_mass {
-        let as_mass = Quantity::new(
-            heavier.value.si / crate::units::STANDARD_GRAVITY,
-            lighter.value.dimension,
-        );
-        let as_weight = Quantity::new(
-            lighter.value.si * crate::units::STANDARD_GRAVITY,
-            heavier.value.dimension,
-        );
+        let g0 = crate::units::STANDARD_GRAVITY;
+        let as_mass = Quantity::new(heavier.value.magnitude_si() / g0, lighter.value.dimension());
+        let as_weight = Quantity::new(lighter.value.magnitude_si() * g0, heavier.value.dimension());
         diagnostic = diagnostic.with_help(format!(
             "if `{}` is a weight, its mass is `({}) / g0` = {}; the weight of `{}` is `({}) * g0` = {}",
             heavier.text,
@@ -136,24 +159,24 @@ pub(crate) struct DeclaredMismatch<'a> {
     /// Whether the formula is a single name (so the message can name it).
     pub formula_is_name: bool,
     /// What the formula gives.
-    pub value: Quantity,
+    pub value: Value,
 }
 
 /// `W is a force but m_skid is a mass (1850 kg); a weight is mass × g0 = 4079 lbf`.
 pub(crate) fn declared_mismatch(cell: &DeclaredMismatch<'_>, style: Style) -> Diagnostic {
-    let found = cell.value.dimension;
+    let found = cell.value.dimension();
     let gives = if cell.formula_is_name {
         format!(
             "`{}` is {} ({})",
             cell.formula,
             found.describe(),
-            style.show(cell.value)
+            style.show_value(cell.value)
         )
     } else {
         format!(
             "its formula gives {} ({})",
             found.describe(),
-            style.show(cell.value)
+            style.show_value(cell.value)
         )
     };
     let declared = format!(
@@ -170,7 +193,7 @@ pub(crate) fn declared_mismatch(cell: &DeclaredMismatch<'_>, style: Style) -> Di
         format!("({})", cell.formula)
     };
     let diagnostic = if differs_by_acceleration(cell.declared, found) {
-        let weight = in_declared(cell.value.si * g0);
+        let weight = in_declared(cell.value.magnitude_si() * g0);
         let what = if found == Dimension::MASS {
             "a weight is mass × g0"
         } else {
@@ -183,7 +206,7 @@ pub(crate) fn declared_mismatch(cell: &DeclaredMismatch<'_>, style: Style) -> Di
         )
         .with_help(format!("write `{formula} * g0` (= {weight})"))
     } else if differs_by_acceleration(found, cell.declared) {
-        let mass = in_declared(cell.value.si / g0);
+        let mass = in_declared(cell.value.magnitude_si() / g0);
         let what = if cell.declared == Dimension::MASS {
             "a mass is weight / g0"
         } else {
@@ -204,7 +227,7 @@ pub(crate) fn declared_mismatch(cell: &DeclaredMismatch<'_>, style: Style) -> Di
         .with_help(format!(
             "change the unit in brackets to one for {}, such as [{}], or fix the formula",
             found.describe(),
-            pick_unit(found, cell.value.si, style.system).text
+            pick_unit(found, cell.value.magnitude_si(), style.system).text
         ))
     };
     diagnostic.with_label(

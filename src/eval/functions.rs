@@ -1,6 +1,6 @@
 //! The built-in functions: name, arguments, dimension rule and value.
 
-use crate::units::{Dimension, Quantity};
+use crate::units::{Dimension, Quantity, Value};
 
 /// How many arguments a function takes.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -9,6 +9,8 @@ pub enum Arity {
     Exactly(usize),
     /// At least this many.
     AtLeast(usize),
+    /// From the first to the second, inclusive.
+    Between(usize, usize),
 }
 
 impl Arity {
@@ -17,6 +19,7 @@ impl Arity {
         match self {
             Arity::Exactly(expected) => n == expected,
             Arity::AtLeast(minimum) => n >= minimum,
+            Arity::Between(minimum, maximum) => (minimum..=maximum).contains(&n),
         }
     }
 
@@ -26,6 +29,7 @@ impl Arity {
         match self {
             Arity::Exactly(n) => format!("{n} {}", plural(n)),
             Arity::AtLeast(n) => format!("at least {n} {}", plural(n)),
+            Arity::Between(low, high) => format!("{low} to {high} {}", plural(high)),
         }
     }
 }
@@ -45,6 +49,16 @@ pub enum CallError {
     },
     /// A square root of a quantity whose dimension has odd exponents.
     OddRoot,
+    /// The argument must be a scalar, not a vector.
+    NotScalar {
+        /// Which argument.
+        argument: usize,
+    },
+    /// The argument must be a vector.
+    NotVector {
+        /// Which argument.
+        argument: usize,
+    },
     /// The argument is outside the function's domain.
     Domain {
         /// Which argument.
@@ -52,6 +66,15 @@ pub enum CallError {
         /// What the domain is, e.g. "a number from -1 to 1".
         expected: &'static str,
     },
+}
+
+/// How a built-in function computes its value.
+#[derive(Clone, Copy)]
+pub enum Apply {
+    /// On scalars only (vector arguments are refused before the call).
+    Scalar(fn(&[Quantity]) -> Result<Quantity, CallError>),
+    /// On any values (the vector functions).
+    Value(fn(&[Value]) -> Result<Value, CallError>),
 }
 
 /// A built-in function.
@@ -63,106 +86,120 @@ pub struct Function {
     /// What it computes, for the language reference.
     pub doc: &'static str,
     /// Computes the value, checking dimensions and domain.
-    pub apply: fn(&[Quantity]) -> Result<Quantity, CallError>,
+    pub apply: Apply,
 }
 
-/// Every built-in function.
+/// The scalar built-in functions.
 pub const FUNCTIONS: &[Function] = &[
-    Function {
-        name: "sqrt",
-        arity: Arity::Exactly(1),
-        doc: "square root; halves every dimension exponent",
-        apply: sqrt,
-    },
-    Function {
-        name: "abs",
-        arity: Arity::Exactly(1),
-        doc: "absolute value, same dimension",
-        apply: abs,
-    },
-    Function {
-        name: "sin",
-        arity: Arity::Exactly(1),
-        doc: "sine of an angle (a plain number in radians; write 30 deg)",
-        apply: |a| plain(a, libm::sin),
-    },
-    Function {
-        name: "cos",
-        arity: Arity::Exactly(1),
-        doc: "cosine of an angle",
-        apply: |a| plain(a, libm::cos),
-    },
-    Function {
-        name: "tan",
-        arity: Arity::Exactly(1),
-        doc: "tangent of an angle",
-        apply: |a| plain(a, libm::tan),
-    },
-    Function {
-        name: "asin",
-        arity: Arity::Exactly(1),
-        doc: "inverse sine, in radians",
-        apply: |a| unit_interval(a, libm::asin),
-    },
-    Function {
-        name: "acos",
-        arity: Arity::Exactly(1),
-        doc: "inverse cosine, in radians",
-        apply: |a| unit_interval(a, libm::acos),
-    },
-    Function {
-        name: "atan",
-        arity: Arity::Exactly(1),
-        doc: "inverse tangent, in radians",
-        apply: |a| plain(a, libm::atan),
-    },
-    Function {
-        name: "atan2",
-        arity: Arity::Exactly(2),
-        doc: "angle of the point (x, y): atan2(y, x), both of one dimension",
-        apply: atan2,
-    },
-    Function {
-        name: "exp",
-        arity: Arity::Exactly(1),
-        doc: "e to the power of a plain number",
-        apply: |a| plain(a, libm::exp),
-    },
-    Function {
-        name: "ln",
-        arity: Arity::Exactly(1),
-        doc: "natural logarithm of a positive plain number",
-        apply: |a| positive(a, libm::log),
-    },
-    Function {
-        name: "log10",
-        arity: Arity::Exactly(1),
-        doc: "base-10 logarithm of a positive plain number",
-        apply: |a| positive(a, libm::log10),
-    },
-    Function {
-        name: "min",
-        arity: Arity::AtLeast(1),
-        doc: "smallest of its arguments, all of one dimension",
-        apply: |a| extreme(a, f64::min),
-    },
-    Function {
-        name: "max",
-        arity: Arity::AtLeast(1),
-        doc: "largest of its arguments, all of one dimension",
-        apply: |a| extreme(a, f64::max),
-    },
-    Function {
-        name: "hypot",
-        arity: Arity::AtLeast(2),
-        doc: "√(a² + b² + …), all of one dimension",
-        apply: hypot,
-    },
+    scalar(
+        "sqrt",
+        Arity::Exactly(1),
+        "square root; halves every dimension exponent",
+        sqrt,
+    ),
+    scalar(
+        "abs",
+        Arity::Exactly(1),
+        "absolute value, same dimension",
+        abs,
+    ),
+    scalar(
+        "sin",
+        Arity::Exactly(1),
+        "sine of an angle (a plain number in radians; write 30 deg)",
+        |a| plain(a, libm::sin),
+    ),
+    scalar("cos", Arity::Exactly(1), "cosine of an angle", |a| {
+        plain(a, libm::cos)
+    }),
+    scalar("tan", Arity::Exactly(1), "tangent of an angle", |a| {
+        plain(a, libm::tan)
+    }),
+    scalar("asin", Arity::Exactly(1), "inverse sine, in radians", |a| {
+        unit_interval(a, libm::asin)
+    }),
+    scalar(
+        "acos",
+        Arity::Exactly(1),
+        "inverse cosine, in radians",
+        |a| unit_interval(a, libm::acos),
+    ),
+    scalar(
+        "atan",
+        Arity::Exactly(1),
+        "inverse tangent, in radians",
+        |a| plain(a, libm::atan),
+    ),
+    scalar(
+        "atan2",
+        Arity::Exactly(2),
+        "angle of the point (x, y): atan2(y, x), both of one dimension",
+        atan2,
+    ),
+    scalar(
+        "exp",
+        Arity::Exactly(1),
+        "e to the power of a plain number",
+        |a| plain(a, libm::exp),
+    ),
+    scalar(
+        "ln",
+        Arity::Exactly(1),
+        "natural logarithm of a positive plain number",
+        |a| positive(a, libm::log),
+    ),
+    scalar(
+        "log10",
+        Arity::Exactly(1),
+        "base-10 logarithm of a positive plain number",
+        |a| positive(a, libm::log10),
+    ),
+    scalar(
+        "min",
+        Arity::AtLeast(1),
+        "smallest of its arguments, all of one dimension",
+        |a| extreme(a, f64::min),
+    ),
+    scalar(
+        "max",
+        Arity::AtLeast(1),
+        "largest of its arguments, all of one dimension",
+        |a| extreme(a, f64::max),
+    ),
+    scalar(
+        "hypot",
+        Arity::AtLeast(2),
+        "√(a² + b² + …), all of one dimension",
+        hypot,
+    ),
 ];
+
+/// A function on scalars.
+const fn scalar(
+    name: &'static str,
+    arity: Arity,
+    doc: &'static str,
+    apply: fn(&[Quantity]) -> Result<Quantity, CallError>,
+) -> Function {
+    Function {
+        name,
+        arity,
+        doc,
+        apply: Apply::Scalar(apply),
+    }
+}
+
+/// The vector functions, from `eval::vectors`.
+const VECTOR_FUNCTIONS: &[Function] = &super::vectors::FUNCTIONS;
 
 /// The function with this name.
 pub fn function(name: &str) -> Option<&'static Function> {
-    FUNCTIONS.iter().find(|function| function.name == name)
+    all().find(|function| function.name == name)
+}
+
+/// Every function, scalar ones first.
+pub fn all() -> impl Iterator<Item = &'static Function> {
+    FUNCTIONS.iter().chain(VECTOR_FUNCTIONS)
 }
 
 fn require_plain(args: &[Quantity]) -> Result<(), CallError> {

@@ -1,13 +1,19 @@
-//! Evaluation: walks each cell's formula in dependency order, checks the
-//! dimension at every operation, attaches source spans to every error, and
-//! produces the plain [`Evaluated`] model that presentation reads.
+//! Evaluation: walks the sheet's nodes (cells and solve blocks) in
+//! dependency order, checks the dimension at every operation, attaches source
+//! spans to every error, and produces the plain [`Evaluated`] model that
+//! presentation reads.
 
 mod explain;
+mod expr;
 pub mod functions;
 mod model;
+mod solve;
+mod vectors;
 
+pub use explain::format_value;
 pub use model::{
-    CellOutcome, CellResult, CellStatus, CheckResult, CheckStatus, Evaluated, OutlineItem,
+    CellOutcome, CellResult, CellStatus, CheckResult, CheckStatus, EquationReport, Evaluated,
+    FreeBody, OutlineItem, SolveReport, SolveStatus,
 };
 
 use std::cell::RefCell;
@@ -16,30 +22,31 @@ use std::sync::Arc;
 use rustc_hash::FxHashMap;
 
 use explain::{DeclaredMismatch, Operand, Style, declared_mismatch, mismatch};
-use functions::{CallError, function};
 
 use crate::diag::{Code, Diagnostic};
-use crate::sheet::{CellId, Item, Sheet};
-use crate::syntax::ast::{
-    BinaryOp, Comparison, Expr, ExprKind, NameRef, StatementKind, Target, UnitExpr,
-};
-use crate::syntax::{LineIndex, Span};
-use crate::units::{
-    self, DisplayUnit, Quantity, QuantityError, ResolvedUnit, UnitErrorKind, pick_unit,
-};
+use crate::sheet::{CellId, Item, Node, Sheet};
+use crate::syntax::LineIndex;
+use crate::syntax::ast::{Comparison, Expr, ExprKind, NameRef, StatementKind, Target, UnitExpr};
+use crate::units::{self, DisplayUnit, Quantity, ResolvedUnit, Value, pick_unit};
 
-type Evaluation = Result<Quantity, Box<Diagnostic>>;
+type Evaluation = Result<Value, Box<Diagnostic>>;
 
 /// Parses, links and evaluates a sheet's source text in one call.
 pub fn evaluate_source(source: &str) -> Evaluated {
     evaluate(Arc::new(Sheet::parse(source)), Arc::from(source))
 }
 
-/// Evaluates every cell and check of a linked sheet.
+/// Evaluates every cell, solve block and check of a linked sheet.
 pub fn evaluate(sheet: Arc<Sheet>, source: Arc<str>) -> Evaluated {
     let mut evaluator = Evaluator::new(&sheet, &source);
-    for &id in &sheet.order.order {
-        evaluator.evaluate_cell(id);
+    for &node in &sheet.order.order {
+        match &sheet.nodes[node] {
+            Node::Cell(id) => evaluator.evaluate_cell(*id),
+            Node::Solve {
+                statement,
+                unknowns,
+            } => evaluator.evaluate_solve(*statement, unknowns),
+        }
     }
     let checks = (0..sheet.checks.len())
         .map(|index| evaluator.evaluate_check(index))
@@ -47,28 +54,22 @@ pub fn evaluate(sheet: Arc<Sheet>, source: Arc<str>) -> Evaluated {
     evaluator.finish(checks)
 }
 
-struct Evaluator<'a> {
-    sheet: &'a Arc<Sheet>,
-    source: &'a Arc<str>,
-    /// Units already looked up, by their text: a sheet repeats a few units
-    /// many times.
-    unit_cache: RefCell<FxHashMap<&'a str, ResolvedUnit>>,
-    /// Display texts already shared, by their text.
-    unit_texts: RefCell<FxHashMap<&'a str, Arc<str>>>,
-    style: Style,
-    values: Vec<Option<Quantity>>,
-    statuses: Vec<CellStatus>,
-    diagnostics: Vec<Diagnostic>,
-}
-
 /// Evaluates one expression on its own, with the built-in constants but no
-/// cells (`heft convert "100 lbm * g0" lbf`).
+/// cells (`heft convert "100 lbm * g0" lbf`). Vectors are refused.
 pub fn evaluate_expression(text: &str) -> Result<Quantity, Diagnostic> {
     let expr = crate::syntax::parse_expression(text)?;
     let (sheet, source) = (Arc::new(Sheet::parse("")), Arc::from(text));
-    Evaluator::new(&sheet, &source)
+    match Evaluator::new(&sheet, &source)
         .eval(&expr)
-        .map_err(|diagnostic| *diagnostic)
+        .map_err(|diagnostic| *diagnostic)?
+    {
+        Value::Scalar(quantity) => Ok(quantity),
+        Value::Vector(_) => Err(Diagnostic::error(
+            Code::DimensionMismatch,
+            expr.span,
+            "expected a scalar, not a vector",
+        )),
+    }
 }
 
 /// Reads one unit expression on its own: the unit as parsed, and its
@@ -80,6 +81,22 @@ pub fn evaluate_unit(text: &str) -> Result<(UnitExpr, ResolvedUnit), Diagnostic>
         .resolve_unit(&unit)
         .map_err(|diagnostic| *diagnostic)?;
     Ok((unit, resolved))
+}
+
+/// The evaluation in progress: values and statuses by cell.
+struct Evaluator<'a> {
+    sheet: &'a Arc<Sheet>,
+    source: &'a Arc<str>,
+    /// Units already looked up, by their text: a sheet repeats a few units
+    /// many times.
+    unit_cache: RefCell<FxHashMap<&'a str, ResolvedUnit>>,
+    /// Display texts already shared, by their text.
+    unit_texts: RefCell<FxHashMap<&'a str, Arc<str>>>,
+    style: Style,
+    values: Vec<Option<Value>>,
+    statuses: Vec<CellStatus>,
+    solves: Vec<SolveReport>,
+    diagnostics: Vec<Diagnostic>,
 }
 
 impl<'a> Evaluator<'a> {
@@ -95,6 +112,7 @@ impl<'a> Evaluator<'a> {
             },
             values: vec![None; sheet.cells.len()],
             statuses: vec![CellStatus::Error; sheet.cells.len()],
+            solves: Vec::new(),
             diagnostics: sheet.diagnostics.clone(),
         }
     }
@@ -131,28 +149,81 @@ impl<'a> Evaluator<'a> {
 
     fn compute_cell(&self, id: CellId) -> Evaluation {
         let cell = self.sheet.cell(id);
-        let value = self.eval(&cell.expr)?;
-        if let Some(unit) = &cell.unit {
-            let declared = self.resolve_unit(unit)?;
-            if declared.dimension != value.dimension {
-                let formula_is_name = matches!(cell.expr.kind, ExprKind::Name(_));
-                return Err(Box::new(declared_mismatch(
-                    &DeclaredMismatch {
-                        name: &cell.name.text,
-                        unit_text: unit.span.text(self.source),
-                        unit_span: unit.span,
-                        unit_si_factor: declared.si_factor,
-                        declared: declared.dimension,
-                        formula: cell.expr.span.text(self.source),
-                        formula_span: cell.expr.span,
-                        formula_is_name,
-                        value,
-                    },
-                    self.style,
-                )));
-            }
+        let Some(expr) = cell.expr else {
+            return Err(Box::new(Diagnostic::error(
+                Code::ParseError,
+                cell.name.span,
+                "this cell has no formula",
+            )));
+        };
+        if let Some(body) = self.sheet.body(id) {
+            self.check_forces(body)?;
+        }
+        let value = self.eval(expr)?;
+        if let Some(unit) = cell.unit {
+            self.check_declared(cell.name.text.as_str(), unit, expr, value)?;
         }
         Ok(value)
+    }
+
+    /// Fails unless `value` has the dimension of the declared `unit`.
+    fn check_declared(
+        &self,
+        name: &str,
+        unit: &UnitExpr,
+        expr: &Expr,
+        value: Value,
+    ) -> Result<(), Box<Diagnostic>> {
+        let declared = self.resolve_unit(unit)?;
+        if declared.dimension == value.dimension() {
+            return Ok(());
+        }
+        Err(Box::new(declared_mismatch(
+            &DeclaredMismatch {
+                name,
+                unit_text: unit.span.text(self.source),
+                unit_span: unit.span,
+                unit_si_factor: declared.si_factor,
+                declared: declared.dimension,
+                formula: expr.span.text(self.source),
+                formula_span: expr.span,
+                formula_is_name: matches!(expr.kind, ExprKind::Name(_)),
+                value,
+            },
+            self.style,
+        )))
+    }
+
+    /// Every force listed on a body must be a force vector.
+    fn check_forces(&self, body: &crate::syntax::ast::BodyDef) -> Result<(), Box<Diagnostic>> {
+        for force in &body.forces {
+            let Some(&id) = self.sheet.names.get(&force.text) else {
+                continue;
+            };
+            let Some(value) = self.values[id] else {
+                continue;
+            };
+            let problem = match value {
+                Value::Scalar(q) => Some(format!(
+                    "`{}` is a scalar ({}); a force on a body is a vector",
+                    force.text,
+                    self.style.show(q)
+                )),
+                Value::Vector(v) if v.dimension != units::Dimension::FORCE => Some(format!(
+                    "`{}` is a vector of {}, not of force",
+                    force.text,
+                    v.dimension.describe()
+                )),
+                Value::Vector(_) => None,
+            };
+            if let Some(message) = problem {
+                return Err(Box::new(
+                    Diagnostic::error(Code::BadForce, force.span, message)
+                        .with_help("give each force its direction: vec(Fx, Fy) or polar(F, angle); a weight is vec(0 N, -m * g0)"),
+                ));
+            }
+        }
+        Ok(())
     }
 
     fn evaluate_check(&mut self, index: usize) -> CheckResult {
@@ -187,16 +258,27 @@ impl<'a> Evaluator<'a> {
                 return result;
             }
         };
+        let (Value::Scalar(lhs), Value::Scalar(rhs)) = (lhs, rhs) else {
+            self.diagnostics.push(
+                Diagnostic::error(
+                    Code::DimensionMismatch,
+                    span,
+                    "a check compares scalars, not vectors",
+                )
+                .with_help("compare a magnitude or a component: mag(F) <= F_max, F.y >= 0 N"),
+            );
+            return result;
+        };
         if lhs.dimension != rhs.dimension {
             let left = Operand {
                 span: check.lhs.span,
                 text: &result.lhs_text,
-                value: lhs,
+                value: Value::Scalar(lhs),
             };
             let right = Operand {
                 span: check.rhs.span,
                 text: &result.rhs_text,
-                value: rhs,
+                value: Value::Scalar(rhs),
             };
             self.diagnostics
                 .push(mismatch("compare", &left, &right, self.style));
@@ -276,8 +358,7 @@ impl<'a> Evaluator<'a> {
                     target: Target::Cell(id),
                     ..
                 }) => {
-                    let id = *id;
-                    let unit = self.sheet.cell(id).unit.as_ref()?;
+                    let unit = self.sheet.cell(*id).unit?;
                     let resolved = self.resolve_unit(unit).ok()?;
                     Some(DisplayUnit {
                         text: self.shared_text(unit.span.text(self.source)),
@@ -287,267 +368,6 @@ impl<'a> Evaluator<'a> {
                 _ => None,
             })
             .unwrap_or_else(|| pick_unit(value.dimension, value.si, self.style.system))
-    }
-
-    fn eval(&self, expr: &Expr) -> Evaluation {
-        let value = match &expr.kind {
-            ExprKind::Number(value) => Quantity::number(*value),
-            ExprKind::Quantity { value, unit, .. } => {
-                let unit = self.resolve_unit(unit)?;
-                Quantity::new(value * unit.si_factor, unit.dimension)
-            }
-            ExprKind::UnitValue(unit) => {
-                let unit = self.resolve_unit(unit)?;
-                Quantity::new(unit.si_factor, unit.dimension)
-            }
-            ExprKind::Name(name) => self.lookup(name, expr.span)?,
-            // Linking marks such cells broken, so this only guards the invariant.
-            ExprKind::Invalid => {
-                return Err(Box::new(Diagnostic::error(
-                    Code::ParseError,
-                    expr.span,
-                    "this formula did not parse",
-                )));
-            }
-            ExprKind::Negate(inner) => -self.eval(inner)?,
-            ExprKind::Binary { op, lhs, rhs } => self.binary(*op, lhs, rhs, expr.span)?,
-            ExprKind::Call {
-                function: name,
-                args,
-            } => self.call(&name.text, name.span, args, expr.span)?,
-        };
-        if value.si.is_finite() {
-            Ok(value)
-        } else {
-            Err(Box::new(
-                Diagnostic::error(
-                    Code::NotFinite,
-                    expr.span,
-                    format!("`{}` is not a finite number", expr.span.text(self.source)),
-                )
-                .with_help("a value overflowed; check the exponents and units of the inputs"),
-            ))
-        }
-    }
-
-    fn lookup(&self, name: &NameRef, span: Span) -> Evaluation {
-        let value = match name.target {
-            Target::Cell(id) => self.values[id],
-            Target::Constant(index) => units::CONSTANTS.get(index).map(|constant| constant.value),
-            Target::Unresolved => units::constant(&name.text).map(|constant| constant.value),
-        };
-        value.ok_or_else(|| {
-            Box::new(Diagnostic::error(
-                Code::UndefinedName,
-                span,
-                format!("`{}` is not defined", name.text),
-            ))
-        })
-    }
-
-    fn binary(&self, op: BinaryOp, lhs: &Expr, rhs: &Expr, span: Span) -> Evaluation {
-        let (left, right) = (self.eval(lhs)?, self.eval(rhs)?);
-        let result = match op {
-            BinaryOp::Add => left.try_add(right),
-            BinaryOp::Subtract => left.try_sub(right),
-            BinaryOp::Multiply => left.try_mul(right),
-            BinaryOp::Divide => left.try_div(right),
-            BinaryOp::Power => left.try_pow(right),
-        };
-        result.map_err(|error| {
-            Box::new(self.operation_error(error, op, (lhs, left), (rhs, right), span))
-        })
-    }
-
-    fn operation_error(
-        &self,
-        error: QuantityError,
-        op: BinaryOp,
-        (lhs, left): (&Expr, Quantity),
-        (rhs, right): (&Expr, Quantity),
-        span: Span,
-    ) -> Diagnostic {
-        let text = |expr: &Expr| expr.span.text(self.source);
-        match error {
-            QuantityError::Mismatch { .. } => {
-                let action = if op == BinaryOp::Add { "add" } else { "subtract" };
-                mismatch(
-                    action,
-                    &Operand { span: lhs.span, text: text(lhs), value: left },
-                    &Operand { span: rhs.span, text: text(rhs), value: right },
-                    self.style,
-                )
-            }
-            QuantityError::DivisionByZero => Diagnostic::error(
-                Code::DivisionByZero,
-                rhs.span,
-                format!("division by zero: `{}` is 0", text(rhs)),
-            )
-            .with_label(span, "in this division"),
-            QuantityError::BadExponent if !right.dimension.is_dimensionless() => Diagnostic::error(
-                Code::DimensionMismatch,
-                rhs.span,
-                format!("an exponent must be a plain number, but `{}` is {}", text(rhs), right.dimension.describe()),
-            ),
-            QuantityError::BadExponent => Diagnostic::error(
-                Code::DimensionMismatch,
-                span,
-                format!(
-                    "`{}` is {}; raising it to the power {} gives a dimension with fractional exponents",
-                    text(lhs),
-                    left.dimension.describe(),
-                    units::format_significant(right.si, 6)
-                ),
-            )
-            .with_help("a quantity with a unit can only be raised to a whole power (or a root that keeps whole exponents)"),
-            QuantityError::DimensionOverflow => Diagnostic::error(
-                Code::DimensionMismatch,
-                span,
-                "the dimension's exponents grow too large here".to_string(),
-            ),
-        }
-    }
-
-    fn call(&self, name: &str, name_span: Span, args: &[Expr], span: Span) -> Evaluation {
-        let Some(function) = function(name) else {
-            let mut diagnostic = Diagnostic::error(
-                Code::BadCall,
-                name_span,
-                format!("there is no function `{name}`"),
-            );
-            let closest = functions::FUNCTIONS
-                .iter()
-                .map(|f| (strsim::jaro_winkler(f.name, name), f.name))
-                .filter(|(score, _)| *score > 0.8)
-                .max_by(|a, b| a.0.total_cmp(&b.0));
-            if let Some((_, similar)) = closest {
-                diagnostic = diagnostic.with_help(format!("did you mean `{similar}`?"));
-            } else if self.sheet.names.contains_key(name) {
-                diagnostic = diagnostic.with_help(format!("to multiply, write `{name} * (…)`"));
-            }
-            return Err(Box::new(diagnostic));
-        };
-        if !function.arity.accepts(args.len()) {
-            return Err(Box::new(Diagnostic::error(
-                Code::BadCall,
-                span,
-                format!(
-                    "`{name}` takes {}, not {}",
-                    function.arity.describe(),
-                    args.len()
-                ),
-            )));
-        }
-        let values = args
-            .iter()
-            .map(|arg| self.eval(arg))
-            .collect::<Result<Vec<_>, _>>()?;
-        (function.apply)(&values).map_err(|error| {
-            let arg_text = |index: usize| args[index].span.text(self.source);
-            Box::new(match error {
-                CallError::NotDimensionless { argument } => Diagnostic::error(
-                    Code::DimensionMismatch,
-                    args[argument].span,
-                    format!(
-                        "`{name}` needs a plain number, but `{}` is {} ({})",
-                        arg_text(argument),
-                        values[argument].dimension.describe(),
-                        self.style.show(values[argument]),
-                    ),
-                )
-                .with_help(
-                    "angles are plain numbers: write them with `deg` or `rad`, e.g. `sin(30 deg)`",
-                ),
-                CallError::Mismatch { argument } => mismatch(
-                    &format!("mix in `{name}`"),
-                    &Operand {
-                        span: args[0].span,
-                        text: arg_text(0),
-                        value: values[0],
-                    },
-                    &Operand {
-                        span: args[argument].span,
-                        text: arg_text(argument),
-                        value: values[argument],
-                    },
-                    self.style,
-                ),
-                CallError::OddRoot => Diagnostic::error(
-                    Code::DimensionMismatch,
-                    args[0].span,
-                    format!(
-                        "the square root of {} has no whole-unit dimension",
-                        values[0].dimension.describe()
-                    ),
-                ),
-                CallError::Domain { argument, expected } => Diagnostic::error(
-                    Code::OutOfDomain,
-                    args[argument].span,
-                    format!(
-                        "`{name}` needs {expected}, but `{}` is {}",
-                        arg_text(argument),
-                        self.style.show(values[argument])
-                    ),
-                ),
-            })
-        })
-    }
-
-    fn resolve_unit(&self, unit: &UnitExpr) -> Result<ResolvedUnit, Box<Diagnostic>> {
-        let text = unit.span.text(self.source);
-        if let Some(resolved) = self.unit_cache.borrow().get(text) {
-            return Ok(*resolved);
-        }
-        let resolved = self.resolve_unit_uncached(unit)?;
-        self.unit_cache.borrow_mut().insert(text, resolved);
-        Ok(resolved)
-    }
-
-    /// One shared copy of each unit text a sheet displays.
-    fn shared_text(&self, text: &'a str) -> Arc<str> {
-        Arc::clone(
-            self.unit_texts
-                .borrow_mut()
-                .entry(text)
-                .or_insert_with(|| Arc::from(text)),
-        )
-    }
-
-    fn resolve_unit_uncached(&self, unit: &UnitExpr) -> Result<ResolvedUnit, Box<Diagnostic>> {
-        units::resolve(
-            unit.factors
-                .iter()
-                .map(|factor| (&*factor.symbol, factor.exponent)),
-        )
-        .map_err(|error| {
-            let factor = &unit.factors[error.factor];
-            Box::new(match error.kind {
-                UnitErrorKind::Unknown { suggestion } => {
-                    let diagnostic = Diagnostic::error(
-                        Code::UnknownUnit,
-                        factor.span,
-                        format!("`{}` is not a unit heft knows", factor.symbol),
-                    );
-                    match suggestion {
-                        Some(suggestion) => {
-                            diagnostic.with_help(format!("did you mean `{suggestion}`?"))
-                        }
-                        None => diagnostic.with_help("run `heft units` to list every unit"),
-                    }
-                }
-                UnitErrorKind::Ambiguous(ambiguity) => Diagnostic::error(
-                    Code::AmbiguousUnit,
-                    factor.span,
-                    format!("`{}` is ambiguous, so heft does not guess", factor.symbol),
-                )
-                .with_help(format!("write {}", ambiguity.choices)),
-                UnitErrorKind::Overflow => Diagnostic::error(
-                    Code::DimensionMismatch,
-                    unit.span,
-                    "the unit's exponents are too large",
-                ),
-            })
-        })
     }
 
     fn finish(mut self, checks: Vec<CheckResult>) -> Evaluated {
@@ -586,6 +406,16 @@ impl<'a> Evaluator<'a> {
                 },
                 Item::Cell(id) => OutlineItem::Cell(id),
                 Item::Check(index) => OutlineItem::Check(index),
+                Item::Solve(statement) => match self
+                    .solves
+                    .iter()
+                    .position(|report| report.statement == statement)
+                {
+                    Some(report) => OutlineItem::Solve(report),
+                    None => OutlineItem::Invalid {
+                        span: sheet.statements[statement].span,
+                    },
+                },
                 Item::Invalid(index) => OutlineItem::Invalid {
                     span: sheet.statements[index].span,
                 },
@@ -598,6 +428,7 @@ impl<'a> Evaluator<'a> {
             source: Arc::clone(source),
             outcomes,
             checks,
+            solves: std::mem::take(&mut self.solves),
             outline,
             diagnostics,
             lines,
@@ -607,9 +438,13 @@ impl<'a> Evaluator<'a> {
     /// The unit a cell is shown in, and whether it is an input: a declared unit
     /// wins; an input written as one quantity (`1850 kg`) shows as written;
     /// everything else gets the display system's readable unit.
-    fn display_unit(&self, id: CellId, value: Option<Quantity>) -> (DisplayUnit, bool) {
+    fn display_unit(&self, id: CellId, value: Option<Value>) -> (DisplayUnit, bool) {
         let cell = self.sheet.cell(id);
-        let literal_unit = match &cell.expr.kind {
+        let literal_unit = match cell
+            .expr
+            .map(|expr| &expr.kind)
+            .unwrap_or(&ExprKind::Invalid)
+        {
             ExprKind::Number(_) => Some(None),
             ExprKind::Quantity { unit, .. } => Some(Some(unit)),
             ExprKind::Negate(inner) => match &inner.kind {
@@ -627,7 +462,7 @@ impl<'a> Evaluator<'a> {
                 si_factor: resolved.si_factor,
             })
         };
-        if let Some(declared) = cell.unit.as_ref().and_then(written) {
+        if let Some(declared) = cell.unit.and_then(written) {
             return (declared, is_input);
         }
         if let Some(Some(unit)) = literal_unit
@@ -636,7 +471,7 @@ impl<'a> Evaluator<'a> {
             return (as_written, true);
         }
         let display = match value {
-            Some(value) => pick_unit(value.dimension, value.si, self.style.system),
+            Some(value) => pick_unit(value.dimension(), value.magnitude_si(), self.style.system),
             None => DisplayUnit::none(),
         };
         (display, is_input)

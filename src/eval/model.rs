@@ -7,7 +7,7 @@ use std::sync::Arc;
 use crate::sheet::{CellId, Header, Sheet};
 use crate::syntax::ast::Comparison;
 use crate::syntax::{LineIndex, Span};
-use crate::units::{DisplayUnit, Quantity};
+use crate::units::{DisplayUnit, Quantity, Value, VectorQuantity};
 
 /// The state of a cell after evaluation.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -38,7 +38,7 @@ impl CellStatus {
 #[derive(Clone, Debug)]
 pub struct CellOutcome {
     /// The value, if it could be computed.
-    pub value: Option<Quantity>,
+    pub value: Option<Value>,
     /// Ok, error or blocked.
     pub status: CellStatus,
     /// The unit the value is shown in.
@@ -69,12 +69,85 @@ pub struct CellResult<'a> {
     pub is_input: bool,
     /// The unit the value is shown in.
     pub display: &'a DisplayUnit,
-    /// The value, if it could be computed.
+    /// The value, if it is a scalar that could be computed.
     pub value: Option<Quantity>,
+    /// The value, if it is a vector that could be computed.
+    pub vector: Option<VectorQuantity>,
     /// Ok, error or blocked.
     pub status: CellStatus,
     /// The cells its formula uses.
     pub uses: &'a [CellId],
+    /// The solve block that gives this cell, as an index into
+    /// [`Evaluated::solves`], if it is an unknown.
+    pub solved_by: Option<usize>,
+}
+
+impl CellResult<'_> {
+    /// The value, scalar or vector.
+    pub fn any_value(&self) -> Option<Value> {
+        self.value
+            .map(Value::Scalar)
+            .or(self.vector.map(Value::Vector))
+    }
+}
+
+/// How a solve block ended.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum SolveStatus {
+    /// Converged; the unknowns have values.
+    Solved,
+    /// Could not be solved; a diagnostic says why.
+    Failed,
+    /// Not attempted: a line did not parse or an input failed.
+    NotRun,
+}
+
+/// One equation of a solve block and how well the solution satisfies it.
+#[derive(Clone, Debug)]
+pub struct EquationReport {
+    /// The equation as written (`lhs = rhs`), with a `.x`/`.y`/`.z` suffix
+    /// for each component of a vector equation.
+    pub text: String,
+    /// Where it is written.
+    pub span: crate::syntax::Span,
+    /// Left minus right at the solution, in SI units.
+    pub residual: Option<Quantity>,
+    /// The unit the residual is shown in.
+    pub display: DisplayUnit,
+}
+
+/// What a solve block did.
+#[derive(Clone, Debug)]
+pub struct SolveReport {
+    /// The block's statement index.
+    pub statement: usize,
+    /// The whole block.
+    pub span: crate::syntax::Span,
+    /// Its unknowns' cells.
+    pub unknowns: Vec<CellId>,
+    /// Its equations (vector equations give one per component).
+    pub equations: Vec<EquationReport>,
+    /// Newton iterations taken.
+    pub iterations: usize,
+    /// Condition number of the scaled Jacobian at the solution.
+    pub condition: Option<f64>,
+    /// Whether the system is linear in its unknowns (solved in one step).
+    pub linear: bool,
+    /// How it ended.
+    pub status: SolveStatus,
+}
+
+/// A free body: the forces declared on it and their resultant.
+#[derive(Clone, Debug)]
+pub struct FreeBody<'a> {
+    /// The body's cell (its value is the resultant).
+    pub cell: CellId,
+    /// The body's name.
+    pub name: &'a str,
+    /// Each force's name and value.
+    pub forces: Vec<(&'a str, Option<VectorQuantity>)>,
+    /// ΣF, if every force evaluated.
+    pub resultant: Option<VectorQuantity>,
 }
 
 /// The state of a check after evaluation.
@@ -149,6 +222,8 @@ pub enum OutlineItem {
     Cell(CellId),
     /// A check, by index.
     Check(usize),
+    /// A solve block, by index into [`Evaluated::solves`].
+    Solve(usize),
     /// A line that did not parse.
     Invalid {
         /// Where it is.
@@ -165,7 +240,9 @@ pub struct Evaluated {
     pub(super) outcomes: Vec<CellOutcome>,
     /// Checks, in file order.
     pub checks: Vec<CheckResult>,
-    /// Headings, notes, cells and checks in file order.
+    /// Solve blocks, in evaluation order.
+    pub solves: Vec<SolveReport>,
+    /// Headings, notes, cells, solve blocks and checks in file order.
     pub outline: Vec<OutlineItem>,
     /// Every finding, sorted by position.
     pub diagnostics: Vec<Diagnostic>,
@@ -199,19 +276,27 @@ impl Evaluated {
         let cell = self.sheet.cell(id);
         let outcome = &self.outcomes[id];
         let span = self.sheet.cell_span(id);
+        let line_span = cell.name.span;
         CellResult {
             id,
             name: &cell.name.text,
             span,
-            line: self.lines.line_of(span.start()) + 1,
-            formula: cell.expr.span.text(&self.source),
-            description: cell.description.as_ref().map(|d| d.text.as_str()),
+            line: self.lines.line_of(line_span.start()) + 1,
+            formula: cell
+                .expr
+                .map_or("(solved)", |expr| expr.span.text(&self.source)),
+            description: cell.description.map(|d| d.text.as_str()),
             declared_unit: cell.unit.is_some(),
             is_input: outcome.is_input,
             display: &outcome.display,
-            value: outcome.value,
+            value: outcome.value.and_then(|v| v.scalar()),
+            vector: outcome.value.and_then(|v| v.vector()),
             status: outcome.status,
             uses: &self.sheet.uses[id],
+            solved_by: self
+                .solves
+                .iter()
+                .position(|report| report.unknowns.contains(&id)),
         }
     }
 
@@ -220,9 +305,38 @@ impl Evaluated {
         (0..self.outcomes.len()).map(|id| self.cell_at(id))
     }
 
-    /// Cell ids in evaluation (dependency) order.
-    pub fn order(&self) -> &[CellId] {
-        &self.sheet.order.order
+    /// Cell ids in evaluation (dependency) order; a solve block's unknowns
+    /// come together.
+    pub fn order(&self) -> Vec<CellId> {
+        self.sheet.cell_order().collect()
+    }
+
+    /// Every free body declared with `body`, in file order.
+    pub fn free_bodies(&self) -> Vec<FreeBody<'_>> {
+        (0..self.outcomes.len())
+            .filter_map(|id| {
+                let body = self.sheet.body(id)?;
+                let forces = body
+                    .forces
+                    .iter()
+                    .map(|force| {
+                        let value = self
+                            .sheet
+                            .names
+                            .get(&force.text)
+                            .and_then(|&f| self.outcomes[f].value)
+                            .and_then(|v| v.vector());
+                        (force.text.as_str(), value)
+                    })
+                    .collect();
+                Some(FreeBody {
+                    cell: id,
+                    name: &body.name.text,
+                    forces,
+                    resultant: self.outcomes[id].value.and_then(|v| v.vector()),
+                })
+            })
+            .collect()
     }
 
     /// The cell with this name.

@@ -10,13 +10,63 @@ pub use graph::{EvaluationOrder, evaluation_order};
 pub use header::{DEFAULT_SIG_FIGS, Header, read_header};
 
 use crate::diag::{Code, Diagnostic};
-use crate::syntax::ast::Statement;
-use crate::syntax::ast::{CellDef, CheckDef, Expr, ExprKind, StatementKind, Target};
+use crate::syntax::ast::{
+    BodyDef, CellDef, CheckDef, Description, Expr, ExprKind, Ident, SolveBlock, Statement,
+    StatementKind, Target, UnitExpr,
+};
 use crate::syntax::{self, ParsedSheet, Span};
 use crate::units;
 
 /// Index of a cell in [`Sheet::cells`].
 pub type CellId = usize;
+
+/// Index of an evaluation node in [`Sheet::nodes`].
+pub type NodeId = usize;
+
+/// Where a cell is defined.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum CellOrigin {
+    /// A cell or body statement: `name = formula`, `body name: forces`.
+    Formula {
+        /// The statement's index.
+        statement: usize,
+    },
+    /// An unknown of a solve block.
+    Unknown {
+        /// The solve block's statement index.
+        statement: usize,
+        /// Which unknown of the block.
+        index: usize,
+    },
+}
+
+/// A cell's declaration, whatever defines it.
+#[derive(Clone, Copy, Debug)]
+pub struct CellDecl<'a> {
+    /// The name.
+    pub name: &'a Ident,
+    /// The unit in brackets, if any (always present for an unknown).
+    pub unit: Option<&'a UnitExpr>,
+    /// The formula (none for an unknown of a solve block).
+    pub expr: Option<&'a Expr>,
+    /// The description, if any.
+    pub description: Option<&'a Description>,
+}
+
+/// A unit of evaluation: one cell, or a solve block that gives all its
+/// unknowns at once.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub enum Node {
+    /// A cell with a formula.
+    Cell(CellId),
+    /// A solve block.
+    Solve {
+        /// The block's statement index.
+        statement: usize,
+        /// Its unknowns' cells, in written order.
+        unknowns: Vec<CellId>,
+    },
+}
 
 /// What a statement contributes to the sheet, in file order.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -25,12 +75,14 @@ pub enum Item {
     Heading(usize),
     /// A note, at this statement index.
     Note(usize),
-    /// A cell.
+    /// A cell (a body's resultant included).
     Cell(CellId),
     /// A check, index into [`Sheet::checks`].
     Check(usize),
     /// A line that did not parse, at this statement index.
     Invalid(usize),
+    /// A solve block, at this statement index.
+    Solve(usize),
 }
 
 /// A whole sheet, parsed and linked: everything the evaluator needs.
@@ -40,24 +92,30 @@ pub struct Sheet {
     pub header: Header,
     /// The statements in file order.
     pub statements: Vec<Statement>,
-    /// Statement index of each cell.
-    pub cells: Vec<usize>,
+    /// Where each cell is defined.
+    pub cells: Vec<CellOrigin>,
     /// Statement index of each check.
     pub checks: Vec<usize>,
     /// The sheet's items in file order.
     pub items: Vec<Item>,
     /// Cell by name (first definition wins).
     pub names: HashMap<String, CellId>,
-    /// For each cell, the cells its formula uses (no repeats, in first-use order).
+    /// For each cell, the cells its formula uses (no repeats, in first-use
+    /// order); for an unknown, what its block's equations use outside it.
     pub uses: Vec<Vec<CellId>>,
     /// For each check, the cells it uses.
     pub check_uses: Vec<Vec<CellId>>,
     /// Cells that cannot be evaluated for a reason found before evaluation
-    /// (duplicate, undefined name, cycle); their diagnostic is already given.
+    /// (duplicate, undefined name, cycle, broken block); their diagnostic is
+    /// already given.
     pub broken: Vec<bool>,
     /// Checks that cannot be evaluated (undefined name).
     pub broken_checks: Vec<bool>,
-    /// The order to evaluate cells in.
+    /// The evaluation nodes.
+    pub nodes: Vec<Node>,
+    /// The node that computes each cell.
+    pub node_of_cell: Vec<NodeId>,
+    /// The order to evaluate nodes in, and the loops among cells.
     pub order: EvaluationOrder,
     /// Findings from parsing and linking.
     pub diagnostics: Vec<Diagnostic>,
@@ -88,12 +146,21 @@ impl Sheet {
         let mut checks = Vec::new();
         let mut items = Vec::with_capacity(statements.len());
         for (index, statement) in statements.iter().enumerate() {
-            items.push(match statement.kind {
+            items.push(match &statement.kind {
                 StatementKind::Heading { .. } => Item::Heading(index),
                 StatementKind::Note { .. } => Item::Note(index),
-                StatementKind::Cell(_) => {
-                    cells.push(index);
+                StatementKind::Cell(_) | StatementKind::Body(_) => {
+                    cells.push(CellOrigin::Formula { statement: index });
                     Item::Cell(cells.len() - 1)
+                }
+                StatementKind::Solve(block) => {
+                    cells.extend(
+                        (0..block.unknowns.len()).map(|unknown| CellOrigin::Unknown {
+                            statement: index,
+                            index: unknown,
+                        }),
+                    );
+                    Item::Solve(index)
                 }
                 StatementKind::Check(_) => {
                     checks.push(index);
@@ -106,31 +173,31 @@ impl Sheet {
         let mut broken = vec![false; cells.len()];
         let mut names: HashMap<String, CellId> = HashMap::default();
         names.reserve(cells.len());
-        for (id, &statement) in cells.iter().enumerate() {
-            let cell = cell_def(&statements[statement]);
-            if let Some(&first) = names.get(&cell.name.text) {
-                let first_span = cell_def(&statements[cells[first]]).name.span;
+        for (id, &origin) in cells.iter().enumerate() {
+            let name = decl(&statements, origin).name;
+            if let Some(&first) = names.get(&name.text) {
+                let first_span = decl(&statements, cells[first]).name.span;
                 diagnostics.push(
                     Diagnostic::error(
                         Code::DuplicateName,
-                        cell.name.span,
-                        format!("`{}` is already defined", cell.name.text),
+                        name.span,
+                        format!("`{}` is already defined", name.text),
                     )
                     .with_label(first_span, "first defined here")
                     .with_help("rename one of the two cells; names are case-sensitive"),
                 );
                 broken[id] = true;
             } else {
-                names.insert(cell.name.text.clone(), id);
+                names.insert(name.text.clone(), id);
             }
         }
 
         let mut suggestions_left = MAX_SUGGESTIONS;
-        let mut resolve_uses = |exprs: [Option<&mut Expr>; 2],
+        let mut resolve_uses = |exprs: &mut dyn Iterator<Item = &mut Expr>,
                                 diagnostics: &mut Vec<Diagnostic>| {
             let mut uses = Vec::new();
             let mut ok = true;
-            for expr in exprs.into_iter().flatten() {
+            for expr in exprs {
                 expr.walk_names_mut(&mut |name, span| {
                     if let Some(&id) = names.get(&*name.text) {
                         name.target = Target::Cell(id);
@@ -169,32 +236,126 @@ impl Sheet {
             match &mut statement.kind {
                 StatementKind::Cell(cell) => {
                     let (cell_uses, ok) =
-                        resolve_uses([Some(&mut cell.expr), None], &mut diagnostics);
+                        resolve_uses(&mut std::iter::once(&mut cell.expr), &mut diagnostics);
                     let id = uses.len();
                     broken[id] |= !ok || matches!(cell.expr.kind, ExprKind::Invalid);
                     uses.push(cell_uses);
                 }
+                StatementKind::Body(body) => {
+                    let (cell_uses, ok) = resolve_uses(
+                        &mut std::iter::once(&mut body.resultant.expr),
+                        &mut diagnostics,
+                    );
+                    let id = uses.len();
+                    broken[id] |= !ok;
+                    uses.push(cell_uses);
+                }
+                StatementKind::Solve(block) => {
+                    let first = uses.len();
+                    let own: Vec<CellId> = (first..first + block.unknowns.len()).collect();
+                    let SolveBlock {
+                        unknowns,
+                        equations,
+                        complete,
+                        ..
+                    } = &mut **block;
+                    let mut exprs = equations
+                        .iter_mut()
+                        .flat_map(|equation| [&mut equation.lhs, &mut equation.rhs])
+                        .chain(
+                            unknowns
+                                .iter_mut()
+                                .filter_map(|unknown| unknown.guess.as_mut()),
+                        );
+                    let (mut block_uses, ok) = resolve_uses(&mut exprs, &mut diagnostics);
+                    block_uses.retain(|id| !own.contains(id));
+                    for id in own {
+                        broken[id] |= !ok || !*complete;
+                        uses.push(block_uses.clone());
+                    }
+                }
                 StatementKind::Check(check) => {
                     let (used, ok) = resolve_uses(
-                        [Some(&mut check.lhs), Some(&mut check.rhs)],
+                        &mut [&mut check.lhs, &mut check.rhs].into_iter(),
                         &mut diagnostics,
                     );
                     check_uses.push(used);
                     broken_checks.push(!ok);
                 }
-                _ => {}
+                StatementKind::Heading { .. }
+                | StatementKind::Note { .. }
+                | StatementKind::Invalid => {}
             }
         }
 
-        let order = evaluation_order(&uses);
-        for cycle in &order.cycles {
+        // One node per formula cell and per solve block.
+        let mut nodes = Vec::new();
+        let mut node_of_cell = vec![0; cells.len()];
+        let mut id = 0;
+        while id < cells.len() {
+            match cells[id] {
+                CellOrigin::Formula { .. } => {
+                    node_of_cell[id] = nodes.len();
+                    nodes.push(Node::Cell(id));
+                    id += 1;
+                }
+                CellOrigin::Unknown { statement, .. } => {
+                    let unknowns: Vec<CellId> = (id..cells.len())
+                        .take_while(|&other| matches!(cells[other], CellOrigin::Unknown { statement: s, .. } if s == statement))
+                        .collect();
+                    for &unknown in &unknowns {
+                        node_of_cell[unknown] = nodes.len();
+                    }
+                    id += unknowns.len();
+                    nodes.push(Node::Solve {
+                        statement,
+                        unknowns,
+                    });
+                }
+            }
+        }
+        let node_uses: Vec<Vec<NodeId>> = nodes
+            .iter()
+            .map(|node| {
+                let first = match node {
+                    Node::Cell(id) => *id,
+                    Node::Solve { unknowns, .. } => unknowns.first().copied().unwrap_or_default(),
+                };
+                let mut used: Vec<NodeId> = uses
+                    .get(first)
+                    .into_iter()
+                    .flatten()
+                    .map(|&cell| node_of_cell[cell])
+                    .collect();
+                used.dedup();
+                used
+            })
+            .collect();
+
+        let node_order = evaluation_order(&node_uses);
+        let cycles: Vec<Vec<CellId>> = node_order
+            .cycles
+            .iter()
+            .map(|cycle| {
+                let mut members: Vec<CellId> = cycle
+                    .iter()
+                    .flat_map(|&node| match &nodes[node] {
+                        Node::Cell(id) => vec![*id],
+                        Node::Solve { unknowns, .. } => unknowns.clone(),
+                    })
+                    .collect();
+                members.sort_unstable();
+                members
+            })
+            .collect();
+        for cycle in &cycles {
             let spans: Vec<Span> = cycle
                 .iter()
-                .map(|&id| cell_def(&statements[cells[id]]).name.span)
+                .map(|&id| decl(&statements, cells[id]).name.span)
                 .collect();
             let names_in_cycle: Vec<String> = cycle
                 .iter()
-                .map(|&id| format!("`{}`", cell_def(&statements[cells[id]]).name.text))
+                .map(|&id| format!("`{}`", decl(&statements, cells[id]).name.text))
                 .collect();
             let mut diagnostic = Diagnostic::error(
                 Code::Cycle,
@@ -222,43 +383,104 @@ impl Sheet {
             check_uses,
             broken,
             broken_checks,
-            order,
+            nodes,
+            node_of_cell,
+            order: EvaluationOrder {
+                order: node_order.order,
+                cycles,
+            },
             diagnostics,
         }
     }
 
-    /// The definition of a cell.
-    pub fn cell(&self, id: CellId) -> &CellDef {
-        cell_def(&self.statements[self.cells[id]])
+    /// The declaration of a cell.
+    pub fn cell(&self, id: CellId) -> CellDecl<'_> {
+        decl(&self.statements, self.cells[id])
     }
 
     /// The definition of a check.
     pub fn check(&self, index: usize) -> &CheckDef {
-        check_def(&self.statements[self.checks[index]])
+        match &self.statements[self.checks[index]].kind {
+            StatementKind::Check(check) => check,
+            other => unreachable!("expected a check statement, found {other:?}"),
+        }
     }
 
-    /// The span of a cell's whole statement.
+    /// The span of the statement that defines a cell (a solve block's whole
+    /// span for its unknowns).
     pub fn cell_span(&self, id: CellId) -> Span {
-        self.statements[self.cells[id]].span
+        self.statements[self.cell_statement(id)].span
+    }
+
+    /// The index of the statement that defines a cell.
+    pub fn cell_statement(&self, id: CellId) -> usize {
+        match self.cells[id] {
+            CellOrigin::Formula { statement } | CellOrigin::Unknown { statement, .. } => statement,
+        }
     }
 
     /// The span of a check's whole statement.
     pub fn check_span(&self, index: usize) -> Span {
         self.statements[self.checks[index]].span
     }
-}
 
-fn cell_def(statement: &Statement) -> &CellDef {
-    match &statement.kind {
-        StatementKind::Cell(cell) => cell,
-        other => unreachable!("expected a cell statement, found {other:?}"),
+    /// The solve block at a statement index, if it is one.
+    pub fn solve_block(&self, statement: usize) -> Option<&SolveBlock> {
+        match &self.statements.get(statement)?.kind {
+            StatementKind::Solve(block) => Some(block),
+            _ => None,
+        }
+    }
+
+    /// The body statement defining a cell, if the cell is a body's resultant.
+    pub fn body(&self, id: CellId) -> Option<&BodyDef> {
+        match &self.statements[self.cell_statement(id)].kind {
+            StatementKind::Body(body) => Some(body),
+            _ => None,
+        }
+    }
+
+    /// Cell ids in evaluation order (a solve block's unknowns together).
+    pub fn cell_order(&self) -> impl Iterator<Item = CellId> + '_ {
+        self.order
+            .order
+            .iter()
+            .flat_map(|&node| match &self.nodes[node] {
+                Node::Cell(id) => std::slice::from_ref(id).iter().copied(),
+                Node::Solve { unknowns, .. } => unknowns.iter().copied(),
+            })
     }
 }
 
-fn check_def(statement: &Statement) -> &CheckDef {
-    match &statement.kind {
-        StatementKind::Check(check) => check,
-        other => unreachable!("expected a check statement, found {other:?}"),
+/// The declaration of the cell at `origin`.
+fn decl(statements: &[Statement], origin: CellOrigin) -> CellDecl<'_> {
+    match origin {
+        CellOrigin::Formula { statement } => match &statements[statement].kind {
+            StatementKind::Cell(cell) => formula_decl(cell),
+            StatementKind::Body(body) => formula_decl(&body.resultant),
+            other => unreachable!("expected a cell or body statement, found {other:?}"),
+        },
+        CellOrigin::Unknown { statement, index } => match &statements[statement].kind {
+            StatementKind::Solve(block) => {
+                let unknown = &block.unknowns[index];
+                CellDecl {
+                    name: &unknown.name,
+                    unit: Some(&unknown.unit),
+                    expr: None,
+                    description: None,
+                }
+            }
+            other => unreachable!("expected a solve block, found {other:?}"),
+        },
+    }
+}
+
+fn formula_decl(cell: &CellDef) -> CellDecl<'_> {
+    CellDecl {
+        name: &cell.name,
+        unit: cell.unit.as_ref(),
+        expr: Some(&cell.expr),
+        description: cell.description.as_ref(),
     }
 }
 

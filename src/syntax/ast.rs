@@ -31,6 +31,10 @@ pub enum StatementKind {
     Cell(Box<CellDef>),
     /// A check: `check T_up <= WLL "rope within its rated load"`.
     Check(Box<CheckDef>),
+    /// A free body and the forces on it: `body crate: F_pull, W, N, F_f`.
+    Body(Box<BodyDef>),
+    /// A block of equations solved for its unknowns: `solve a [m/s^2]: … end`.
+    Solve(Box<SolveBlock>),
     /// A line that did not parse; its diagnostic says why.
     Invalid,
 }
@@ -77,6 +81,59 @@ pub struct CheckDef {
     pub rhs: Expr,
     /// The optional label.
     pub label: Option<Description>,
+}
+
+/// A free body: `body crate: F_pull, W_crate, N_floor "crate on the floor"`.
+#[derive(Clone, Debug, PartialEq)]
+pub struct BodyDef {
+    /// The body's name, also the name of its resultant.
+    pub name: Ident,
+    /// The force cells acting on it, as listed.
+    pub forces: Vec<Ident>,
+    /// The optional description.
+    pub description: Option<Description>,
+    /// The resultant as a cell: `name = force + force + …`, built by the
+    /// parser from the list so that linking and evaluation treat it as any
+    /// other cell.
+    pub resultant: CellDef,
+}
+
+/// A solve block: unknowns with units (and guesses), then equations.
+#[derive(Clone, Debug, PartialEq)]
+pub struct SolveBlock {
+    /// The unknowns, in written order.
+    pub unknowns: Vec<Unknown>,
+    /// The equations that parsed, in written order.
+    pub equations: Vec<Equation>,
+    /// Whether every line parsed and the block is closed by `end`; when not,
+    /// the errors are reported and the unknowns cannot be solved.
+    pub complete: bool,
+    /// The `solve …:` line.
+    pub head: Span,
+}
+
+/// An unknown of a solve block: `T [N] ~ 500`.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Unknown {
+    /// Its name, a cell after the block.
+    pub name: Ident,
+    /// Its unit, which fixes its dimension.
+    pub unit: UnitExpr,
+    /// The starting guess (a plain number is taken in `unit`).
+    pub guess: Option<Expr>,
+}
+
+/// An equation of a solve block: `lhs = rhs "label"`.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Equation {
+    /// Left side.
+    pub lhs: Expr,
+    /// Right side.
+    pub rhs: Expr,
+    /// The optional label.
+    pub label: Option<Description>,
+    /// The whole line.
+    pub span: Span,
 }
 
 /// The comparison of a check.
@@ -145,6 +202,20 @@ pub enum ExprKind {
     /// A formula that did not parse (its error is already reported); the
     /// cell keeps its name so that what uses it is blocked, not undefined.
     Invalid,
+    /// A slope as rise:run, worth the angle atan2(rise, run): `3:4`.
+    Slope {
+        /// The rise.
+        rise: f64,
+        /// The run.
+        run: f64,
+    },
+    /// One component of a vector: `F.x`, `v.y`, `r.z`.
+    Component {
+        /// The vector.
+        vector: Box<Expr>,
+        /// 0 for x, 1 for y, 2 for z.
+        axis: usize,
+    },
     /// A function call: `sqrt(x)`, `atan2(y, x)`.
     Call {
         /// The function's name.
@@ -229,7 +300,9 @@ impl Expr {
     pub fn walk_names_mut(&mut self, visit: &mut impl FnMut(&mut NameRef, Span)) {
         match &mut self.kind {
             ExprKind::Name(name) => visit(name, self.span),
-            ExprKind::Negate(inner) => inner.walk_names_mut(visit),
+            ExprKind::Negate(inner) | ExprKind::Component { vector: inner, .. } => {
+                inner.walk_names_mut(visit)
+            }
             ExprKind::Binary { lhs, rhs, .. } => {
                 lhs.walk_names_mut(visit);
                 rhs.walk_names_mut(visit);
@@ -239,6 +312,7 @@ impl Expr {
             }
             ExprKind::Number(_)
             | ExprKind::Quantity { .. }
+            | ExprKind::Slope { .. }
             | ExprKind::UnitValue(_)
             | ExprKind::Invalid => {}
         }
@@ -248,7 +322,9 @@ impl Expr {
     pub fn walk<'a>(&'a self, visit: &mut impl FnMut(&'a Expr)) {
         visit(self);
         match &self.kind {
-            ExprKind::Negate(inner) => inner.walk(visit),
+            ExprKind::Negate(inner) | ExprKind::Component { vector: inner, .. } => {
+                inner.walk(visit)
+            }
             ExprKind::Binary { lhs, rhs, .. } => {
                 lhs.walk(visit);
                 rhs.walk(visit);
@@ -256,6 +332,7 @@ impl Expr {
             ExprKind::Call { args, .. } => args.iter().for_each(|arg| arg.walk(visit)),
             ExprKind::Number(_)
             | ExprKind::Quantity { .. }
+            | ExprKind::Slope { .. }
             | ExprKind::UnitValue(_)
             | ExprKind::Invalid
             | ExprKind::Name(_) => {}

@@ -8,8 +8,8 @@ use pest::pratt_parser::{Assoc, Op, PrattParser};
 
 use super::Span;
 use super::ast::{
-    BinaryOp, CellDef, CheckDef, Comparison, Description, Expr, ExprKind, Ident, NameRef,
-    StatementKind, Target, UnitExpr, UnitFactor,
+    BinaryOp, BodyDef, CellDef, CheckDef, Comparison, Description, Equation, Expr, ExprKind, Ident,
+    NameRef, StatementKind, Target, UnitExpr, UnitFactor, Unknown,
 };
 use super::parser::Rule;
 
@@ -21,6 +21,7 @@ static PRATT: LazyLock<PrattParser<Rule>> = LazyLock::new(|| {
         .op(Op::infix(Rule::mul, Assoc::Left) | Op::infix(Rule::div, Assoc::Left))
         .op(Op::prefix(Rule::neg))
         .op(Op::infix(Rule::pow, Assoc::Right))
+        .op(Op::postfix(Rule::component))
 });
 
 /// A problem found while building the tree (the grammar matched, but a
@@ -46,6 +47,7 @@ pub(crate) fn statement(mut pairs: Pairs<'_, Rule>, offset: usize) -> Built<Opti
         },
         Rule::cell => StatementKind::Cell(Box::new(builder.cell(pair)?)),
         Rule::check => StatementKind::Check(Box::new(builder.check(pair)?)),
+        Rule::body => StatementKind::Body(Box::new(builder.body(pair))),
         Rule::EOI => return Ok(None),
         rule => unreachable!("expected a statement, found {rule:?}"),
     }))
@@ -71,6 +73,77 @@ pub(crate) fn cell_head(
         }
     }
     Some((name?, unit, formula_start))
+}
+
+/// Builds the unknowns from the pairs of `Rule::solve_line`.
+pub(crate) fn solve_head(mut pairs: Pairs<'_, Rule>, offset: usize) -> Built<Vec<Unknown>> {
+    let builder = Builder { offset };
+    let head = pairs
+        .next()
+        .unwrap_or_else(|| unreachable!("expected a solve head"));
+    let mut unknowns = Vec::new();
+    for part in head.into_inner() {
+        match part.as_rule() {
+            Rule::keyword_solve => {}
+            Rule::unknown => {
+                let mut inner = part.into_inner();
+                let name = builder.ident(
+                    inner
+                        .next()
+                        .unwrap_or_else(|| unreachable!("expected a name")),
+                );
+                let unit = builder.unit_in_brackets(
+                    inner
+                        .next()
+                        .unwrap_or_else(|| unreachable!("expected a unit")),
+                )?;
+                let guess = match inner.next() {
+                    Some(guess) => {
+                        let expr = guess
+                            .into_inner()
+                            .next()
+                            .unwrap_or_else(|| unreachable!("expected a guess"));
+                        Some(builder.expr(expr)?)
+                    }
+                    None => None,
+                };
+                unknowns.push(Unknown { name, unit, guess });
+            }
+            rule => unreachable!("expected an unknown, found {rule:?}"),
+        }
+    }
+    Ok(unknowns)
+}
+
+/// Builds an equation from the pairs of `Rule::equation_line`.
+pub(crate) fn equation(mut pairs: Pairs<'_, Rule>, offset: usize) -> Built<Equation> {
+    let builder = Builder { offset };
+    let pair = pairs
+        .next()
+        .unwrap_or_else(|| unreachable!("expected an equation"));
+    let span = builder.span(&pair);
+    let mut sides = Vec::with_capacity(2);
+    let mut label = None;
+    for part in pair.into_inner() {
+        match part.as_rule() {
+            Rule::expr => sides.push(builder.expr(part)?),
+            Rule::assign => {}
+            Rule::description => label = Some(builder.description(part)),
+            rule => unreachable!("expected a part of an equation, found {rule:?}"),
+        }
+    }
+    let rhs = sides
+        .pop()
+        .unwrap_or_else(|| unreachable!("expected a right side"));
+    let lhs = sides
+        .pop()
+        .unwrap_or_else(|| unreachable!("expected a left side"));
+    Ok(Equation {
+        lhs,
+        rhs,
+        label,
+        span,
+    })
 }
 
 /// Builds the expression from the pairs of `Rule::expression_only`.
@@ -172,6 +245,58 @@ impl Builder {
         }
     }
 
+    fn body(&self, pair: Pair<'_, Rule>) -> BodyDef {
+        let mut names = Vec::new();
+        let mut description = None;
+        for part in pair.into_inner() {
+            match part.as_rule() {
+                Rule::keyword_body => {}
+                Rule::name => names.push(self.ident(part)),
+                Rule::description => description = Some(self.description(part)),
+                rule => unreachable!("expected a part of a body, found {rule:?}"),
+            }
+        }
+        let mut names = names.into_iter();
+        let name = names
+            .next()
+            .unwrap_or_else(|| unreachable!("expected the body's name"));
+        let forces: Vec<Ident> = names.collect();
+        // The resultant is the sum of the listed forces, written as a formula.
+        let reference = |force: &Ident| Expr {
+            span: force.span,
+            kind: ExprKind::Name(NameRef {
+                text: force.text.as_str().into(),
+                target: Target::Unresolved,
+            }),
+        };
+        let mut sum = forces
+            .first()
+            .map(reference)
+            .unwrap_or_else(|| unreachable!("expected a force"));
+        for force in &forces[1..] {
+            let rhs = reference(force);
+            sum = Expr {
+                span: sum.span.to(rhs.span),
+                kind: ExprKind::Binary {
+                    op: BinaryOp::Add,
+                    lhs: Box::new(sum),
+                    rhs: Box::new(rhs),
+                },
+            };
+        }
+        BodyDef {
+            resultant: CellDef {
+                name: name.clone(),
+                unit: None,
+                expr: sum,
+                description: description.clone(),
+            },
+            name,
+            forces,
+            description,
+        }
+    }
+
     fn ident(&self, pair: Pair<'_, Rule>) -> Ident {
         Ident {
             text: pair.as_str().to_string(),
@@ -221,6 +346,23 @@ impl Builder {
                     },
                 })
             })
+            .map_postfix(|operand, op| {
+                let operand = operand?;
+                let span = operand.span.to(self.span(&op));
+                let axis = match op.into_inner().next().map(|axis| axis.as_str()) {
+                    Some("x") => 0,
+                    Some("y") => 1,
+                    Some("z") => 2,
+                    other => unreachable!("expected an axis, found {other:?}"),
+                };
+                Ok(Expr {
+                    kind: ExprKind::Component {
+                        vector: Box::new(operand),
+                        axis,
+                    },
+                    span,
+                })
+            })
             .parse(pair.into_inner())
     }
 
@@ -245,6 +387,16 @@ impl Builder {
                 let value = self.number(&number)?;
                 match inner.next() {
                     None => ExprKind::Number(value),
+                    Some(run) if run.as_rule() == Rule::slope_run => {
+                        let run = run
+                            .into_inner()
+                            .next()
+                            .unwrap_or_else(|| unreachable!("expected the run of a slope"));
+                        ExprKind::Slope {
+                            rise: value,
+                            run: self.number(&run)?,
+                        }
+                    }
                     Some(unit) => ExprKind::Quantity {
                         value,
                         number_span,

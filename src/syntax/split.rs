@@ -3,7 +3,7 @@
 
 use pest::Parser;
 
-use super::ast::{CellDef, Expr, ExprKind, Statement, StatementKind};
+use super::ast::{CellDef, Expr, ExprKind, SolveBlock, Statement, StatementKind};
 use super::parser::{HeftParser, Rule, describe_error};
 use super::{Span, build};
 use crate::diag::{Code, Diagnostic};
@@ -106,33 +106,170 @@ pub fn parse(source: &str) -> ParsedSheet {
         }
     }
 
-    let spans: Vec<Span> = lines
-        .filter(|line| {
-            let trimmed = source[line.start..line.end].trim_start();
-            !trimmed.is_empty() && !trimmed.starts_with("//")
-        })
-        .map(|line| Span::new(line.start, line.end))
-        .collect();
+    let statements = gather_statements(source, lines);
     // Statements parse independently, so large sheets parse on every core.
-    let parsed: Vec<(StatementKind, Option<Diagnostic>)> = if spans.len() < PARALLEL_THRESHOLD {
-        spans
-            .iter()
-            .map(|span| parse_statement(span.text(source), span.start()))
-            .collect()
+    let parse_one = |raw: &RawStatement| match &raw.block {
+        None => {
+            let (kind, diagnostic) = parse_statement(raw.span.text(source), raw.span.start());
+            (kind, diagnostic.into_iter().collect())
+        }
+        Some(block) => parse_block(source, block),
+    };
+    let parsed: Vec<(StatementKind, Vec<Diagnostic>)> = if statements.len() < PARALLEL_THRESHOLD {
+        statements.iter().map(parse_one).collect()
     } else {
         use rayon::prelude::*;
-        spans
+        statements
             .par_iter()
             .with_min_len(1024)
-            .map(|span| parse_statement(span.text(source), span.start()))
+            .map(parse_one)
             .collect()
     };
-    sheet.statements.reserve(spans.len());
-    for (span, (kind, diagnostic)) in spans.into_iter().zip(parsed) {
-        sheet.diagnostics.extend(diagnostic);
-        sheet.statements.push(Statement { span, kind });
+    sheet.statements.reserve(statements.len());
+    for (raw, (kind, diagnostics)) in statements.into_iter().zip(parsed) {
+        sheet.diagnostics.extend(diagnostics);
+        sheet.statements.push(Statement {
+            span: raw.span,
+            kind,
+        });
     }
     sheet
+}
+
+/// A statement before parsing: one line, or a block of lines.
+struct RawStatement {
+    /// From the first line's start to the last line's end.
+    span: Span,
+    /// For a block: its head line, the lines inside, and its `end` line if
+    /// it has one (blank and comment lines left out).
+    block: Option<BlockLines>,
+}
+
+/// The lines of a block statement.
+struct BlockLines {
+    head: Span,
+    body: Vec<Span>,
+    end: Option<Span>,
+}
+
+/// Words that open a block running to a line `end`.
+const BLOCK_KEYWORDS: &[&str] = &["solve"];
+
+/// The code of a line without a trailing `//` comment, trimmed.
+fn code_of(text: &str) -> &str {
+    text.split("//").next().unwrap_or(text).trim()
+}
+
+fn opens_block(text: &str) -> bool {
+    let code = code_of(text);
+    BLOCK_KEYWORDS.iter().any(|keyword| {
+        code.strip_prefix(keyword)
+            .is_some_and(|rest| rest.starts_with(|c: char| c.is_whitespace()))
+    })
+}
+
+/// Groups the remaining lines into statements, skipping blank and comment
+/// lines, and gathering each block up to its `end`.
+fn gather_statements(source: &str, lines: impl Iterator<Item = Line>) -> Vec<RawStatement> {
+    let mut statements = Vec::new();
+    let mut lines = lines.filter(|line| {
+        let trimmed = source[line.start..line.end].trim_start();
+        !trimmed.is_empty() && !trimmed.starts_with("//")
+    });
+    while let Some(line) = lines.next() {
+        let span = Span::new(line.start, line.end);
+        if !opens_block(span.text(source)) {
+            statements.push(RawStatement { span, block: None });
+            continue;
+        }
+        let mut block = BlockLines {
+            head: span,
+            body: Vec::new(),
+            end: None,
+        };
+        for inner in lines.by_ref() {
+            let inner = Span::new(inner.start, inner.end);
+            if code_of(inner.text(source)) == "end" {
+                block.end = Some(inner);
+                break;
+            }
+            block.body.push(inner);
+        }
+        let last = block.end.or(block.body.last().copied()).unwrap_or(span);
+        statements.push(RawStatement {
+            span: span.to(last),
+            block: Some(block),
+        });
+    }
+    statements
+}
+
+/// Parses a block statement line by line: every line's error is reported,
+/// and the block is marked incomplete if any line failed or `end` is missing.
+fn parse_block(source: &str, block: &BlockLines) -> (StatementKind, Vec<Diagnostic>) {
+    let mut diagnostics = Vec::new();
+    let head_text = block.head.text(source);
+    let unknowns = HeftParser::parse(Rule::solve_line, head_text)
+        .map_err(|error| {
+            let (span, message) = describe_error(&error, head_text, block.head.start());
+            Diagnostic::error(Code::ParseError, span, message)
+        })
+        .and_then(|pairs| {
+            build::solve_head(pairs, block.head.start())
+                .map_err(|error| Diagnostic::error(Code::ParseError, error.span, error.message))
+        });
+    let mut complete = true;
+    let unknowns = match unknowns {
+        Ok(unknowns) => unknowns,
+        Err(diagnostic) => {
+            diagnostics
+                .push(diagnostic.with_help("write `solve name [unit], name [unit] ~ guess:`"));
+            complete = false;
+            Vec::new()
+        }
+    };
+    let mut equations = Vec::with_capacity(block.body.len());
+    for line in &block.body {
+        let text = line.text(source);
+        let parsed = match check_limits(text, line.start()) {
+            Some(diagnostic) => Err(diagnostic),
+            None => HeftParser::parse(Rule::equation_line, text)
+                .map_err(|error| {
+                    let (span, message) = describe_error(&error, text, line.start());
+                    Diagnostic::error(Code::ParseError, span, message)
+                })
+                .and_then(|pairs| {
+                    build::equation(pairs, line.start()).map_err(|error| {
+                        Diagnostic::error(Code::ParseError, error.span, error.message)
+                    })
+                }),
+        };
+        match parsed {
+            Ok(equation) => equations.push(equation),
+            Err(diagnostic) => {
+                complete = false;
+                diagnostics.push(diagnostic);
+            }
+        }
+    }
+    if block.end.is_none() {
+        complete = false;
+        diagnostics.push(
+            Diagnostic::error(
+                Code::ParseError,
+                block.head,
+                "this solve block is never closed",
+            )
+            .with_help("end the block with a line `end`"),
+        );
+    }
+    let kind = StatementKind::Solve(Box::new(SolveBlock {
+        unknowns,
+        equations,
+        complete,
+        head: block.head,
+    }));
+    (kind, diagnostics)
 }
 
 /// Below this many statements, parsing on one thread is faster.

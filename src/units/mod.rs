@@ -8,6 +8,7 @@ mod display;
 mod factor;
 mod quantity;
 mod typed;
+mod value;
 
 pub use catalog::{AMBIGUOUS, Ambiguity, Catalog, UnitDef, UnitSystem, catalog, sources};
 pub use dimension::{BASE_NAMES, Dimension, SI_BASE_SYMBOLS};
@@ -15,6 +16,7 @@ pub use display::{DisplaySystem, DisplayUnit, format_significant, pick_unit};
 pub use factor::ExactFactor;
 pub use quantity::{Quantity, QuantityError};
 pub use typed::TypedQuantity;
+pub use value::{Value, ValueError, VectorQuantity};
 
 /// Standard acceleration of gravity, 9.80665 m/s² exactly (3rd CGPM, 1901).
 pub const STANDARD_GRAVITY: f64 = 9.80665;
