@@ -82,6 +82,11 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
         match item {
             OutlineItem::Heading { .. } => current = Some(position),
             OutlineItem::Cell(id) => section_of[*id] = current,
+            OutlineItem::Solve(report) => {
+                for &id in &evaluated.solves[*report].unknowns {
+                    section_of[id] = current;
+                }
+            }
             _ => {}
         }
     }

@@ -445,7 +445,7 @@ impl<'a> Evaluator<'a> {
             .map(|expr| &expr.kind)
             .unwrap_or(&ExprKind::Invalid)
         {
-            ExprKind::Number(_) => Some(None),
+            ExprKind::Number(_) | ExprKind::Slope { .. } => Some(None),
             ExprKind::Quantity { unit, .. } => Some(Some(unit)),
             ExprKind::Negate(inner) => match &inner.kind {
                 ExprKind::Number(_) => Some(None),

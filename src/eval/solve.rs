@@ -11,7 +11,7 @@ use super::model::{EquationReport, SolveReport, SolveStatus};
 use super::{CellStatus, Evaluator};
 use crate::diag::{Code, Diagnostic, Severity};
 use crate::sheet::CellId;
-use crate::syntax::ast::{Equation, SolveBlock};
+use crate::syntax::ast::{Equation, ExprKind, NameRef, SolveBlock, Target};
 use crate::units::{Dimension, Quantity, Value, pick_unit};
 
 /// Scaled residual below which the system counts as solved.
@@ -33,6 +33,9 @@ struct ScalarEquation<'e> {
     dimension: Dimension,
     /// Typical size of its sides at the guess, to scale the residual.
     scale: f64,
+    /// Which of the block's unknowns it mentions (its Jacobian row is zero
+    /// elsewhere, so only these columns need it re-evaluated).
+    mentions: Vec<bool>,
 }
 
 /// Why an attempt to solve stopped.
@@ -45,7 +48,10 @@ enum Stop {
 struct Root {
     x: DVector<f64>,
     iterations: usize,
+    /// The Jacobian of the last step (at the solution if no step was needed).
     jacobian: DMatrix<f64>,
+    /// The Jacobian at the start.
+    first_jacobian: DMatrix<f64>,
 }
 
 impl Evaluator<'_> {
@@ -143,7 +149,7 @@ impl Evaluator<'_> {
             )));
         }
 
-        let equations = self.scalar_equations(block)?;
+        let equations = self.scalar_equations(block, unknowns)?;
         report.equations = equations
             .iter()
             .map(|e| EquationReport {
@@ -199,13 +205,9 @@ impl Evaluator<'_> {
             )));
         }
 
-        // Linear: the Jacobian at the guess equals the one at the solution.
-        let at_guess = self
-            .jacobian(&equations, unknowns, &factors, &scales, &x0)
-            .ok();
-        report.linear = at_guess.is_some_and(|j| {
-            (j - &root.jacobian).abs().max() <= 1e-7 * root.jacobian.abs().max().max(1.0)
-        });
+        // Linear: the Jacobian did not change on the way to the solution.
+        report.linear = (&root.first_jacobian - &root.jacobian).abs().max()
+            <= 1e-7 * root.jacobian.abs().max().max(1.0);
 
         // Other roots near the guess (same signs, other magnitudes).
         if !report.linear {
@@ -226,7 +228,11 @@ impl Evaluator<'_> {
 
     /// Splits the block's equations into scalar ones, checking that both
     /// sides of each agree in dimension and kind at the guess.
-    fn scalar_equations<'e>(&self, block: &'e SolveBlock) -> Result<Vec<ScalarEquation<'e>>, Stop> {
+    fn scalar_equations<'e>(
+        &self,
+        block: &'e SolveBlock,
+        unknowns: &[CellId],
+    ) -> Result<Vec<ScalarEquation<'e>>, Stop> {
         let mut scalars = Vec::new();
         for equation in &block.equations {
             let lhs = self.eval(&equation.lhs).map_err(Stop::Fail)?;
@@ -260,6 +266,19 @@ impl Evaluator<'_> {
                 }
                 return Err(Stop::Fail(Box::new(diagnostic)));
             }
+            let mut mentions = vec![false; unknowns.len()];
+            for side in [&equation.lhs, &equation.rhs] {
+                side.walk(&mut |node| {
+                    if let ExprKind::Name(NameRef {
+                        target: Target::Cell(id),
+                        ..
+                    }) = &node.kind
+                        && let Some(index) = unknowns.iter().position(|u| u == id)
+                    {
+                        mentions[index] = true;
+                    }
+                });
+            }
             match (lhs, rhs) {
                 (Value::Vector(l), Value::Vector(r)) => {
                     for component in 0..usize::from(l.n_components.max(r.n_components)) {
@@ -268,6 +287,7 @@ impl Evaluator<'_> {
                             component: Some(component),
                             dimension: l.dimension,
                             scale: l.si[component].abs().max(r.si[component].abs()),
+                            mentions: mentions.clone(),
                         });
                     }
                 }
@@ -276,6 +296,7 @@ impl Evaluator<'_> {
                     component: None,
                     dimension: lhs.dimension(),
                     scale: lhs.magnitude_si().max(rhs.magnitude_si()),
+                    mentions,
                 }),
             }
         }
@@ -336,7 +357,10 @@ impl Evaluator<'_> {
         Some(r)
     }
 
-    /// Central-difference Jacobian of the scaled residuals at `x`.
+    /// Jacobian of the scaled residuals at `x` by central differences. With
+    /// the unknowns scaled to about one, a step of 1e-3 keeps rounding near
+    /// 1e-13 (so a linear system is solved in one Newton step) and truncation
+    /// near 1e-6 (so Newton's method still converges fast on nonlinear ones).
     fn jacobian(
         &mut self,
         equations: &[ScalarEquation<'_>],
@@ -348,21 +372,33 @@ impl Evaluator<'_> {
         let n = x.len();
         let mut jacobian = DMatrix::zeros(equations.len(), n);
         for i in 0..n {
-            // A step of about the cube root of machine epsilon balances
-            // truncation and rounding error for central differences.
-            let h = 6e-6 * x[i].abs().max(1.0);
-            let mut forward = x.clone();
-            forward[i] += h;
-            let mut backward = x.clone();
-            backward[i] -= h;
-            let f = self
-                .residuals(equations, unknowns, factors, scales, &forward)
-                .ok_or(())?;
-            let b = self
-                .residuals(equations, unknowns, factors, scales, &backward)
-                .ok_or(())?;
-            jacobian.set_column(i, &((f - b) / (2.0 * h)));
+            let h = 1e-3 * x[i].abs().max(1.0);
+            let mut at = |offset: f64| -> Result<Vec<(usize, f64)>, ()> {
+                let mut shifted = x.clone();
+                shifted[i] += offset;
+                self.set_unknowns(unknowns, factors, scales, &shifted);
+                // Only the equations that mention unknown i change with it.
+                equations
+                    .iter()
+                    .enumerate()
+                    .filter(|(_, equation)| equation.mentions[i])
+                    .map(|(j, equation)| {
+                        let value =
+                            self.side_difference(equation).map_err(|_| ())?.si / equation.scale;
+                        if value.is_finite() {
+                            Ok((j, value))
+                        } else {
+                            Err(())
+                        }
+                    })
+                    .collect()
+            };
+            let (plus, minus) = (at(h)?, at(-h)?);
+            for ((j, forward), (_, backward)) in plus.into_iter().zip(minus) {
+                jacobian[(j, i)] = (forward - backward) / (2.0 * h);
+            }
         }
+        self.set_unknowns(unknowns, factors, scales, x);
         Ok(jacobian)
     }
 
@@ -395,20 +431,35 @@ impl Evaluator<'_> {
             .residuals(equations, unknowns, factors, scales, &x)
             .ok_or_else(|| fail_at_guess(self))?;
         let mut damping = 1e-3;
+        // The Jacobian of the last step (an estimate of the one at the
+        // solution for the condition number) and the one at the start.
+        let mut latest: Option<DMatrix<f64>> = None;
+        let mut first: Option<DMatrix<f64>> = None;
         for iteration in 0..=MAX_ITERATIONS {
-            let jacobian = self
-                .jacobian(equations, unknowns, factors, scales, &x)
-                .map_err(|()| fail_at_guess(self))?;
             if r.amax() <= TOLERANCE {
+                let jacobian = match latest {
+                    Some(jacobian) => jacobian,
+                    None => self
+                        .jacobian(equations, unknowns, factors, scales, &x)
+                        .map_err(|()| fail_at_guess(self))?,
+                };
                 return Ok(Root {
                     x,
                     iterations: iteration,
+                    first_jacobian: first.unwrap_or_else(|| jacobian.clone()),
                     jacobian,
                 });
             }
             if iteration == MAX_ITERATIONS {
                 break;
             }
+            let jacobian = self
+                .jacobian(equations, unknowns, factors, scales, &x)
+                .map_err(|()| fail_at_guess(self))?;
+            if first.is_none() {
+                first = Some(jacobian.clone());
+            }
+            latest = Some(jacobian.clone());
             let merit = r.norm_squared();
             let newton_step = jacobian.clone().lu().solve(&(-&r));
             let mut accepted = None;
@@ -458,6 +509,7 @@ impl Evaluator<'_> {
                     return Ok(Root {
                         x,
                         iterations: iteration + 1,
+                        first_jacobian: first.unwrap_or_else(|| jacobian.clone()),
                         jacobian,
                     });
                 }
