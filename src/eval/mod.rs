@@ -7,6 +7,7 @@ mod explain;
 mod expr;
 pub mod functions;
 mod model;
+pub mod program;
 mod solve;
 mod vectors;
 

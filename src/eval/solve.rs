@@ -8,10 +8,11 @@ use nalgebra::{DMatrix, DVector};
 
 use super::explain::{Operand, mismatch};
 use super::model::{EquationReport, SolveReport, SolveStatus};
+use super::program::{CompileError, Input, Program};
 use super::{CellStatus, Evaluator};
 use crate::diag::{Code, Diagnostic, Severity};
 use crate::sheet::CellId;
-use crate::syntax::ast::{Equation, ExprKind, NameRef, SolveBlock, Target};
+use crate::syntax::ast::{BinaryOp, Equation, Expr, ExprKind, NameRef, SolveBlock, Target};
 use crate::units::{Dimension, Quantity, Value, pick_unit};
 
 /// Scaled residual below which the system counts as solved.
@@ -36,6 +37,9 @@ struct ScalarEquation<'e> {
     /// Which of the block's unknowns it mentions (its Jacobian row is zero
     /// elsewhere, so only these columns need it re-evaluated).
     mentions: Vec<bool>,
+    /// `lhs - rhs` compiled with the unknowns (SI values) as inputs; `None`
+    /// for a vector equation, which is interpreted instead.
+    program: Option<Program>,
 }
 
 /// Why an attempt to solve stopped.
@@ -279,6 +283,12 @@ impl Evaluator<'_> {
                     }
                 });
             }
+            let program = match (lhs, rhs) {
+                (Value::Scalar(_), Value::Scalar(_)) => {
+                    self.compile_difference(equation, unknowns)?
+                }
+                _ => None,
+            };
             match (lhs, rhs) {
                 (Value::Vector(l), Value::Vector(r)) => {
                     for component in 0..usize::from(l.n_components.max(r.n_components)) {
@@ -288,6 +298,7 @@ impl Evaluator<'_> {
                             dimension: l.dimension,
                             scale: l.si[component].abs().max(r.si[component].abs()),
                             mentions: mentions.clone(),
+                            program: None,
                         });
                     }
                 }
@@ -297,6 +308,7 @@ impl Evaluator<'_> {
                     dimension: lhs.dimension(),
                     scale: lhs.magnitude_si().max(rhs.magnitude_si()),
                     mentions,
+                    program,
                 }),
             }
         }
@@ -310,6 +322,50 @@ impl Evaluator<'_> {
             scalar.scale = scale;
         }
         Ok(scalars)
+    }
+
+    /// `lhs - rhs` of a scalar equation as one program over the unknowns.
+    fn compile_difference(
+        &self,
+        equation: &Equation,
+        unknowns: &[CellId],
+    ) -> Result<Option<Program>, Stop> {
+        let input_of = |name: &NameRef| match name.target {
+            Target::Cell(id) => unknowns.iter().position(|&u| u == id).and_then(|index| {
+                let sample = self.values[id].and_then(|v| v.scalar())?;
+                Some(Input {
+                    index: u32::try_from(index).ok()?,
+                    sample,
+                })
+            }),
+            _ => None,
+        };
+        let difference = Expr {
+            span: equation.span,
+            kind: ExprKind::Binary {
+                op: BinaryOp::Subtract,
+                lhs: Box::new(equation.lhs.clone()),
+                rhs: Box::new(equation.rhs.clone()),
+            },
+        };
+        match self.compile(&difference, &input_of) {
+            Ok(program) => Ok(Some(program)),
+            Err(CompileError::NeedsVectors(_)) => Ok(None),
+            Err(CompileError::Diagnostic(diagnostic)) => Err(Stop::Fail(diagnostic)),
+        }
+    }
+
+    /// Left minus right of one scalar equation, in SI units, at the
+    /// unknowns' current values (`inputs`, in SI).
+    fn difference_at(
+        &self,
+        equation: &ScalarEquation<'_>,
+        inputs: &[f64],
+    ) -> Result<Quantity, Box<Diagnostic>> {
+        match &equation.program {
+            Some(program) => Ok(Quantity::new(program.run(inputs), equation.dimension)),
+            None => self.side_difference(equation),
+        }
     }
 
     /// Left minus right of one scalar equation, in SI units.
@@ -346,9 +402,10 @@ impl Evaluator<'_> {
         x: &DVector<f64>,
     ) -> Option<DVector<f64>> {
         self.set_unknowns(unknowns, factors, scales, x);
+        let inputs: Vec<f64> = x.iter().zip(scales).map(|(x, s)| x * s).collect();
         let mut r = DVector::zeros(equations.len());
         for (j, equation) in equations.iter().enumerate() {
-            let difference = self.side_difference(equation).ok()?.si / equation.scale;
+            let difference = self.difference_at(equation, &inputs).ok()?.si / equation.scale;
             if !difference.is_finite() {
                 return None;
             }
@@ -377,14 +434,15 @@ impl Evaluator<'_> {
                 let mut shifted = x.clone();
                 shifted[i] += offset;
                 self.set_unknowns(unknowns, factors, scales, &shifted);
+                let inputs: Vec<f64> = shifted.iter().zip(scales).map(|(x, s)| x * s).collect();
                 // Only the equations that mention unknown i change with it.
                 equations
                     .iter()
                     .enumerate()
                     .filter(|(_, equation)| equation.mentions[i])
                     .map(|(j, equation)| {
-                        let value =
-                            self.side_difference(equation).map_err(|_| ())?.si / equation.scale;
+                        let value = self.difference_at(equation, &inputs).map_err(|_| ())?.si
+                            / equation.scale;
                         if value.is_finite() {
                             Ok((j, value))
                         } else {

@@ -1,0 +1,594 @@
+//! Compiled formulas: an expression checked for dimensions once and turned
+//! into a flat stack program over plain numbers, for code that evaluates the
+//! same formula many times with changing inputs (integrating equations of
+//! motion, propagating tolerances and derivatives).
+//!
+//! The program is generic over [`Number`], so one compiled formula runs on
+//! `f64` and on any other number type that implements the trait (intervals,
+//! dual numbers). Parts of a formula that do not depend on the changing
+//! inputs are evaluated once, at compile time, by the ordinary evaluator.
+//! Hand-written because the evaluator must keep heft's own dimension rules and
+//! diagnostics; a general expression-compiler crate would know neither.
+
+use super::Evaluator;
+use super::explain::{Operand, mismatch};
+use crate::diag::{Code, Diagnostic};
+use crate::syntax::Span;
+use crate::syntax::ast::{BinaryOp, Expr, ExprKind, NameRef};
+use crate::units::{Dimension, Quantity, Value};
+
+/// Arithmetic a compiled program needs from its number type.
+pub trait Number: Copy + std::fmt::Debug {
+    /// A constant.
+    fn constant(value: f64) -> Self;
+    /// `self + other`.
+    fn add(self, other: Self) -> Self;
+    /// `self - other`.
+    fn sub(self, other: Self) -> Self;
+    /// `self * other`.
+    fn mul(self, other: Self) -> Self;
+    /// `self / other`.
+    fn div(self, other: Self) -> Self;
+    /// `-self`.
+    fn neg(self) -> Self;
+    /// `self` to an integer power.
+    fn powi(self, power: i32) -> Self;
+    /// `self` to a real power.
+    fn powf(self, power: Self) -> Self;
+    /// A one-argument function.
+    fn apply(self, function: Unary) -> Self;
+    /// A two-argument function.
+    fn apply2(self, other: Self, function: Binary) -> Self;
+}
+
+/// One-argument functions of a program.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Unary {
+    /// √x
+    Sqrt,
+    /// |x|
+    Abs,
+    /// sin x
+    Sin,
+    /// cos x
+    Cos,
+    /// tan x
+    Tan,
+    /// asin x
+    Asin,
+    /// acos x
+    Acos,
+    /// atan x
+    Atan,
+    /// eˣ
+    Exp,
+    /// ln x
+    Ln,
+    /// log₁₀ x
+    Log10,
+}
+
+/// Two-argument functions of a program.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Binary {
+    /// atan2(y, x)
+    Atan2,
+    /// √(a² + b²)
+    Hypot,
+    /// the smaller
+    Min,
+    /// the larger
+    Max,
+}
+
+/// One instruction of a stack program.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum Op {
+    /// Push a constant (SI value).
+    Constant(f64),
+    /// Push input number `n`.
+    Input(u32),
+    /// Pop b, a; push a + b.
+    Add,
+    /// Pop b, a; push a − b.
+    Sub,
+    /// Pop b, a; push a · b.
+    Mul,
+    /// Pop b, a; push a / b.
+    Div,
+    /// Negate the top.
+    Neg,
+    /// Raise the top to an integer power.
+    Powi(i32),
+    /// Pop b, a; push a^b.
+    Pow,
+    /// Apply a one-argument function to the top.
+    Unary(Unary),
+    /// Pop b, a; push f(a, b).
+    Binary(Binary),
+}
+
+/// A compiled formula: its program and the dimension of its result.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Program {
+    ops: Vec<Op>,
+    /// The dimension of the result.
+    pub dimension: Dimension,
+}
+
+impl Program {
+    /// Runs the program with `inputs[n]` for `Op::Input(n)`.
+    pub fn run<T: Number>(&self, inputs: &[T]) -> T {
+        let mut stack: Vec<T> = Vec::with_capacity(8);
+        self.run_with(inputs, &mut stack)
+    }
+
+    /// Runs the program reusing `stack` (no allocation in a hot loop).
+    pub fn run_with<T: Number>(&self, inputs: &[T], stack: &mut Vec<T>) -> T {
+        stack.clear();
+        for op in &self.ops {
+            let value = match *op {
+                Op::Constant(value) => T::constant(value),
+                Op::Input(index) => inputs
+                    .get(index as usize)
+                    .copied()
+                    .unwrap_or(T::constant(f64::NAN)),
+                Op::Neg => pop(stack).neg(),
+                Op::Powi(power) => pop(stack).powi(power),
+                Op::Unary(function) => pop(stack).apply(function),
+                Op::Add | Op::Sub | Op::Mul | Op::Div | Op::Pow | Op::Binary(_) => {
+                    let b = pop(stack);
+                    let a = pop(stack);
+                    match *op {
+                        Op::Add => a.add(b),
+                        Op::Sub => a.sub(b),
+                        Op::Mul => a.mul(b),
+                        Op::Div => a.div(b),
+                        Op::Pow => a.powf(b),
+                        Op::Binary(function) => a.apply2(b, function),
+                        _ => a,
+                    }
+                }
+            };
+            stack.push(value);
+        }
+        pop(stack)
+    }
+
+    /// The instructions, for tests and inspection.
+    pub fn ops(&self) -> &[Op] {
+        &self.ops
+    }
+}
+
+fn pop<T: Number>(stack: &mut Vec<T>) -> T {
+    stack.pop().unwrap_or(T::constant(f64::NAN))
+}
+
+impl Number for f64 {
+    fn constant(value: f64) -> Self {
+        value
+    }
+    fn add(self, other: Self) -> Self {
+        self + other
+    }
+    fn sub(self, other: Self) -> Self {
+        self - other
+    }
+    fn mul(self, other: Self) -> Self {
+        self * other
+    }
+    fn div(self, other: Self) -> Self {
+        self / other
+    }
+    fn neg(self) -> Self {
+        -self
+    }
+    fn powi(self, power: i32) -> Self {
+        f64::powi(self, power)
+    }
+    fn powf(self, power: Self) -> Self {
+        libm::pow(self, power)
+    }
+    fn apply(self, function: Unary) -> Self {
+        match function {
+            Unary::Sqrt => libm::sqrt(self),
+            Unary::Abs => self.abs(),
+            Unary::Sin => libm::sin(self),
+            Unary::Cos => libm::cos(self),
+            Unary::Tan => libm::tan(self),
+            Unary::Asin => libm::asin(self),
+            Unary::Acos => libm::acos(self),
+            Unary::Atan => libm::atan(self),
+            Unary::Exp => libm::exp(self),
+            Unary::Ln => libm::log(self),
+            Unary::Log10 => libm::log10(self),
+        }
+    }
+    fn apply2(self, other: Self, function: Binary) -> Self {
+        match function {
+            Binary::Atan2 => libm::atan2(self, other),
+            Binary::Hypot => libm::hypot(self, other),
+            Binary::Min => self.min(other),
+            Binary::Max => self.max(other),
+        }
+    }
+}
+
+/// An input of a program: which number, and a sample value whose dimension
+/// the input always has (the sample also appears in messages).
+#[derive(Clone, Copy, Debug)]
+pub struct Input {
+    /// Its index in the inputs slice.
+    pub index: u32,
+    /// A representative value (the dimension is what matters).
+    pub sample: Quantity,
+}
+
+/// Compiling stops: with a diagnostic, or because the formula needs
+/// something a program cannot do (a vector that depends on the inputs).
+#[derive(Debug)]
+pub enum CompileError {
+    /// A problem in the formula, reported to the user.
+    Diagnostic(Box<Diagnostic>),
+    /// The formula uses vectors that change with the inputs.
+    NeedsVectors(Span),
+}
+
+impl From<Box<Diagnostic>> for CompileError {
+    fn from(diagnostic: Box<Diagnostic>) -> Self {
+        CompileError::Diagnostic(diagnostic)
+    }
+}
+
+impl Evaluator<'_> {
+    /// Compiles `expr` with the names for which `input_of` gives an input
+    /// reading from the inputs slice; every other name is a constant (its
+    /// current value). Dimensions are checked here, once.
+    pub(crate) fn compile(
+        &self,
+        expr: &Expr,
+        input_of: &dyn Fn(&NameRef) -> Option<Input>,
+    ) -> Result<Program, CompileError> {
+        let mut ops = Vec::new();
+        let sample = self.compile_into(expr, input_of, &mut ops)?;
+        Ok(Program {
+            ops,
+            dimension: sample.dimension,
+        })
+    }
+
+    /// Emits `expr`'s program and returns a sample of its value (the result
+    /// at the inputs' sample values), which carries its dimension.
+    fn compile_into(
+        &self,
+        expr: &Expr,
+        input_of: &dyn Fn(&NameRef) -> Option<Input>,
+        ops: &mut Vec<Op>,
+    ) -> Result<Quantity, CompileError> {
+        if !mentions_input(expr, input_of) {
+            return match self.eval(expr)? {
+                Value::Scalar(q) => {
+                    ops.push(Op::Constant(q.si));
+                    Ok(q)
+                }
+                Value::Vector(_) => Err(CompileError::NeedsVectors(expr.span)),
+            };
+        }
+        match &expr.kind {
+            ExprKind::Name(name) => {
+                let input = input_of(name).ok_or(CompileError::NeedsVectors(expr.span))?;
+                ops.push(Op::Input(input.index));
+                Ok(input.sample)
+            }
+            ExprKind::Negate(inner) => {
+                let sample = self.compile_into(inner, input_of, ops)?;
+                ops.push(Op::Neg);
+                Ok(-sample)
+            }
+            ExprKind::Binary { op, lhs, rhs } => {
+                let left = self.compile_into(lhs, input_of, ops)?;
+                if *op == BinaryOp::Power && !mentions_input(rhs, input_of) {
+                    return self.compile_power(lhs, left, rhs, expr.span, ops);
+                }
+                let right = self.compile_into(rhs, input_of, ops)?;
+                let (instruction, result) = match op {
+                    BinaryOp::Add => (Op::Add, left.try_add(right)),
+                    BinaryOp::Subtract => (Op::Sub, left.try_sub(right)),
+                    BinaryOp::Multiply => (Op::Mul, left.try_mul(right)),
+                    BinaryOp::Divide => (
+                        Op::Div,
+                        left.try_div(Quantity::new(nonzero(right.si), right.dimension)),
+                    ),
+                    BinaryOp::Power => (Op::Pow, left.try_pow(right)),
+                };
+                let result = result.map_err(|_| {
+                    self.compile_mismatch(*op, (lhs, left), (rhs, right), expr.span)
+                })?;
+                ops.push(instruction);
+                Ok(result)
+            }
+            ExprKind::Call { function, args } => {
+                self.compile_call(&function.text, expr, args, input_of, ops)
+            }
+            _ => Err(CompileError::NeedsVectors(expr.span)),
+        }
+    }
+
+    /// `base ^ exponent` with an exponent fixed at compile time.
+    fn compile_power(
+        &self,
+        lhs: &Expr,
+        base: Quantity,
+        rhs: &Expr,
+        span: Span,
+        ops: &mut Vec<Op>,
+    ) -> Result<Quantity, CompileError> {
+        let exponent = match self.eval(rhs)? {
+            Value::Scalar(q) => q,
+            Value::Vector(_) => return Err(CompileError::NeedsVectors(rhs.span)),
+        };
+        let result = base.try_pow(exponent).map_err(|_| {
+            self.compile_mismatch(BinaryOp::Power, (lhs, base), (rhs, exponent), span)
+        })?;
+        if exponent.si.fract() == 0.0 && exponent.si.abs() <= 64.0 {
+            ops.push(Op::Powi(exponent.si as i32));
+        } else {
+            ops.push(Op::Constant(exponent.si));
+            ops.push(Op::Pow);
+        }
+        Ok(result)
+    }
+
+    fn compile_call(
+        &self,
+        name: &str,
+        expr: &Expr,
+        args: &[Expr],
+        input_of: &dyn Fn(&NameRef) -> Option<Input>,
+        ops: &mut Vec<Op>,
+    ) -> Result<Quantity, CompileError> {
+        let unary = match name {
+            "sqrt" => Some(Unary::Sqrt),
+            "abs" => Some(Unary::Abs),
+            "sin" => Some(Unary::Sin),
+            "cos" => Some(Unary::Cos),
+            "tan" => Some(Unary::Tan),
+            "asin" => Some(Unary::Asin),
+            "acos" => Some(Unary::Acos),
+            "atan" => Some(Unary::Atan),
+            "exp" => Some(Unary::Exp),
+            "ln" => Some(Unary::Ln),
+            "log10" => Some(Unary::Log10),
+            _ => None,
+        };
+        let binary = match name {
+            "atan2" => Some(Binary::Atan2),
+            "hypot" => Some(Binary::Hypot),
+            "min" => Some(Binary::Min),
+            "max" => Some(Binary::Max),
+            _ => None,
+        };
+        // The ordinary evaluator checks the call once at the sample values:
+        // arity, dimensions and domain, with its usual messages.
+        let samples = args
+            .iter()
+            .map(|arg| {
+                let mut scratch = Vec::new();
+                self.compile_into(arg, input_of, &mut scratch)
+                    .map(|q| (q, scratch))
+            })
+            .collect::<Result<Vec<_>, _>>()?;
+        let result = self.check_call_at_samples(
+            name,
+            expr,
+            args,
+            &samples.iter().map(|(q, _)| *q).collect::<Vec<_>>(),
+        )?;
+        match (unary, binary) {
+            (Some(function), _) if samples.len() == 1 => {
+                ops.extend(samples.into_iter().flat_map(|(_, code)| code));
+                ops.push(Op::Unary(function));
+            }
+            (_, Some(function)) => {
+                let mut samples = samples.into_iter();
+                if let Some((_, first)) = samples.next() {
+                    ops.extend(first);
+                }
+                for (_, code) in samples {
+                    ops.extend(code);
+                    ops.push(Op::Binary(function));
+                }
+            }
+            _ => return Err(CompileError::NeedsVectors(expr.span)),
+        }
+        Ok(result)
+    }
+
+    /// Runs the real function once on sample values to check the call.
+    fn check_call_at_samples(
+        &self,
+        name: &str,
+        expr: &Expr,
+        args: &[Expr],
+        samples: &[Quantity],
+    ) -> Result<Quantity, CompileError> {
+        let function = super::functions::function(name).ok_or_else(|| {
+            CompileError::Diagnostic(Box::new(Diagnostic::error(
+                Code::BadCall,
+                expr.span,
+                format!("there is no function `{name}`"),
+            )))
+        })?;
+        if !function.arity.accepts(args.len()) {
+            return Err(CompileError::Diagnostic(Box::new(Diagnostic::error(
+                Code::BadCall,
+                expr.span,
+                format!(
+                    "`{name}` takes {}, not {}",
+                    function.arity.describe(),
+                    args.len()
+                ),
+            ))));
+        }
+        match function.apply {
+            super::functions::Apply::Scalar(apply) => apply(samples).map_err(|_| {
+                // Report with the evaluator's own wording at the sample values.
+                match self.eval(expr) {
+                    Err(diagnostic) => CompileError::Diagnostic(diagnostic),
+                    Ok(_) => CompileError::Diagnostic(Box::new(Diagnostic::error(
+                        Code::DimensionMismatch,
+                        expr.span,
+                        format!("`{name}` cannot take these arguments"),
+                    ))),
+                }
+            }),
+            super::functions::Apply::Value(_) => Err(CompileError::NeedsVectors(expr.span)),
+        }
+    }
+
+    fn compile_mismatch(
+        &self,
+        op: BinaryOp,
+        (lhs, left): (&Expr, Quantity),
+        (rhs, right): (&Expr, Quantity),
+        span: Span,
+    ) -> CompileError {
+        let text = |expr: &Expr| expr.span.text(self.source);
+        let diagnostic = match op {
+            BinaryOp::Add | BinaryOp::Subtract => mismatch(
+                if op == BinaryOp::Add {
+                    "add"
+                } else {
+                    "subtract"
+                },
+                &Operand {
+                    span: lhs.span,
+                    text: text(lhs),
+                    value: Value::Scalar(left),
+                },
+                &Operand {
+                    span: rhs.span,
+                    text: text(rhs),
+                    value: Value::Scalar(right),
+                },
+                self.style,
+            ),
+            _ => Diagnostic::error(
+                Code::DimensionMismatch,
+                span,
+                format!(
+                    "`{}` ({}) and `{}` ({}) cannot be combined this way",
+                    text(lhs),
+                    left.dimension.describe(),
+                    text(rhs),
+                    right.dimension.describe()
+                ),
+            ),
+        };
+        CompileError::Diagnostic(Box::new(diagnostic))
+    }
+}
+
+/// A divisor for dimension bookkeeping: a sample of zero must not stop the
+/// compile-time dimension check (the run itself divides by the real value).
+fn nonzero(value: f64) -> f64 {
+    if value == 0.0 { 1.0 } else { value }
+}
+
+/// Whether any name in `expr` is an input.
+fn mentions_input(expr: &Expr, input_of: &dyn Fn(&NameRef) -> Option<Input>) -> bool {
+    let mut found = false;
+    expr.walk(&mut |node| {
+        if let ExprKind::Name(name) = &node.kind
+            && input_of(name).is_some()
+        {
+            found = true;
+        }
+    });
+    found
+}
+
+#[cfg(test)]
+mod tests {
+    use std::sync::Arc;
+
+    use super::*;
+    use crate::sheet::Sheet;
+    use crate::syntax::ast::Target;
+
+    /// Compiles cell `name`'s formula with cell `input` as input 0, then
+    /// checks the program against the interpreter at several input values.
+    fn agrees(source: &str, name: &str, input: &str, values: &[f64]) {
+        let sheet = Arc::new(Sheet::parse(source));
+        let source: Arc<str> = Arc::from(source);
+        let mut evaluator = Evaluator::new(&sheet, &source);
+        for &node in &sheet.order.order {
+            if let crate::sheet::Node::Cell(id) = &sheet.nodes[node] {
+                evaluator.evaluate_cell(*id);
+            }
+        }
+        let input_id = sheet.names[input];
+        let sample = evaluator.values[input_id]
+            .and_then(|v| v.scalar())
+            .expect("input evaluates");
+        let expr = sheet.cell(sheet.names[name]).expr.expect("a formula");
+        let input_of = |n: &NameRef| {
+            (n.target == Target::Cell(input_id)).then_some(Input { index: 0, sample })
+        };
+        let program = evaluator.compile(expr, &input_of).expect("compiles");
+        for &value in values {
+            evaluator.values[input_id] =
+                Some(Value::Scalar(Quantity::new(value, sample.dimension)));
+            let interpreted = evaluator
+                .eval(expr)
+                .expect("evaluates")
+                .scalar()
+                .expect("scalar")
+                .si;
+            let compiled = program.run(&[value]);
+            assert!(
+                (compiled - interpreted).abs() <= 1e-12 * interpreted.abs().max(1.0),
+                "{value}: {compiled} vs {interpreted}"
+            );
+        }
+    }
+
+    #[test]
+    fn compiled_formulas_match_the_interpreter() {
+        agrees(
+            "v = 3 m/s\nc = 0.02 kg/m\nm = 5 kg\nF = m * g0 - c * v * abs(v)\n",
+            "F",
+            "v",
+            &[-10.0, 0.0, 2.5, 49.5],
+        );
+        agrees(
+            "x = 0.2 m\nk = 800 N/m\nE = k * x^2 / 2 + sqrt(x^2 + (0.3 m)^2) * 1 N\n",
+            "E",
+            "x",
+            &[0.0, 0.1, 1.7],
+        );
+        agrees(
+            "θ = 0.3\ny = atan2(sin(θ), cos(θ)) + max(θ, 0.5, θ^3) - hypot(θ, 1) + exp(-θ) * ln(2 + θ)\n",
+            "y",
+            "θ",
+            &[0.1, 1.0, 2.0],
+        );
+    }
+
+    #[test]
+    fn dimensions_are_checked_when_compiling() {
+        let sheet = Arc::new(Sheet::parse("x = 2 m\nbad = x + 1 kg\n"));
+        let source: Arc<str> = Arc::from("x = 2 m\nbad = x + 1 kg\n");
+        let mut evaluator = Evaluator::new(&sheet, &source);
+        evaluator.evaluate_cell(0);
+        let sample = Quantity::new(2.0, Dimension::LENGTH);
+        let input_of =
+            |n: &NameRef| (n.target == Target::Cell(0)).then_some(Input { index: 0, sample });
+        let expr = sheet.cell(1).expr.expect("a formula");
+        assert!(matches!(
+            evaluator.compile(expr, &input_of),
+            Err(CompileError::Diagnostic(_))
+        ));
+    }
+}
