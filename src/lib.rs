@@ -6,6 +6,7 @@
 //! its dimension checked at each operation (values in [`units`]), and
 //! [`cli`] presents the result. [`diag`] carries every finding as data.
 
+pub mod cases;
 pub mod cli;
 pub mod diag;
 pub mod eval;

@@ -120,8 +120,19 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
             printed_block = cell.solved_by;
             write_solve_block(&mut out, evaluated, report, &painter);
         }
+        let range = evaluated.ranges.get(id).and_then(Option::as_ref);
         let value = match (cell.status, cell.any_value()) {
-            (CellStatus::Ok, Some(value)) => format_value(value, cell.display, sig_figs),
+            (CellStatus::Ok, Some(value)) => {
+                let shown = format_value(value, cell.display, sig_figs);
+                match range {
+                    Some(range) if range.high > range.low => format!(
+                        "{shown} [{} … {}]",
+                        format_significant(cell.display.value_of(range.low), sig_figs),
+                        format_significant(cell.display.value_of(range.high), sig_figs)
+                    ),
+                    _ => shown,
+                }
+            }
             (CellStatus::Blocked { by }, _) => {
                 format!("(blocked by {})", evaluated.cell_at(by).name)
             }
@@ -132,7 +143,11 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
             .map(|d| format!("  {}", painter.paint(DIM, d)))
             .unwrap_or_default();
         let name = format!("{:<name_width$}", cell.name);
-        if cell.is_input && cell.status == CellStatus::Ok && !cell.declared_unit {
+        if cell.is_input
+            && cell.status == CellStatus::Ok
+            && !cell.declared_unit
+            && cell.spread.is_none()
+        {
             let _ = writeln!(
                 out,
                 "  {name} = {:<formula_width$}{description}",
@@ -165,6 +180,18 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
                         .utilization
                         .map(|u| format!("   utilization {} %", format_significant(u * 100.0, 3)))
                         .unwrap_or_default();
+                    let worst = check
+                        .worst
+                        .as_ref()
+                        .and_then(|w| w.worst_utilization)
+                        .map(|u| {
+                            format!(
+                                ", {} % at the worst case of the tolerances",
+                                format_significant(u * 100.0, 3)
+                            )
+                        })
+                        .unwrap_or_default();
+                    let utilization = format!("{utilization}{worst}");
                     let mark = if check.status == CheckStatus::Passed {
                         painter.paint(PASS, "pass")
                     } else {
@@ -204,6 +231,9 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
         }
     }
 
+    write_cases(&mut out, evaluated, &painter);
+    write_sensitivities(&mut out, evaluated, &painter);
+
     if !evaluated.diagnostics.is_empty() {
         let _ = writeln!(out);
         out.push_str(&render(&evaluated.diagnostics, file_name, source, colour));
@@ -229,6 +259,191 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
     let _ = writeln!(out, "\n{}", painter.paint(style, &summary));
     let _ = writeln!(out, "\n{}", painter.paint(DIM, &wrap(crate::CAUTION, 78)));
     out
+}
+
+/// The load-case table: the chosen results and every check per case, with
+/// the governing case of each check marked.
+fn write_cases(out: &mut String, evaluated: &Evaluated, painter: &Painter) {
+    if evaluated.cases.is_empty() {
+        return;
+    }
+    let sig_figs = evaluated.header().sig_figs;
+    let _ = writeln!(out, "\n{}", painter.paint(BOLD, "Load cases"));
+    for (index, case) in evaluated.cases.iter().enumerate() {
+        let label = case
+            .label
+            .as_deref()
+            .map(|l| format!("  {}", painter.paint(DIM, l)))
+            .unwrap_or_default();
+        let note = if case.evaluated {
+            ""
+        } else {
+            "  (not evaluated: see the findings)"
+        };
+        let _ = writeln!(out, "  {}. {}{label}{note}", index + 1, case.name);
+    }
+    let columns: Vec<&str> = std::iter::once("as written")
+        .chain(evaluated.cases.iter().map(|c| c.name.as_str()))
+        .collect();
+    let width = columns
+        .iter()
+        .map(|c| c.chars().count())
+        .max()
+        .unwrap_or(8)
+        .max(12)
+        + 2;
+    let row_label_width = 40;
+    let mut header = format!("  {:<row_label_width$}", "");
+    for column in &columns {
+        header.push_str(&format!("{column:>width$}"));
+    }
+    let _ = writeln!(out, "{}", painter.paint(DIM, &header));
+    for (position, &id) in evaluated.case_results.iter().enumerate() {
+        let cell = evaluated.cell_at(id);
+        let unit = if cell.display.text.is_empty() {
+            String::new()
+        } else {
+            format!(" [{}]", cell.display.text)
+        };
+        let mut row = format!("  {:<row_label_width$}", format!("{}{unit}", cell.name));
+        let shown = |value: Option<crate::units::Value>| match value.and_then(|v| v.scalar()) {
+            Some(q) => format_significant(cell.display.value_of(q.si), sig_figs),
+            None => "—".to_string(),
+        };
+        row.push_str(&format!("{:>width$}", shown(cell.any_value())));
+        for case in &evaluated.cases {
+            row.push_str(&format!(
+                "{:>width$}",
+                shown(case.results.get(position).and_then(|r| r.value))
+            ));
+        }
+        let _ = writeln!(out, "{row}");
+    }
+    for (index, check) in evaluated.checks.iter().enumerate() {
+        let label = check.label.clone().unwrap_or_else(|| {
+            format!(
+                "{} {} {}",
+                check.lhs_text,
+                check.comparison.symbol(),
+                check.rhs_text
+            )
+        });
+        let label: String = if label.chars().count() > row_label_width - 4 {
+            label
+                .chars()
+                .take(row_label_width - 5)
+                .chain(std::iter::once('…'))
+                .collect()
+        } else {
+            label
+        };
+        let mut row = format!("  {:<row_label_width$}", format!("{label} %"));
+        let governing = evaluated.governing.get(index).copied().flatten();
+        let cell = |status: CheckStatus, utilization: Option<f64>, governs: bool| {
+            let number =
+                utilization.map_or("—".to_string(), |u| format_significant(u * 100.0, 3));
+            let mark = match status {
+                CheckStatus::Failed => " FAIL",
+                CheckStatus::Passed => "",
+                _ => " ?",
+            };
+            let governs = if governs { "*" } else { "" };
+            format!("{governs}{number}{mark}")
+        };
+        row.push_str(&format!(
+            "{:>width$}",
+            cell(
+                check.status,
+                check.governing_utilization(),
+                governing.is_none()
+            )
+        ));
+        for (case_index, case) in evaluated.cases.iter().enumerate() {
+            let text = match case.checks.get(index) {
+                Some(c) => cell(
+                    c.status,
+                    c.governing_utilization(),
+                    governing == Some(case_index),
+                ),
+                None => "—".to_string(),
+            };
+            row.push_str(&format!("{text:>width$}"));
+        }
+        let _ = writeln!(out, "{row}");
+    }
+    let tolerances = if evaluated.ranges.is_empty() {
+        ""
+    } else {
+        " (at the worst case of the tolerances)"
+    };
+    let _ = writeln!(
+        out,
+        "{}",
+        painter.paint(
+            DIM,
+            &format!("  * governing case: highest utilization{tolerances}")
+        )
+    );
+}
+
+/// For the chosen results, their range and the inputs ranked by influence.
+fn write_sensitivities(out: &mut String, evaluated: &Evaluated, painter: &Painter) {
+    if evaluated.ranges.is_empty() {
+        return;
+    }
+    let sig_figs = evaluated.header().sig_figs;
+    let _ = writeln!(
+        out,
+        "\n{}",
+        painter.paint(BOLD, "Tolerances and sensitivity")
+    );
+    for &id in &evaluated.case_results {
+        let Some(range) = evaluated
+            .ranges
+            .get(id)
+            .and_then(Option::as_ref)
+            .filter(|r| r.high > r.low)
+        else {
+            continue;
+        };
+        let cell = evaluated.cell_at(id);
+        let unit = |si: f64| format_significant(cell.display.value_of(si), sig_figs);
+        let how = if range.at_corners {
+            "exact: worst corners"
+        } else {
+            "guaranteed bounds"
+        };
+        let _ = writeln!(
+            out,
+            "  {} from {} to {} {} ({how}); first order {} to {}",
+            cell.name,
+            unit(range.low),
+            unit(range.high),
+            cell.display.text,
+            unit(range.first_order_low),
+            unit(range.first_order_high),
+        );
+        for sensitivity in range.sensitivities.iter().filter(|s| s.share > 0.0) {
+            let input = evaluated.cell_at(sensitivity.input);
+            let normalized = sensitivity
+                .normalized
+                .map(|n| {
+                    format!(
+                        "∂ln {}/∂ln {} = {}",
+                        cell.name,
+                        input.name,
+                        format_significant(n, 3)
+                    )
+                })
+                .unwrap_or_else(|| "—".to_string());
+            let _ = writeln!(
+                out,
+                "    {:<16} {:>5} % of the range   {normalized}",
+                input.name,
+                format_significant(sensitivity.share * 100.0, 3)
+            );
+        }
+    }
 }
 
 /// Prints a solve block: its equations with their residuals, and how the

@@ -21,6 +21,7 @@ struct Report<'a> {
     cells: Vec<Cell<'a>>,
     checks: Vec<Check<'a>>,
     solves: Vec<Solve<'a>>,
+    cases: Vec<JsonCase<'a>>,
     diagnostics: Vec<JsonDiagnostic<'a>>,
 }
 
@@ -42,6 +43,54 @@ struct Cell<'a> {
     si_vector: Option<Vec<f64>>,
     status: &'static str,
     blocked_by: Option<&'a str>,
+    /// The range over the tolerances, in `unit` (absent when none).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    range: Option<Range>,
+}
+
+#[derive(Serialize)]
+struct Range {
+    low: f64,
+    high: f64,
+    first_order_low: f64,
+    first_order_high: f64,
+    exact: bool,
+    sensitivities: Vec<JsonSensitivity>,
+}
+
+#[derive(Serialize)]
+struct JsonSensitivity {
+    input: String,
+    derivative_si: f64,
+    normalized: Option<f64>,
+    share: f64,
+}
+
+#[derive(Serialize)]
+struct JsonCase<'a> {
+    name: &'a str,
+    label: Option<&'a str>,
+    line: usize,
+    evaluated: bool,
+    results: Vec<JsonCaseValue<'a>>,
+    checks: Vec<JsonCaseCheck>,
+}
+
+#[derive(Serialize)]
+struct JsonCaseValue<'a> {
+    name: &'a str,
+    unit: &'a str,
+    value: Option<f64>,
+    low: Option<f64>,
+    high: Option<f64>,
+}
+
+#[derive(Serialize)]
+struct JsonCaseCheck {
+    line: usize,
+    passed: Option<bool>,
+    utilization: Option<f64>,
+    worst_utilization: Option<f64>,
 }
 
 #[derive(Serialize)]
@@ -69,6 +118,13 @@ struct Check<'a> {
     expression: String,
     passed: Option<bool>,
     utilization: Option<f64>,
+    /// At the worst case of the tolerances (absent without tolerances).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    worst_utilization: Option<f64>,
+    /// The load case with the highest utilization (absent without cases;
+    /// null for the sheet as written).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    governing_case: Option<Option<&'a str>>,
 }
 
 #[derive(Serialize)]
@@ -114,6 +170,27 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
                         .collect()
                 }),
                 si_vector: vector.map(|v| v.components().to_vec()),
+                range: evaluated
+                    .ranges
+                    .get(cell.id)
+                    .and_then(Option::as_ref)
+                    .map(|range| Range {
+                        low: cell.display.value_of(range.low),
+                        high: cell.display.value_of(range.high),
+                        first_order_low: cell.display.value_of(range.first_order_low),
+                        first_order_high: cell.display.value_of(range.first_order_high),
+                        exact: range.at_corners,
+                        sensitivities: range
+                            .sensitivities
+                            .iter()
+                            .map(|s| JsonSensitivity {
+                                input: evaluated.cell_at(s.input).name.to_string(),
+                                derivative_si: s.derivative,
+                                normalized: s.normalized,
+                                share: s.share,
+                            })
+                            .collect(),
+                    }),
                 status: cell.status.as_str(),
                 blocked_by: match cell.status {
                     crate::eval::CellStatus::Blocked { by } => Some(evaluated.cell_at(by).name),
@@ -125,7 +202,8 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
     let checks = evaluated
         .checks
         .iter()
-        .map(|check| Check {
+        .enumerate()
+        .map(|(index, check)| Check {
             line: lines.line_of(check.span.start()) + 1,
             label: check.label.as_deref(),
             expression: format!(
@@ -136,6 +214,58 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
             ),
             passed: check.passed(),
             utilization: check.utilization,
+            worst_utilization: check.worst.as_ref().and_then(|w| w.worst_utilization),
+            governing_case: (!evaluated.cases.is_empty()).then(|| {
+                evaluated
+                    .governing
+                    .get(index)
+                    .copied()
+                    .flatten()
+                    .map(|case| evaluated.cases[case].name.as_str())
+            }),
+        })
+        .collect();
+    let cases = evaluated
+        .cases
+        .iter()
+        .map(|case| JsonCase {
+            name: &case.name,
+            label: case.label.as_deref(),
+            line: lines.line_of(evaluated.sheet().statements[case.statement].span.start()) + 1,
+            evaluated: case.evaluated,
+            results: evaluated
+                .case_results
+                .iter()
+                .zip(&case.results)
+                .map(|(&id, result)| {
+                    let cell = evaluated.cell_at(id);
+                    JsonCaseValue {
+                        name: cell.name,
+                        unit: &cell.display.text,
+                        value: result
+                            .value
+                            .and_then(|v| v.scalar())
+                            .map(|q| cell.display.value_of(q.si)),
+                        low: result.range.as_ref().map(|r| cell.display.value_of(r.low)),
+                        high: result.range.as_ref().map(|r| cell.display.value_of(r.high)),
+                    }
+                })
+                .collect(),
+            checks: evaluated
+                .checks
+                .iter()
+                .zip(&case.checks)
+                .map(|(check, case_check)| JsonCaseCheck {
+                    line: lines.line_of(check.span.start()) + 1,
+                    passed: match case_check.status {
+                        crate::eval::CheckStatus::Passed => Some(true),
+                        crate::eval::CheckStatus::Failed => Some(false),
+                        _ => None,
+                    },
+                    utilization: case_check.utilization,
+                    worst_utilization: case_check.worst.as_ref().and_then(|w| w.worst_utilization),
+                })
+                .collect(),
         })
         .collect();
     let solves = evaluated
@@ -178,6 +308,7 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
         cells,
         checks,
         solves,
+        cases,
         diagnostics: evaluated
             .diagnostics
             .iter()

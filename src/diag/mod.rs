@@ -79,6 +79,9 @@ pub enum Code {
     NoConvergence,
     /// A solve block with more than one solution near the guess.
     SeveralRoots,
+    /// A tolerance that does not fit its value (wrong dimension, bounds
+    /// the wrong way round, on a vector).
+    BadTolerance,
 }
 
 impl Code {
@@ -107,11 +110,12 @@ impl Code {
             Code::SingularSystem => "singular-system",
             Code::NoConvergence => "no-convergence",
             Code::SeveralRoots => "several-roots",
+            Code::BadTolerance => "bad-tolerance",
         }
     }
 
     /// Every code, for documentation and tests.
-    pub const ALL: [Code; 22] = [
+    pub const ALL: [Code; 23] = [
         Code::ParseError,
         Code::EncodingError,
         Code::HeaderError,
@@ -134,6 +138,7 @@ impl Code {
         Code::SingularSystem,
         Code::NoConvergence,
         Code::SeveralRoots,
+        Code::BadTolerance,
     ];
 }
 

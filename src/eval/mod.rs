@@ -3,18 +3,21 @@
 //! spans to every error, and produces the plain [`Evaluated`] model that
 //! presentation reads.
 
+mod cases;
 mod explain;
 mod expr;
 pub mod functions;
 mod model;
 pub mod program;
+mod ranges;
 mod solve;
 mod vectors;
 
 pub use explain::format_value;
 pub use model::{
-    CellOutcome, CellResult, CellStatus, CheckResult, CheckStatus, EquationReport, Evaluated,
-    FreeBody, OutlineItem, SolveReport, SolveStatus,
+    CaseCheck, CaseOutcome, CaseValue, CellOutcome, CellRange, CellResult, CellStatus, CheckRange,
+    CheckResult, CheckStatus, EquationReport, Evaluated, FreeBody, OutlineItem, Sensitivity,
+    SolveReport, SolveStatus, Spread,
 };
 
 use std::cell::RefCell;
@@ -25,9 +28,11 @@ use rustc_hash::FxHashMap;
 use explain::{DeclaredMismatch, Operand, Style, declared_mismatch, mismatch};
 
 use crate::diag::{Code, Diagnostic};
-use crate::sheet::{CellId, Item, Node, Sheet};
+use crate::sheet::{CellId, Item, Sheet};
 use crate::syntax::LineIndex;
-use crate::syntax::ast::{Comparison, Expr, ExprKind, NameRef, StatementKind, Target, UnitExpr};
+use crate::syntax::ast::{
+    Comparison, Expr, ExprKind, NameRef, Override, StatementKind, Target, Tolerance, UnitExpr,
+};
 use crate::units::{self, DisplayUnit, Quantity, ResolvedUnit, Value, pick_unit};
 
 type Evaluation = Result<Value, Box<Diagnostic>>;
@@ -40,19 +45,21 @@ pub fn evaluate_source(source: &str) -> Evaluated {
 /// Evaluates every cell, solve block and check of a linked sheet.
 pub fn evaluate(sheet: Arc<Sheet>, source: Arc<str>) -> Evaluated {
     let mut evaluator = Evaluator::new(&sheet, &source);
-    for &node in &sheet.order.order {
-        match &sheet.nodes[node] {
-            Node::Cell(id) => evaluator.evaluate_cell(*id),
-            Node::Solve {
-                statement,
-                unknowns,
-            } => evaluator.evaluate_solve(*statement, unknowns),
-        }
-    }
-    let checks = (0..sheet.checks.len())
+    evaluator.run_nodes();
+    let mut checks: Vec<CheckResult> = (0..sheet.checks.len())
         .map(|index| evaluator.evaluate_check(index))
         .collect();
-    evaluator.finish(checks)
+    let chosen = cases::case_results(&sheet, &mut evaluator.diagnostics);
+    let ranges = evaluator.apply_tolerances(&mut checks, &chosen, None);
+    let (case_outcomes, case_diagnostics) = cases::evaluate_cases(&sheet, &source, &chosen);
+    evaluator.diagnostics.extend(case_diagnostics);
+    let governing = cases::governing(&checks, &case_outcomes);
+    let mut evaluated = evaluator.finish(checks);
+    evaluated.ranges = ranges;
+    evaluated.cases = case_outcomes;
+    evaluated.case_results = chosen;
+    evaluated.governing = governing;
+    evaluated
 }
 
 /// Evaluates one expression on its own, with the built-in constants but no
@@ -84,6 +91,25 @@ pub fn evaluate_unit(text: &str) -> Result<(UnitExpr, ResolvedUnit), Diagnostic>
     Ok((unit, resolved))
 }
 
+/// The cells an override's formula and tolerance use.
+fn override_uses(replacement: &Override) -> Vec<CellId> {
+    let mut uses = Vec::new();
+    let tolerance = replacement.tolerance.as_ref().map(Tolerance::expr);
+    for expr in std::iter::once(&replacement.expr).chain(tolerance) {
+        expr.walk(&mut |node| {
+            if let ExprKind::Name(NameRef {
+                target: Target::Cell(id),
+                ..
+            }) = &node.kind
+                && !uses.contains(id)
+            {
+                uses.push(*id);
+            }
+        });
+    }
+    uses
+}
+
 /// The evaluation in progress: values and statuses by cell.
 struct Evaluator<'a> {
     sheet: &'a Arc<Sheet>,
@@ -96,6 +122,10 @@ struct Evaluator<'a> {
     style: Style,
     values: Vec<Option<Value>>,
     statuses: Vec<CellStatus>,
+    /// Each cell's tolerance, as offsets below and above its value.
+    spreads: Vec<Option<Spread>>,
+    /// Formulas replaced by the load case being evaluated.
+    overrides: FxHashMap<CellId, &'a Override>,
     solves: Vec<SolveReport>,
     diagnostics: Vec<Diagnostic>,
 }
@@ -113,6 +143,8 @@ impl<'a> Evaluator<'a> {
             },
             values: vec![None; sheet.cells.len()],
             statuses: vec![CellStatus::Error; sheet.cells.len()],
+            spreads: vec![None; sheet.cells.len()],
+            overrides: FxHashMap::default(),
             solves: Vec::new(),
             diagnostics: sheet.diagnostics.clone(),
         }
@@ -123,7 +155,11 @@ impl<'a> Evaluator<'a> {
             self.statuses[id] = CellStatus::Error;
             return;
         }
-        if let Some(blocker) = self.blocker(&self.sheet.uses[id]) {
+        let blocker = match self.overrides.get(&id) {
+            Some(replacement) => self.blocker(&override_uses(replacement)),
+            None => self.blocker(&self.sheet.uses[id]),
+        };
+        if let Some(blocker) = blocker {
             self.statuses[id] = CellStatus::Blocked { by: blocker };
             return;
         }
@@ -148,9 +184,13 @@ impl<'a> Evaluator<'a> {
         })
     }
 
-    fn compute_cell(&self, id: CellId) -> Evaluation {
+    fn compute_cell(&mut self, id: CellId) -> Evaluation {
         let cell = self.sheet.cell(id);
-        let Some(expr) = cell.expr else {
+        let (expr, tolerance) = match self.overrides.get(&id) {
+            Some(replacement) => (Some(&replacement.expr), replacement.tolerance.as_ref()),
+            None => (cell.expr, self.sheet.tolerance(id)),
+        };
+        let Some(expr) = expr else {
             return Err(Box::new(Diagnostic::error(
                 Code::ParseError,
                 cell.name.span,
@@ -160,11 +200,100 @@ impl<'a> Evaluator<'a> {
         if let Some(body) = self.sheet.body(id) {
             self.check_forces(body)?;
         }
-        let value = self.eval(expr)?;
+        let mut value = self.eval(expr)?;
+        if let Some(tolerance) = tolerance {
+            let (nominal, spread) = self.apply_tolerance(value, tolerance)?;
+            value = Value::Scalar(nominal);
+            self.spreads[id] = Some(spread);
+        }
         if let Some(unit) = cell.unit {
             self.check_declared(cell.name.text.as_str(), unit, expr, value)?;
         }
         Ok(value)
+    }
+
+    /// The nominal value and spread of a cell with a tolerance: `± 3 %` is
+    /// relative, `± 0.05 m` absolute, `.. 1900 kg` makes the formula the lower
+    /// bound and the midpoint the nominal value.
+    fn apply_tolerance(
+        &self,
+        value: Value,
+        tolerance: &Tolerance,
+    ) -> Result<(Quantity, Spread), Box<Diagnostic>> {
+        let bad = |span, message: String| {
+            Box::new(
+                Diagnostic::error(Code::BadTolerance, span, message)
+                    .with_help("write `± 3 %`, `± 0.05 m` (the value's unit) or `lower .. upper`"),
+            )
+        };
+        let Value::Scalar(value) = value else {
+            return Err(bad(
+                tolerance.expr().span,
+                "a tolerance needs a scalar value, not a vector".to_string(),
+            ));
+        };
+        let bound = match self.eval(tolerance.expr())? {
+            Value::Scalar(bound) => bound,
+            Value::Vector(_) => {
+                return Err(bad(
+                    tolerance.expr().span,
+                    "a tolerance is a scalar".to_string(),
+                ));
+            }
+        };
+        match tolerance {
+            Tolerance::PlusMinus { amount, .. } => {
+                let percent = matches!(&amount.kind, ExprKind::Quantity { unit, .. }
+                    if unit.factors.len() == 1 && &*unit.factors[0].symbol == "%");
+                let radius = if percent {
+                    value.si.abs() * bound.si.abs()
+                } else if bound.dimension == value.dimension {
+                    bound.si.abs()
+                } else {
+                    return Err(bad(
+                        amount.span,
+                        format!(
+                            "the tolerance is {} but the value is {}",
+                            bound.dimension.describe(),
+                            value.dimension.describe()
+                        ),
+                    ));
+                };
+                Ok((
+                    value,
+                    Spread {
+                        below: radius,
+                        above: radius,
+                    },
+                ))
+            }
+            Tolerance::Range { upper, .. } => {
+                if bound.dimension != value.dimension {
+                    return Err(bad(
+                        upper.span,
+                        format!(
+                            "the upper bound is {} but the lower bound is {}",
+                            bound.dimension.describe(),
+                            value.dimension.describe()
+                        ),
+                    ));
+                }
+                if bound.si < value.si {
+                    return Err(bad(
+                        upper.span,
+                        "the upper bound is below the lower bound".to_string(),
+                    ));
+                }
+                let half = 0.5 * (bound.si - value.si);
+                Ok((
+                    Quantity::new(value.si + half, value.dimension),
+                    Spread {
+                        below: half,
+                        above: half,
+                    },
+                ))
+            }
+        }
     }
 
     /// Fails unless `value` has the dimension of the declared `unit`.
@@ -241,6 +370,7 @@ impl<'a> Evaluator<'a> {
             display: DisplayUnit::none(),
             utilization: None,
             status: CheckStatus::Error,
+            worst: None,
         };
         if self.sheet.broken_checks[index] {
             return result;
@@ -383,6 +513,7 @@ impl<'a> Evaluator<'a> {
                     status: self.statuses[id],
                     display,
                     is_input,
+                    spread: self.spreads[id],
                 }
             })
             .collect();
@@ -407,6 +538,7 @@ impl<'a> Evaluator<'a> {
                 },
                 Item::Cell(id) => OutlineItem::Cell(id),
                 Item::Check(index) => OutlineItem::Check(index),
+                Item::Case(statement) => OutlineItem::Case(statement),
                 Item::Solve(statement) => match self
                     .solves
                     .iter()
@@ -430,6 +562,10 @@ impl<'a> Evaluator<'a> {
             outcomes,
             checks,
             solves: std::mem::take(&mut self.solves),
+            ranges: Vec::new(),
+            cases: Vec::new(),
+            case_results: Vec::new(),
+            governing: Vec::new(),
             outline,
             diagnostics,
             lines,

@@ -45,6 +45,109 @@ pub struct CellOutcome {
     pub display: DisplayUnit,
     /// Whether the cell is an input (a number or quantity as written).
     pub is_input: bool,
+    /// Its tolerance, if it has one.
+    pub spread: Option<Spread>,
+}
+
+/// The range of a result over its inputs' tolerances, in SI units.
+#[derive(Clone, Debug, PartialEq)]
+pub struct CellRange {
+    /// Guaranteed lower bound.
+    pub low: f64,
+    /// Guaranteed upper bound.
+    pub high: f64,
+    /// First-order (linearised) estimate of the lower bound.
+    pub first_order_low: f64,
+    /// First-order estimate of the upper bound.
+    pub first_order_high: f64,
+    /// Whether the bounds are the result's values at its worst corners (the
+    /// result is monotone in every input over the box), hence exact.
+    pub at_corners: bool,
+    /// The inputs ranked by their share of the range, largest first.
+    pub sensitivities: Vec<Sensitivity>,
+}
+
+/// How much one toleranced input moves a result.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Sensitivity {
+    /// The input cell.
+    pub input: CellId,
+    /// ∂result/∂input at the nominal point, in SI units.
+    pub derivative: f64,
+    /// ∂ln result/∂ln input (none where the result or input is zero).
+    pub normalized: Option<f64>,
+    /// This input's share of the first-order range (0 to 1).
+    pub share: f64,
+}
+
+/// A check at the worst case of the tolerances.
+#[derive(Clone, Debug, PartialEq)]
+pub struct CheckRange {
+    /// The left side's range.
+    pub lhs: CellRange,
+    /// The right side's range.
+    pub rhs: CellRange,
+    /// The utilization at the worst case.
+    pub worst_utilization: Option<f64>,
+    /// Whether the check holds at the worst case.
+    pub passes: bool,
+}
+
+/// A load case's results.
+#[derive(Clone, Debug)]
+pub struct CaseOutcome {
+    /// The case's statement index.
+    pub statement: usize,
+    /// Its name.
+    pub name: String,
+    /// Its label.
+    pub label: Option<String>,
+    /// The chosen results ([`Evaluated::case_results`]), in that order.
+    pub results: Vec<CaseValue>,
+    /// Every check, in file order.
+    pub checks: Vec<CaseCheck>,
+    /// Whether the case could be evaluated at all.
+    pub evaluated: bool,
+}
+
+/// One chosen result in one case.
+#[derive(Clone, Debug)]
+pub struct CaseValue {
+    /// The value, if it could be computed.
+    pub value: Option<Value>,
+    /// Its range over the tolerances, if any.
+    pub range: Option<CellRange>,
+}
+
+/// One check in one case.
+#[derive(Clone, Debug)]
+pub struct CaseCheck {
+    /// Passed, failed, error or blocked (at the worst case where there are
+    /// tolerances).
+    pub status: CheckStatus,
+    /// Utilization at the nominal values.
+    pub utilization: Option<f64>,
+    /// The worst case, where there are tolerances.
+    pub worst: Option<CheckRange>,
+}
+
+impl CaseCheck {
+    /// The utilization that counts: at the worst case if there is one.
+    pub fn governing_utilization(&self) -> Option<f64> {
+        self.worst
+            .as_ref()
+            .and_then(|w| w.worst_utilization)
+            .or(self.utilization)
+    }
+}
+
+/// A tolerance as offsets from the nominal value, in SI units.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Spread {
+    /// How far below the nominal value the true value may be.
+    pub below: f64,
+    /// How far above.
+    pub above: f64,
 }
 
 /// One evaluated cell as presentation sees it: what was written and what
@@ -80,6 +183,8 @@ pub struct CellResult<'a> {
     /// The solve block that gives this cell, as an index into
     /// [`Evaluated::solves`], if it is an unknown.
     pub solved_by: Option<usize>,
+    /// Its tolerance, if it has one.
+    pub spread: Option<Spread>,
 }
 
 impl CellResult<'_> {
@@ -189,9 +294,19 @@ pub struct CheckResult {
     pub utilization: Option<f64>,
     /// Passed, failed, error or blocked.
     pub status: CheckStatus,
+    /// The check at the worst case of the tolerances, if any input has one.
+    pub worst: Option<CheckRange>,
 }
 
 impl CheckResult {
+    /// The utilization that counts: at the worst case if there is one.
+    pub fn governing_utilization(&self) -> Option<f64> {
+        self.worst
+            .as_ref()
+            .and_then(|w| w.worst_utilization)
+            .or(self.utilization)
+    }
+
     /// `Some(true)` if passed, `Some(false)` if failed, `None` if it could
     /// not be evaluated.
     pub fn passed(&self) -> Option<bool> {
@@ -224,11 +339,20 @@ pub enum OutlineItem {
     Check(usize),
     /// A solve block, by index into [`Evaluated::solves`].
     Solve(usize),
+    /// A load case, by statement index.
+    Case(usize),
     /// A line that did not parse.
     Invalid {
         /// Where it is.
         span: Span,
     },
+}
+
+fn tolerance_span(tolerance: &crate::syntax::ast::Tolerance) -> Span {
+    match tolerance {
+        crate::syntax::ast::Tolerance::PlusMinus { span, .. }
+        | crate::syntax::ast::Tolerance::Range { span, .. } => *span,
+    }
 }
 
 /// Everything evaluation found out about a sheet. It owns the linked sheet
@@ -242,6 +366,15 @@ pub struct Evaluated {
     pub checks: Vec<CheckResult>,
     /// Solve blocks, in evaluation order.
     pub solves: Vec<SolveReport>,
+    /// Each cell's range over the tolerances (empty when no cell has one).
+    pub ranges: Vec<Option<CellRange>>,
+    /// The load cases, in file order.
+    pub cases: Vec<CaseOutcome>,
+    /// The cells tabulated for every case.
+    pub case_results: Vec<CellId>,
+    /// For each check, the case that governs it (highest utilization):
+    /// `None` for the sheet as written, `Some(index into cases)` otherwise.
+    pub governing: Vec<Option<usize>>,
     /// Headings, notes, cells, solve blocks and checks in file order.
     pub outline: Vec<OutlineItem>,
     /// Every finding, sorted by position.
@@ -282,9 +415,13 @@ impl Evaluated {
             name: &cell.name.text,
             span,
             line: self.lines.line_of(line_span.start()) + 1,
-            formula: cell
-                .expr
-                .map_or("(solved)", |expr| expr.span.text(&self.source)),
+            formula: match (cell.expr, self.sheet.tolerance(id)) {
+                (Some(expr), Some(tolerance)) => {
+                    expr.span.to(tolerance_span(tolerance)).text(&self.source)
+                }
+                (Some(expr), None) => expr.span.text(&self.source),
+                (None, _) => "(solved)",
+            },
             description: cell.description.map(|d| d.text.as_str()),
             declared_unit: cell.unit.is_some(),
             is_input: outcome.is_input,
@@ -297,6 +434,7 @@ impl Evaluated {
                 .solves
                 .iter()
                 .position(|report| report.unknowns.contains(&id)),
+            spread: outcome.spread,
         }
     }
 

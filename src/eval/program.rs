@@ -31,6 +31,10 @@ pub trait Number: Copy + std::fmt::Debug {
     fn div(self, other: Self) -> Self;
     /// `-self`.
     fn neg(self) -> Self;
+    /// Whether `self` is surely below `other` (for intervals: wholly below).
+    fn certainly_less(self, other: Self) -> bool;
+    /// A value that may be either (for intervals: their hull).
+    fn either(self, other: Self) -> Self;
     /// `self` to an integer power.
     fn powi(self, power: i32) -> Self;
     /// `self` to a real power.
@@ -159,6 +163,14 @@ impl Program {
     pub fn ops(&self) -> &[Op] {
         &self.ops
     }
+
+    /// The indices of the inputs the program reads.
+    pub fn inputs(&self) -> impl Iterator<Item = u32> + '_ {
+        self.ops.iter().filter_map(|op| match op {
+            Op::Input(index) => Some(*index),
+            _ => None,
+        })
+    }
 }
 
 fn pop<T: Number>(stack: &mut Vec<T>) -> T {
@@ -183,6 +195,12 @@ impl Number for f64 {
     }
     fn neg(self) -> Self {
         -self
+    }
+    fn certainly_less(self, other: Self) -> bool {
+        self < other
+    }
+    fn either(self, _other: Self) -> Self {
+        self
     }
     fn powi(self, power: i32) -> Self {
         f64::powi(self, power)

@@ -29,6 +29,10 @@ pub struct Header {
     pub display: DisplaySystem,
     /// Significant digits for displayed values.
     pub sig_figs: u32,
+    /// Cells to tabulate for every load case (default: the checks' cells).
+    pub case_results: Vec<String>,
+    /// Where `case_results` is written, for messages.
+    pub case_results_span: Option<Span>,
 }
 
 /// The header as TOML; unknown keys are refused.
@@ -43,6 +47,7 @@ struct RawHeader {
     checked_by: Option<String>,
     display: Option<DisplaySystem>,
     sig_figs: Option<Spanned<i64>>,
+    case_results: Option<Spanned<Vec<String>>>,
 }
 
 /// Reads the header block of `source`, reporting problems at their place.
@@ -67,7 +72,7 @@ pub fn read_header(
             });
             diagnostics.push(
                 Diagnostic::error(Code::HeaderError, span, header_message(error.message()))
-                    .with_help("header keys: title, project, revision, date, prepared_by, checked_by, display, sig_figs"),
+                    .with_help("header keys: title, project, revision, date, prepared_by, checked_by, display, sig_figs, case_results"),
             );
             return header;
         }
@@ -79,6 +84,12 @@ pub fn read_header(
     header.prepared_by = raw.prepared_by;
     header.checked_by = raw.checked_by;
     header.display = raw.display.unwrap_or_default();
+    if let Some(case_results) = raw.case_results {
+        let span = case_results.span();
+        header.case_results_span =
+            Some(Span::new(span.start, span.end).shifted(block.body.start()));
+        header.case_results = case_results.into_inner();
+    }
     if let Some(sig_figs) = raw.sig_figs {
         let span =
             Span::new(sig_figs.span().start, sig_figs.span().end).shifted(block.body.start());

@@ -11,8 +11,8 @@ pub use header::{DEFAULT_SIG_FIGS, Header, read_header};
 
 use crate::diag::{Code, Diagnostic};
 use crate::syntax::ast::{
-    BodyDef, CellDef, CheckDef, Description, Expr, ExprKind, Ident, SolveBlock, Statement,
-    StatementKind, Target, UnitExpr,
+    BodyDef, CaseBlock, CellDef, CheckDef, Description, Expr, ExprKind, Ident, SolveBlock,
+    Statement, StatementKind, Target, Tolerance, UnitExpr,
 };
 use crate::syntax::{self, ParsedSheet, Span};
 use crate::units;
@@ -83,6 +83,8 @@ pub enum Item {
     Invalid(usize),
     /// A solve block, at this statement index.
     Solve(usize),
+    /// A load case, at this statement index.
+    Case(usize),
 }
 
 /// A whole sheet, parsed and linked: everything the evaluator needs.
@@ -111,6 +113,11 @@ pub struct Sheet {
     pub broken: Vec<bool>,
     /// Checks that cannot be evaluated (undefined name).
     pub broken_checks: Vec<bool>,
+    /// Statement index of each load case.
+    pub cases: Vec<usize>,
+    /// Load cases that cannot be evaluated (a line did not parse, an unknown
+    /// name or target); their diagnostic is already given.
+    pub broken_cases: Vec<bool>,
     /// The evaluation nodes.
     pub nodes: Vec<Node>,
     /// The node that computes each cell.
@@ -144,6 +151,7 @@ impl Sheet {
     ) -> Sheet {
         let mut cells = Vec::new();
         let mut checks = Vec::new();
+        let mut cases = Vec::new();
         let mut items = Vec::with_capacity(statements.len());
         for (index, statement) in statements.iter().enumerate() {
             items.push(match &statement.kind {
@@ -165,6 +173,10 @@ impl Sheet {
                 StatementKind::Check(_) => {
                     checks.push(index);
                     Item::Check(checks.len() - 1)
+                }
+                StatementKind::Case(_) => {
+                    cases.push(index);
+                    Item::Case(index)
                 }
                 StatementKind::Invalid => Item::Invalid(index),
             });
@@ -232,11 +244,15 @@ impl Sheet {
         let mut uses = Vec::with_capacity(cells.len());
         let mut check_uses = Vec::with_capacity(checks.len());
         let mut broken_checks = Vec::with_capacity(checks.len());
+        let mut broken_cases = Vec::with_capacity(cases.len());
         for statement in &mut statements {
             match &mut statement.kind {
                 StatementKind::Cell(cell) => {
-                    let (cell_uses, ok) =
-                        resolve_uses(&mut std::iter::once(&mut cell.expr), &mut diagnostics);
+                    let tolerance = cell.tolerance.as_mut().map(Tolerance::expr_mut);
+                    let (cell_uses, ok) = resolve_uses(
+                        &mut std::iter::once(&mut cell.expr).chain(tolerance),
+                        &mut diagnostics,
+                    );
                     let id = uses.len();
                     broken[id] |= !ok || matches!(cell.expr.kind, ExprKind::Invalid);
                     uses.push(cell_uses);
@@ -281,6 +297,54 @@ impl Sheet {
                     );
                     check_uses.push(used);
                     broken_checks.push(!ok);
+                }
+                StatementKind::Case(case) => {
+                    let mut ok = case.complete;
+                    for replacement in &mut case.overrides {
+                        let tolerance = replacement.tolerance.as_mut().map(Tolerance::expr_mut);
+                        let (_, resolved) = resolve_uses(
+                            &mut std::iter::once(&mut replacement.expr).chain(tolerance),
+                            &mut diagnostics,
+                        );
+                        ok &= resolved;
+                        match names
+                            .get(&*replacement.cell.text)
+                            .map(|&id| (id, cells[id]))
+                        {
+                            Some((id, CellOrigin::Formula { .. })) => {
+                                replacement.cell.target = Target::Cell(id)
+                            }
+                            Some((_, CellOrigin::Unknown { .. })) => {
+                                ok = false;
+                                diagnostics.push(
+                                    Diagnostic::error(
+                                        Code::UndefinedName,
+                                        replacement.cell_span,
+                                        format!("`{}` is an unknown of a solve block; a case cannot set it", replacement.cell.text),
+                                    )
+                                    .with_help("override the inputs the solve block uses instead"),
+                                );
+                            }
+                            None => {
+                                ok = false;
+                                let mut diagnostic = Diagnostic::error(
+                                    Code::UndefinedName,
+                                    replacement.cell_span,
+                                    format!(
+                                        "`{}` is not a cell of this sheet, so the case cannot override it",
+                                        replacement.cell.text
+                                    ),
+                                );
+                                if let Some(similar) = did_you_mean(&replacement.cell.text, &names)
+                                {
+                                    diagnostic =
+                                        diagnostic.with_help(format!("did you mean `{similar}`?"));
+                                }
+                                diagnostics.push(diagnostic);
+                            }
+                        }
+                    }
+                    broken_cases.push(!ok);
                 }
                 StatementKind::Heading { .. }
                 | StatementKind::Note { .. }
@@ -383,6 +447,8 @@ impl Sheet {
             check_uses,
             broken,
             broken_checks,
+            cases,
+            broken_cases,
             nodes,
             node_of_cell,
             order: EvaluationOrder {
@@ -428,6 +494,22 @@ impl Sheet {
     pub fn solve_block(&self, statement: usize) -> Option<&SolveBlock> {
         match &self.statements.get(statement)?.kind {
             StatementKind::Solve(block) => Some(block),
+            _ => None,
+        }
+    }
+
+    /// The load case at a statement index, if it is one.
+    pub fn case_block(&self, statement: usize) -> Option<&CaseBlock> {
+        match &self.statements.get(statement)?.kind {
+            StatementKind::Case(case) => Some(case),
+            _ => None,
+        }
+    }
+
+    /// The tolerance written on a cell, if any.
+    pub fn tolerance(&self, id: CellId) -> Option<&Tolerance> {
+        match &self.statements[self.cell_statement(id)].kind {
+            StatementKind::Cell(cell) => cell.tolerance.as_ref(),
             _ => None,
         }
     }

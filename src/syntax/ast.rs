@@ -35,6 +35,8 @@ pub enum StatementKind {
     Body(Box<BodyDef>),
     /// A block of equations solved for its unknowns: `solve a [m/s^2]: … end`.
     Solve(Box<SolveBlock>),
+    /// A load case: `case proof "proof test at 125 %": … end`.
+    Case(Box<CaseBlock>),
     /// A line that did not parse; its diagnostic says why.
     Invalid,
 }
@@ -66,8 +68,78 @@ pub struct CellDef {
     pub unit: Option<UnitExpr>,
     /// The formula.
     pub expr: Expr,
+    /// The tolerance, if any: `± 3 %`, `± 0.05 m`, `.. 1900 kg`.
+    pub tolerance: Option<Tolerance>,
     /// The optional description.
     pub description: Option<Description>,
+}
+
+/// How far a cell's value may stray from its formula.
+#[derive(Clone, Debug, PartialEq)]
+pub enum Tolerance {
+    /// `± amount`: a quantity of the cell's dimension, or a percentage.
+    PlusMinus {
+        /// The amount as written.
+        amount: Expr,
+        /// The whole `± amount`.
+        span: Span,
+    },
+    /// `lower .. upper`: the formula is the lower bound; the nominal value
+    /// is the midpoint.
+    Range {
+        /// The upper bound.
+        upper: Expr,
+        /// The whole `.. upper`.
+        span: Span,
+    },
+}
+
+impl Tolerance {
+    /// The expression it holds.
+    pub fn expr(&self) -> &Expr {
+        match self {
+            Tolerance::PlusMinus { amount, .. } => amount,
+            Tolerance::Range { upper, .. } => upper,
+        }
+    }
+
+    /// The expression it holds, for linking.
+    pub fn expr_mut(&mut self) -> &mut Expr {
+        match self {
+            Tolerance::PlusMinus { amount, .. } => amount,
+            Tolerance::Range { upper, .. } => upper,
+        }
+    }
+}
+
+/// A load case: the cells it overrides, by name.
+#[derive(Clone, Debug, PartialEq)]
+pub struct CaseBlock {
+    /// The case's name.
+    pub name: Ident,
+    /// Its optional label.
+    pub label: Option<Description>,
+    /// The overrides that parsed, in written order.
+    pub overrides: Vec<Override>,
+    /// Whether every line parsed and the block is closed by `end`.
+    pub complete: bool,
+    /// The `case …:` line.
+    pub head: Span,
+}
+
+/// One override of a case: `m_load = 2500 kg`.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Override {
+    /// The cell it replaces (linking fills the target).
+    pub cell: NameRef,
+    /// Where the cell's name is written.
+    pub cell_span: Span,
+    /// The formula used in this case.
+    pub expr: Expr,
+    /// The tolerance used in this case, if any.
+    pub tolerance: Option<Tolerance>,
+    /// The whole line.
+    pub span: Span,
 }
 
 /// A check: `check A op B "label"`.

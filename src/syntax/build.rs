@@ -9,7 +9,7 @@ use pest::pratt_parser::{Assoc, Op, PrattParser};
 use super::Span;
 use super::ast::{
     BinaryOp, BodyDef, CellDef, CheckDef, Comparison, Description, Equation, Expr, ExprKind, Ident,
-    NameRef, StatementKind, Target, UnitExpr, UnitFactor, Unknown,
+    NameRef, Override, StatementKind, Target, Tolerance, UnitExpr, UnitFactor, Unknown,
 };
 use super::parser::Rule;
 
@@ -146,6 +146,60 @@ pub(crate) fn equation(mut pairs: Pairs<'_, Rule>, offset: usize) -> Built<Equat
     })
 }
 
+/// Builds a case's name and label from the pairs of `Rule::case_line`.
+pub(crate) fn case_head(mut pairs: Pairs<'_, Rule>, offset: usize) -> (Ident, Option<Description>) {
+    let builder = Builder { offset };
+    let head = pairs
+        .next()
+        .unwrap_or_else(|| unreachable!("expected a case head"));
+    let mut name = None;
+    let mut label = None;
+    for part in head.into_inner() {
+        match part.as_rule() {
+            Rule::keyword_case => {}
+            Rule::name => name = Some(builder.ident(part)),
+            Rule::description => label = Some(builder.description(part)),
+            rule => unreachable!("expected a part of a case head, found {rule:?}"),
+        }
+    }
+    (
+        name.unwrap_or_else(|| unreachable!("expected a case name")),
+        label,
+    )
+}
+
+/// Builds an override from the pairs of `Rule::override_line`.
+pub(crate) fn override_of(mut pairs: Pairs<'_, Rule>, offset: usize) -> Built<Override> {
+    let builder = Builder { offset };
+    let pair = pairs
+        .next()
+        .unwrap_or_else(|| unreachable!("expected an override"));
+    let span = builder.span(&pair);
+    let mut cell = None;
+    let mut expr = None;
+    let mut tolerance = None;
+    for part in pair.into_inner() {
+        match part.as_rule() {
+            Rule::name => cell = Some(builder.ident(part)),
+            Rule::assign => {}
+            Rule::expr => expr = Some(builder.expr(part)?),
+            Rule::plus_minus | Rule::range_to => tolerance = Some(builder.tolerance(part)?),
+            rule => unreachable!("expected a part of an override, found {rule:?}"),
+        }
+    }
+    let cell = cell.unwrap_or_else(|| unreachable!("expected the overridden cell"));
+    Ok(Override {
+        cell: NameRef {
+            text: cell.text.as_str().into(),
+            target: Target::Unresolved,
+        },
+        cell_span: cell.span,
+        expr: expr.unwrap_or_else(|| unreachable!("expected the override's formula")),
+        tolerance,
+        span,
+    })
+}
+
 /// Builds the expression from the pairs of `Rule::expression_only`.
 pub(crate) fn expression(mut pairs: Pairs<'_, Rule>) -> Built<Option<Expr>> {
     match pairs.next() {
@@ -194,6 +248,7 @@ impl Builder {
         let mut name = None;
         let mut unit = None;
         let mut expr = None;
+        let mut tolerance = None;
         let mut description = None;
         for part in pair.into_inner() {
             match part.as_rule() {
@@ -201,6 +256,7 @@ impl Builder {
                 Rule::assign => {}
                 Rule::declared_unit => unit = Some(self.unit_in_brackets(part)?),
                 Rule::expr => expr = Some(self.expr(part)?),
+                Rule::plus_minus | Rule::range_to => tolerance = Some(self.tolerance(part)?),
                 Rule::description => description = Some(self.description(part)),
                 rule => unreachable!("expected a part of a cell, found {rule:?}"),
             }
@@ -210,10 +266,25 @@ impl Builder {
                 name,
                 unit,
                 expr,
+                tolerance,
                 description,
             }),
             _ => unreachable!("expected a cell with a name and an expression"),
         }
+    }
+
+    fn tolerance(&self, pair: Pair<'_, Rule>) -> Built<Tolerance> {
+        let span = self.span(&pair);
+        let rule = pair.as_rule();
+        let expr = pair
+            .into_inner()
+            .next()
+            .unwrap_or_else(|| unreachable!("expected a tolerance"));
+        let expr = self.expr(expr)?;
+        Ok(match rule {
+            Rule::plus_minus => Tolerance::PlusMinus { amount: expr, span },
+            _ => Tolerance::Range { upper: expr, span },
+        })
     }
 
     fn check(&self, pair: Pair<'_, Rule>) -> Built<CheckDef> {
@@ -289,6 +360,7 @@ impl Builder {
                 name: name.clone(),
                 unit: None,
                 expr: sum,
+                tolerance: None,
                 description: description.clone(),
             },
             name,

@@ -3,7 +3,7 @@
 
 use pest::Parser;
 
-use super::ast::{CellDef, Expr, ExprKind, SolveBlock, Statement, StatementKind};
+use super::ast::{CaseBlock, CellDef, Expr, ExprKind, SolveBlock, Statement, StatementKind};
 use super::parser::{HeftParser, Rule, describe_error};
 use super::{Span, build};
 use crate::diag::{Code, Diagnostic};
@@ -153,7 +153,7 @@ struct BlockLines {
 }
 
 /// Words that open a block running to a line `end`.
-const BLOCK_KEYWORDS: &[&str] = &["solve"];
+const BLOCK_KEYWORDS: &[&str] = &["solve", "case"];
 
 /// The code of a line without a trailing `//` comment, trimmed.
 fn code_of(text: &str) -> &str {
@@ -204,71 +204,116 @@ fn gather_statements(source: &str, lines: impl Iterator<Item = Line>) -> Vec<Raw
     statements
 }
 
-/// Parses a block statement line by line: every line's error is reported,
-/// and the block is marked incomplete if any line failed or `end` is missing.
-fn parse_block(source: &str, block: &BlockLines) -> (StatementKind, Vec<Diagnostic>) {
-    let mut diagnostics = Vec::new();
-    let head_text = block.head.text(source);
-    let unknowns = HeftParser::parse(Rule::solve_line, head_text)
-        .map_err(|error| {
-            let (span, message) = describe_error(&error, head_text, block.head.start());
-            Diagnostic::error(Code::ParseError, span, message)
-        })
-        .and_then(|pairs| {
-            build::solve_head(pairs, block.head.start())
-                .map_err(|error| Diagnostic::error(Code::ParseError, error.span, error.message))
-        });
-    let mut complete = true;
-    let unknowns = match unknowns {
-        Ok(unknowns) => unknowns,
-        Err(diagnostic) => {
-            diagnostics
-                .push(diagnostic.with_help("write `solve name [unit], name [unit] ~ guess:`"));
-            complete = false;
-            Vec::new()
-        }
-    };
-    let mut equations = Vec::with_capacity(block.body.len());
-    for line in &block.body {
-        let text = line.text(source);
-        let parsed = match check_limits(text, line.start()) {
-            Some(diagnostic) => Err(diagnostic),
-            None => HeftParser::parse(Rule::equation_line, text)
-                .map_err(|error| {
-                    let (span, message) = describe_error(&error, text, line.start());
-                    Diagnostic::error(Code::ParseError, span, message)
-                })
-                .and_then(|pairs| {
-                    build::equation(pairs, line.start()).map_err(|error| {
-                        Diagnostic::error(Code::ParseError, error.span, error.message)
-                    })
-                }),
-        };
-        match parsed {
-            Ok(equation) => equations.push(equation),
+/// Parses one line of a block with `rule`, building it with `build`.
+fn parse_line<T>(
+    source: &str,
+    line: Span,
+    rule: Rule,
+    build: fn(pest::iterators::Pairs<'_, Rule>, usize) -> Result<T, build::BuildError>,
+) -> Result<T, Diagnostic> {
+    let text = line.text(source);
+    if let Some(diagnostic) = check_limits(text, line.start()) {
+        return Err(diagnostic);
+    }
+    let pairs = HeftParser::parse(rule, text).map_err(|error| {
+        let (span, message) = describe_error(&error, text, line.start());
+        Diagnostic::error(Code::ParseError, span, message)
+    })?;
+    build(pairs, line.start())
+        .map_err(|error| Diagnostic::error(Code::ParseError, error.span, error.message))
+}
+
+/// Parses the lines inside a block, reporting each line that fails.
+fn parse_body<T>(
+    source: &str,
+    block: &BlockLines,
+    rule: Rule,
+    build: fn(pest::iterators::Pairs<'_, Rule>, usize) -> Result<T, build::BuildError>,
+    complete: &mut bool,
+    diagnostics: &mut Vec<Diagnostic>,
+) -> Vec<T> {
+    let mut parsed = Vec::with_capacity(block.body.len());
+    for &line in &block.body {
+        match parse_line(source, line, rule, build) {
+            Ok(item) => parsed.push(item),
             Err(diagnostic) => {
-                complete = false;
+                *complete = false;
                 diagnostics.push(diagnostic);
             }
         }
     }
-    if block.end.is_none() {
-        complete = false;
+    parsed
+}
+
+/// Parses a block statement line by line: every line's error is reported,
+/// and the block is marked incomplete if any line failed or `end` is missing.
+fn parse_block(source: &str, block: &BlockLines) -> (StatementKind, Vec<Diagnostic>) {
+    let mut diagnostics = Vec::new();
+    let mut complete = block.end.is_some();
+    let keyword = code_of(block.head.text(source))
+        .split_whitespace()
+        .next()
+        .unwrap_or("");
+    if !complete {
         diagnostics.push(
             Diagnostic::error(
                 Code::ParseError,
                 block.head,
-                "this solve block is never closed",
+                format!("this {keyword} block is never closed"),
             )
             .with_help("end the block with a line `end`"),
         );
     }
-    let kind = StatementKind::Solve(Box::new(SolveBlock {
-        unknowns,
-        equations,
-        complete,
-        head: block.head,
-    }));
+    let kind = if keyword == "case" {
+        let overrides = parse_body(
+            source,
+            block,
+            Rule::override_line,
+            build::override_of,
+            &mut complete,
+            &mut diagnostics,
+        );
+        match parse_line(source, block.head, Rule::case_line, |pairs, offset| {
+            Ok(build::case_head(pairs, offset))
+        }) {
+            Ok((name, label)) => StatementKind::Case(Box::new(CaseBlock {
+                name,
+                label,
+                overrides,
+                complete,
+                head: block.head,
+            })),
+            Err(diagnostic) => {
+                diagnostics.push(diagnostic.with_help("write `case name \"label\":`"));
+                StatementKind::Invalid
+            }
+        }
+    } else {
+        let equations = parse_body(
+            source,
+            block,
+            Rule::equation_line,
+            build::equation,
+            &mut complete,
+            &mut diagnostics,
+        );
+        let unknowns = match parse_line(source, block.head, Rule::solve_line, build::solve_head) {
+            Ok(unknowns) => unknowns,
+            Err(diagnostic) => {
+                diagnostics
+                    .push(diagnostic.with_help("write `solve name [unit], name [unit] ~ guess:`"));
+                complete = false;
+                Vec::new()
+            }
+        };
+        StatementKind::Solve(Box::new(SolveBlock {
+            unknowns,
+            equations,
+            complete,
+            head: block.head,
+        }))
+    };
+    diagnostics.sort_by_key(|d| d.span.start());
     (kind, diagnostics)
 }
 
@@ -328,6 +373,7 @@ fn recover_cell(text: &str, offset: usize) -> Option<StatementKind> {
             kind: ExprKind::Invalid,
             span: rest,
         },
+        tolerance: None,
         description: None,
     })))
 }

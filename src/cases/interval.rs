@@ -1,0 +1,311 @@
+//! Interval arithmetic with outward rounding: every operation widens its
+//! result by one unit in the last place each way, so the true value of a
+//! formula over a box of inputs is always inside the computed interval.
+
+use crate::eval::program::{Binary, Number, Unary};
+
+/// A closed interval `[lo, hi]`; `lo > hi` never happens, NaN marks an
+/// undefined result (a square root of a wholly negative interval, …).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Interval {
+    /// Lower bound.
+    pub lo: f64,
+    /// Upper bound.
+    pub hi: f64,
+}
+
+const PI: f64 = std::f64::consts::PI;
+
+impl Interval {
+    /// `[lo, hi]` (swapped if given the wrong way round).
+    pub fn new(lo: f64, hi: f64) -> Self {
+        if lo <= hi {
+            Interval { lo, hi }
+        } else {
+            Interval { lo: hi, hi: lo }
+        }
+    }
+
+    /// The single point `value`.
+    pub fn point(value: f64) -> Self {
+        Interval {
+            lo: value,
+            hi: value,
+        }
+    }
+
+    /// Every real number.
+    pub fn entire() -> Self {
+        Interval {
+            lo: f64::NEG_INFINITY,
+            hi: f64::INFINITY,
+        }
+    }
+
+    /// The midpoint.
+    pub fn mid(self) -> f64 {
+        0.5 * (self.lo + self.hi)
+    }
+
+    /// Half the width.
+    pub fn radius(self) -> f64 {
+        0.5 * (self.hi - self.lo)
+    }
+
+    /// Whether `value` lies inside.
+    pub fn contains(self, value: f64) -> bool {
+        self.lo <= value && value <= self.hi
+    }
+
+    /// Whether the interval is undefined.
+    pub fn is_nan(self) -> bool {
+        self.lo.is_nan() || self.hi.is_nan()
+    }
+
+    /// The intersection, or `self` if they do not meet (both enclose the
+    /// same true range, so they always meet unless rounding disagrees).
+    pub fn intersect(self, other: Interval) -> Interval {
+        let (lo, hi) = (self.lo.max(other.lo), self.hi.min(other.hi));
+        if lo <= hi { Interval { lo, hi } } else { self }
+    }
+
+    /// The smallest interval holding both.
+    pub fn hull(self, other: Interval) -> Interval {
+        Interval {
+            lo: self.lo.min(other.lo),
+            hi: self.hi.max(other.hi),
+        }
+    }
+
+    /// Widened by one unit in the last place each way.
+    fn outward(lo: f64, hi: f64) -> Interval {
+        if lo.is_nan() || hi.is_nan() {
+            return Interval {
+                lo: f64::NAN,
+                hi: f64::NAN,
+            };
+        }
+        Interval {
+            lo: lo.next_down(),
+            hi: hi.next_up(),
+        }
+    }
+
+    fn from_corners(values: [f64; 4]) -> Interval {
+        let lo = values.iter().copied().fold(f64::INFINITY, f64::min);
+        let hi = values.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+        Interval::outward(lo, hi)
+    }
+
+    /// A monotone increasing function applied to the bounds.
+    fn increasing(self, f: fn(f64) -> f64) -> Interval {
+        Interval::outward(f(self.lo), f(self.hi))
+    }
+
+    /// Whether `lo ≤ offset + k·period ≤ hi` for some integer k.
+    fn contains_periodic(self, offset: f64, period: f64) -> bool {
+        let k = ((self.lo - offset) / period).ceil();
+        offset + k * period <= self.hi
+    }
+
+    fn sin(self) -> Interval {
+        if self.hi - self.lo >= 2.0 * PI || !self.lo.is_finite() || !self.hi.is_finite() {
+            return Interval::new(-1.0, 1.0);
+        }
+        let (a, b) = (libm::sin(self.lo), libm::sin(self.hi));
+        let hi = if self.contains_periodic(PI / 2.0, 2.0 * PI) {
+            1.0
+        } else {
+            a.max(b)
+        };
+        let lo = if self.contains_periodic(-PI / 2.0, 2.0 * PI) {
+            -1.0
+        } else {
+            a.min(b)
+        };
+        Interval::outward(lo, hi).intersect(Interval::new(-1.0, 1.0))
+    }
+
+    fn cos(self) -> Interval {
+        if self.hi - self.lo >= 2.0 * PI || !self.lo.is_finite() || !self.hi.is_finite() {
+            return Interval::new(-1.0, 1.0);
+        }
+        let (a, b) = (libm::cos(self.lo), libm::cos(self.hi));
+        let hi = if self.contains_periodic(0.0, 2.0 * PI) {
+            1.0
+        } else {
+            a.max(b)
+        };
+        let lo = if self.contains_periodic(PI, 2.0 * PI) {
+            -1.0
+        } else {
+            a.min(b)
+        };
+        Interval::outward(lo, hi).intersect(Interval::new(-1.0, 1.0))
+    }
+
+    fn tan(self) -> Interval {
+        if self.hi - self.lo >= PI || self.contains_periodic(PI / 2.0, PI) {
+            return Interval::entire();
+        }
+        self.increasing(libm::tan)
+    }
+
+    fn abs(self) -> Interval {
+        if self.lo >= 0.0 {
+            self
+        } else if self.hi <= 0.0 {
+            Interval {
+                lo: -self.hi,
+                hi: -self.lo,
+            }
+        } else {
+            Interval {
+                lo: 0.0,
+                hi: (-self.lo).max(self.hi),
+            }
+        }
+    }
+
+    fn sqrt(self) -> Interval {
+        if self.hi < 0.0 {
+            return Interval {
+                lo: f64::NAN,
+                hi: f64::NAN,
+            };
+        }
+        Interval::outward(libm::sqrt(self.lo.max(0.0)), libm::sqrt(self.hi))
+            .intersect(Interval::new(0.0, f64::INFINITY))
+    }
+
+    /// A function defined on `[domain_lo, domain_hi]`, increasing there.
+    fn increasing_on(self, domain_lo: f64, domain_hi: f64, f: fn(f64) -> f64) -> Interval {
+        if self.hi < domain_lo || self.lo > domain_hi {
+            return Interval {
+                lo: f64::NAN,
+                hi: f64::NAN,
+            };
+        }
+        Interval::new(self.lo.max(domain_lo), self.hi.min(domain_hi)).increasing(f)
+    }
+}
+
+impl Number for Interval {
+    fn constant(value: f64) -> Self {
+        Interval::point(value)
+    }
+
+    fn add(self, other: Self) -> Self {
+        Interval::outward(self.lo + other.lo, self.hi + other.hi)
+    }
+
+    fn sub(self, other: Self) -> Self {
+        Interval::outward(self.lo - other.hi, self.hi - other.lo)
+    }
+
+    fn mul(self, other: Self) -> Self {
+        Interval::from_corners([
+            self.lo * other.lo,
+            self.lo * other.hi,
+            self.hi * other.lo,
+            self.hi * other.hi,
+        ])
+    }
+
+    fn div(self, other: Self) -> Self {
+        if other.contains(0.0) {
+            return Interval::entire();
+        }
+        Interval::from_corners([
+            self.lo / other.lo,
+            self.lo / other.hi,
+            self.hi / other.lo,
+            self.hi / other.hi,
+        ])
+    }
+
+    fn neg(self) -> Self {
+        Interval {
+            lo: -self.hi,
+            hi: -self.lo,
+        }
+    }
+
+    fn certainly_less(self, other: Self) -> bool {
+        self.hi < other.lo
+    }
+
+    fn either(self, other: Self) -> Self {
+        self.hull(other)
+    }
+
+    fn powi(self, power: i32) -> Self {
+        match power {
+            0 => Interval::point(1.0),
+            p if p < 0 => Interval::point(1.0).div(self.powi(-p)),
+            p if p % 2 == 0 => {
+                let magnitude = self.abs();
+                Interval::outward(magnitude.lo.powi(p), magnitude.hi.powi(p))
+            }
+            p => Interval::outward(self.lo.powi(p), self.hi.powi(p)),
+        }
+    }
+
+    fn powf(self, power: Self) -> Self {
+        if power.lo == power.hi && power.lo.fract() == 0.0 && power.lo.abs() <= 64.0 {
+            return self.powi(power.lo as i32);
+        }
+        // x^p = exp(p ln x) for x > 0.
+        self.apply(Unary::Ln).mul(power).apply(Unary::Exp)
+    }
+
+    fn apply(self, function: Unary) -> Self {
+        match function {
+            Unary::Sqrt => self.sqrt(),
+            Unary::Abs => self.abs(),
+            Unary::Sin => self.sin(),
+            Unary::Cos => self.cos(),
+            Unary::Tan => self.tan(),
+            Unary::Asin => self.increasing_on(-1.0, 1.0, libm::asin),
+            Unary::Acos => {
+                let inside = Interval::new(self.lo.max(-1.0), self.hi.min(1.0));
+                if self.hi < -1.0 || self.lo > 1.0 {
+                    return Interval {
+                        lo: f64::NAN,
+                        hi: f64::NAN,
+                    };
+                }
+                Interval::outward(libm::acos(inside.hi), libm::acos(inside.lo))
+            }
+            Unary::Atan => self.increasing(libm::atan),
+            Unary::Exp => self.increasing(libm::exp),
+            Unary::Ln => self.increasing_on(0.0, f64::INFINITY, libm::log),
+            Unary::Log10 => self.increasing_on(0.0, f64::INFINITY, libm::log10),
+        }
+    }
+
+    fn apply2(self, other: Self, function: Binary) -> Self {
+        match function {
+            Binary::Min => Interval::new(self.lo.min(other.lo), self.hi.min(other.hi)),
+            Binary::Max => Interval::new(self.lo.max(other.lo), self.hi.max(other.hi)),
+            Binary::Hypot => {
+                let (a, b) = (self.abs(), other.abs());
+                Interval::outward(libm::hypot(a.lo, b.lo), libm::hypot(a.hi, b.hi))
+            }
+            Binary::Atan2 => {
+                // y = self, x = other. A box touching the negative x-axis (or
+                // the origin) wraps around ±π; otherwise the extreme angles are
+                // at its corners.
+                if other.lo <= 0.0 && self.contains(0.0) {
+                    return Interval::new(-PI, PI);
+                }
+                Interval::from_corners([
+                    libm::atan2(self.lo, other.lo),
+                    libm::atan2(self.lo, other.hi),
+                    libm::atan2(self.hi, other.lo),
+                    libm::atan2(self.hi, other.hi),
+                ])
+            }
+        }
+    }
+}
