@@ -9,6 +9,7 @@
 pub mod cli;
 pub mod diag;
 pub mod eval;
+pub mod review;
 pub mod sheet;
 pub mod syntax;
 pub mod units;

@@ -3,6 +3,7 @@
 //! produces the plain [`Evaluated`] model that presentation reads.
 
 mod explain;
+pub mod formula;
 pub mod functions;
 mod model;
 

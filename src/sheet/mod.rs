@@ -88,7 +88,7 @@ impl Sheet {
         let mut checks = Vec::new();
         let mut items = Vec::with_capacity(statements.len());
         for (index, statement) in statements.iter().enumerate() {
-            items.push(match statement.kind {
+            let item = match statement.kind {
                 StatementKind::Heading { .. } => Item::Heading(index),
                 StatementKind::Note { .. } => Item::Note(index),
                 StatementKind::Cell(_) => {
@@ -100,7 +100,11 @@ impl Sheet {
                     Item::Check(checks.len() - 1)
                 }
                 StatementKind::Invalid => Item::Invalid(index),
-            });
+                // Review marks and sign-offs are the checker's record, not
+                // content to evaluate: the `review` module reads them.
+                StatementKind::Review(_) | StatementKind::SignOff(_) => continue,
+            };
+            items.push(item);
         }
 
         let mut broken = vec![false; cells.len()];
