@@ -8,7 +8,9 @@
 
 pub mod cli;
 pub mod diag;
+pub mod diff;
 pub mod eval;
+pub mod report;
 pub mod review;
 pub mod sheet;
 pub mod syntax;

@@ -196,6 +196,8 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
         }
     }
 
+    out.push_str(&super::review::review_text(evaluated));
+
     if !evaluated.diagnostics.is_empty() {
         let _ = writeln!(out);
         out.push_str(&render(&evaluated.diagnostics, file_name, source, colour));
