@@ -124,12 +124,12 @@ pub fn text(diff: &RevisionDiff, old_name: &str, new_name: &str) -> String {
             );
         }
     }
-    let results: Vec<_> = diff
-        .cells
+    let results: Vec<_> = diff.cells.iter().filter(|c| c.result_moved()).collect();
+    let width = results
         .iter()
-        .filter(|c| c.old_value.is_some() && c.new_value.is_some())
-        .filter(|c| c.old_value != c.new_value)
-        .collect();
+        .map(|c| c.name.chars().count())
+        .max()
+        .unwrap_or(0);
     if !results.is_empty() {
         let _ = writeln!(out, "\nResults");
         for cell in results {
@@ -147,7 +147,7 @@ pub fn text(diff: &RevisionDiff, old_name: &str, new_name: &str) -> String {
             };
             let _ = writeln!(
                 out,
-                "  {}  {} → {}  {}{dimension}  ({why})",
+                "  {:<width$}  {} → {}  {}{dimension}  ({why})",
                 cell.name,
                 shown(&cell.old_value),
                 shown(&cell.new_value),

@@ -84,6 +84,15 @@ pub struct CellChange {
     pub moved_inputs: Vec<String>,
 }
 
+impl CellChange {
+    /// Whether the cell has a result in both revisions and it moved.
+    pub fn result_moved(&self) -> bool {
+        self.old_value.is_some()
+            && self.new_value.is_some()
+            && value_moved(&self.old_value, &self.new_value)
+    }
+}
+
 /// One check whose outcome differs, or that was added or removed.
 #[derive(Clone, Debug, PartialEq)]
 pub struct CheckChange {
@@ -328,11 +337,18 @@ pub fn status(check: &CheckResult) -> &'static str {
     }
 }
 
-/// Whether a result differs between revisions: in value, unit shown, or
-/// by being there at all.
+/// Relative changes up to this size are floating-point rounding (a ratio
+/// whose inputs moved together), not a change of result.
+pub const ROUNDING_NOISE: f64 = 1e-12;
+
+/// Whether a result differs between revisions: in its shown value or unit,
+/// by more than rounding noise, or by being there at all.
 fn value_moved(old: &Option<DiffValue>, new: &Option<DiffValue>) -> bool {
     match (old, new) {
-        (Some(a), Some(b)) => a.si != b.si || a.shown != b.shown,
+        (Some(a), Some(b)) => {
+            let scale = a.si.abs().max(b.si.abs());
+            a.shown != b.shown || (a.si - b.si).abs() > ROUNDING_NOISE * scale
+        }
         (None, None) => false,
         _ => true,
     }
