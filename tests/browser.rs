@@ -73,9 +73,7 @@ fn print_to_text(name: &str, html: &str) -> String {
         .arg(&pdf)
         .arg("-")
         .output()
-        .unwrap_or_else(|error| {
-            panic!("cannot run pdftotext ({error}); install poppler-utils")
-        });
+        .unwrap_or_else(|error| panic!("cannot run pdftotext ({error}); install poppler-utils"));
     assert!(output.status.success(), "pdftotext failed on {name}");
     let text = String::from_utf8_lossy(&output.stdout).into_owned();
     let _ = std::fs::remove_dir_all(&dir);
@@ -131,14 +129,26 @@ fn printed_demo_reports_show_every_result_and_check() {
         let document = report::document(&evaluated, &Review::of(&evaluated));
         let printed = print_to_text(&name, &report::html::write(&document));
         let expected = expected_texts(&document);
-        assert!(expected.len() > evaluated.n_cells(), "{name}: too few texts to look for");
-        let missing: Vec<&String> = expected.iter().filter(|t| !printed.contains(t.as_str())).collect();
-        assert!(missing.is_empty(), "{name}: not in the printed report: {missing:?}\n---\n{printed}");
+        assert!(
+            expected.len() > evaluated.n_cells(),
+            "{name}: too few texts to look for"
+        );
+        let missing: Vec<&String> = expected
+            .iter()
+            .filter(|t| !printed.contains(t.as_str()))
+            .collect();
+        assert!(
+            missing.is_empty(),
+            "{name}: not in the printed report: {missing:?}\n---\n{printed}"
+        );
         // Title, caution and page furniture reach the paper too.
         let title = evaluated.header().title.clone().unwrap_or_default();
         assert!(printed.contains(&title), "{name}: title missing");
         assert!(printed.contains("ASME B30"), "{name}: caution missing");
-        assert!(printed.contains("Page 1 of"), "{name}: page numbers missing");
+        assert!(
+            printed.contains("Page 1 of"),
+            "{name}: page numbers missing"
+        );
     }
 }
 
@@ -157,6 +167,9 @@ fn printed_hostile_text_shows_as_text_and_runs_nothing() {
         "Heading <img src=x onerror=alert(1)> & more",
         "mark <script>alert('m')</script>",
     ] {
-        assert!(printed.contains(shown), "not shown as text: {shown}\n---\n{printed}");
+        assert!(
+            printed.contains(shown),
+            "not shown as text: {shown}\n---\n{printed}"
+        );
     }
 }
