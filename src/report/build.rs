@@ -83,6 +83,9 @@ impl<'a> Builder<'a> {
                 )),
             }
         });
+        if signoff.is_none() {
+            fields.push(("Sign-off".to_string(), "not signed off".to_string()));
+        }
         let n_open = self.review.open_marks().count();
         if n_open > 0 || !self.review.marks.is_empty() {
             fields.push((
