@@ -206,3 +206,60 @@ fn a_cell_named_review_is_still_a_cell() {
     assert_eq!(evaluated.n_cells(), 2);
     assert!(Review::of(&evaluated).marks.is_empty());
 }
+
+mod properties {
+    use proptest::prelude::*;
+
+    use heftsheet::eval::evaluate_source;
+    use heftsheet::review::Review;
+
+    fn fingerprint_of(source: &str) -> String {
+        Review::of(&evaluate_source(source)).fingerprint
+    }
+
+    proptest! {
+        #![proptest_config(ProptestConfig::with_cases(64))]
+
+        /// Review marks and blank lines anywhere never change the fingerprint.
+        #[test]
+        fn marks_and_blank_lines_keep_the_fingerprint(
+            insert_at in proptest::collection::vec((0usize..20, 0usize..3), 0..8),
+        ) {
+            let base = super::SHEET;
+            let mut lines: Vec<String> = base.lines().map(str::to_string).collect();
+            // After the header's closing `+++` (line 3) only: a review line
+            // inside the TOML header would be header text, not a mark.
+            for (position, kind) in insert_at {
+                let at = 4 + position % (lines.len() - 3);
+                let line = match kind {
+                    0 => "review question \"why?\" by \"Q\" on 2026-12-01".to_string(),
+                    1 => "   ".to_string(),
+                    _ => String::new(),
+                };
+                lines.insert(at, line);
+            }
+            let edited = lines.join("\n");
+            prop_assert_eq!(fingerprint_of(&edited), fingerprint_of(base));
+        }
+
+        /// Changing any one digit of the sheet changes the fingerprint.
+        #[test]
+        fn any_digit_changes_the_fingerprint(index in 0usize..1000) {
+            let base = super::SHEET;
+            let digits: Vec<usize> = base
+                .char_indices()
+                .filter(|(_, c)| c.is_ascii_digit())
+                .map(|(i, _)| i)
+                .collect();
+            let at = digits[index % digits.len()];
+            let original = base.as_bytes()[at];
+            let replacement = if original == b'9' { '0' } else { char::from(original + 1) };
+            let mut edited = base.to_string();
+            edited.replace_range(at..at + 1, &replacement.to_string());
+            // A digit inside a review line is not content: skip those.
+            let line = edited[..at].rsplit('\n').next().unwrap_or("");
+            prop_assume!(!line.trim_start().starts_with("review"));
+            prop_assert_ne!(fingerprint_of(&edited), fingerprint_of(base));
+        }
+    }
+}

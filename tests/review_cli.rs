@@ -178,3 +178,21 @@ fn signoff_refuses_a_sheet_with_errors_and_bad_arguments() {
     ]);
     assert_eq!(code, 2);
 }
+
+#[test]
+fn check_json_carries_the_review_record() {
+    let (_, out, _) = heft(&["check", "--json", "sheets/skid_lift.heft"]);
+    let json: serde_json::Value = serde_json::from_str(&out).expect("valid JSON");
+    let review = &json["review"];
+    assert_eq!(review["fingerprint"].as_str().map(str::len), Some(64));
+    let marks = review["marks"].as_array().expect("marks");
+    assert_eq!(marks.len(), 3);
+    assert_eq!(marks[0]["kind"], "question");
+    assert_eq!(marks[0]["open"], true);
+    assert_eq!(marks[0]["about"], "a_up");
+    assert_eq!(review["signoff"], serde_json::Value::Null);
+    let (_, out, _) = heft(&["check", "--json", "sheets/cart_train.heft"]);
+    let json: serde_json::Value = serde_json::from_str(&out).expect("valid JSON");
+    assert_eq!(json["review"]["signoff"]["current"], true);
+    assert_eq!(json["review"]["signoff"]["by"], "J. Ferreira");
+}

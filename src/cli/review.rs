@@ -100,7 +100,7 @@ pub fn review_text(evaluated: &Evaluated) -> String {
 }
 
 /// What a mark is about, in words.
-fn target_text(evaluated: &Evaluated, target: MarkTarget) -> String {
+pub(super) fn target_text(evaluated: &Evaluated, target: MarkTarget) -> String {
     match target {
         MarkTarget::Sheet => "the sheet".to_string(),
         MarkTarget::Cell(id) => evaluated.cell_at(id).name.to_string(),
