@@ -263,3 +263,13 @@ mod properties {
         }
     }
 }
+
+#[test]
+fn the_normalized_text_is_exactly_as_documented() {
+    let source = "+++\r\ntitle = \"Plate   lift\"\r\n+++\r\n\r\n  m   =  3 kg\t\"a  plate\"   // weighed \r\nreview accepted by \"K\" on 2026-12-01\n\n# Loads\t\n";
+    let evaluated = evaluate_source(source);
+    assert_eq!(
+        review::normalized_text(source, evaluated.sheet()),
+        "+++\ntitle = \"Plate   lift\"\n+++\nm = 3 kg \"a  plate\" // weighed\n# Loads\n"
+    );
+}

@@ -200,11 +200,6 @@ impl Review {
         self.marks.iter().filter(|mark| mark.kind.is_open())
     }
 
-    /// The marks attached to `target`, in file order.
-    pub fn marks_on(&self, target: MarkTarget) -> impl Iterator<Item = &Mark> {
-        self.marks.iter().filter(move |mark| mark.target == target)
-    }
-
     /// The sign-off in force: the last one in the file.
     pub fn signoff(&self) -> Option<&SignOffRecord> {
         self.signoffs.last()
