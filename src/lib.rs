@@ -9,7 +9,10 @@
 pub mod cases;
 pub mod cli;
 pub mod diag;
+pub mod diff;
 pub mod eval;
+pub mod report;
+pub mod review;
 pub mod sheet;
 pub mod syntax;
 pub mod units;

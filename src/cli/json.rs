@@ -23,6 +23,38 @@ struct Report<'a> {
     solves: Vec<Solve<'a>>,
     cases: Vec<JsonCase<'a>>,
     diagnostics: Vec<JsonDiagnostic<'a>>,
+    review: JsonReview,
+}
+
+/// The checker's record: fingerprint, every review mark, the sign-off in force.
+#[derive(Serialize)]
+struct JsonReview {
+    fingerprint: String,
+    marks: Vec<JsonMark>,
+    signoff: Option<JsonSignOff>,
+}
+
+#[derive(Serialize)]
+struct JsonMark {
+    kind: &'static str,
+    open: bool,
+    line: usize,
+    about: String,
+    text: Option<String>,
+    by: String,
+    on: String,
+}
+
+#[derive(Serialize)]
+struct JsonSignOff {
+    by: String,
+    on: String,
+    line: usize,
+    current: bool,
+    changed: Vec<String>,
+    added: Vec<String>,
+    removed: Vec<String>,
+    affected: Vec<String>,
 }
 
 #[derive(Serialize)]
@@ -314,6 +346,7 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
             .iter()
             .map(|d| diagnostic(d, source, lines))
             .collect(),
+        review: review(evaluated),
     };
     let mut text = serde_json::to_string_pretty(&report)
         .unwrap_or_else(|error| format!("{{\"error\": \"{error}\"}}"));
@@ -334,5 +367,45 @@ fn diagnostic<'a>(
         column: position.column,
         message: &diagnostic.message,
         help: diagnostic.help.as_deref(),
+    }
+}
+
+fn review(evaluated: &Evaluated) -> JsonReview {
+    let review = crate::review::Review::of(evaluated);
+    let marks = review
+        .marks
+        .iter()
+        .map(|mark| JsonMark {
+            kind: mark.kind.keyword(),
+            open: mark.kind.is_open(),
+            line: mark.line,
+            about: super::review::target_text(evaluated, mark.target),
+            text: mark.text.clone(),
+            by: mark.by.clone(),
+            on: mark.on.clone(),
+        })
+        .collect();
+    let signoff = review.signoff().map(|signoff| {
+        let changes = match &signoff.state {
+            crate::review::SignOffState::Current => None,
+            crate::review::SignOffState::Stale(changes) => Some(changes.clone()),
+        };
+        let current = changes.is_none();
+        let changes = changes.unwrap_or_default();
+        JsonSignOff {
+            by: signoff.by.clone(),
+            on: signoff.on.clone(),
+            line: signoff.line,
+            current,
+            changed: changes.changed,
+            added: changes.added,
+            removed: changes.removed,
+            affected: changes.affected,
+        }
+    });
+    JsonReview {
+        fingerprint: review.fingerprint,
+        marks,
+        signoff,
     }
 }

@@ -3,7 +3,10 @@
 
 mod check;
 mod convert;
+mod diff;
 mod json;
+mod report;
+mod review;
 mod units_list;
 
 use std::io::{self, IsTerminal, Write};
@@ -58,6 +61,35 @@ pub enum Command {
     },
     /// List every unit heft knows, with its definition and source.
     Units,
+    /// Write the calc report of a sheet as self-contained HTML or Markdown.
+    Report {
+        /// The sheet file (.heft).
+        file: PathBuf,
+        /// The report file; its extension picks the format (.html or .md).
+        #[arg(short, long)]
+        output: PathBuf,
+    },
+    /// Compare two revisions of a sheet: cells, results (with % change) and checks.
+    Diff {
+        /// The earlier revision.
+        old: PathBuf,
+        /// The later revision.
+        new: PathBuf,
+        /// Print one JSON object instead of text.
+        #[arg(long)]
+        json: bool,
+    },
+    /// Print the sign-off line that records a check of the sheet as it stands.
+    Signoff {
+        /// The sheet file (.heft).
+        file: PathBuf,
+        /// The checker's name.
+        #[arg(long)]
+        by: String,
+        /// The date of the check, YYYY-MM-DD.
+        #[arg(long)]
+        on: String,
+    },
 }
 
 /// The text report of `heft check`, without colour (for tests and tools).
@@ -89,6 +121,9 @@ pub fn run(args: Args) -> ExitCode {
         } => check::run(&file, json, deny_warnings, colour),
         Command::Convert { quantity, unit } => convert::run(&quantity, &unit, colour),
         Command::Units => units_list::run(),
+        Command::Report { file, output } => report::run(&file, &output),
+        Command::Diff { old, new, json } => diff::run(&old, &new, json),
+        Command::Signoff { file, by, on } => review::run_signoff(&file, &by, &on),
     };
     match outcome {
         Ok(code) => ExitCode::from(code),

@@ -6,6 +6,7 @@
 mod cases;
 mod explain;
 mod expr;
+pub mod formula;
 pub mod functions;
 mod model;
 pub mod program;

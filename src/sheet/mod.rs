@@ -154,7 +154,7 @@ impl Sheet {
         let mut cases = Vec::new();
         let mut items = Vec::with_capacity(statements.len());
         for (index, statement) in statements.iter().enumerate() {
-            items.push(match &statement.kind {
+            let item = match &statement.kind {
                 StatementKind::Heading { .. } => Item::Heading(index),
                 StatementKind::Note { .. } => Item::Note(index),
                 StatementKind::Cell(_) | StatementKind::Body(_) => {
@@ -179,7 +179,11 @@ impl Sheet {
                     Item::Case(index)
                 }
                 StatementKind::Invalid => Item::Invalid(index),
-            });
+                // Review marks and sign-offs are the checker's record, not
+                // content to evaluate: the `review` module reads them.
+                StatementKind::Review(_) | StatementKind::SignOff(_) => continue,
+            };
+            items.push(item);
         }
 
         let mut broken = vec![false; cells.len()];
@@ -348,6 +352,8 @@ impl Sheet {
                 }
                 StatementKind::Heading { .. }
                 | StatementKind::Note { .. }
+                | StatementKind::Review(_)
+                | StatementKind::SignOff(_)
                 | StatementKind::Invalid => {}
             }
         }

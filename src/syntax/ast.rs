@@ -39,6 +39,69 @@ pub enum StatementKind {
     Case(Box<CaseBlock>),
     /// A line that did not parse; its diagnostic says why.
     Invalid,
+    /// A checker's review mark on the cell, check or heading above it:
+    /// `review question "Where is 0.35 m/s^2 from?" by "K. Brandt" on 2026-12-02`.
+    Review(Box<ReviewMark>),
+    /// A checker's sign-off of the sheet as it stands:
+    /// `signoff by "K. Brandt" on 2026-12-03 fingerprint 5e0c… cells m_skid:1a2b3c4d …`.
+    SignOff(Box<SignOff>),
+}
+
+/// What a review mark says about the item it is attached to.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
+pub enum ReviewKind {
+    /// `question`: an open question the preparer must answer.
+    Question,
+    /// `change`: a change the checker requires.
+    Change,
+    /// `accepted`: the checker accepts the item.
+    Accepted,
+    /// `resolved`: an earlier question or change has been dealt with.
+    Resolved,
+}
+
+impl ReviewKind {
+    /// The keyword as written in a sheet.
+    pub fn keyword(self) -> &'static str {
+        match self {
+            ReviewKind::Question => "question",
+            ReviewKind::Change => "change",
+            ReviewKind::Accepted => "accepted",
+            ReviewKind::Resolved => "resolved",
+        }
+    }
+
+    /// Whether the mark still needs the preparer's attention.
+    pub fn is_open(self) -> bool {
+        matches!(self, ReviewKind::Question | ReviewKind::Change)
+    }
+}
+
+/// A review mark: `review change "Use the rating plate" by "K. Brandt" on 2026-12-02`.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct ReviewMark {
+    /// Question, change, accepted or resolved.
+    pub kind: ReviewKind,
+    /// What the checker says, if anything.
+    pub text: Option<Description>,
+    /// Who wrote the mark.
+    pub by: Description,
+    /// When, as `YYYY-MM-DD`.
+    pub on: Ident,
+}
+
+/// A sign-off: who checked the sheet, when, and the fingerprint of what they
+/// checked, with a short digest of each cell so a later change can be named.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct SignOff {
+    /// The checker.
+    pub by: Description,
+    /// When, as `YYYY-MM-DD`.
+    pub on: Ident,
+    /// The sheet's fingerprint when it was signed (64 hex digits).
+    pub fingerprint: Ident,
+    /// `name:digest` for each cell when it was signed (8 hex digits each).
+    pub cell_digests: Vec<(Ident, Ident)>,
 }
 
 /// A name as written, with its place.

@@ -9,7 +9,8 @@ use pest::pratt_parser::{Assoc, Op, PrattParser};
 use super::Span;
 use super::ast::{
     BinaryOp, BodyDef, CellDef, CheckDef, Comparison, Description, Equation, Expr, ExprKind, Ident,
-    NameRef, Override, StatementKind, Target, Tolerance, UnitExpr, UnitFactor, Unknown,
+    NameRef, Override, ReviewKind, ReviewMark, SignOff, StatementKind, Target, Tolerance, UnitExpr,
+    UnitFactor, Unknown,
 };
 use super::parser::Rule;
 
@@ -48,6 +49,8 @@ pub(crate) fn statement(mut pairs: Pairs<'_, Rule>, offset: usize) -> Built<Opti
         Rule::cell => StatementKind::Cell(Box::new(builder.cell(pair)?)),
         Rule::check => StatementKind::Check(Box::new(builder.check(pair)?)),
         Rule::body => StatementKind::Body(Box::new(builder.body(pair))),
+        Rule::review => StatementKind::Review(Box::new(builder.review(pair)?)),
+        Rule::signoff => StatementKind::SignOff(Box::new(builder.signoff(pair)?)),
         Rule::EOI => return Ok(None),
         rule => unreachable!("expected a statement, found {rule:?}"),
     }))
@@ -366,6 +369,93 @@ impl Builder {
             name,
             forces,
             description,
+        }
+    }
+
+    fn review(&self, pair: Pair<'_, Rule>) -> Built<ReviewMark> {
+        let mut kind = None;
+        let mut quoted = Vec::with_capacity(2);
+        let mut on = None;
+        for part in pair.into_inner() {
+            match part.as_rule() {
+                Rule::keyword_review | Rule::keyword_by | Rule::keyword_on => {}
+                Rule::mark_question => kind = Some(ReviewKind::Question),
+                Rule::mark_change => kind = Some(ReviewKind::Change),
+                Rule::mark_accepted => kind = Some(ReviewKind::Accepted),
+                Rule::mark_resolved => kind = Some(ReviewKind::Resolved),
+                Rule::description => quoted.push(self.description(part)),
+                Rule::date => on = Some(self.date(part)?),
+                rule => unreachable!("expected a part of a review mark, found {rule:?}"),
+            }
+        }
+        // The reviewer is always the last quoted text; the remark, if any, comes before it.
+        let by = quoted.pop();
+        let text = quoted.pop();
+        match (kind, by, on) {
+            (Some(kind), Some(by), Some(on)) => Ok(ReviewMark { kind, text, by, on }),
+            _ => unreachable!("expected a review mark with a kind, a reviewer and a date"),
+        }
+    }
+
+    fn signoff(&self, pair: Pair<'_, Rule>) -> Built<SignOff> {
+        let mut by = None;
+        let mut on = None;
+        let mut fingerprint = None;
+        let mut cell_digests = Vec::new();
+        for part in pair.into_inner() {
+            match part.as_rule() {
+                Rule::keyword_signoff
+                | Rule::keyword_by
+                | Rule::keyword_on
+                | Rule::keyword_fingerprint => {}
+                Rule::description => by = Some(self.description(part)),
+                Rule::date => on = Some(self.date(part)?),
+                Rule::fingerprint => fingerprint = Some(self.ident(part)),
+                Rule::cell_digests => {
+                    for digest in part.into_inner() {
+                        if digest.as_rule() != Rule::cell_digest {
+                            continue;
+                        }
+                        let mut inner = digest.into_inner();
+                        match (inner.next(), inner.next()) {
+                            (Some(name), Some(value)) => {
+                                cell_digests.push((self.ident(name), self.ident(value)));
+                            }
+                            _ => unreachable!("expected `name:digest`"),
+                        }
+                    }
+                }
+                rule => unreachable!("expected a part of a sign-off, found {rule:?}"),
+            }
+        }
+        match (by, on, fingerprint) {
+            (Some(by), Some(on), Some(fingerprint)) => Ok(SignOff {
+                by,
+                on,
+                fingerprint,
+                cell_digests,
+            }),
+            _ => unreachable!("expected a sign-off with a checker, a date and a fingerprint"),
+        }
+    }
+
+    /// A `YYYY-MM-DD` date; the grammar fixes the shape, the calendar is
+    /// checked by the TOML crate's date reader (months 01–12, days per month).
+    fn date(&self, pair: Pair<'_, Rule>) -> Built<Ident> {
+        let is_calendar_date = pair
+            .as_str()
+            .parse::<toml::value::Datetime>()
+            .is_ok_and(|value| value.date.is_some() && value.time.is_none());
+        if is_calendar_date {
+            Ok(self.ident(pair))
+        } else {
+            Err(BuildError {
+                span: self.span(&pair),
+                message: format!(
+                    "{} is not a calendar date (write YYYY-MM-DD)",
+                    pair.as_str()
+                ),
+            })
         }
     }
 

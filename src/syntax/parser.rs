@@ -105,6 +105,19 @@ fn describe_rule(rule: Rule) -> Option<&'static str> {
         Rule::unit_expr | Rule::unit_factor | Rule::unit_symbol => "a unit",
         Rule::unit_exponent => "an integer exponent",
         Rule::unit_mul | Rule::unit_div => "`*` or `/`",
+        Rule::review | Rule::keyword_review => "`review`",
+        Rule::mark_question | Rule::mark_change | Rule::mark_accepted | Rule::mark_resolved => {
+            "a review kind (`question`, `change`, `accepted` or `resolved`)"
+        }
+        Rule::keyword_by => "`by` and the reviewer in quotes",
+        Rule::keyword_on => "`on` and a date",
+        Rule::date => "a date (YYYY-MM-DD)",
+        Rule::signoff | Rule::keyword_signoff => "`signoff`",
+        Rule::keyword_fingerprint => "`fingerprint` and its 64 hex digits",
+        Rule::fingerprint => "a fingerprint of 64 hex digits (from `heft signoff`)",
+        Rule::cell_digests | Rule::keyword_cells => "`cells`",
+        Rule::cell_digest => "`name:digest`",
+        Rule::digest => "a cell digest of 8 hex digits",
         _ => return None,
     })
 }

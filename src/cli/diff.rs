@@ -1,0 +1,312 @@
+//! `heft diff OLD NEW [--json]`: what changed between two revisions.
+
+use std::fmt::Write as _;
+use std::io;
+use std::path::Path;
+
+use serde::Serialize;
+
+use super::{EXIT_CLEAN, EXIT_FINDINGS, print, read_sheet};
+use crate::diff::{self, CellChangeKind, DiffValue, Edit, RevisionDiff};
+use crate::eval;
+use crate::report::math;
+use crate::units::format_significant;
+
+/// The version of the diff's JSON schema; bumped only for incompatible changes.
+pub const SCHEMA: &str = "heft-diff/1";
+
+/// Runs `heft diff`: exit 0 when the revisions have the same content, 1 when
+/// they differ, 2 when a file cannot be read.
+pub fn run(old_path: &Path, new_path: &Path, as_json: bool) -> io::Result<u8> {
+    let (old_source, _) = read_sheet(old_path)?;
+    let (new_source, _) = read_sheet(new_path)?;
+    let old = eval::evaluate_source(&old_source);
+    let new = eval::evaluate_source(&new_source);
+    let diff = diff::compare(&old, &new);
+    let old_name = old_path.display().to_string();
+    let new_name = new_path.display().to_string();
+    let text = if as_json {
+        json(&diff, &old_name, &new_name)
+    } else {
+        text(&diff, &old_name, &new_name)
+    };
+    print(&text)?;
+    Ok(if diff.is_same() {
+        EXIT_CLEAN
+    } else {
+        EXIT_FINDINGS
+    })
+}
+
+fn shown(value: &Option<DiffValue>) -> String {
+    value
+        .as_ref()
+        .map_or_else(|| "—".to_string(), |v| math::shown(&v.shown))
+}
+
+fn percent(change: Option<f64>) -> String {
+    change.map_or_else(String::new, |p| {
+        let sign = if p > 0.0 { "+" } else { "" };
+        format!("{sign}{} %", format_significant(p, 3))
+    })
+}
+
+fn edit_text(part: &str, edit: &Edit) -> String {
+    let side = |text: &Option<String>| {
+        text.as_deref()
+            .map_or_else(|| "(none)".to_string(), |t| format!("`{t}`"))
+    };
+    format!("{part} {} → {}", side(&edit.old), side(&edit.new))
+}
+
+/// The diff as text.
+pub fn text(diff: &RevisionDiff, old_name: &str, new_name: &str) -> String {
+    let mut out = String::new();
+    let revision = |r: &Option<String>| {
+        r.as_deref()
+            .map(|r| format!(" (revision {r})"))
+            .unwrap_or_default()
+    };
+    let _ = writeln!(
+        out,
+        "{old_name}{} → {new_name}{}",
+        revision(&diff.old_revision),
+        revision(&diff.new_revision)
+    );
+    if diff.is_same() {
+        let _ = writeln!(
+            out,
+            "\nsame content (fingerprint {})",
+            &diff.new_fingerprint
+        );
+        return out;
+    }
+    let edits: Vec<_> = diff
+        .cells
+        .iter()
+        .filter(|c| c.kind != CellChangeKind::ResultOnly)
+        .collect();
+    if !edits.is_empty() {
+        let _ = writeln!(out, "\nCells");
+        for cell in edits {
+            let mut parts = Vec::new();
+            match cell.kind {
+                CellChangeKind::Added => parts.push(format!(
+                    "= {}",
+                    cell.formula
+                        .as_ref()
+                        .and_then(|f| f.new.clone())
+                        .unwrap_or_default()
+                )),
+                CellChangeKind::Removed => parts.push(format!(
+                    "was = {}",
+                    cell.formula
+                        .as_ref()
+                        .and_then(|f| f.old.clone())
+                        .unwrap_or_default()
+                )),
+                CellChangeKind::Edited | CellChangeKind::ResultOnly => {
+                    parts.extend(cell.formula.as_ref().map(|e| edit_text("formula", e)));
+                    parts.extend(cell.unit.as_ref().map(|e| edit_text("unit", e)));
+                    parts.extend(
+                        cell.description
+                            .as_ref()
+                            .map(|e| edit_text("description", e)),
+                    );
+                }
+            }
+            let _ = writeln!(
+                out,
+                "  {:<8} {}  {}",
+                cell.kind.as_str(),
+                cell.name,
+                parts.join("; ")
+            );
+        }
+    }
+    let results: Vec<_> = diff.cells.iter().filter(|c| c.result_moved()).collect();
+    let width = results
+        .iter()
+        .map(|c| c.name.chars().count())
+        .max()
+        .unwrap_or(0);
+    if !results.is_empty() {
+        let _ = writeln!(out, "\nResults");
+        for cell in results {
+            let why = match cell.kind {
+                CellChangeKind::ResultOnly if !cell.moved_inputs.is_empty() => {
+                    format!("inputs moved: {}", cell.moved_inputs.join(", "))
+                }
+                CellChangeKind::ResultOnly => "inputs moved".to_string(),
+                _ => "definition changed".to_string(),
+            };
+            let dimension = if cell.dimension_changed {
+                "  DIMENSION CHANGED"
+            } else {
+                ""
+            };
+            let _ = writeln!(
+                out,
+                "  {:<width$}  {} → {}  {}{dimension}  ({why})",
+                cell.name,
+                shown(&cell.old_value),
+                shown(&cell.new_value),
+                percent(cell.change_percent)
+            );
+        }
+    }
+    if !diff.checks.is_empty() {
+        let _ = writeln!(out, "\nChecks");
+        for check in &diff.checks {
+            let status = |s: Option<&str>| s.unwrap_or("(none)").to_string();
+            let utilization =
+                |u: Option<f64>| u.map_or_else(|| "—".to_string(), crate::report::utilization_text);
+            let flag = if check.status_changed() {
+                "  STATUS CHANGED"
+            } else {
+                ""
+            };
+            let label = check
+                .label
+                .as_deref()
+                .map(|l| format!("  {l}"))
+                .unwrap_or_default();
+            let _ = writeln!(
+                out,
+                "  {}: {} → {}, utilization {} → {}{flag}{label}",
+                check.expression,
+                status(check.old_status),
+                status(check.new_status),
+                utilization(check.old_utilization),
+                utilization(check.new_utilization)
+            );
+        }
+    }
+    let n_status = diff.checks.iter().filter(|c| c.status_changed()).count();
+    let _ = writeln!(
+        out,
+        "\n{} added, {} removed, {} edited cells; {} results changed; {} unchanged; {} checks changed status",
+        diff.count(CellChangeKind::Added),
+        diff.count(CellChangeKind::Removed),
+        diff.count(CellChangeKind::Edited),
+        diff.cells
+            .iter()
+            .filter(|c| c.old_value.is_some()
+                && c.new_value.is_some()
+                && c.old_value != c.new_value)
+            .count(),
+        diff.n_unchanged,
+        n_status
+    );
+    out
+}
+
+#[derive(Serialize)]
+struct JsonDiff<'a> {
+    schema: &'static str,
+    old: JsonSide<'a>,
+    new: JsonSide<'a>,
+    same: bool,
+    cells: Vec<JsonCell<'a>>,
+    checks: Vec<JsonCheck<'a>>,
+    unchanged: usize,
+}
+
+#[derive(Serialize)]
+struct JsonSide<'a> {
+    file: &'a str,
+    revision: Option<&'a str>,
+    fingerprint: &'a str,
+}
+
+#[derive(Serialize)]
+struct JsonCell<'a> {
+    name: &'a str,
+    change: &'static str,
+    formula: Option<&'a Edit>,
+    unit: Option<&'a Edit>,
+    description: Option<&'a Edit>,
+    old: Option<JsonValue<'a>>,
+    new: Option<JsonValue<'a>>,
+    change_percent: Option<f64>,
+    dimension_changed: bool,
+    moved_inputs: &'a [String],
+}
+
+#[derive(Serialize)]
+struct JsonValue<'a> {
+    shown: String,
+    unit: &'a str,
+    si: f64,
+}
+
+#[derive(Serialize)]
+struct JsonCheck<'a> {
+    expression: &'a str,
+    label: Option<&'a str>,
+    old_status: Option<&'static str>,
+    new_status: Option<&'static str>,
+    status_changed: bool,
+    old_utilization: Option<f64>,
+    new_utilization: Option<f64>,
+}
+
+fn json_value(value: &Option<DiffValue>) -> Option<JsonValue<'_>> {
+    value.as_ref().map(|v| JsonValue {
+        shown: v.shown.number.clone(),
+        unit: &v.shown.unit,
+        si: v.si,
+    })
+}
+
+/// The diff as one JSON object (`heft-diff/1`).
+pub fn json(diff: &RevisionDiff, old_name: &str, new_name: &str) -> String {
+    let report = JsonDiff {
+        schema: SCHEMA,
+        old: JsonSide {
+            file: old_name,
+            revision: diff.old_revision.as_deref(),
+            fingerprint: &diff.old_fingerprint,
+        },
+        new: JsonSide {
+            file: new_name,
+            revision: diff.new_revision.as_deref(),
+            fingerprint: &diff.new_fingerprint,
+        },
+        same: diff.is_same(),
+        cells: diff
+            .cells
+            .iter()
+            .map(|cell| JsonCell {
+                name: &cell.name,
+                change: cell.kind.as_str(),
+                formula: cell.formula.as_ref(),
+                unit: cell.unit.as_ref(),
+                description: cell.description.as_ref(),
+                old: json_value(&cell.old_value),
+                new: json_value(&cell.new_value),
+                change_percent: cell.change_percent,
+                dimension_changed: cell.dimension_changed,
+                moved_inputs: &cell.moved_inputs,
+            })
+            .collect(),
+        checks: diff
+            .checks
+            .iter()
+            .map(|check| JsonCheck {
+                expression: &check.expression,
+                label: check.label.as_deref(),
+                old_status: check.old_status,
+                new_status: check.new_status,
+                status_changed: check.status_changed(),
+                old_utilization: check.old_utilization,
+                new_utilization: check.new_utilization,
+            })
+            .collect(),
+        unchanged: diff.n_unchanged,
+    };
+    let mut text = serde_json::to_string_pretty(&report)
+        .unwrap_or_else(|error| format!("{{\"error\": \"{error}\"}}"));
+    text.push('\n');
+    text
+}
