@@ -46,8 +46,9 @@ struct Check<'a> {
     utilization: Option<f64>,
 }
 
+/// A diagnostic as JSON (shared by `heft check` and `heft audit`).
 #[derive(Serialize)]
-struct JsonDiagnostic<'a> {
+pub(super) struct JsonDiagnostic<'a> {
     severity: &'static str,
     code: &'static str,
     line: usize,
@@ -124,7 +125,8 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
     text
 }
 
-fn diagnostic<'a>(
+/// A diagnostic with its line and column.
+pub(super) fn diagnostic<'a>(
     diagnostic: &'a Diagnostic,
     source: &str,
     lines: &LineIndex,
