@@ -105,7 +105,7 @@ fn broken_sheets_give_exactly_their_annotated_codes() {
 }
 
 #[test]
-fn every_code_is_exercised_by_a_corpus() {
+fn every_error_code_is_exercised_by_the_corpus() {
     let mut seen = std::collections::BTreeSet::new();
     // Lint codes are exercised by the audit corpus (tests/audit_corpus.rs).
     let mut paths = sheets_in("tests/sheets/err");
