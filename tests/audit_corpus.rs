@@ -151,7 +151,10 @@ fn every_lint_is_exercised_by_the_mistaken_sheets() {
         seen.extend(expected(&source).into_keys().map(|(_, code)| code));
     }
     for code in LINTS {
-        assert!(seen.contains(code.as_str()), "no mistaken sheet gives `{code}`");
+        assert!(
+            seen.contains(code.as_str()),
+            "no mistaken sheet gives `{code}`"
+        );
     }
 }
 

@@ -78,7 +78,9 @@ impl<'a> Context<'a> {
     /// The value of a cell, if it evaluated.
     pub fn value(&self, id: CellId) -> Option<Quantity> {
         let cell = self.evaluated.cell_at(id);
-        (cell.status == CellStatus::Ok).then_some(cell.value).flatten()
+        (cell.status == CellStatus::Ok)
+            .then_some(cell.value)
+            .flatten()
     }
 
     /// The dimension a cell's declared unit fixes.

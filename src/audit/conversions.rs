@@ -204,11 +204,17 @@ impl Builder<'_, '_> {
             let Some(def) = catalog().get(&factor.symbol) else {
                 continue;
             };
-            let index = match self.systems.iter().position(|s| s.system == def.system) {
+            // Seconds and radians belong to every system.
+            let system = if def.dimension == Dimension::TIME || def.dimension.is_dimensionless() {
+                UnitSystem::Shared
+            } else {
+                def.system
+            };
+            let index = match self.systems.iter().position(|s| s.system == system) {
                 Some(index) => index,
                 None => {
                     self.systems.push(SystemUse {
-                        system: def.system,
+                        system,
                         symbols: Vec::new(),
                         count: 0,
                     });
@@ -245,8 +251,11 @@ impl Builder<'_, '_> {
             for (span, value, number_span, unit) in found {
                 self.note_system(unit);
                 let text = context.text(unit.span);
-                let symbols: Vec<(&str, i32)> =
-                    unit.factors.iter().map(|f| (&*f.symbol, f.exponent)).collect();
+                let symbols: Vec<(&str, i32)> = unit
+                    .factors
+                    .iter()
+                    .map(|f| (&*f.symbol, f.exponent))
+                    .collect();
                 let Some(facts) = self.facts(text, &symbols) else {
                     continue;
                 };
@@ -288,8 +297,11 @@ impl Builder<'_, '_> {
             let Ok(unit) = crate::syntax::parse_unit(text) else {
                 continue;
             };
-            let symbols: Vec<(&str, i32)> =
-                unit.factors.iter().map(|f| (&*f.symbol, f.exponent)).collect();
+            let symbols: Vec<(&str, i32)> = unit
+                .factors
+                .iter()
+                .map(|f| (&*f.symbol, f.exponent))
+                .collect();
             let Some(facts) = self.facts(text, &symbols) else {
                 continue;
             };
@@ -338,7 +350,9 @@ impl Builder<'_, '_> {
             entry.typed_factor = Some(used.value);
             entry.exactness = Exactness::Rounded;
             entry.relative_error = Some((used.value - exact) / exact);
-            entry.definitions.insert(0, format!("{} ({})", factor.exact_words, factor.converts));
+            entry
+                .definitions
+                .insert(0, format!("{} ({})", factor.exact_words, factor.converts));
             self.conversions.push(entry);
         }
     }
@@ -423,17 +437,14 @@ pub(super) fn si_unit_text(dimension: Dimension) -> String {
         (Dimension::POWER, "W"),
         (Dimension::FREQUENCY, "1/s"),
     ];
-    NAMED
-        .iter()
-        .find(|(d, _)| *d == dimension)
-        .map_or_else(
-            || {
-                if dimension.is_dimensionless() {
-                    String::new()
-                } else {
-                    dimension.si_units()
-                }
-            },
-            |(_, text)| (*text).to_string(),
-        )
+    NAMED.iter().find(|(d, _)| *d == dimension).map_or_else(
+        || {
+            if dimension.is_dimensionless() {
+                String::new()
+            } else {
+                dimension.si_units()
+            }
+        },
+        |(_, text)| (*text).to_string(),
+    )
 }

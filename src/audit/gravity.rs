@@ -93,71 +93,86 @@ const NEAR_G: std::ops::RangeInclusive<f64> = 9.7..=9.9;
 
 /// Every gravity value the sheet uses, one entry per distinct way of
 /// writing it, in order of first appearance.
-pub(super) fn collect(context: &Context<'_>, hand_factors: &[HandFactorUse<'_>]) -> Vec<GravityUse> {
+pub(super) fn collect(
+    context: &Context<'_>,
+    hand_factors: &[HandFactorUse<'_>],
+) -> Vec<GravityUse> {
     let mut uses: Vec<GravityUse> = Vec::new();
-    let mut add = |span: Span, kind, written: &str, si: f64, typed: Option<Typed>| {
-        match uses
-            .iter_mut()
-            .find(|known| known.kind == kind && known.written == written)
-        {
-            Some(known) => {
-                known.count += 1;
-                if span.start() < known.span.start() {
-                    known.span = span;
-                }
+    let mut add = |span: Span, kind, written: &str, si: f64, typed: Option<Typed>| match uses
+        .iter_mut()
+        .find(|known| known.kind == kind && known.written == written)
+    {
+        Some(known) => {
+            known.count += 1;
+            if span.start() < known.span.start() {
+                known.span = span;
             }
-            None => uses.push(GravityUse {
-                span,
-                kind,
-                written: written.to_string(),
-                si,
-                typed,
-                count: 1,
-            }),
         }
+        None => uses.push(GravityUse {
+            span,
+            kind,
+            written: written.to_string(),
+            si,
+            typed,
+            count: 1,
+        }),
     };
     let g0_index = units::CONSTANTS.iter().position(|c| c.name == "g0");
     let sheet = context.sheet;
     for id in 0..sheet.cells.len() {
         let cell = sheet.cell(id);
-        let is_gravity_cell = is_gravity_name(&cell.name.text, cell.description.as_ref().map(|d| d.text.as_str()));
+        let is_gravity_cell = is_gravity_name(
+            &cell.name.text,
+            cell.description.as_ref().map(|d| d.text.as_str()),
+        );
         if is_gravity_cell
             && let Some(value) = context.value(id)
             && value.dimension == Dimension::ACCELERATION
         {
             let typed = match &cell.expr.kind {
-                ExprKind::Quantity { value, unit, .. } => context.resolve(unit).map(|resolved| Typed {
-                    value: *value,
-                    unit: context.text(unit.span).to_string(),
-                    unit_si_factor: resolved.si_factor,
-                }),
+                ExprKind::Quantity { value, unit, .. } => {
+                    context.resolve(unit).map(|resolved| Typed {
+                        value: *value,
+                        unit: context.text(unit.span).to_string(),
+                        unit_si_factor: resolved.si_factor,
+                    })
+                }
                 _ => None,
             };
             let written = format!("{} = {}", cell.name.text, context.text(cell.expr.span));
-            add(cell.name.span, GravityKind::Cell, &written, value.si, typed);
+            add(
+                cell.name.span.to(cell.expr.span),
+                GravityKind::Cell,
+                &written,
+                value.si,
+                typed,
+            );
         }
-        if let Some(unit) = &cell.unit
-            && unit.factors.iter().any(|f| GRAVITATIONAL_UNITS.contains(&&*f.symbol))
-        {
+        if let Some(unit) = &cell.unit {
             add_unit(&mut add, context, unit);
         }
     }
     for (owner, root) in context.expressions() {
-        let whole_input = matches!(owner, Owner::Cell(_)) && matches!(root.kind, ExprKind::Quantity { .. });
+        let whole_input =
+            matches!(owner, Owner::Cell(_)) && matches!(root.kind, ExprKind::Quantity { .. });
         root.walk(&mut |node| match &node.kind {
-            ExprKind::Name(name) => {
-                if g0_index.is_some_and(|index| name.target == Target::Constant(index)) {
-                    add(node.span, GravityKind::BuiltIn, "g0", STANDARD_GRAVITY, None);
-                }
+            ExprKind::Name(name)
+                if g0_index.is_some_and(|index| name.target == Target::Constant(index)) =>
+            {
+                add(
+                    node.span,
+                    GravityKind::BuiltIn,
+                    "g0",
+                    STANDARD_GRAVITY,
+                    None,
+                );
             }
             ExprKind::Quantity {
                 value,
                 number_span,
                 unit,
             } => {
-                if unit.factors.iter().any(|f| GRAVITATIONAL_UNITS.contains(&&*f.symbol)) {
-                    add_unit(&mut add, context, unit);
-                }
+                add_unit(&mut add, context, unit);
                 if whole_input {
                     return;
                 }
@@ -180,18 +195,18 @@ pub(super) fn collect(context: &Context<'_>, hand_factors: &[HandFactorUse<'_>])
                     );
                 }
             }
-            ExprKind::UnitValue(unit) => {
-                if unit.factors.iter().any(|f| GRAVITATIONAL_UNITS.contains(&&*f.symbol)) {
-                    add_unit(&mut add, context, unit);
-                }
-            }
+            ExprKind::UnitValue(unit) => add_unit(&mut add, context, unit),
             _ => {}
         });
     }
     for used in hand_factors.iter().filter(|used| used.factor.is_gravity()) {
         // The factor is g0 in the unit the number stands for.
         let unit_si_factor = STANDARD_GRAVITY / used.factor.exact().to_f64();
-        let unit = if unit_si_factor == 1.0 { "m/s^2" } else { "ft/s^2" };
+        let unit = if unit_si_factor == 1.0 {
+            "m/s^2"
+        } else {
+            "ft/s^2"
+        };
         add(
             used.number.span,
             GravityKind::BareNumber,
@@ -208,6 +223,7 @@ pub(super) fn collect(context: &Context<'_>, hand_factors: &[HandFactorUse<'_>])
     uses
 }
 
+/// Adds each symbol of `unit` that is defined with standard gravity.
 fn add_unit(
     add: &mut impl FnMut(Span, GravityKind, &str, f64, Option<Typed>),
     context: &Context<'_>,

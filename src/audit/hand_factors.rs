@@ -275,8 +275,7 @@ pub(super) fn find<'a>(context: &Context<'a>) -> Vec<HandFactorUse<'a>> {
                 };
                 let units_present = units_around(context, owner, other);
                 if factor.needs_unit_evidence
-                    && !units_present
-                        .is_some_and(|(_, from, _, to)| ratio_is(from / to, value))
+                    && !units_present.is_some_and(|(_, from, _, to)| ratio_is(from / to, value))
                 {
                     continue;
                 }

@@ -148,7 +148,10 @@ fn mass_weight_mixup(
             }
         ),
         None => {
-            let fix = if matches!(cell.expr.kind, ExprKind::Name(_) | ExprKind::Quantity { .. }) {
+            let fix = if matches!(
+                cell.expr.kind,
+                ExprKind::Name(_) | ExprKind::Quantity { .. }
+            ) {
                 format!("{formula} {operation}")
             } else {
                 format!("({formula}) {operation}")
@@ -162,9 +165,10 @@ fn mass_weight_mixup(
     let mut diagnostic =
         Diagnostic::warning(Code::MassWeightMixup, cell.expr.span, message).with_help(help);
     diagnostic = match (evidence, &cell.description) {
-        (Evidence::Description, Some(description)) => {
-            diagnostic.with_label(description.span, format!("described as {}", role.describe()))
-        }
+        (Evidence::Description, Some(description)) => diagnostic.with_label(
+            description.span,
+            format!("described as {}", role.describe()),
+        ),
         _ => diagnostic.with_label(cell.name.span, format!("named as {}", role.describe())),
     };
     diagnostic
@@ -201,7 +205,11 @@ fn hand_conversion_factor(context: &Context<'_>, used: &HandFactorUse<'_>) -> Di
         Repair::Remove => splice(context, used.root, used.operation.span, other),
         Repair::UseG0 => splice(context, used.root, used.number.span, "g0"),
         Repair::InverseG0 => {
-            let inverse = if used.op == BinaryOp::Multiply { "/" } else { "*" };
+            let inverse = if used.op == BinaryOp::Multiply {
+                "/"
+            } else {
+                "*"
+            };
             splice(
                 context,
                 used.root,
@@ -249,8 +257,7 @@ fn hand_conversion_factor(context: &Context<'_>, used: &HandFactorUse<'_>) -> Di
     };
     let looks_like = format!(
         "`{number}` looks like {} typed by hand ({}{accuracy})",
-        factor.converts,
-        factor.exact_words
+        factor.converts, factor.exact_words
     );
     let scale = if used.op == BinaryOp::Multiply {
         used.value
@@ -263,7 +270,10 @@ fn hand_conversion_factor(context: &Context<'_>, used: &HandFactorUse<'_>) -> Di
         format!("{}× too small", format_significant(1.0 / scale, 6))
     };
     let wanted = |value: Option<Quantity>| {
-        value.map_or_else(|| "what the formula needs".to_string(), |v| v.dimension.describe())
+        value.map_or_else(
+            || "what the formula needs".to_string(),
+            |v| v.dimension.describe(),
+        )
     };
     let explanation = match repair {
         Repair::Remove => {
@@ -380,9 +390,11 @@ fn gravity_inconsistent(context: &Context<'_>, all_uses: &[GravityUse]) -> Optio
     let flagged = *uses
         .iter()
         .find(|used| !same_value(used.si, distinct[reference].si))?;
-    let (min, max) = distinct.iter().fold((f64::MAX, f64::MIN), |(lo, hi), used| {
-        (lo.min(used.si), hi.max(used.si))
-    });
+    let (min, max) = distinct
+        .iter()
+        .fold((f64::MAX, f64::MIN), |(lo, hi), used| {
+            (lo.min(used.si), hi.max(used.si))
+        });
     let spread = (max - min) / min;
     let list: Vec<String> = distinct
         .iter()
@@ -392,7 +404,11 @@ fn gravity_inconsistent(context: &Context<'_>, all_uses: &[GravityUse]) -> Optio
                 .filter(|other| same_value(other.si, used.si))
                 .map(|other| describe_use(context, other))
                 .collect();
-            format!("{} m/s² ({})", format_significant(used.si, 6), all_ways.join(", "))
+            format!(
+                "{} m/s² ({})",
+                format_significant(used.si, 6),
+                all_ways.join(", ")
+            )
         })
         .collect();
     let mut diagnostic = Diagnostic::warning(
@@ -436,10 +452,12 @@ pub(super) fn rounded_decimals(typed: f64, exact: f64) -> Option<u32> {
     if same_value(typed, exact) {
         return None;
     }
-    (0..=6).find(|&decimals| {
-        let scale = 10f64.powi(decimals);
-        same_value((exact * scale).round() / scale, typed)
-    }).map(|decimals| decimals as u32)
+    (0..=6)
+        .find(|&decimals| {
+            let scale = 10f64.powi(decimals);
+            same_value((exact * scale).round() / scale, typed)
+        })
+        .map(|decimals| decimals as u32)
 }
 
 fn rounded_gravity(uses: &[GravityUse], findings: &mut Vec<Diagnostic>) {
@@ -622,7 +640,8 @@ fn shadowed_constants(context: &Context<'_>, findings: &mut Vec<Diagnostic>) {
                 )
             }
         });
-        let same = value.is_some_and(|v| v.dimension == builtin.dimension && same_value(v.si, builtin.si));
+        let same =
+            value.is_some_and(|v| v.dimension == builtin.dimension && same_value(v.si, builtin.si));
         let builtin_text = if builtin.dimension.is_dimensionless() {
             format_significant(builtin.si, 10)
         } else {

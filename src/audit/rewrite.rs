@@ -11,7 +11,11 @@ use crate::units::Quantity;
 
 /// The value of `formula` (heft expression text) where `owner` stands, or
 /// `None` if a cell it needs has no value or the formula fails.
-pub(super) fn evaluate_rewritten(context: &Context<'_>, owner: Owner, formula: &str) -> Option<Quantity> {
+pub(super) fn evaluate_rewritten(
+    context: &Context<'_>,
+    owner: Owner,
+    formula: &str,
+) -> Option<Quantity> {
     let mut sheet = String::new();
     let mut needed: Vec<usize> = context.uses(owner).to_vec();
     // A cell named like a constant shadows it in the sheet; keep that so.
@@ -38,5 +42,7 @@ pub(super) fn evaluate_rewritten(context: &Context<'_>, owner: Owner, formula: &
     let _ = writeln!(sheet, "{result_name} = {formula}");
     let evaluated = evaluate_source(&sheet);
     let cell = evaluated.cell(&result_name)?;
-    (cell.status == CellStatus::Ok).then_some(cell.value).flatten()
+    (cell.status == CellStatus::Ok)
+        .then_some(cell.value)
+        .flatten()
 }

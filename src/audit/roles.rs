@@ -101,7 +101,10 @@ mod tests {
     #[test]
     fn names_follow_the_usual_conventions() {
         assert_eq!(role_of("m", None), Some((Role::Mass, Evidence::NamePrefix)));
-        assert_eq!(role_of("m_skid", Some("weight block")).map(|r| r.0), Some(Role::Mass));
+        assert_eq!(
+            role_of("m_skid", Some("weight block")).map(|r| r.0),
+            Some(Role::Mass)
+        );
         assert_eq!(role_of("m2", None).map(|r| r.0), Some(Role::Mass));
         assert_eq!(role_of("W_A", None).map(|r| r.0), Some(Role::Force));
         assert_eq!(role_of("T_up", None).map(|r| r.0), Some(Role::Force));

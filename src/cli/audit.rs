@@ -127,7 +127,7 @@ fn text_report(
     } else {
         let _ = writeln!(
             out,
-            "  {:<8} {:<8} {:<12} {:<18} {:<22} {:<40} factor",
+            "  {:<8} {:<8} {:<12} {:<18} {:<22} {:<40} status, source",
             "line:col", "kind", "where", "as written", "SI value", "1 unit in SI"
         );
     }
@@ -137,10 +137,13 @@ fn text_report(
             .sources
             .iter()
             .map(|s| {
-                let index = sources.iter().position(|known| known == s).unwrap_or_else(|| {
-                    sources.push(s);
-                    sources.len() - 1
-                });
+                let index = sources
+                    .iter()
+                    .position(|known| known == s)
+                    .unwrap_or_else(|| {
+                        sources.push(s);
+                        sources.len() - 1
+                    });
                 format!("[{}]", index + 1)
             })
             .collect();
