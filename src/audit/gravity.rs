@@ -5,8 +5,9 @@
 
 use super::context::{Context, Owner};
 use super::hand_factors::HandFactorUse;
+use crate::sheet::CellId;
 use crate::syntax::Span;
-use crate::syntax::ast::{ExprKind, Target};
+use crate::syntax::ast::{Expr, ExprKind, Target, UnitExpr};
 use crate::units::{self, Dimension, STANDARD_GRAVITY};
 
 /// How a gravity value enters the sheet.
@@ -97,69 +98,102 @@ pub(super) fn collect(
     context: &Context<'_>,
     hand_factors: &[HandFactorUse<'_>],
 ) -> Vec<GravityUse> {
-    let mut uses: Vec<GravityUse> = Vec::new();
-    let mut add = |span: Span, kind, written: &str, si: f64, typed: Option<Typed>| match uses
-        .iter_mut()
-        .find(|known| known.kind == kind && known.written == written)
-    {
-        Some(known) => {
-            known.count += 1;
-            if span.start() < known.span.start() {
-                known.span = span;
-            }
-        }
-        None => uses.push(GravityUse {
-            span,
-            kind,
-            written: written.to_string(),
-            si,
-            typed,
-            count: 1,
-        }),
-    };
-    let g0_index = units::CONSTANTS.iter().position(|c| c.name == "g0");
-    let sheet = context.sheet;
-    for id in 0..sheet.cells.len() {
-        let cell = sheet.cell(id);
-        let is_gravity_cell = is_gravity_name(
-            &cell.name.text,
-            cell.description.as_ref().map(|d| d.text.as_str()),
-        );
-        if is_gravity_cell
-            && let Some(value) = context.value(id)
-            && value.dimension == Dimension::ACCELERATION
-        {
-            let typed = match &cell.expr.kind {
-                ExprKind::Quantity { value, unit, .. } => {
-                    context.resolve(unit).map(|resolved| Typed {
-                        value: *value,
-                        unit: context.text(unit.span).to_string(),
-                        unit_si_factor: resolved.si_factor,
-                    })
-                }
-                _ => None,
-            };
-            let written = format!("{} = {}", cell.name.text, context.text(cell.expr.span));
-            add(
-                cell.name.span.to(cell.expr.span),
-                GravityKind::Cell,
-                &written,
-                value.si,
-                typed,
-            );
-        }
-        if let Some(unit) = &cell.unit {
-            add_unit(&mut add, context, unit);
-        }
+    let mut collector = Collector::new();
+    for id in 0..context.sheet.cells.len() {
+        collector.visit_cell(context, id);
     }
     for (owner, root) in context.expressions() {
-        let whole_input =
-            matches!(owner, Owner::Cell(_)) && matches!(root.kind, ExprKind::Quantity { .. });
-        root.walk(&mut |node| match &node.kind {
-            ExprKind::Name(name)
-                if g0_index.is_some_and(|index| name.target == Target::Constant(index)) =>
-            {
-                add(
+        let whole_input = is_whole_input(owner, root);
+        root.walk(&mut |node| collector.visit_node(context, whole_input, node));
+    }
+    collector.finish(context, hand_factors)
+}
+
+/// Whether `root` is the whole formula of an input cell (`g = 9.81 m/s^2`):
+/// such a literal is the cell's value, judged with the cell.
+pub(super) fn is_whole_input(owner: Owner, root: &Expr) -> bool {
+    matches!(owner, Owner::Cell(_)) && matches!(root.kind, ExprKind::Quantity { .. })
+}
+
+/// Gathers gravity values from cells and expression nodes, so the lints can
+/// do it in the same walk as everything else.
+pub(super) struct Collector {
+    uses: Vec<GravityUse>,
+    /// Where `g0` is among the built-in constants.
+    g0: Option<usize>,
+}
+
+impl Collector {
+    /// An empty collector.
+    pub fn new() -> Self {
+        Collector {
+            uses: Vec::new(),
+            g0: units::CONSTANTS.iter().position(|c| c.name == "g0"),
+        }
+    }
+
+    fn add(&mut self, span: Span, kind: GravityKind, written: &str, si: f64, typed: Option<Typed>) {
+        match self
+            .uses
+            .iter_mut()
+            .find(|known| known.kind == kind && known.written == written)
+        {
+            Some(known) => {
+                known.count += 1;
+                if span.start() < known.span.start() {
+                    known.span = span;
+                }
+            }
+            None => self.uses.push(GravityUse {
+                span,
+                kind,
+                written: written.to_string(),
+                si,
+                typed,
+                count: 1,
+            }),
+        }
+    }
+
+    /// A cell that holds a gravity, and a declared unit defined with g0.
+    pub fn visit_cell(&mut self, context: &Context<'_>, id: CellId) {
+        let cell = context.sheet.cell(id);
+        if let Some(unit) = &cell.unit {
+            self.add_unit(context, unit);
+        }
+        let description = cell.description.as_ref().map(|d| d.text.as_str());
+        if !is_gravity_name(&cell.name.text, description) {
+            return;
+        }
+        let Some(value) = context.value(id) else {
+            return;
+        };
+        if value.dimension != Dimension::ACCELERATION {
+            return;
+        }
+        let typed = match &cell.expr.kind {
+            ExprKind::Quantity { value, unit, .. } => context.resolve(unit).map(|resolved| Typed {
+                value: *value,
+                unit: context.text(unit.span).to_string(),
+                unit_si_factor: resolved.si_factor,
+            }),
+            _ => None,
+        };
+        let written = format!("{} = {}", cell.name.text, context.text(cell.expr.span));
+        self.add(
+            cell.name.span.to(cell.expr.span),
+            GravityKind::Cell,
+            &written,
+            value.si,
+            typed,
+        );
+    }
+
+    /// `g0`, a unit defined with g0, or an acceleration literal near g.
+    pub fn visit_node(&mut self, context: &Context<'_>, whole_input: bool, node: &Expr) {
+        match &node.kind {
+            ExprKind::Name(name) if self.g0.map(Target::Constant) == Some(name.target) => {
+                self.add(
                     node.span,
                     GravityKind::BuiltIn,
                     "g0",
@@ -172,7 +206,7 @@ pub(super) fn collect(
                 number_span,
                 unit,
             } => {
-                add_unit(&mut add, context, unit);
+                self.add_unit(context, unit);
                 if whole_input {
                     return;
                 }
@@ -182,7 +216,7 @@ pub(super) fn collect(
                 {
                     // Not the node's span: a bracketed literal's span includes the brackets.
                     let span = number_span.to(unit.span);
-                    add(
+                    self.add(
                         span,
                         GravityKind::Literal,
                         context.text(span),
@@ -195,49 +229,54 @@ pub(super) fn collect(
                     );
                 }
             }
-            ExprKind::UnitValue(unit) => add_unit(&mut add, context, unit),
+            ExprKind::UnitValue(unit) => self.add_unit(context, unit),
             _ => {}
-        });
+        }
     }
-    for used in hand_factors.iter().filter(|used| used.factor.is_gravity()) {
-        // The factor is g0 in the unit the number stands for.
-        let unit_si_factor = STANDARD_GRAVITY / used.factor.exact().to_f64();
-        let unit = if unit_si_factor == 1.0 {
-            "m/s^2"
-        } else {
-            "ft/s^2"
-        };
-        add(
-            used.number.span,
-            GravityKind::BareNumber,
-            context.text(used.number.span),
-            used.value * unit_si_factor,
-            Some(Typed {
-                value: used.value,
-                unit: unit.to_string(),
-                unit_si_factor,
-            }),
-        );
-    }
-    uses.sort_by_key(|used| used.span.start());
-    uses
-}
 
-/// Adds each symbol of `unit` that is defined with standard gravity.
-fn add_unit(
-    add: &mut impl FnMut(Span, GravityKind, &str, f64, Option<Typed>),
-    context: &Context<'_>,
-    unit: &crate::syntax::ast::UnitExpr,
-) {
-    for factor in &unit.factors {
-        if GRAVITATIONAL_UNITS.contains(&&*factor.symbol) {
-            add(
-                factor.span,
-                GravityKind::GravitationalUnit,
-                context.text(factor.span),
-                STANDARD_GRAVITY,
-                None,
+    /// The uses, with the bare numbers the hand-factor lint found, in order
+    /// of first appearance.
+    pub fn finish(
+        mut self,
+        context: &Context<'_>,
+        hand_factors: &[HandFactorUse<'_>],
+    ) -> Vec<GravityUse> {
+        for used in hand_factors.iter().filter(|used| used.factor.is_gravity()) {
+            // The factor is g0 in the unit the number stands for.
+            let unit_si_factor = STANDARD_GRAVITY / used.factor.exact().to_f64();
+            let unit = if unit_si_factor == 1.0 {
+                "m/s^2"
+            } else {
+                "ft/s^2"
+            };
+            self.add(
+                used.number.span,
+                GravityKind::BareNumber,
+                context.text(used.number.span),
+                used.value * unit_si_factor,
+                Some(Typed {
+                    value: used.value,
+                    unit: unit.to_string(),
+                    unit_si_factor,
+                }),
             );
+        }
+        self.uses.sort_by_key(|used| used.span.start());
+        self.uses
+    }
+
+    /// Adds each symbol of `unit` that is defined with standard gravity.
+    fn add_unit(&mut self, context: &Context<'_>, unit: &UnitExpr) {
+        for factor in &unit.factors {
+            if GRAVITATIONAL_UNITS.contains(&&*factor.symbol) {
+                self.add(
+                    factor.span,
+                    GravityKind::GravitationalUnit,
+                    context.text(factor.span),
+                    STANDARD_GRAVITY,
+                    None,
+                );
+            }
         }
     }
 }

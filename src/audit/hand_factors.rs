@@ -257,43 +257,52 @@ pub(super) struct HandFactorUse<'a> {
 pub(super) fn find<'a>(context: &Context<'a>) -> Vec<HandFactorUse<'a>> {
     let mut found = Vec::new();
     for (owner, root) in context.expressions() {
-        root.walk(&mut |node| {
-            let ExprKind::Binary { op, lhs, rhs } = &node.kind else {
-                return;
-            };
-            let candidates: &[(&Expr, &Expr)] = match op {
-                BinaryOp::Multiply => &[(lhs, rhs), (rhs, lhs)],
-                BinaryOp::Divide => &[(rhs, lhs)],
-                _ => &[],
-            };
-            for &(number, other) in candidates {
-                let ExprKind::Number(value) = number.kind else {
-                    continue;
-                };
-                let Some(factor) = matching(value) else {
-                    continue;
-                };
-                let units_present = units_around(context, owner, other);
-                if factor.needs_unit_evidence
-                    && !units_present.is_some_and(|(_, from, _, to)| ratio_is(from / to, value))
-                {
-                    continue;
-                }
-                found.push(HandFactorUse {
-                    factor,
-                    number,
-                    value,
-                    operation: node,
-                    other,
-                    op: *op,
-                    owner,
-                    root,
-                    units_present: units_present.map(|(from, _, to, _)| (from, to)),
-                });
-            }
-        });
+        root.walk(&mut |node| visit(context, owner, root, node, &mut found));
     }
     found
+}
+
+/// Adds the hand-typed factor `node` multiplies or divides by, if any.
+pub(super) fn visit<'a>(
+    context: &Context<'a>,
+    owner: Owner,
+    root: &'a Expr,
+    node: &'a Expr,
+    found: &mut Vec<HandFactorUse<'a>>,
+) {
+    let ExprKind::Binary { op, lhs, rhs } = &node.kind else {
+        return;
+    };
+    let candidates: &[(&Expr, &Expr)] = match op {
+        BinaryOp::Multiply => &[(lhs, rhs), (rhs, lhs)],
+        BinaryOp::Divide => &[(rhs, lhs)],
+        _ => &[],
+    };
+    for &(number, other) in candidates {
+        let ExprKind::Number(value) = number.kind else {
+            continue;
+        };
+        let Some(factor) = matching(value) else {
+            continue;
+        };
+        let units_present = units_around(context, owner, other);
+        if factor.needs_unit_evidence
+            && !units_present.is_some_and(|(_, from, _, to)| ratio_is(from / to, value))
+        {
+            continue;
+        }
+        found.push(HandFactorUse {
+            factor,
+            number,
+            value,
+            operation: node,
+            other,
+            op: *op,
+            owner,
+            root,
+            units_present: units_present.map(|(from, _, to, _)| (from, to)),
+        });
+    }
 }
 
 /// Whether `ratio` is `factor` or its inverse, to rounding.

@@ -12,57 +12,72 @@ use crate::syntax::Span;
 use crate::syntax::ast::{BinaryOp, Expr, ExprKind};
 use crate::units::{self, Dimension, Quantity, STANDARD_GRAVITY, UnitSystem, format_significant};
 
-/// Runs every lint.
+/// Runs every lint: one walk over every formula and check, then one pass
+/// over the cells (a 100,000-cell sheet is read twice, not once per lint).
 pub(super) fn run(context: &Context<'_>) -> Vec<Diagnostic> {
-    let hand_factors = hand_factors::find(context);
-    let mut findings = Vec::new();
-    for used in &hand_factors {
-        findings.push(hand_conversion_factor(context, used));
+    let mut hand_factors = Vec::new();
+    let mut gravity = gravity::Collector::new();
+    let mut systems = SystemsSeen::default();
+    for (owner, root) in context.expressions() {
+        let whole_input = gravity::is_whole_input(owner, root);
+        root.walk(&mut |node| {
+            hand_factors::visit(context, owner, root, node, &mut hand_factors);
+            gravity.visit_node(context, whole_input, node);
+            systems.visit(context, node);
+        });
     }
-    mass_weight_mixups(context, &hand_factors, &mut findings);
-    let gravity = gravity::collect(context, &hand_factors);
+    let mut findings: Vec<Diagnostic> = hand_factors
+        .iter()
+        .map(|used| hand_conversion_factor(context, used))
+        .collect();
+    let mut used = vec![false; context.sheet.cells.len()];
+    for &id in context
+        .sheet
+        .uses
+        .iter()
+        .chain(&context.sheet.check_uses)
+        .flatten()
+    {
+        used[id] = true;
+    }
+    for (id, is_used) in used.into_iter().enumerate() {
+        gravity.visit_cell(context, id);
+        findings.extend(mass_weight_mixup_of(context, id, &hand_factors));
+        if !is_used {
+            findings.extend(unused_input(context, id));
+        }
+        findings.extend(shadowed_constant(context, id));
+    }
+    let gravity = gravity.finish(context, &hand_factors);
     findings.extend(gravity_inconsistent(context, &gravity));
     rounded_gravity(&gravity, &mut findings);
-    findings.extend(mixed_systems(context));
-    unused_inputs(context, &mut findings);
-    shadowed_constants(context, &mut findings);
+    findings.extend(systems.finish());
     findings
 }
 
 // ---------------------------------------------------------------------------
 // mass-weight-mixup
 
-/// Cells named or described as a mass that hold a force, and the reverse.
+/// A cell named or described as a mass that holds a force, or the reverse.
 /// A cell whose formula has a hand-typed factor is left to that lint, whose
 /// fix already aims at the right dimension.
-fn mass_weight_mixups(
+fn mass_weight_mixup_of(
     context: &Context<'_>,
+    id: usize,
     hand_factors: &[HandFactorUse<'_>],
-    findings: &mut Vec<Diagnostic>,
-) {
-    let sheet = context.sheet;
-    for id in 0..sheet.cells.len() {
-        let cell = sheet.cell(id);
-        let description = cell.description.as_ref().map(|d| d.text.as_str());
-        let Some((role, evidence)) = role_of(&cell.name.text, description) else {
-            continue;
-        };
-        let Some(value) = context.value(id) else {
-            continue;
-        };
-        let wrong = match role {
-            Role::Mass => value.dimension == Dimension::FORCE,
-            Role::Force => value.dimension == Dimension::MASS,
-        };
-        if !wrong
-            || hand_factors
-                .iter()
-                .any(|used| used.owner == Owner::Cell(id))
-        {
-            continue;
-        }
-        findings.push(mass_weight_mixup(context, id, role, evidence, value));
-    }
+) -> Option<Diagnostic> {
+    let cell = context.sheet.cell(id);
+    let description = cell.description.as_ref().map(|d| d.text.as_str());
+    let (role, evidence) = role_of(&cell.name.text, description)?;
+    let value = context.value(id)?;
+    let wrong = match role {
+        Role::Mass => value.dimension == Dimension::FORCE,
+        Role::Force => value.dimension == Dimension::MASS,
+    };
+    let left_to_hand_factor = hand_factors
+        .iter()
+        .any(|used| used.owner == Owner::Cell(id));
+    (wrong && !left_to_hand_factor).then(|| mass_weight_mixup(context, id, role, evidence, value))
 }
 
 /// Gravitational counterparts: a mass unit and the force unit that is its weight.
@@ -502,94 +517,103 @@ fn rounded_gravity(uses: &[GravityUse], findings: &mut Vec<Diagnostic>) {
 // ---------------------------------------------------------------------------
 // mixed-systems
 
-fn mixed_systems(context: &Context<'_>) -> Option<Diagnostic> {
-    // (first span, symbols in order) for SI (with accepted metric units) and US customary.
-    let mut si: Option<(Span, Vec<&str>)> = None;
-    let mut us: Option<(Span, Vec<&str>)> = None;
-    let mut n_quantities = 0usize;
-    let catalog = units::catalog();
-    for (_, root) in context.expressions() {
-        root.walk(&mut |node| {
-            let (ExprKind::Quantity { unit, .. } | ExprKind::UnitValue(unit)) = &node.kind else {
-                return;
+/// The units written in the sheet's quantities, by system.
+#[derive(Default)]
+struct SystemsSeen<'a> {
+    /// SI and the metric units accepted with it: the first place, and the symbols.
+    si: Option<(Span, Vec<&'a str>)>,
+    /// US customary.
+    us: Option<(Span, Vec<&'a str>)>,
+    n_quantities: usize,
+}
+
+impl<'a> SystemsSeen<'a> {
+    fn visit(&mut self, context: &Context<'a>, node: &'a Expr) {
+        let (ExprKind::Quantity { unit, .. } | ExprKind::UnitValue(unit)) = &node.kind else {
+            return;
+        };
+        self.n_quantities += 1;
+        let catalog = units::catalog();
+        for factor in &unit.factors {
+            let Some(def) = catalog.get(&factor.symbol) else {
+                continue;
             };
-            n_quantities += 1;
-            for factor in &unit.factors {
-                let Some(def) = catalog.get(&factor.symbol) else {
-                    continue;
-                };
-                // Seconds and radians belong to both systems.
-                if def.dimension == Dimension::TIME || def.dimension.is_dimensionless() {
-                    continue;
-                }
-                let group = match def.system {
-                    UnitSystem::Si | UnitSystem::Metric => &mut si,
-                    UnitSystem::UsCustomary => &mut us,
-                    UnitSystem::Shared => continue,
-                };
-                let (_, symbols) = group.get_or_insert_with(|| (unit.span, Vec::new()));
-                if !symbols.contains(&&*factor.symbol) {
-                    symbols.push(&factor.symbol);
-                }
+            // Seconds and radians belong to both systems.
+            if def.dimension == Dimension::TIME || def.dimension.is_dimensionless() {
+                continue;
             }
-        });
+            let group = match def.system {
+                UnitSystem::Si | UnitSystem::Metric => &mut self.si,
+                UnitSystem::UsCustomary => &mut self.us,
+                UnitSystem::Shared => continue,
+            };
+            let (first, symbols) = group.get_or_insert_with(|| (unit.span, Vec::new()));
+            if unit.span.start() < first.start() {
+                *first = unit.span;
+            }
+            if !symbols.contains(&&*factor.symbol) {
+                symbols.push(context.text(factor.span));
+            }
+        }
     }
-    let ((si_span, si_symbols), (us_span, us_symbols)) = (si?, us?);
-    let (span, other) = if si_span.start() > us_span.start() {
-        (si_span, us_span)
-    } else {
-        (us_span, si_span)
-    };
-    Some(
-        Diagnostic::info(
-            Code::MixedSystems,
-            span,
-            format!(
-                "inputs are written in both SI units ({}) and US customary units ({}); heft converts them exactly",
-                si_symbols.join(", "),
-                us_symbols.join(", ")
-            ),
+
+    /// The `mixed-systems` finding, if both systems are written.
+    fn finish(self) -> Option<Diagnostic> {
+        let ((si_span, si_symbols), (us_span, us_symbols)) = (self.si?, self.us?);
+        let (span, other) = if si_span.start() > us_span.start() {
+            (si_span, us_span)
+        } else {
+            (us_span, si_span)
+        };
+        Some(
+            Diagnostic::info(
+                Code::MixedSystems,
+                span,
+                format!(
+                    "inputs are written in both SI units ({}) and US customary units ({}); heft converts them exactly",
+                    si_symbols.join(", "),
+                    us_symbols.join(", ")
+                ),
+            )
+            .with_label(other, "first unit of the other system")
+            .with_help(format!(
+                "nothing to change if intended: `heft audit` lists each of the {} quantities written in the sheet with its exact factor and source for the checker",
+                self.n_quantities
+            )),
         )
-        .with_label(other, "first unit of the other system")
-        .with_help(format!(
-            "nothing to change if intended: `heft audit` lists each of the {n_quantities} quantities written in the sheet with its exact factor and source for the checker"
-        )),
-    )
+    }
 }
 
 // ---------------------------------------------------------------------------
 // unused-input, shadowed-constant
 
-fn unused_inputs(context: &Context<'_>, findings: &mut Vec<Diagnostic>) {
-    let sheet = context.sheet;
-    let mut used = vec![false; sheet.cells.len()];
-    for &id in sheet.uses.iter().chain(&sheet.check_uses).flatten() {
-        used[id] = true;
+/// An input (a number or quantity as written) that nothing uses.
+fn unused_input(context: &Context<'_>, id: usize) -> Option<Diagnostic> {
+    let name = &context.sheet.cell(id).name;
+    let expr = &context.sheet.cell(id).expr;
+    let literal = match &expr.kind {
+        ExprKind::Negate(inner) => &inner.kind,
+        kind => kind,
+    };
+    if !matches!(literal, ExprKind::Number(_) | ExprKind::Quantity { .. }) {
+        return None;
     }
-    for (id, cell) in context.evaluated.cells().enumerate() {
-        if used[id] || !cell.is_input {
-            continue;
-        }
-        let Some(value) = context.value(id) else {
-            continue;
-        };
-        let name = &sheet.cell(id).name;
-        findings.push(
-            Diagnostic::info(
-                Code::UnusedInput,
-                name.span,
-                format!(
-                    "`{}` = {} is an input that no formula or check uses",
-                    name.text,
-                    context.show_for(Owner::Cell(id), value)
-                ),
-            )
-            .with_help(format!(
-                "use it where it belongs, or delete line {} if it is left over; a value kept only for the record reads better as a note (`> …`)",
-                cell.line
-            )),
-        );
-    }
+    let value = context.value(id)?;
+    let line = context.evaluated.lines.line_of(name.span.start()) + 1;
+    Some(
+        Diagnostic::info(
+            Code::UnusedInput,
+            name.span,
+            format!(
+                "`{}` = {} is an input that no formula or check uses",
+                name.text,
+                context.show_for(Owner::Cell(id), value)
+            ),
+        )
+        .with_help(format!(
+            "use it where it belongs, or delete line {line} if it is left over; a value kept only for the record reads better as a note (`> …`)"
+        )),
+    )
 }
 
 /// Names a user might give a built-in constant: (alias, constant).
@@ -603,76 +627,72 @@ const ALIASES: &[(&str, &str)] = &[
     ("gn", "g0"),
 ];
 
-fn shadowed_constants(context: &Context<'_>, findings: &mut Vec<Diagnostic>) {
+/// A cell named like a built-in constant.
+fn shadowed_constant(context: &Context<'_>, id: usize) -> Option<Diagnostic> {
     let sheet = context.sheet;
-    for id in 0..sheet.cells.len() {
-        let name = &sheet.cell(id).name;
-        let (constant, exact_name) = match units::constant(&name.text) {
-            Some(constant) => (constant, true),
-            None => match ALIASES.iter().find(|(alias, _)| *alias == name.text) {
-                Some((_, meant)) => match units::constant(meant) {
-                    Some(constant) => (constant, false),
-                    None => continue,
-                },
-                None => continue,
-            },
-        };
-        let value = context.value(id);
-        let builtin = constant.value;
-        // An input shows as typed: 3.1416 must not read as 3.142.
-        let shown = |v: Quantity| {
-            let cell = sheet.cell(id);
-            match cell.expr.kind {
-                ExprKind::Number(_) | ExprKind::Quantity { .. } => {
-                    context.text(cell.expr.span).to_string()
-                }
-                _ => context.show(v),
+    let name = &sheet.cell(id).name;
+    let (constant, exact_name) = match units::constant(&name.text) {
+        Some(constant) => (constant, true),
+        None => {
+            let (_, meant) = ALIASES.iter().find(|(alias, _)| *alias == name.text)?;
+            (units::constant(meant)?, false)
+        }
+    };
+    let value = context.value(id);
+    let builtin = constant.value;
+    // An input shows as typed: 3.1416 must not read as 3.142.
+    let shown = |v: Quantity| {
+        let cell = sheet.cell(id);
+        match cell.expr.kind {
+            ExprKind::Number(_) | ExprKind::Quantity { .. } => {
+                context.text(cell.expr.span).to_string()
             }
-        };
-        let differs = value.map(|v| {
-            if v.dimension != builtin.dimension {
-                format!("holds {} ({})", v.dimension.describe(), shown(v))
-            } else {
-                format!(
-                    "holds {}, {} from it",
-                    shown(v),
-                    percent((v.si - builtin.si) / builtin.si)
-                )
-            }
-        });
-        let same =
-            value.is_some_and(|v| v.dimension == builtin.dimension && same_value(v.si, builtin.si));
-        let builtin_text = if builtin.dimension.is_dimensionless() {
-            format_significant(builtin.si, 10)
-        } else {
-            format!("{} m/s²", format_significant(builtin.si, 10))
-        };
-        let message = if exact_name {
-            format!(
-                "`{}` is a built-in constant ({}); this cell replaces it in every formula of the sheet{}",
-                name.text,
-                constant.description,
-                differs
-                    .filter(|_| !same)
-                    .map(|d| format!(", and it {d}"))
-                    .unwrap_or_default()
-            )
-        } else if same {
-            continue;
+            _ => context.show(v),
+        }
+    };
+    let differs = value.map(|v| {
+        if v.dimension != builtin.dimension {
+            format!("holds {} ({})", v.dimension.describe(), shown(v))
         } else {
             format!(
-                "`{}` is named like the built-in `{}` ({}) but {}",
-                name.text,
-                constant.name,
-                constant.description,
-                differs.unwrap_or_else(|| "does not evaluate".to_string())
+                "holds {}, {} from it",
+                shown(v),
+                percent((v.si - builtin.si) / builtin.si)
             )
-        };
-        findings.push(
-            Diagnostic::warning(Code::ShadowedConstant, name.span, message).with_help(format!(
-                "use the built-in `{}` (= {builtin_text}), or rename the cell (for example `{}_site`) so the two cannot be confused",
-                constant.name, constant.name
-            )),
-        );
-    }
+        }
+    });
+    let same =
+        value.is_some_and(|v| v.dimension == builtin.dimension && same_value(v.si, builtin.si));
+    let builtin_text = if builtin.dimension.is_dimensionless() {
+        format_significant(builtin.si, 10)
+    } else {
+        format!("{} m/s²", format_significant(builtin.si, 10))
+    };
+    let message = if exact_name {
+        format!(
+            "`{}` is a built-in constant ({}); this cell replaces it in every formula of the sheet{}",
+            name.text,
+            constant.description,
+            differs
+                .filter(|_| !same)
+                .map(|d| format!(", and it {d}"))
+                .unwrap_or_default()
+        )
+    } else if same {
+        return None;
+    } else {
+        format!(
+            "`{}` is named like the built-in `{}` ({}) but {}",
+            name.text,
+            constant.name,
+            constant.description,
+            differs.unwrap_or_else(|| "does not evaluate".to_string())
+        )
+    };
+    Some(
+        Diagnostic::warning(Code::ShadowedConstant, name.span, message).with_help(format!(
+            "use the built-in `{}` (= {builtin_text}), or rename the cell (for example `{}_site`) so the two cannot be confused",
+            constant.name, constant.name
+        )),
+    )
 }
