@@ -245,3 +245,20 @@ fn the_lints_leave_evaluation_alone() {
     assert!(plain.diagnostics.is_empty());
     assert_eq!(linted.count(Severity::Warning), 1);
 }
+
+#[test]
+fn a_factor_of_another_kind_of_quantity_is_a_coefficient() {
+    // Common practice: a number that multiplies another kind of quantity
+    // (550 bolts of 3 kN, 25.4 cycles of 4 s) is a count, not a conversion.
+    let flagged = |source: &str| {
+        check_source(source)
+            .diagnostics
+            .iter()
+            .any(|d| d.code == Code::HandConversionFactor)
+    };
+    assert!(!flagged("F_bolt = 3 kN\nF_all = 550 * F_bolt\n"));
+    assert!(!flagged("t_cycle = 4 s\nt_shift = t_cycle * 25.4\n"));
+    assert!(flagged("P = 12 kW\nP_hp = P / 745.7\n"));
+    assert!(flagged("W = 140 lbf\nm = W * 0.4536\n"));
+    assert!(flagged("x = 2.2 * 100\n"));
+}

@@ -76,7 +76,7 @@ pub struct ConversionEntry {
     /// As written: `1450 lbf`, `[kN]`, `/ 32.174`.
     pub written: String,
     /// The unit converted from (written or shown), in heft syntax; for a
-    /// hand-typed factor, the conversion it approximates (`kg/lbm`).
+    /// hand-typed factor, what it converts in words ("pounds-mass per kilogram").
     pub unit: String,
     /// The value in `unit` (as written, or as shown).
     pub value: Option<f64>,
@@ -335,13 +335,12 @@ impl Builder<'_, '_> {
             } else {
                 "/"
             };
-            let unit = units::format_unit_product(factor.exact_units);
             let mut entry = self.entry(
                 used.number.span,
                 used.owner,
                 ConversionKind::HandTyped,
                 format!("{op} {}", context.text(used.number.span)),
-                &unit,
+                factor.converts,
                 None,
                 facts,
             );
@@ -350,9 +349,6 @@ impl Builder<'_, '_> {
             entry.typed_factor = Some(used.value);
             entry.exactness = Exactness::Rounded;
             entry.relative_error = Some((used.value - exact) / exact);
-            entry
-                .definitions
-                .insert(0, format!("{} ({})", factor.exact_words, factor.converts));
             self.conversions.push(entry);
         }
     }

@@ -291,6 +291,11 @@ pub(super) fn visit<'a>(
         {
             continue;
         }
+        if let Family::Conversion(family) = factor.family
+            && !converts_plausibly(context, owner, other, family)
+        {
+            continue;
+        }
         found.push(HandFactorUse {
             factor,
             number,
@@ -303,6 +308,23 @@ pub(super) fn visit<'a>(
             units_present: units_present.map(|(from, _, to, _)| (from, to)),
         });
     }
+}
+
+/// Whether a conversion factor of `family` (a mass for 2.2) could be meant
+/// to convert `other`: it is of that dimension, a plain number, or the
+/// other of mass and force (the lbm/lbf mix-up). `550 * F_bolt` (a count
+/// times a force) is not a horsepower conversion. Checked only once a number
+/// matches, so evaluating `other` is rare.
+fn converts_plausibly(context: &Context<'_>, owner: Owner, other: &Expr, family: Dimension) -> bool {
+    let Some(value) = super::rewrite::evaluate_rewritten(context, owner, context.text(other.span))
+    else {
+        return true;
+    };
+    let dimension = value.dimension;
+    let mass_and_force = [Dimension::MASS, Dimension::FORCE];
+    dimension == family
+        || dimension.is_dimensionless()
+        || (mass_and_force.contains(&dimension) && mass_and_force.contains(&family))
 }
 
 /// Whether `ratio` is `factor` or its inverse, to rounding.

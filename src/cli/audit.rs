@@ -235,10 +235,10 @@ fn si_value(entry: &ConversionEntry) -> String {
 fn factor_text(entry: &ConversionEntry) -> String {
     match entry.typed_factor {
         Some(typed) => format!(
-            "{} for {} = {}",
+            "{} for {} ({})",
             format_significant(typed, 10),
-            entry.unit,
-            entry.factor_decimal
+            entry.factor_decimal,
+            entry.unit
         ),
         None => {
             let unit = if entry.si_unit.is_empty() {
