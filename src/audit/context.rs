@@ -24,15 +24,22 @@ pub(super) enum Owner {
 
 /// The evaluated sheet as the lints read it.
 pub(super) struct Context<'a> {
+    /// The evaluated sheet.
     pub evaluated: &'a Evaluated,
+    /// Its linked syntax tree.
     pub sheet: &'a Sheet,
+    /// Its source text.
     pub source: &'a str,
+    /// The display system for values in messages.
     pub system: DisplaySystem,
+    /// Significant digits for values in messages.
     pub sig_figs: u32,
+    /// Unit look-ups by their text.
     units: RefCell<FxHashMap<&'a str, Option<ResolvedUnit>>>,
 }
 
 impl<'a> Context<'a> {
+    /// The context of an evaluated sheet.
     pub fn new(evaluated: &'a Evaluated) -> Self {
         let sheet = evaluated.sheet();
         Context {

@@ -315,7 +315,12 @@ pub(super) fn visit<'a>(
 /// other of mass and force (the lbm/lbf mix-up). `550 * F_bolt` (a count
 /// times a force) is not a horsepower conversion. Checked only once a number
 /// matches, so evaluating `other` is rare.
-fn converts_plausibly(context: &Context<'_>, owner: Owner, other: &Expr, family: Dimension) -> bool {
+fn converts_plausibly(
+    context: &Context<'_>,
+    owner: Owner,
+    other: &Expr,
+    family: Dimension,
+) -> bool {
     let Some(value) = super::rewrite::evaluate_rewritten(context, owner, context.text(other.span))
     else {
         return true;

@@ -25,7 +25,7 @@ pub use conversions::{
     ConversionAudit, ConversionEntry, ConversionKind, Exactness, SystemUse, conversion_audit,
 };
 pub use gravity::{GravityKind, GravityUse, Typed};
-pub use hand_factors::{HAND_FACTORS, HandFactor};
+pub use hand_factors::{Family, HAND_FACTORS, HandFactor};
 
 use crate::diag::Diagnostic;
 use crate::eval::{self, Evaluated};
