@@ -168,12 +168,14 @@ impl Collector {
         let Some(value) = context.value(id) else {
             return;
         };
-        if value.dimension != Dimension::ACCELERATION {
+        // Gravity is often written downward-negative (`g = -9.81 m/s^2`):
+        // its size is what is compared.
+        if value.dimension != Dimension::ACCELERATION || value.si == 0.0 {
             return;
         }
         let typed = match &cell.expr.kind {
             ExprKind::Quantity { value, unit, .. } => context.resolve(unit).map(|resolved| Typed {
-                value: *value,
+                value: value.abs(),
                 unit: context.text(unit.span).to_string(),
                 unit_si_factor: resolved.si_factor,
             }),
@@ -184,7 +186,7 @@ impl Collector {
             cell.name.span.to(cell.expr.span),
             GravityKind::Cell,
             &written,
-            value.si,
+            value.si.abs(),
             typed,
         );
     }
