@@ -149,3 +149,30 @@ fn the_audit_text_of_a_mixed_sheet() {
     let text = heftsheet::cli::audit_text("gravity_9_81_and_32_2.heft", &evaluated);
     insta::assert_snapshot!(text);
 }
+
+#[test]
+fn the_readme_example_is_what_heft_audit_prints() {
+    let readme = std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("README.md"))
+        .expect("README");
+    let section = readme
+        .split("## Auditing a sheet")
+        .nth(1)
+        .expect("an Auditing a sheet section");
+    let blocks: Vec<&str> = section.split("```").collect();
+    // Blocks alternate text and code: [text, sheet, text, output, …].
+    let (sheet, printed) = (blocks[1].trim_start_matches('\n'), blocks[3]);
+    let dir = std::env::temp_dir().join(format!("heft-audit-readme-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).expect("temp dir");
+    std::fs::write(dir.join("plate.heft"), sheet).expect("write the sheet");
+    let output = Command::new(env!("CARGO_BIN_EXE_heft"))
+        .args(["audit", "--color", "never", "plate.heft"])
+        .current_dir(&dir)
+        .output()
+        .expect("the heft binary runs");
+    assert_eq!(output.status.code(), Some(1));
+    assert_eq!(
+        String::from_utf8_lossy(&output.stdout).trim(),
+        printed.trim(),
+        "README's example output is stale"
+    );
+}
