@@ -262,3 +262,23 @@ fn a_factor_of_another_kind_of_quantity_is_a_coefficient() {
     assert!(flagged("W = 140 lbf\nm = W * 0.4536\n"));
     assert!(flagged("x = 2.2 * 100\n"));
 }
+
+#[test]
+fn a_factor_inside_a_product_is_found() {
+    // E = m g0 h with h already in feet: `* 0.3048` converts h a second time
+    // (1 ft = 0.3048 m exactly, 1959 agreement).
+    let evaluated = check_source("m = 20 kg\nh = 6 ft\nE [J] = m * g0 * h * 0.3048\n");
+    let finding = evaluated
+        .diagnostics
+        .iter()
+        .find(|d| d.code == Code::HandConversionFactor)
+        .expect("the 0.3048 is found");
+    // Without it: 20 kg × 9.80665 m/s² × 1.8288 m = 358.6895 J.
+    assert!(
+        finding
+            .help
+            .as_deref()
+            .is_some_and(|h| h.contains("`m * g0 * h` (= 358.7 J)")),
+        "{finding:?}"
+    );
+}

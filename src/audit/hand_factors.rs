@@ -3,6 +3,7 @@
 //! never typed here).
 
 use super::context::{Context, Owner};
+use super::rewrite::evaluate_rewritten;
 use crate::syntax::ast::{BinaryOp, Expr, ExprKind};
 use crate::units::{self, Dimension, ExactFactor};
 
@@ -311,25 +312,65 @@ pub(super) fn visit<'a>(
 }
 
 /// Whether a conversion factor of `family` (a mass for 2.2) could be meant
-/// to convert `other`: it is of that dimension, a plain number, or the
-/// other of mass and force (the lbm/lbf mix-up). `550 * F_bolt` (a count
-/// times a force) is not a horsepower conversion. Checked only once a number
-/// matches, so evaluating `other` is rare.
+/// to convert `other`: it is of that dimension, a plain number, the other
+/// of mass and force (the lbm/lbf mix-up), or a product with a factor of
+/// that dimension (`m * g0 * h * 0.3048` converts `h`). `550 * F_bolt` (a
+/// count times a force) is not a horsepower conversion. Checked only once a
+/// number matches, so evaluating is rare.
 fn converts_plausibly(
     context: &Context<'_>,
     owner: Owner,
     other: &Expr,
     family: Dimension,
 ) -> bool {
-    let Some(value) = super::rewrite::evaluate_rewritten(context, owner, context.text(other.span))
-    else {
+    let Some(dimension) = dimension_of(context, owner, other) else {
         return true;
     };
-    let dimension = value.dimension;
     let mass_and_force = [Dimension::MASS, Dimension::FORCE];
-    dimension == family
-        || dimension.is_dimensionless()
+    dimension.is_dimensionless()
         || (mass_and_force.contains(&dimension) && mass_and_force.contains(&family))
+        || already_converted(context, owner, other, family).is_some()
+}
+
+/// The part of `other` that is already a quantity of `family` (and so is
+/// converted a second time by the factor): `other` itself, or one factor of
+/// the product it is.
+pub(super) fn already_converted<'e>(
+    context: &Context<'_>,
+    owner: Owner,
+    other: &'e Expr,
+    family: Dimension,
+) -> Option<&'e Expr> {
+    if dimension_of(context, owner, other) == Some(family) {
+        return Some(other);
+    }
+    let mut factors = Vec::new();
+    product_factors(other, &mut factors);
+    if factors.len() < 2 {
+        return None;
+    }
+    factors
+        .into_iter()
+        .find(|factor| dimension_of(context, owner, factor) == Some(family))
+}
+
+fn dimension_of(context: &Context<'_>, owner: Owner, expr: &Expr) -> Option<Dimension> {
+    evaluate_rewritten(context, owner, context.text(expr.span)).map(|value| value.dimension)
+}
+
+/// The factors of a product or quotient: `m * g0 * h` → `m`, `g0`, `h`.
+fn product_factors<'e>(expr: &'e Expr, factors: &mut Vec<&'e Expr>) {
+    match &expr.kind {
+        ExprKind::Binary {
+            op: BinaryOp::Multiply | BinaryOp::Divide,
+            lhs,
+            rhs,
+        } => {
+            product_factors(lhs, factors);
+            product_factors(rhs, factors);
+        }
+        _ => factors.push(expr),
+    }
 }
 
 /// Whether `ratio` is `factor` or its inverse, to rounding.

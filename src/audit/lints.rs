@@ -292,25 +292,32 @@ fn hand_conversion_factor(context: &Context<'_>, used: &HandFactorUse<'_>) -> Di
     };
     let explanation = match repair {
         Repair::Remove => {
-            let double = match factor.family {
+            // What is already a quantity the factor converts: the operand,
+            // or one factor of it.
+            let converted = match factor.family {
                 Family::Conversion(dimension) => {
-                    other_value.is_some_and(|v| v.dimension == dimension)
+                    hand_factors::already_converted(context, used.owner, used.other, dimension)
                 }
-                Family::Gravity | Family::Prefix => other_value.is_some_and(|v| {
-                    !v.dimension.is_dimensionless()
-                        && Some(v.dimension) == fixed_value.map(|f| f.dimension)
-                }),
+                Family::Gravity | Family::Prefix => other_value
+                    .filter(|v| {
+                        !v.dimension.is_dimensionless()
+                            && Some(v.dimension) == fixed_value.map(|f| f.dimension)
+                    })
+                    .map(|_| used.other),
             };
             let units = used
                 .units_present
                 .map(|(from, to)| format!(" (written in {from}, shown in {to})"))
                 .unwrap_or_default();
-            match other_value {
-                Some(value) if double => format!(
-                    "`{other}` is already {}{units} and heft converts units exactly, so `{operation}` converts it a second time: the result is {off_by}",
-                    value.dimension.describe()
+            let described = converted.and_then(|part| {
+                evaluate_rewritten(context, used.owner, context.text(part.span))
+                    .map(|value| (context.text(part.span), value.dimension.describe()))
+            });
+            match described {
+                Some((part, dimension)) => format!(
+                    "`{part}` is already {dimension}{units} and heft converts units exactly, so `{operation}` converts it a second time: the result is {off_by}"
                 ),
-                _ => format!(
+                None => format!(
                     "a bare number carries no unit, so heft cannot check this conversion; write the quantity with its unit and heft converts it exactly (as it stands the result is {off_by} if the units already convert)"
                 ),
             }
