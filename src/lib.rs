@@ -5,7 +5,10 @@
 //! orders the cells by their dependencies, [`eval`] computes every cell with
 //! its dimension checked at each operation (values in [`units`]), and
 //! [`cli`] presents the result. [`diag`] carries every finding as data.
+//! [`audit`] reads the evaluated sheet for the mistakes dimensions miss
+//! (lints) and lists every conversion for the checker.
 
+pub mod audit;
 pub mod cases;
 pub mod cli;
 pub mod diag;

@@ -9,16 +9,14 @@ use anstyle::{AnsiColor, Style};
 
 use super::{EXIT_CLEAN, EXIT_FINDINGS, json, print, read_sheet};
 use crate::diag::{Severity, render::render};
-use crate::eval::{
-    self, CellStatus, CheckStatus, Evaluated, OutlineItem, SolveStatus, format_value,
-};
+use crate::eval::{CellStatus, CheckStatus, Evaluated, OutlineItem, SolveStatus, format_value};
 use crate::units::Value;
 use crate::units::format_significant;
 
 /// Runs `heft check FILE`.
 pub fn run(path: &Path, as_json: bool, deny_warnings: bool, colour: bool) -> io::Result<u8> {
     let (source, encoding_problem) = read_sheet(path)?;
-    let mut evaluated = eval::evaluate_source(&source);
+    let mut evaluated = crate::audit::check_source(&source);
     if let Some(diagnostic) = encoding_problem {
         evaluated.diagnostics.insert(0, diagnostic);
     }
@@ -34,12 +32,14 @@ pub fn run(path: &Path, as_json: bool, deny_warnings: bool, colour: bool) -> io:
 }
 
 /// Paints text when colour is on.
-struct Painter {
-    colour: bool,
+pub(super) struct Painter {
+    /// Whether to colour.
+    pub colour: bool,
 }
 
 impl Painter {
-    fn paint(&self, style: Style, text: &str) -> String {
+    /// `text` in `style`, or plain.
+    pub fn paint(&self, style: Style, text: &str) -> String {
         if self.colour {
             format!("{style}{text}{style:#}")
         } else {
@@ -48,14 +48,14 @@ impl Painter {
     }
 }
 
-const BOLD: Style = Style::new().bold();
-const PASS: Style = Style::new()
+pub(super) const BOLD: Style = Style::new().bold();
+pub(super) const PASS: Style = Style::new()
     .bold()
     .fg_color(Some(anstyle::Color::Ansi(AnsiColor::Green)));
-const FAIL: Style = Style::new()
+pub(super) const FAIL: Style = Style::new()
     .bold()
     .fg_color(Some(anstyle::Color::Ansi(AnsiColor::Red)));
-const DIM: Style = Style::new().dimmed();
+pub(super) const DIM: Style = Style::new().dimmed();
 
 /// The text report of `heft check`.
 pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour: bool) -> String {
@@ -541,7 +541,7 @@ fn write_section(
 }
 
 /// Wraps text at `width` columns on spaces.
-fn wrap(text: &str, width: usize) -> String {
+pub(super) fn wrap(text: &str, width: usize) -> String {
     let mut lines = Vec::new();
     let mut line = String::new();
     for word in text.split_whitespace() {

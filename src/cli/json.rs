@@ -159,8 +159,9 @@ struct Check<'a> {
     governing_case: Option<Option<&'a str>>,
 }
 
+/// A diagnostic as JSON (shared by `heft check` and `heft audit`).
 #[derive(Serialize)]
-struct JsonDiagnostic<'a> {
+pub(super) struct JsonDiagnostic<'a> {
     severity: &'static str,
     code: &'static str,
     line: usize,
@@ -354,7 +355,8 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
     text
 }
 
-fn diagnostic<'a>(
+/// A diagnostic with its line and column.
+pub(super) fn diagnostic<'a>(
     diagnostic: &'a Diagnostic,
     source: &str,
     lines: &LineIndex,

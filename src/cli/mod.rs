@@ -1,6 +1,7 @@
 //! The command line: arguments, dispatch, and text for people. I/O and exit
 //! codes live here and nowhere below.
 
+mod audit;
 mod check;
 mod convert;
 mod diff;
@@ -90,11 +91,26 @@ pub enum Command {
         #[arg(long)]
         on: String,
     },
+    /// Print the conversion audit a checker signs: every conversion with its
+    /// exact factor and source, the unit systems and gravity values used,
+    /// and every finding.
+    Audit {
+        /// The sheet file (.heft).
+        file: PathBuf,
+        /// Print one JSON object (schema `heft-audit/1`) instead of text.
+        #[arg(long)]
+        json: bool,
+    },
 }
 
 /// The text report of `heft check`, without colour (for tests and tools).
 pub fn check_text(file_name: &str, source: &str, evaluated: &crate::eval::Evaluated) -> String {
     check::text_report(file_name, source, evaluated, false)
+}
+
+/// The text report of `heft audit`, without colour (for tests and tools).
+pub fn audit_text(file_name: &str, evaluated: &crate::eval::Evaluated) -> String {
+    audit::audit_text(file_name, evaluated)
 }
 
 /// Exit code: the sheet is clean.
@@ -124,6 +140,7 @@ pub fn run(args: Args) -> ExitCode {
         Command::Report { file, output } => report::run(&file, &output),
         Command::Diff { old, new, json } => diff::run(&old, &new, json),
         Command::Signoff { file, by, on } => review::run_signoff(&file, &by, &on),
+        Command::Audit { file, json } => audit::run(&file, json, colour),
     };
     match outcome {
         Ok(code) => ExitCode::from(code),

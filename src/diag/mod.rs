@@ -82,6 +82,19 @@ pub enum Code {
     /// A tolerance that does not fit its value (wrong dimension, bounds
     /// the wrong way round, on a vector).
     BadTolerance,
+    /// A bare number that looks like a hand-typed unit conversion or gravity
+    /// value (`/ 32.174`, `* 2.2`, `* 9.81`), which heft's units make wrong.
+    HandConversionFactor,
+    /// More than one value of gravitational acceleration in one sheet.
+    GravityInconsistent,
+    /// A gravity written as a rounded standard gravity (`9.81 m/s^2`).
+    RoundedGravity,
+    /// Inputs written in both SI and US customary units.
+    MixedSystems,
+    /// An input that no formula or check uses.
+    UnusedInput,
+    /// A cell named like a built-in constant (`g0`, `pi`).
+    ShadowedConstant,
 }
 
 impl Code {
@@ -111,11 +124,17 @@ impl Code {
             Code::NoConvergence => "no-convergence",
             Code::SeveralRoots => "several-roots",
             Code::BadTolerance => "bad-tolerance",
+            Code::HandConversionFactor => "hand-conversion-factor",
+            Code::GravityInconsistent => "gravity-inconsistent",
+            Code::RoundedGravity => "rounded-gravity",
+            Code::MixedSystems => "mixed-systems",
+            Code::UnusedInput => "unused-input",
+            Code::ShadowedConstant => "shadowed-constant",
         }
     }
 
     /// Every code, for documentation and tests.
-    pub const ALL: [Code; 23] = [
+    pub const ALL: [Code; 29] = [
         Code::ParseError,
         Code::EncodingError,
         Code::HeaderError,
@@ -139,6 +158,12 @@ impl Code {
         Code::NoConvergence,
         Code::SeveralRoots,
         Code::BadTolerance,
+        Code::HandConversionFactor,
+        Code::GravityInconsistent,
+        Code::RoundedGravity,
+        Code::MixedSystems,
+        Code::UnusedInput,
+        Code::ShadowedConstant,
     ];
 }
 
@@ -176,6 +201,16 @@ pub struct Diagnostic {
 }
 
 impl Diagnostic {
+    /// A warning at `span`.
+    pub fn warning(code: Code, span: Span, message: impl Into<String>) -> Self {
+        Self::new(Severity::Warning, code, span, message)
+    }
+
+    /// An info at `span`.
+    pub fn info(code: Code, span: Span, message: impl Into<String>) -> Self {
+        Self::new(Severity::Info, code, span, message)
+    }
+
     /// An error at `span`.
     pub fn error(code: Code, span: Span, message: impl Into<String>) -> Self {
         Self::new(Severity::Error, code, span, message)

@@ -470,6 +470,16 @@ impl Sheet {
         decl(&self.statements, self.cells[id])
     }
 
+    /// The definition of a formula cell (a cell statement or a body's
+    /// resultant); `None` for an unknown of a solve block.
+    pub fn formula_cell(&self, id: CellId) -> Option<&CellDef> {
+        match &self.statements[self.cell_statement(id)].kind {
+            StatementKind::Cell(cell) => Some(cell),
+            StatementKind::Body(body) => Some(&body.resultant),
+            _ => None,
+        }
+    }
+
     /// The definition of a check.
     pub fn check(&self, index: usize) -> &CheckDef {
         match &self.statements[self.checks[index]].kind {

@@ -1,0 +1,69 @@
+//! The audit: lints that catch the mistakes dimensional checking misses
+//! (a weight named as a mass, a hand-typed 32.174 that converts twice, two
+//! values of gravity in one sheet), and the conversion audit a checker signs:
+//! every conversion with its exact factor and source.
+//!
+//! Everything here reads an [`Evaluated`] sheet (its linked syntax tree and
+//! its values) and produces data: lint findings as [`Diagnostic`]s and the
+//! [`ConversionAudit`]. Presentation lives in `cli`.
+//!
+//! The lints are kept out of [`crate::eval::evaluate_source`] on purpose:
+//! evaluation reports what is wrong for certain; lints report what is
+//! probably wrong, from names, descriptions and familiar numbers.
+//! [`check_source`] is the whole pipeline with the lints added, which
+//! `heft check` and `heft audit` use.
+
+mod context;
+mod conversions;
+mod gravity;
+mod hand_factors;
+mod lints;
+mod rewrite;
+mod roles;
+
+pub use conversions::{
+    ConversionAudit, ConversionEntry, ConversionKind, Exactness, SystemUse, conversion_audit,
+};
+pub use gravity::{GravityKind, GravityUse, Typed};
+pub use hand_factors::{Family, HAND_FACTORS, HandFactor};
+
+use crate::diag::Diagnostic;
+use crate::eval::{self, Evaluated};
+
+/// Every lint finding for an evaluated sheet, sorted by position.
+pub fn lint(evaluated: &Evaluated) -> Vec<Diagnostic> {
+    let context = context::Context::new(evaluated);
+    let mut findings = lints::run(&context);
+    findings.sort_by_key(|diagnostic| (diagnostic.span.start(), diagnostic.code));
+    findings
+}
+
+/// Adds the lint findings to an evaluated sheet's diagnostics, keeping them
+/// sorted by position.
+pub fn add_lints(evaluated: &mut Evaluated) {
+    let findings = lint(evaluated);
+    if findings.is_empty() {
+        return;
+    }
+    evaluated.diagnostics.extend(findings);
+    evaluated
+        .diagnostics
+        .sort_by_key(|diagnostic| (diagnostic.span.start(), diagnostic.code));
+}
+
+/// A relative difference in percent with its sign: `+0.034 %`, `-0.00015 %`.
+pub fn format_relative(relative: f64) -> String {
+    let sign = if relative > 0.0 { "+" } else { "" };
+    format!(
+        "{sign}{} %",
+        crate::units::format_significant(relative * 100.0, 2)
+    )
+}
+
+/// Parses, links, evaluates and lints a sheet: what `heft check` and
+/// `heft audit` report.
+pub fn check_source(source: &str) -> Evaluated {
+    let mut evaluated = eval::evaluate_source(source);
+    add_lints(&mut evaluated);
+    evaluated
+}
