@@ -4,9 +4,11 @@
 //!
 //! Run with `cargo bench --bench audit`; figures are recorded in README.
 
-mod common;
+#[path = "generated.rs"]
+#[allow(dead_code)]
+mod generated;
+use generated::generated_sheet;
 
-use common::generated_sheet;
 use criterion::{Criterion, Throughput, criterion_group, criterion_main};
 
 /// The binary uses mimalloc; measure with the same allocator.

@@ -2,9 +2,6 @@
 //!
 //! Run with `cargo bench --bench evaluate`; figures are recorded in README.
 
-mod common;
-
-use common::generated_sheet;
 use criterion::{BenchmarkId, Criterion, Throughput, criterion_group, criterion_main};
 
 #[path = "generated.rs"]
