@@ -1,19 +1,14 @@
 //! `heft audit` and the lint findings of `heft check`, as a user runs them.
 
+mod common;
+
 use std::path::Path;
 use std::process::Command;
 
+/// The exit code and standard output of `heft`.
 fn heft(args: &[&str]) -> (i32, String) {
-    let output = Command::new(env!("CARGO_BIN_EXE_heft"))
-        .args(args)
-        .current_dir(env!("CARGO_MANIFEST_DIR"))
-        .env("NO_COLOR", "1")
-        .output()
-        .expect("the heft binary runs");
-    (
-        output.status.code().unwrap_or(-1),
-        String::from_utf8_lossy(&output.stdout).into_owned(),
-    )
+    let (code, out, _) = common::heft(args);
+    (code, out)
 }
 
 #[test]

@@ -1,21 +1,10 @@
 //! The `heft` binary as a user runs it: exit codes, text, JSON, conversions.
 
-use std::path::Path;
-use std::process::Command;
+mod common;
 
-fn heft(args: &[&str]) -> (i32, String, String) {
-    let output = Command::new(env!("CARGO_BIN_EXE_heft"))
-        .args(args)
-        .current_dir(env!("CARGO_MANIFEST_DIR"))
-        .env("NO_COLOR", "1")
-        .output()
-        .expect("the heft binary runs");
-    (
-        output.status.code().unwrap_or(-1),
-        String::from_utf8_lossy(&output.stdout).into_owned(),
-        String::from_utf8_lossy(&output.stderr).into_owned(),
-    )
-}
+use std::path::Path;
+
+use common::heft;
 
 fn write_temp(name: &str, text: &str) -> String {
     let dir = std::env::temp_dir().join(format!("heft-cli-tests-{}", std::process::id()));

@@ -5,7 +5,6 @@
 mod common;
 
 use std::path::Path;
-use std::process::Command;
 
 use heftsheet::diff::{self, CellChange, CellChangeKind, RevisionDiff};
 use heftsheet::eval::evaluate_source;
@@ -121,17 +120,10 @@ fn a_sheet_compared_with_itself_has_no_changes() {
     assert_eq!(diff.n_unchanged, evaluate_source(&source).n_cells());
 }
 
+/// The exit code and standard output of `heft`.
 fn heft(args: &[&str]) -> (i32, String) {
-    let output = Command::new(env!("CARGO_BIN_EXE_heft"))
-        .args(args)
-        .current_dir(env!("CARGO_MANIFEST_DIR"))
-        .env("NO_COLOR", "1")
-        .output()
-        .expect("the heft binary runs");
-    (
-        output.status.code().unwrap_or(-1),
-        String::from_utf8_lossy(&output.stdout).into_owned(),
-    )
+    let (code, out, _) = common::heft(args);
+    (code, out)
 }
 
 #[test]

@@ -1,22 +1,11 @@
 //! `heft report`, `heft signoff` and the review listing of `heft check`, as
 //! a user runs them.
 
-use std::path::PathBuf;
-use std::process::Command;
+mod common;
 
-fn heft(args: &[&str]) -> (i32, String, String) {
-    let output = Command::new(env!("CARGO_BIN_EXE_heft"))
-        .args(args)
-        .current_dir(env!("CARGO_MANIFEST_DIR"))
-        .env("NO_COLOR", "1")
-        .output()
-        .expect("the heft binary runs");
-    (
-        output.status.code().unwrap_or(-1),
-        String::from_utf8_lossy(&output.stdout).into_owned(),
-        String::from_utf8_lossy(&output.stderr).into_owned(),
-    )
-}
+use std::path::PathBuf;
+
+use common::heft;
 
 fn scratch(name: &str) -> PathBuf {
     let dir = std::env::temp_dir().join(format!("heft-review-cli-{}", std::process::id()));

@@ -90,16 +90,7 @@ impl Evaluator<'_> {
                 .map_or(0.0, |q| q.si);
             source.shift = nominal - formula_values[source.cell];
         }
-        let order: Vec<CellId> = self
-            .sheet
-            .order
-            .order
-            .iter()
-            .filter_map(|&node| match &self.sheet.nodes[node] {
-                Node::Cell(id) => Some(*id),
-                Node::Solve { .. } => None,
-            })
-            .collect();
+        let order = self.formula_order();
         let mut position = vec![usize::MAX; n_cells];
         for (place, &id) in order.iter().enumerate() {
             position[id] = place;
@@ -136,6 +127,19 @@ impl Evaluator<'_> {
             ranges.enclosures.push(enclosure);
         }
         Some(ranges)
+    }
+
+    /// Formula cells in evaluation order.
+    fn formula_order(&self) -> Vec<CellId> {
+        self.sheet
+            .order
+            .order
+            .iter()
+            .filter_map(|&node| match &self.sheet.nodes[node] {
+                Node::Cell(id) => Some(*id),
+                Node::Solve { .. } => None,
+            })
+            .collect()
     }
 
     /// The cells a cell's formula (or its case's replacement) uses.
@@ -181,17 +185,13 @@ impl Evaluator<'_> {
         sources: &[Source],
         tolerance: &dyn Fn(usize) -> T,
     ) -> Vec<T> {
-        let order: Vec<CellId> = self
-            .sheet
-            .order
-            .order
-            .iter()
-            .filter_map(|&node| match &self.sheet.nodes[node] {
-                Node::Cell(id) => Some(*id),
-                Node::Solve { .. } => None,
-            })
-            .collect();
-        self.pass_over(&order, programs, supported, sources, tolerance)
+        self.pass_over(
+            &self.formula_order(),
+            programs,
+            supported,
+            sources,
+            tolerance,
+        )
     }
 
     /// [`Evaluator::pass`] over the listed cells only (in evaluation order);

@@ -405,13 +405,16 @@ impl Evaluator<'_> {
         let inputs: Vec<f64> = x.iter().zip(scales).map(|(x, s)| x * s).collect();
         let mut r = DVector::zeros(equations.len());
         for (j, equation) in equations.iter().enumerate() {
-            let difference = self.difference_at(equation, &inputs).ok()?.si / equation.scale;
-            if !difference.is_finite() {
-                return None;
-            }
-            r[j] = difference;
+            r[j] = self.scaled_residual(equation, &inputs)?;
         }
         Some(r)
+    }
+
+    /// One equation's residual divided by its scale; `None` where it cannot
+    /// be evaluated or is not finite.
+    fn scaled_residual(&self, equation: &ScalarEquation<'_>, inputs: &[f64]) -> Option<f64> {
+        let value = self.difference_at(equation, inputs).ok()?.si / equation.scale;
+        value.is_finite().then_some(value)
     }
 
     /// Jacobian of the scaled residuals at `x` by central differences. With
@@ -441,13 +444,9 @@ impl Evaluator<'_> {
                     .enumerate()
                     .filter(|(_, equation)| equation.mentions[i])
                     .map(|(j, equation)| {
-                        let value = self.difference_at(equation, &inputs).map_err(|_| ())?.si
-                            / equation.scale;
-                        if value.is_finite() {
-                            Ok((j, value))
-                        } else {
-                            Err(())
-                        }
+                        self.scaled_residual(equation, &inputs)
+                            .map(|value| (j, value))
+                            .ok_or(())
                     })
                     .collect()
             };

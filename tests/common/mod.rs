@@ -69,3 +69,19 @@ pub fn codes(evaluated: &Evaluated) -> Vec<&'static str> {
         .map(|d| d.code.as_str())
         .collect()
 }
+
+/// Runs the `heft` binary from the project folder with colour off; returns
+/// the exit code, standard output and standard error.
+pub fn heft(args: &[&str]) -> (i32, String, String) {
+    let output = std::process::Command::new(env!("CARGO_BIN_EXE_heft"))
+        .args(args)
+        .current_dir(env!("CARGO_MANIFEST_DIR"))
+        .env("NO_COLOR", "1")
+        .output()
+        .expect("the heft binary runs");
+    (
+        output.status.code().unwrap_or(-1),
+        String::from_utf8_lossy(&output.stdout).into_owned(),
+        String::from_utf8_lossy(&output.stderr).into_owned(),
+    )
+}
