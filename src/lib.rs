@@ -10,6 +10,7 @@ pub mod cli;
 pub mod diag;
 pub mod eval;
 pub mod sheet;
+pub mod simulate;
 pub mod syntax;
 pub mod units;
 

@@ -8,6 +8,8 @@ mod expr;
 pub mod functions;
 mod model;
 pub mod program;
+mod run_model;
+mod simulate;
 mod solve;
 mod vectors;
 
@@ -16,8 +18,10 @@ pub use model::{
     CellOutcome, CellResult, CellStatus, CheckResult, CheckStatus, EquationReport, Evaluated,
     FreeBody, OutlineItem, SolveReport, SolveStatus,
 };
+pub use run_model::{PlotSeries, RunColumn, RunEvent, RunReport, RunRow, RunStatus, StateSlots};
+pub use simulate::{DEFAULT_RELATIVE_TOLERANCE, MAX_STEPS};
 
-use std::cell::RefCell;
+use std::cell::{Cell, RefCell};
 use std::sync::Arc;
 
 use rustc_hash::FxHashMap;
@@ -47,6 +51,7 @@ pub fn evaluate(sheet: Arc<Sheet>, source: Arc<str>) -> Evaluated {
                 statement,
                 unknowns,
             } => evaluator.evaluate_solve(*statement, unknowns),
+            Node::Simulate { statement, cells } => evaluator.evaluate_simulate(*statement, cells),
         }
     }
     let checks = (0..sheet.checks.len())
@@ -98,6 +103,12 @@ struct Evaluator<'a> {
     statuses: Vec<CellStatus>,
     solves: Vec<SolveReport>,
     diagnostics: Vec<Diagnostic>,
+    /// Simulate blocks' runs, in evaluation order.
+    runs: Vec<RunReport>,
+    /// While a point of a run is probed: the run's first cell and number of
+    /// cells (time and states), whose values `probe_values` then holds.
+    probe_range: Cell<Option<(CellId, usize)>>,
+    probe_values: RefCell<Vec<Value>>,
 }
 
 impl<'a> Evaluator<'a> {
@@ -115,6 +126,9 @@ impl<'a> Evaluator<'a> {
             statuses: vec![CellStatus::Error; sheet.cells.len()],
             solves: Vec::new(),
             diagnostics: sheet.diagnostics.clone(),
+            runs: Vec::new(),
+            probe_range: Cell::new(None),
+            probe_values: RefCell::new(Vec::new()),
         }
     }
 
@@ -420,6 +434,16 @@ impl<'a> Evaluator<'a> {
                 Item::Invalid(index) => OutlineItem::Invalid {
                     span: sheet.statements[index].span,
                 },
+                Item::Simulate(statement) => match self
+                    .runs
+                    .iter()
+                    .position(|report| report.statement == statement)
+                {
+                    Some(report) => OutlineItem::Simulate(report),
+                    None => OutlineItem::Invalid {
+                        span: sheet.statements[statement].span,
+                    },
+                },
             })
             .collect();
         let mut diagnostics = std::mem::take(&mut self.diagnostics);
@@ -430,6 +454,7 @@ impl<'a> Evaluator<'a> {
             outcomes,
             checks,
             solves: std::mem::take(&mut self.solves),
+            runs: std::mem::take(&mut self.runs),
             outline,
             diagnostics,
             lines,

@@ -229,6 +229,8 @@ pub enum OutlineItem {
         /// Where it is.
         span: Span,
     },
+    /// A simulate block, by index into [`Evaluated::runs`].
+    Simulate(usize),
 }
 
 /// Everything evaluation found out about a sheet. It owns the linked sheet
@@ -242,6 +244,8 @@ pub struct Evaluated {
     pub checks: Vec<CheckResult>,
     /// Solve blocks, in evaluation order.
     pub solves: Vec<SolveReport>,
+    /// Simulate blocks' runs, in evaluation order.
+    pub runs: Vec<super::RunReport>,
     /// Headings, notes, cells, solve blocks and checks in file order.
     pub outline: Vec<OutlineItem>,
     /// Every finding, sorted by position.
@@ -282,9 +286,11 @@ impl Evaluated {
             name: &cell.name.text,
             span,
             line: self.lines.line_of(line_span.start()) + 1,
-            formula: cell
-                .expr
-                .map_or("(solved)", |expr| expr.span.text(&self.source)),
+            formula: match cell.expr {
+                Some(expr) => expr.span.text(&self.source),
+                None if self.sheet.is_simulated(id) => "(simulated)",
+                None => "(solved)",
+            },
             description: cell.description.map(|d| d.text.as_str()),
             declared_unit: cell.unit.is_some(),
             is_input: outcome.is_input,
@@ -337,6 +343,14 @@ impl Evaluated {
                 })
             })
             .collect()
+    }
+
+    /// The run of the simulate block that gives a cell (its time or a
+    /// state), as an index into [`Evaluated::runs`].
+    pub fn run_of(&self, id: CellId) -> Option<usize> {
+        self.runs
+            .iter()
+            .position(|run| run.time == id || run.states.iter().any(|s| s.cell == id))
     }
 
     /// The cell with this name.
