@@ -9,6 +9,7 @@
 pub mod cli;
 pub mod diag;
 pub mod eval;
+pub mod plot;
 pub mod sheet;
 pub mod simulate;
 pub mod syntax;

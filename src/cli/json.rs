@@ -21,6 +21,7 @@ struct Report<'a> {
     cells: Vec<Cell<'a>>,
     checks: Vec<Check<'a>>,
     solves: Vec<Solve<'a>>,
+    runs: Vec<super::runs::JsonRun<'a>>,
     diagnostics: Vec<JsonDiagnostic<'a>>,
 }
 
@@ -178,6 +179,7 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
         cells,
         checks,
         solves,
+        runs: super::runs::json_runs(evaluated, lines),
         diagnostics: evaluated
             .diagnostics
             .iter()
