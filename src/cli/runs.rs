@@ -57,13 +57,7 @@ pub fn write_run(
     bold: &dyn Fn(&str) -> String,
 ) {
     let run = &evaluated.runs[index];
-    let source = evaluated.source();
-    let head = evaluated
-        .sheet()
-        .simulate_block(run.statement)
-        .map(|block| block.head.text(source).trim().trim_end_matches(':'))
-        .unwrap_or("simulate");
-    let _ = writeln!(out, "  {}  ({})", bold(head), summary(evaluated, run));
+    let _ = writeln!(out, "  {}  ({})", bold(&run.title), summary(evaluated, run));
     if run.rows.is_empty() {
         return;
     }

@@ -112,6 +112,9 @@ pub struct RunReport {
     pub statement: usize,
     /// The whole block.
     pub span: Span,
+    /// Its head as written, without the colon or a comment:
+    /// `simulate t from 0 s to 20 s`.
+    pub title: String,
     /// The time variable's cell.
     pub time: CellId,
     /// The states, with their slots in the trajectory.

@@ -18,7 +18,9 @@ use super::run_model::{PlotSeries, RunColumn, RunEvent, RunReport, RunRow, RunSt
 use super::{CellStatus, Evaluation, Evaluator};
 use crate::diag::{Code, Diagnostic};
 use crate::sheet::CellId;
-use crate::simulate::{self, EventKind, Failure, Outcome, Settings, Stats, System, Trajectory};
+use crate::simulate::{
+    self, ErrorControl, EventKind, Failure, Outcome, Settings, Stats, System, Trajectory,
+};
 use crate::syntax::Span;
 use crate::syntax::ast::{
     BinaryOp, Comparison, Expr, ExprKind, NameRef, RunPoint, RunQuery, SimulateBlock, TableRows,
@@ -223,6 +225,16 @@ impl<'a> Evaluator<'a> {
         let mut report = RunReport {
             statement,
             span: sheet.statements[statement].span,
+            title: {
+                let line = block.head.text(self.source);
+                line.split("//")
+                    .next()
+                    .unwrap_or(line)
+                    .trim()
+                    .trim_end_matches(':')
+                    .trim_end()
+                    .to_string()
+            },
             time: cells.first().copied().unwrap_or_default(),
             states: Vec::new(),
             status: RunStatus::NotRun,
@@ -441,6 +453,7 @@ impl<'a> Evaluator<'a> {
             relative_tolerance: relative,
             absolute_tolerance,
             max_steps: MAX_STEPS,
+            error_control: ErrorControl::PerUnitTime,
             events: block
                 .events
                 .iter()

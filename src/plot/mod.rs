@@ -16,19 +16,7 @@ pub fn run_svg(evaluated: &Evaluated, index: usize) -> Option<String> {
     if run.plot.is_empty() || !matches!(run.status, RunStatus::Reached | RunStatus::Stopped) {
         return None;
     }
-    let source = evaluated.source();
-    let head = evaluated
-        .sheet()
-        .simulate_block(run.statement)
-        .map(|block| {
-            block
-                .head
-                .text(source)
-                .trim()
-                .trim_end_matches(':')
-                .to_string()
-        })
-        .unwrap_or_default();
+    let head = run.title.clone();
     let title = match &evaluated.header().title {
         Some(title) => format!("{title} — {head}"),
         None => head,

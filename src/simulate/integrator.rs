@@ -82,6 +82,19 @@ pub enum EventKind {
     Record,
 }
 
+/// What the tolerance bounds.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum ErrorControl {
+    /// Each step's local error (the usual convention of ODE codes); the
+    /// error at the end of a long run can be many times the tolerance.
+    PerStep,
+    /// Each step's local error per unit time, scaled by the whole run's
+    /// span ("error per unit step"): the local errors of all steps add up to
+    /// at most the tolerance, so the accumulated error stays within it
+    /// unless the equations themselves amplify errors.
+    PerUnitTime,
+}
+
 /// How to integrate.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Settings {
@@ -93,6 +106,8 @@ pub struct Settings {
     pub max_steps: usize,
     /// The events, in the order [`System::event`] numbers them.
     pub events: Vec<EventKind>,
+    /// What the tolerances bound.
+    pub error_control: ErrorControl,
 }
 
 /// One occurrence of an event.
@@ -325,6 +340,10 @@ pub fn integrate<S: System>(
     }
 
     let span = t_end - t0;
+    // The error estimate is O(h⁵); per unit time it is O(h⁴), and the step
+    // controller's exponent follows.
+    let per_unit_time = settings.error_control == ErrorControl::PerUnitTime;
+    let exponent = if per_unit_time { 0.25 } else { 0.2 };
     let mut h = initial_step(system, &mut stages, t, &y, span, rtol, atol, &mut run.stats);
     let mut coefficients = vec![0.0; COEFFICIENTS * n];
     let mut fac_old = 1e-4_f64;
@@ -358,10 +377,13 @@ pub fn integrate<S: System>(
             last_rejected = true;
             continue;
         }
-        let error = stages.error(&y, h, |i, old, new| {
+        let mut error = stages.error(&y, h, |i, old, new| {
             atol[i] + rtol * old.abs().max(new.abs()).max(peak[i])
         });
-        let fac11 = error.powf(0.2 - BETA * 0.75);
+        if per_unit_time {
+            error *= span / h;
+        }
+        let fac11 = error.powf(exponent - BETA * 0.75);
         if error <= 1.0 {
             // Accepted.
             let mut fac = fac11 / fac_old.powf(BETA);
@@ -609,6 +631,7 @@ mod tests {
             absolute_tolerance: vec![rtol * 1e-3; n],
             max_steps: 1_000_000,
             events,
+            error_control: ErrorControl::PerStep,
         }
     }
 

@@ -15,7 +15,7 @@ mod roots;
 mod trajectory;
 
 pub use integrator::{
-    EventHit, EventKind, Failure, Outcome, Run, Settings, Stats, System, integrate,
+    ErrorControl, EventHit, EventKind, Failure, Outcome, Run, Settings, Stats, System, integrate,
 };
 pub use roots::{find_crossing, golden_section};
 pub use trajectory::Trajectory;
