@@ -853,13 +853,15 @@ impl<'a> Evaluator<'a> {
     }
 
     /// The table's row times (SI), checked before the run. `None` stands for
-    /// the default rows, which depend on where the run ends.
+    /// the default rows, which depend on where the run ends; the flag says
+    /// whether the times were asked for one by one (and are kept, marked,
+    /// when the run ends before them) or are a grid (cut at the run's end).
     fn table_rows(
         &self,
         block: &SimulateBlock,
         start: f64,
         end: f64,
-    ) -> Result<Option<Vec<f64>>, Box<Diagnostic>> {
+    ) -> Result<Option<(Vec<f64>, bool)>, Box<Diagnostic>> {
         if let Some(extra) = block.tables.get(1) {
             return Err(Box::new(
                 Diagnostic::error(Code::BadSimulation, extra.span, "a second `table` line")
@@ -898,11 +900,12 @@ impl<'a> Evaluator<'a> {
                     ));
                 }
                 // n_rows is a small whole number here.
-                Ok(Some(
+                Ok(Some((
                     (0..n_rows as usize)
                         .map(|row| start + row as f64 * step)
                         .collect(),
-                ))
+                    false,
+                )))
             }
             TableRows::At(times) => {
                 if times.len() > MAX_TABLE_ROWS {
@@ -919,7 +922,7 @@ impl<'a> Evaluator<'a> {
                     .iter()
                     .map(|time| self.time_value(time, "table time"))
                     .collect::<Result<Vec<_>, _>>()
-                    .map(Some)
+                    .map(|times| Some((times, true)))
             }
         }
     }
@@ -1129,12 +1132,16 @@ impl<'a> Evaluator<'a> {
         layout: &Layout,
         trajectory: &Trajectory,
         hits: &[simulate::EventHit],
-        table_times: &Option<Vec<f64>>,
+        table_times: &Option<(Vec<f64>, bool)>,
         columns: Vec<(String, Source<'_>)>,
     ) {
         let (start, final_time) = (trajectory.start(), trajectory.end());
         let mut times: Vec<(f64, Option<usize>)> = match table_times {
-            Some(times) => times.iter().map(|&t| (t, None)).collect(),
+            Some((times, one_by_one)) => times
+                .iter()
+                .filter(|&&t| *one_by_one || t <= final_time)
+                .map(|&t| (t, None))
+                .collect(),
             None => (0..=DEFAULT_TABLE_INTERVALS)
                 .map(|k| {
                     let fraction = f64::from(k) / f64::from(DEFAULT_TABLE_INTERVALS);
