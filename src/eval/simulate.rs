@@ -13,7 +13,7 @@
 use std::sync::Arc;
 
 use super::explain::{Operand, mismatch};
-use super::program::{CompileError, Input, Program};
+use super::program::{CompileError, Input, Op, Program};
 use super::run_model::{PlotSeries, RunColumn, RunEvent, RunReport, RunRow, RunStatus, StateSlots};
 use super::{CellStatus, Evaluation, Evaluator};
 use crate::diag::{Code, Diagnostic};
@@ -32,8 +32,9 @@ use crate::units::{Dimension, DisplayUnit, Quantity, Value, VectorQuantity, pick
 pub const DEFAULT_RELATIVE_TOLERANCE: f64 = 1e-6;
 /// Tightest and loosest relative tolerance accepted.
 const RELATIVE_TOLERANCE_RANGE: (f64, f64) = (1e-13, 1e-2);
-/// Most accepted steps of one run.
-pub const MAX_STEPS: usize = 5_000_000;
+/// Most accepted steps of one run (a step keeps 11 numbers per state
+/// component for the dense output, so this bounds a run's memory).
+pub const MAX_STEPS: usize = 2_000_000;
 /// Most rows of a run's table.
 const MAX_TABLE_ROWS: usize = 1000;
 /// Intervals of a table without `every` or `at`.
@@ -87,6 +88,8 @@ impl Layout {
 
 /// A formula over the run's time and states: compiled when it can be.
 enum Formula<'e> {
+    /// The formula is one input: `x' = v` copies v (the commonest rate).
+    Input(usize),
     Compiled(Program),
     Interpreted(&'e Expr),
 }
@@ -129,6 +132,7 @@ impl System for SheetSystem<'_, '_> {
         for index in 0..self.rates.len() {
             let (_, first, n) = self.layout.states[index];
             match &self.rates[index] {
+                Formula::Input(input) => rates[first] = self.inputs[*input],
                 Formula::Compiled(program) => {
                     rates[first] = program.run_with(&self.inputs, &mut self.stack);
                 }
@@ -417,7 +421,10 @@ impl<'a> Evaluator<'a> {
         let mut rates = Vec::with_capacity(block.states.len());
         for state in &block.states {
             rates.push(match self.compile_over_run(&state.rate, &layout)? {
-                Some(program) => Formula::Compiled(program),
+                Some(program) => match program.ops() {
+                    [Op::Input(input)] => Formula::Input(*input as usize),
+                    _ => Formula::Compiled(program),
+                },
                 None => Formula::Interpreted(&state.rate),
             });
         }
