@@ -300,6 +300,9 @@ pub fn pick_run(evaluated: &Evaluated, line: Option<usize>) -> Result<usize, Str
 /// with event occurrences as extra rows named in the last column.
 pub fn csv(evaluated: &Evaluated, index: usize) -> Option<String> {
     let run = evaluated.runs.get(index)?;
+    if !matches!(run.status, RunStatus::Reached | RunStatus::Stopped) {
+        return None;
+    }
     let trajectory = run.trajectory.as_ref()?;
     let mut out = String::new();
     let quote = |text: &str| {

@@ -450,7 +450,7 @@ impl<'a> Evaluator<'a> {
         }
         report.compiled = rates
             .iter()
-            .all(|rate| matches!(rate, Formula::Compiled(_)));
+            .all(|rate| !matches!(rate, Formula::Interpreted(_)));
 
         let mut absolute_tolerance = vec![0.0; layout.n_slots];
         for (index, &(_, first, n)) in layout.states.iter().enumerate() {
