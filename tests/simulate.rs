@@ -402,3 +402,87 @@ fn run_queries_read_points_extremes_and_work_inside_formulas_and_checks() {
     );
     assert_eq!(evaluated.checks[0].passed(), Some(true));
 }
+
+mod hostile {
+    use heftsheet::eval::evaluate_source;
+    use proptest::prelude::*;
+
+    const HEADS: &[&str] = &[
+        "simulate t from 0 s to 2 s:",
+        "simulate t from 2 s to 0 s:",
+        "simulate t from 0 to 2:",
+        "simulate from 0 s to 2 s:",
+        "simulate t from 0 kg to 2 s:",
+    ];
+
+    const LINES: &[&str] = &[
+        "x' = v",
+        "v' = -k / m * x",
+        "x(0) = 1 m",
+        "v(0) = 0 m/s",
+        "stop when x <= 0 m",
+        "event e when v >= 1 m/s",
+        "tolerance 1e-9",
+        "tolerance x 1 mm",
+        "table every 0.1 s",
+        "table at 1 s, 3 s: x, k * x",
+        "plot x, v, k * x",
+        "x' = v * v",
+        "v' = 1 m^2/s^3 / x",
+        "y(0) = 2",
+        "x'' = 1",
+        "stop x",
+        "table every 0 s",
+        "tolerance -1",
+        "v' = (x at end) / (1 s^2)",
+        "v' = vec(1 m/s^2, 0 m/s^2)",
+        "event e when x >= 1 kg",
+        "plot",
+    ];
+
+    const AFTER: &[&str] = &[
+        "a = x at stop",
+        "b = max of v",
+        "c = t at e",
+        "d = x",
+        "f = (x + 1 m) at 1 s",
+        "check (min of x) <= 2 m",
+    ];
+
+    proptest! {
+        #![proptest_config(ProptestConfig::with_cases(96))]
+        #[test]
+        fn any_mix_of_simulate_lines_is_evaluated_without_panicking(
+            head in 0..HEADS.len(),
+            lines in proptest::collection::vec(0..LINES.len(), 0..10),
+            close in any::<bool>(),
+            after in proptest::collection::vec(0..AFTER.len(), 0..4),
+        ) {
+            let mut sheet = String::from("k = 100 N/m\nm = 1 kg\n");
+            sheet.push_str(HEADS[head]);
+            sheet.push('\n');
+            for line in lines {
+                sheet.push_str("  ");
+                sheet.push_str(LINES[line]);
+                sheet.push('\n');
+            }
+            if close {
+                sheet.push_str("end\n");
+            }
+            for line in after {
+                sheet.push_str(AFTER[line]);
+                sheet.push('\n');
+            }
+            let evaluated = evaluate_source(&sheet);
+            for diagnostic in &evaluated.diagnostics {
+                prop_assert!(diagnostic.span.end() <= sheet.len());
+                prop_assert!(!diagnostic.message.is_empty());
+            }
+            // Every cell is accounted for: a value, or a status saying why not.
+            for cell in evaluated.cells() {
+                let has_value = cell.any_value().is_some();
+                prop_assert_eq!(has_value, cell.status == heftsheet::eval::CellStatus::Ok, "{}", cell.name);
+            }
+        }
+    }
+}
