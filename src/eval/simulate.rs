@@ -317,6 +317,16 @@ impl<'a> Evaluator<'a> {
                 .with_help("write `simulate t from 0 s to 10 s:` with the end after the start"),
             ));
         }
+        if !(end - start).is_finite() {
+            return Err(Box::new(
+                Diagnostic::error(
+                    Code::BadSimulation,
+                    block.end.span,
+                    "the run is too long to represent: its length overflows",
+                )
+                .with_help("give a run length a calculation needs: seconds to hours"),
+            ));
+        }
         report.range = Some((start, end));
         report.time_display = self
             .written_unit(&block.end)
@@ -630,6 +640,18 @@ impl<'a> Evaluator<'a> {
     /// Every state's starting value, checking there is exactly one per
     /// state and none for a name that is not a state.
     fn initial_values(&self, block: &SimulateBlock) -> Result<Vec<Value>, Box<Diagnostic>> {
+        if block.states.is_empty() {
+            return Err(Box::new(
+                Diagnostic::error(
+                    Code::BadSimulation,
+                    block.head,
+                    "this simulate block has no states, so there is nothing to integrate",
+                )
+                .with_help(
+                    "add a state and its rate (`x' = v`) with its starting value (`x(0) = 0 m`)",
+                ),
+            ));
+        }
         let state_names: Vec<&str> = block.states.iter().map(|s| s.name.text.as_str()).collect();
         for initial in &block.initial_values {
             if !state_names.contains(&initial.name.text.as_str()) {

@@ -160,6 +160,14 @@ pub(super) fn link_run_queries(
                     note(of);
                 }
                 match blocks.as_slice() {
+                    [(block, _)] if Some(*block) == own_block => found.push(
+                        Diagnostic::error(
+                            Code::BadRunQuery,
+                            query.value.span,
+                            "a simulate block cannot read its own run: the run is not known while it is being computed",
+                        )
+                        .with_help("use the state itself (`x`), or read the run from a cell after the block"),
+                    ),
                     [(block, _)] => query.block = Some(*block),
                     [] => found.push(
                         Diagnostic::error(

@@ -340,6 +340,10 @@ pub fn integrate<S: System>(
     }
 
     let span = t_end - t0;
+    if !(span.is_finite() && span > 0.0) {
+        run.outcome = Outcome::Failed(Failure::StepTooSmall { t, step: span });
+        return run;
+    }
     // The error estimate is O(h⁵); per unit time it is O(h⁴), and the step
     // controller's exponent follows.
     let per_unit_time = settings.error_control == ErrorControl::PerUnitTime;
@@ -359,7 +363,7 @@ pub fn integrate<S: System>(
         if last {
             h = t_end - t;
         }
-        if h <= 10.0 * f64::EPSILON * t.abs().max(span.abs()) {
+        if h.is_nan() || h <= 10.0 * f64::EPSILON * t.abs().max(span.abs()) {
             run.outcome = Outcome::Failed(Failure::StepTooSmall { t, step: h });
             return run;
         }
@@ -731,6 +735,48 @@ mod tests {
         assert!((at - std::f64::consts::PI / 6.0).abs() < 1e-4, "{at}");
         let (at, low) = run.trajectory.extremum(|_, y| y[0], false);
         assert!((low + 1.0).abs() < 1e-9 && (at - std::f64::consts::PI / 2.0).abs() < 1e-4);
+    }
+
+    #[test]
+    fn per_unit_time_control_bounds_the_accumulated_error() {
+        // 200 periods of cos 2t: the error at the end against the closed
+        // form, per step versus per unit time, at the same tolerance.
+        let span = 200.0 * std::f64::consts::PI;
+        let end_error = |control: ErrorControl| {
+            let mut settings = settings(1e-6, 2, vec![]);
+            settings.error_control = control;
+            let run = integrate(
+                &mut Oscillator { omega: 2.0 },
+                0.0,
+                span,
+                &[1.0, 0.0],
+                &settings,
+            );
+            assert_eq!(run.outcome, Outcome::Reached);
+            let [x, v] = [run.trajectory.last()[0], run.trajectory.last()[1]];
+            // x = cos 2t, v = −2 sin 2t; at t = 200π: x = 1, v = 0.
+            ((x - 1.0).powi(2) + (v / 2.0).powi(2)).sqrt()
+        };
+        let per_step = end_error(ErrorControl::PerStep);
+        let per_unit_time = end_error(ErrorControl::PerUnitTime);
+        assert!(per_unit_time <= 1e-6, "{per_unit_time:e}");
+        assert!(per_step > 10.0 * 1e-6, "per step accumulates: {per_step:e}");
+    }
+
+    #[test]
+    fn a_range_that_cannot_be_represented_fails_at_once() {
+        let run = integrate(
+            &mut Decay { level: -1.0 },
+            -1e308,
+            1e308,
+            &[1.0],
+            &settings(1e-6, 1, vec![]),
+        );
+        assert!(matches!(
+            run.outcome,
+            Outcome::Failed(Failure::StepTooSmall { .. })
+        ));
+        assert_eq!(run.stats.accepted, 0);
     }
 
     /// y′ = −10⁶ (y − cos t): the solution is smooth, but an explicit
