@@ -58,6 +58,14 @@ pub fn write_run(
 ) {
     let run = &evaluated.runs[index];
     let _ = writeln!(out, "  {}  ({})", bold(&run.title), summary(evaluated, run));
+    for state in &run.states {
+        let note = state
+            .start_description
+            .as_deref()
+            .map(|d| format!("  {d}"))
+            .unwrap_or_default();
+        let _ = writeln!(out, "    {}(0) = {}{note}", state.column.label, state.start);
+    }
     if run.rows.is_empty() {
         return;
     }
@@ -105,7 +113,10 @@ pub fn write_run(
             row.events
                 .iter()
                 .filter_map(|&event| run.events.get(event))
-                .map(|event| event.label())
+                .map(|event| match &event.description {
+                    Some(description) => format!("{}  {description}", event.label()),
+                    None => event.label(),
+                })
                 .collect::<Vec<_>>()
                 .join("; ")
         };
@@ -143,6 +154,7 @@ pub struct JsonRun<'a> {
     line: usize,
     time: &'a str,
     states: Vec<&'a str>,
+    starts: Vec<JsonStart<'a>>,
     status: &'static str,
     start_s: Option<f64>,
     end_s: Option<f64>,
@@ -158,9 +170,17 @@ pub struct JsonRun<'a> {
 }
 
 #[derive(Serialize)]
+struct JsonStart<'a> {
+    state: &'a str,
+    value: &'a str,
+    description: Option<&'a str>,
+}
+
+#[derive(Serialize)]
 struct JsonEvent<'a> {
     name: Option<&'a str>,
     condition: &'a str,
+    description: Option<&'a str>,
     line: usize,
     stops: bool,
     times_s: &'a [f64],
@@ -199,6 +219,15 @@ pub fn json_runs<'a>(evaluated: &'a Evaluated, lines: &LineIndex) -> Vec<JsonRun
                 .iter()
                 .map(|state| evaluated.cell_at(state.cell).name)
                 .collect(),
+            starts: run
+                .states
+                .iter()
+                .map(|state| JsonStart {
+                    state: &state.column.label,
+                    value: &state.start,
+                    description: state.start_description.as_deref(),
+                })
+                .collect(),
             status: run.status.as_str(),
             start_s: run.range.map(|(start, _)| start),
             end_s: run.range.map(|(_, end)| end),
@@ -218,6 +247,7 @@ pub fn json_runs<'a>(evaluated: &'a Evaluated, lines: &LineIndex) -> Vec<JsonRun
                 .map(|event| JsonEvent {
                     name: event.name.as_deref(),
                     condition: &event.condition,
+                    description: event.description.as_deref(),
                     line: lines.line_of(event.span.start()) + 1,
                     stops: event.stops,
                     times_s: &event.times,

@@ -46,6 +46,8 @@ pub struct RunEvent {
     pub stops: bool,
     /// Its line.
     pub span: Span,
+    /// Its description, if written.
+    pub description: Option<String>,
     /// Every time it happened, in SI (seconds).
     pub times: Vec<f64>,
 }
@@ -103,6 +105,10 @@ pub struct StateSlots {
     pub first: usize,
     /// 1 for a scalar, 2 or 3 for a vector.
     pub n_components: usize,
+    /// Its starting value as written: `0 m`.
+    pub start: String,
+    /// The starting value's description, if written.
+    pub start_description: Option<String>,
 }
 
 /// What a simulate block did.

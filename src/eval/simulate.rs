@@ -257,6 +257,7 @@ impl<'a> Evaluator<'a> {
                     ),
                     stops: event.stops,
                     span: event.span,
+                    description: event.label.as_ref().map(|label| label.text.clone()),
                     times: Vec::new(),
                 })
                 .collect(),
@@ -378,6 +379,16 @@ impl<'a> Evaluator<'a> {
                     },
                     first,
                     n_components: n,
+                    start: self
+                        .initial_expr(block, index)
+                        .map(|expr| expr.span.text(self.source).to_string())
+                        .unwrap_or_default(),
+                    start_description: block
+                        .initial_values
+                        .iter()
+                        .find(|initial| initial.name.text == state.name.text)
+                        .and_then(|initial| initial.description.as_ref())
+                        .map(|description| description.text.clone()),
                 }
             })
             .collect();

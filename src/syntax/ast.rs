@@ -306,13 +306,15 @@ pub struct StateRate {
     pub span: Span,
 }
 
-/// A state's value at the start: `x(0) = 0 m`.
+/// A state's value at the start: `x(0) = 0 m "on the deck"`.
 #[derive(Clone, Debug, PartialEq)]
 pub struct InitialValue {
     /// The state's name.
     pub name: Ident,
     /// The value.
     pub value: Expr,
+    /// The optional description.
+    pub description: Option<Description>,
     /// The whole line.
     pub span: Span,
 }

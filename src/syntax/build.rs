@@ -236,6 +236,7 @@ pub(crate) fn simulate_line(mut pairs: Pairs<'_, Rule>, offset: usize) -> Built<
             value: exprs
                 .pop()
                 .unwrap_or_else(|| unreachable!("expected a value")),
+            description,
             span,
         }),
         Rule::stop_line | Rule::event_line => {
