@@ -202,7 +202,7 @@ impl Sheet {
         names.reserve(cells.len());
         for (id, &origin) in cells.iter().enumerate() {
             let name = decl(&statements, origin).name;
-            if name.text.is_empty() {
+            if name.text == crate::syntax::ast::UNNAMED_TIME {
                 // A simulate head that did not parse: reported already.
                 broken[id] = true;
                 continue;

@@ -265,6 +265,10 @@ pub enum RunPoint {
     Event(Ident),
 }
 
+/// The time's name of a simulate block whose head did not parse: not an
+/// identifier, so it never clashes with or resolves to a cell.
+pub const UNNAMED_TIME: &str = "(time)";
+
 /// A simulate block: states with their rates and starting values, stop
 /// conditions, events and output choices, integrated from `start` to `end`.
 #[derive(Clone, Debug, PartialEq)]

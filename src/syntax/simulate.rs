@@ -50,7 +50,7 @@ pub(super) fn parse_simulate_block(
             complete = false;
             (
                 crate::syntax::ast::Ident {
-                    text: String::new(),
+                    text: crate::syntax::ast::UNNAMED_TIME.to_string(),
                     span: block.head,
                 },
                 placeholder(block.head.start()),
