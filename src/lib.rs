@@ -14,9 +14,11 @@ pub mod cli;
 pub mod diag;
 pub mod diff;
 pub mod eval;
+pub mod plot;
 pub mod report;
 pub mod review;
 pub mod sheet;
+pub mod simulate;
 pub mod syntax;
 pub mod units;
 

@@ -2,29 +2,80 @@
 //! findings and the caution, as text or JSON.
 
 use std::fmt::Write as _;
-use std::io;
+use std::io::{self, Write as _};
 use std::path::Path;
 
 use anstyle::{AnsiColor, Style};
 
-use super::{EXIT_CLEAN, EXIT_FINDINGS, json, print, read_sheet};
+use super::{EXIT_CLEAN, EXIT_FINDINGS, EXIT_USAGE, json, print, read_sheet, runs};
 use crate::diag::{Severity, render::render};
 use crate::eval::{CellStatus, CheckStatus, Evaluated, OutlineItem, SolveStatus, format_value};
 use crate::units::Value;
 use crate::units::format_significant;
 
+/// What `heft check` prints.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Output {
+    /// The text report.
+    Text,
+    /// The JSON report.
+    Json,
+    /// Every step of a simulate run as CSV (`run`: the line of its block).
+    Csv {
+        /// The `simulate` line of the run, if not the first.
+        run: Option<usize>,
+    },
+    /// A simulate run's plot as SVG.
+    Svg {
+        /// The `simulate` line of the run, if not the first.
+        run: Option<usize>,
+    },
+}
+
 /// Runs `heft check FILE`.
-pub fn run(path: &Path, as_json: bool, deny_warnings: bool, colour: bool) -> io::Result<u8> {
+pub fn run(path: &Path, output: Output, deny_warnings: bool, colour: bool) -> io::Result<u8> {
     let (source, encoding_problem) = read_sheet(path)?;
     let mut evaluated = crate::audit::check_source(&source);
     if let Some(diagnostic) = encoding_problem {
         evaluated.diagnostics.insert(0, diagnostic);
     }
     let file_name = path.display().to_string();
-    let text = if as_json {
-        json::check_report(&file_name, &source, &evaluated)
-    } else {
-        text_report(&file_name, &source, &evaluated, colour)
+    let text = match output {
+        Output::Json => json::check_report(&file_name, &source, &evaluated),
+        Output::Text => text_report(&file_name, &source, &evaluated, colour),
+        Output::Csv { run } | Output::Svg { run } => {
+            // The data goes to standard output; findings go to standard error.
+            let mut stderr = io::stderr();
+            if !evaluated.diagnostics.is_empty() {
+                let _ = write!(
+                    stderr,
+                    "{}",
+                    render(&evaluated.diagnostics, &file_name, &source, colour)
+                );
+            }
+            let index = match runs::pick_run(&evaluated, run) {
+                Ok(index) => index,
+                Err(message) => {
+                    let _ = writeln!(stderr, "heft: {file_name}: {message}");
+                    return Ok(EXIT_USAGE);
+                }
+            };
+            let data = if matches!(output, Output::Csv { .. }) {
+                runs::csv(&evaluated, index)
+            } else {
+                crate::plot::run_svg(&evaluated, index)
+            };
+            match data {
+                Some(data) => data,
+                None => {
+                    let _ = writeln!(
+                        stderr,
+                        "heft: {file_name}: the simulate run did not finish, so there is nothing to export"
+                    );
+                    return Ok(EXIT_FINDINGS);
+                }
+            }
+        }
     };
     print(&text)?;
     let failed = !evaluated.is_clean() || (deny_warnings && evaluated.count(Severity::Warning) > 0);
@@ -87,6 +138,13 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
                     section_of[id] = current;
                 }
             }
+            OutlineItem::Simulate(run) => {
+                let run = &evaluated.runs[*run];
+                section_of[run.time] = current;
+                for state in &run.states {
+                    section_of[state.cell] = current;
+                }
+            }
             _ => {}
         }
     }
@@ -105,6 +163,7 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
     let mut printed_section = None;
     let mut seen_sections = std::collections::HashSet::new();
     let mut printed_block = None;
+    let mut printed_run = None;
     for id in evaluated.order() {
         let cell = evaluated.cell_at(id);
         if section_of[id] != printed_section {
@@ -121,6 +180,12 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
             write_solve_block(&mut out, evaluated, report, &painter);
         }
         let range = evaluated.ranges.get(id).and_then(Option::as_ref);
+        if let Some(run) = evaluated.run_of(id)
+            && Some(run) != printed_run
+        {
+            printed_run = Some(run);
+            runs::write_run(&mut out, evaluated, run, &|text| painter.paint(BOLD, text));
+        }
         let value = match (cell.status, cell.any_value()) {
             (CellStatus::Ok, Some(value)) => {
                 let shown = format_value(value, cell.display, sig_figs);

@@ -22,6 +22,7 @@ struct Report<'a> {
     checks: Vec<Check<'a>>,
     solves: Vec<Solve<'a>>,
     cases: Vec<JsonCase<'a>>,
+    runs: Vec<super::runs::JsonRun<'a>>,
     diagnostics: Vec<JsonDiagnostic<'a>>,
     review: JsonReview,
 }
@@ -342,6 +343,7 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
         checks,
         solves,
         cases,
+        runs: super::runs::json_runs(evaluated, lines),
         diagnostics: evaluated
             .diagnostics
             .iter()

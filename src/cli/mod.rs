@@ -8,6 +8,7 @@ mod diff;
 mod json;
 mod report;
 mod review;
+mod runs;
 mod units_list;
 
 use std::io::{self, IsTerminal, Write};
@@ -52,6 +53,16 @@ pub enum Command {
         /// Exit 1 on warnings as well as errors.
         #[arg(long)]
         deny_warnings: bool,
+        /// Print every step of a simulate run as CSV instead of the report.
+        #[arg(long, conflicts_with_all = ["json", "svg"])]
+        csv: bool,
+        /// Print the plot of a simulate run as SVG instead of the report.
+        #[arg(long, conflicts_with = "json")]
+        svg: bool,
+        /// With --csv or --svg: the run whose `simulate` line is LINE
+        /// (default: the sheet's first simulate block).
+        #[arg(long, value_name = "LINE")]
+        run: Option<usize>,
     },
     /// Convert a quantity to another unit and show the exact factor chain.
     Convert {
@@ -134,7 +145,18 @@ pub fn run(args: Args) -> ExitCode {
             file,
             json,
             deny_warnings,
-        } => check::run(&file, json, deny_warnings, colour),
+            csv,
+            svg,
+            run,
+        } => {
+            let output = match (json, csv, svg) {
+                (true, _, _) => check::Output::Json,
+                (_, true, _) => check::Output::Csv { run },
+                (_, _, true) => check::Output::Svg { run },
+                _ => check::Output::Text,
+            };
+            check::run(&file, output, deny_warnings, colour)
+        }
         Command::Convert { quantity, unit } => convert::run(&quantity, &unit, colour),
         Command::Units => units_list::run(),
         Command::Report { file, output } => report::run(&file, &output),

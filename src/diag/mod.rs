@@ -95,6 +95,23 @@ pub enum Code {
     UnusedInput,
     /// A cell named like a built-in constant (`g0`, `pi`).
     ShadowedConstant,
+    /// A state's rate of change that is not the state's dimension per time.
+    RateMismatch,
+    /// A simulate block that cannot run as written: a state without a rate
+    /// or a starting value, an empty time range, a bad tolerance or table.
+    BadSimulation,
+    /// A simulate block whose equations are stiff: explicit integration
+    /// would crawl, so heft stops and says so.
+    StiffSystem,
+    /// A run that could not be integrated to its end: a rate that is not
+    /// finite, a step size that vanished, or too many steps.
+    IntegrationFailed,
+    /// A value asked of a run at a point the run does not have: a stop
+    /// that never happened, an event that did not occur, a time outside it.
+    NotInRun,
+    /// A run query that names no state of a simulate block (or states of
+    /// two), or a state used outside a run query.
+    BadRunQuery,
 }
 
 impl Code {
@@ -130,11 +147,17 @@ impl Code {
             Code::MixedSystems => "mixed-systems",
             Code::UnusedInput => "unused-input",
             Code::ShadowedConstant => "shadowed-constant",
+            Code::RateMismatch => "rate-mismatch",
+            Code::BadSimulation => "bad-simulation",
+            Code::StiffSystem => "stiff-system",
+            Code::IntegrationFailed => "integration-failed",
+            Code::NotInRun => "not-in-run",
+            Code::BadRunQuery => "bad-run-query",
         }
     }
 
     /// Every code, for documentation and tests.
-    pub const ALL: [Code; 29] = [
+    pub const ALL: [Code; 35] = [
         Code::ParseError,
         Code::EncodingError,
         Code::HeaderError,
@@ -164,6 +187,12 @@ impl Code {
         Code::MixedSystems,
         Code::UnusedInput,
         Code::ShadowedConstant,
+        Code::RateMismatch,
+        Code::BadSimulation,
+        Code::StiffSystem,
+        Code::IntegrationFailed,
+        Code::NotInRun,
+        Code::BadRunQuery,
     ];
 }
 

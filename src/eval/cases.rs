@@ -145,6 +145,9 @@ impl Evaluator<'_> {
                     statement,
                     unknowns,
                 } => self.evaluate_solve(*statement, unknowns),
+                crate::sheet::Node::Simulate { statement, cells } => {
+                    self.evaluate_simulate(*statement, cells)
+                }
             }
         }
     }

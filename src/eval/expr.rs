@@ -84,6 +84,7 @@ impl<'a> Evaluator<'a> {
                 function: name,
                 args,
             } => self.call(&name.text, name.span, args, expr.span)?,
+            ExprKind::RunQuery(query) => self.run_query(query, expr.span)?,
         };
         if value.is_finite() {
             Ok(value)
@@ -101,7 +102,7 @@ impl<'a> Evaluator<'a> {
 
     fn lookup(&self, name: &NameRef, span: Span) -> Evaluation {
         let value = match name.target {
-            Target::Cell(id) => self.values[id],
+            Target::Cell(id) => self.probed(id).or(self.values[id]),
             Target::Constant(index) => units::CONSTANTS
                 .get(index)
                 .map(|constant| Value::Scalar(constant.value)),

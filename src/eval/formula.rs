@@ -165,6 +165,8 @@ impl Evaluated {
                 args: args.iter().map(|arg| self.term(arg)).collect(),
             },
             ExprKind::Invalid => Term::Invalid(text(expr.span)),
+            // A value read from a run reads best as written (`v at stop`).
+            ExprKind::RunQuery(_) => Term::Number(text(expr.span)),
         }
     }
 }

@@ -11,6 +11,8 @@ pub mod functions;
 mod model;
 pub mod program;
 mod ranges;
+mod run_model;
+mod simulate;
 mod solve;
 mod vectors;
 
@@ -20,8 +22,10 @@ pub use model::{
     CheckResult, CheckStatus, EquationReport, Evaluated, FreeBody, OutlineItem, Sensitivity,
     SolveReport, SolveStatus, Spread,
 };
+pub use run_model::{PlotSeries, RunColumn, RunEvent, RunReport, RunRow, RunStatus, StateSlots};
+pub use simulate::{DEFAULT_RELATIVE_TOLERANCE, MAX_STEPS};
 
-use std::cell::RefCell;
+use std::cell::{Cell, RefCell};
 use std::sync::Arc;
 
 use rustc_hash::FxHashMap;
@@ -129,6 +133,12 @@ struct Evaluator<'a> {
     overrides: FxHashMap<CellId, &'a Override>,
     solves: Vec<SolveReport>,
     diagnostics: Vec<Diagnostic>,
+    /// Simulate blocks' runs, in evaluation order.
+    runs: Vec<RunReport>,
+    /// While a point of a run is probed: the run's first cell and number of
+    /// cells (time and states), whose values `probe_values` then holds.
+    probe_range: Cell<Option<(CellId, usize)>>,
+    probe_values: RefCell<Vec<Value>>,
 }
 
 impl<'a> Evaluator<'a> {
@@ -148,6 +158,9 @@ impl<'a> Evaluator<'a> {
             overrides: FxHashMap::default(),
             solves: Vec::new(),
             diagnostics: sheet.diagnostics.clone(),
+            runs: Vec::new(),
+            probe_range: Cell::new(None),
+            probe_values: RefCell::new(Vec::new()),
         }
     }
 
@@ -553,6 +566,16 @@ impl<'a> Evaluator<'a> {
                 Item::Invalid(index) => OutlineItem::Invalid {
                     span: sheet.statements[index].span,
                 },
+                Item::Simulate(statement) => match self
+                    .runs
+                    .iter()
+                    .position(|report| report.statement == statement)
+                {
+                    Some(report) => OutlineItem::Simulate(report),
+                    None => OutlineItem::Invalid {
+                        span: sheet.statements[statement].span,
+                    },
+                },
             })
             .collect();
         let mut diagnostics = std::mem::take(&mut self.diagnostics);
@@ -567,6 +590,7 @@ impl<'a> Evaluator<'a> {
             cases: Vec::new(),
             case_results: Vec::new(),
             governing: Vec::new(),
+            runs: std::mem::take(&mut self.runs),
             outline,
             diagnostics,
             lines,

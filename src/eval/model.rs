@@ -346,6 +346,8 @@ pub enum OutlineItem {
         /// Where it is.
         span: Span,
     },
+    /// A simulate block, by index into [`Evaluated::runs`].
+    Simulate(usize),
 }
 
 fn tolerance_span(tolerance: &crate::syntax::ast::Tolerance) -> Span {
@@ -375,6 +377,8 @@ pub struct Evaluated {
     /// For each check, the case that governs it (highest utilization):
     /// `None` for the sheet as written, `Some(index into cases)` otherwise.
     pub governing: Vec<Option<usize>>,
+    /// Simulate blocks' runs, in evaluation order.
+    pub runs: Vec<super::RunReport>,
     /// Headings, notes, cells, solve blocks and checks in file order.
     pub outline: Vec<OutlineItem>,
     /// Every finding, sorted by position.
@@ -420,6 +424,7 @@ impl Evaluated {
                     expr.span.to(tolerance_span(tolerance)).text(&self.source)
                 }
                 (Some(expr), None) => expr.span.text(&self.source),
+                (None, _) if self.sheet.is_simulated(id) => "(simulated)",
                 (None, _) => "(solved)",
             },
             description: cell.description.map(|d| d.text.as_str()),
@@ -475,6 +480,14 @@ impl Evaluated {
                 })
             })
             .collect()
+    }
+
+    /// The run of the simulate block that gives a cell (its time or a
+    /// state), as an index into [`Evaluated::runs`].
+    pub fn run_of(&self, id: CellId) -> Option<usize> {
+        self.runs
+            .iter()
+            .position(|run| run.time == id || run.states.iter().any(|s| s.cell == id))
     }
 
     /// The cell with this name.

@@ -137,7 +137,7 @@ impl Evaluator<'_> {
             .iter()
             .filter_map(|&node| match &self.sheet.nodes[node] {
                 Node::Cell(id) => Some(*id),
-                Node::Solve { .. } => None,
+                Node::Solve { .. } | Node::Simulate { .. } => None,
             })
             .collect()
     }

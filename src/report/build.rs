@@ -6,7 +6,7 @@ use std::collections::{BTreeSet, HashMap};
 
 use super::math::{self, Names};
 use super::model::{
-    Block, Callout, CellBlock, CheckBlock, Document, MarkLine, Piece, Rich, Section, Table,
+    Block, Callout, CellBlock, CheckBlock, Document, Figure, MarkLine, Piece, Rich, Section, Table,
     TitleBlock, Tone,
 };
 use super::svg;
@@ -221,6 +221,7 @@ impl<'a> Builder<'a> {
                     self.check_block(*index, &evaluated.checks[*index]),
                 ))),
                 OutlineItem::Solve(index) => current.blocks.extend(self.solve_blocks(*index)),
+                OutlineItem::Simulate(index) => current.blocks.extend(self.run_blocks(*index)),
                 // The load cases are tabulated in their own section.
                 OutlineItem::Case(_) => {}
                 OutlineItem::Invalid { span } => current.blocks.push(Block::Unparsed {
@@ -405,6 +406,87 @@ impl<'a> Builder<'a> {
                 rows,
             })],
         })
+    }
+
+    /// A simulate block: what the run did, its table and its plot.
+    fn run_blocks(&self, index: usize) -> Vec<Block> {
+        let evaluated = self.evaluated;
+        let Some(run) = evaluated.runs.get(index) else {
+            return Vec::new();
+        };
+        let sig_figs = evaluated.header().sig_figs;
+        let time = |t: f64| {
+            crate::eval::format_value(
+                crate::units::Value::Scalar(crate::units::Quantity::new(
+                    t,
+                    crate::units::Dimension::TIME,
+                )),
+                &run.time_display,
+                sig_figs,
+            )
+        };
+        let ended = match (run.status, run.final_time()) {
+            (crate::eval::RunStatus::Stopped, Some(end)) => {
+                let by = run
+                    .stopped_by
+                    .and_then(|event| run.events.get(event))
+                    .map(|event| event.label().to_string())
+                    .unwrap_or_default();
+                format!("stopped at {} ({by})", time(end))
+            }
+            (crate::eval::RunStatus::Reached, Some(end)) => {
+                format!("reached its end at {}", time(end))
+            }
+            (crate::eval::RunStatus::Failed, _) => "failed: see the finding".to_string(),
+            _ => "not run: see the findings".to_string(),
+        };
+        let mut blocks = vec![Block::Paragraph(Rich::text(format!(
+            "{}: integrated with Dormand–Prince 5(4), {} steps, relative tolerance {}; the run {ended}.",
+            run.title,
+            run.stats.accepted,
+            format_significant(run.relative_tolerance, 2)
+        )))];
+        if !run.rows.is_empty() {
+            let mut columns = vec![format!(
+                "{} [{}]",
+                evaluated.cell_at(run.time).name,
+                run.time_display.text
+            )];
+            columns.extend(run.columns.iter().map(|column| {
+                if column.display.text.is_empty() {
+                    column.label.clone()
+                } else {
+                    format!("{} [{}]", column.label, column.display.text)
+                }
+            }));
+            let rows = run
+                .rows
+                .iter()
+                .map(|row| {
+                    let mut cells = vec![Rich::text(format_significant(
+                        run.time_display.value_of(row.time),
+                        sig_figs,
+                    ))];
+                    cells.extend(run.columns.iter().zip(&row.values).map(|(column, value)| {
+                        Rich::text(value.map_or("—".to_string(), |v| match v {
+                            crate::units::Value::Scalar(q) => {
+                                format_significant(column.display.value_of(q.si), sig_figs)
+                            }
+                            vector => crate::eval::format_value(vector, &column.display, sig_figs),
+                        }))
+                    }));
+                    cells
+                })
+                .collect();
+            blocks.push(Block::Table(Table { columns, rows }));
+        }
+        if let Some(svg) = crate::plot::run_svg(evaluated, index) {
+            blocks.push(Block::Figure(Figure {
+                svg,
+                caption: format!("Run of {}", run.title),
+            }));
+        }
+        blocks
     }
 
     /// A solve block: its equations with their residuals, then the cells it

@@ -164,7 +164,10 @@ impl Review {
                     });
                     continue;
                 }
-                StatementKind::Cell(_) | StatementKind::Body(_) | StatementKind::Solve(_) => {
+                StatementKind::Cell(_)
+                | StatementKind::Body(_)
+                | StatementKind::Solve(_)
+                | StatementKind::Simulate(_) => {
                     // A solve block defines all its unknowns; a mark below it
                     // is about the first.
                     let first = next_cell;

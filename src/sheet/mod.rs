@@ -3,6 +3,7 @@
 
 mod graph;
 mod header;
+mod runs;
 
 use rustc_hash::FxHashMap as HashMap;
 
@@ -11,8 +12,8 @@ pub use header::{DEFAULT_SIG_FIGS, Header, read_header};
 
 use crate::diag::{Code, Diagnostic};
 use crate::syntax::ast::{
-    BodyDef, CaseBlock, CellDef, CheckDef, Description, Expr, ExprKind, Ident, SolveBlock,
-    Statement, StatementKind, Target, Tolerance, UnitExpr,
+    BodyDef, CaseBlock, CellDef, CheckDef, Description, Expr, ExprKind, Ident, SimulateBlock,
+    SolveBlock, Statement, StatementKind, Target, Tolerance, UnitExpr,
 };
 use crate::syntax::{self, ParsedSheet, Span};
 use crate::units;
@@ -36,6 +37,14 @@ pub enum CellOrigin {
         /// The solve block's statement index.
         statement: usize,
         /// Which unknown of the block.
+        index: usize,
+    },
+    /// The time (index 0) or a state (index 1, 2, …) of a simulate block;
+    /// its value after evaluation is the one at the end of the run.
+    Simulated {
+        /// The simulate block's statement index.
+        statement: usize,
+        /// 0 for the time, k for the k-th state.
         index: usize,
     },
 }
@@ -66,6 +75,13 @@ pub enum Node {
         /// Its unknowns' cells, in written order.
         unknowns: Vec<CellId>,
     },
+    /// A simulate block.
+    Simulate {
+        /// The block's statement index.
+        statement: usize,
+        /// Its time's cell, then its states' cells in written order.
+        cells: Vec<CellId>,
+    },
 }
 
 /// What a statement contributes to the sheet, in file order.
@@ -85,6 +101,8 @@ pub enum Item {
     Solve(usize),
     /// A load case, at this statement index.
     Case(usize),
+    /// A simulate block, at this statement index.
+    Simulate(usize),
 }
 
 /// A whole sheet, parsed and linked: everything the evaluator needs.
@@ -179,6 +197,15 @@ impl Sheet {
                     Item::Case(index)
                 }
                 StatementKind::Invalid => Item::Invalid(index),
+                StatementKind::Simulate(block) => {
+                    cells.extend(
+                        (0..=block.states.len()).map(|variable| CellOrigin::Simulated {
+                            statement: index,
+                            index: variable,
+                        }),
+                    );
+                    Item::Simulate(index)
+                }
                 // Review marks and sign-offs are the checker's record, not
                 // content to evaluate: the `review` module reads them.
                 StatementKind::Review(_) | StatementKind::SignOff(_) => continue,
@@ -191,6 +218,11 @@ impl Sheet {
         names.reserve(cells.len());
         for (id, &origin) in cells.iter().enumerate() {
             let name = decl(&statements, origin).name;
+            if name.text == crate::syntax::ast::UNNAMED_TIME {
+                // A simulate head that did not parse: reported already.
+                broken[id] = true;
+                continue;
+            }
             if let Some(&first) = names.get(&name.text) {
                 let first_span = decl(&statements, cells[first]).name.span;
                 diagnostics.push(
@@ -207,6 +239,8 @@ impl Sheet {
                 names.insert(name.text.clone(), id);
             }
         }
+
+        runs::name_run_events(&mut statements, &names, &mut diagnostics);
 
         let mut suggestions_left = MAX_SUGGESTIONS;
         let mut resolve_uses = |exprs: &mut dyn Iterator<Item = &mut Expr>,
@@ -318,13 +352,16 @@ impl Sheet {
                             Some((id, CellOrigin::Formula { .. })) => {
                                 replacement.cell.target = Target::Cell(id)
                             }
-                            Some((_, CellOrigin::Unknown { .. })) => {
+                            Some((
+                                _,
+                                CellOrigin::Unknown { .. } | CellOrigin::Simulated { .. },
+                            )) => {
                                 ok = false;
                                 diagnostics.push(
                                     Diagnostic::error(
                                         Code::UndefinedName,
                                         replacement.cell_span,
-                                        format!("`{}` is an unknown of a solve block; a case cannot set it", replacement.cell.text),
+                                        format!("`{}` is given by a solve or simulate block; a case cannot set it", replacement.cell.text),
                                     )
                                     .with_help("override the inputs the solve block uses instead"),
                                 );
@@ -350,6 +387,18 @@ impl Sheet {
                     }
                     broken_cases.push(!ok);
                 }
+                StatementKind::Simulate(block) => {
+                    let first = uses.len();
+                    let own: Vec<CellId> = (first..=first + block.states.len()).collect();
+                    let complete = block.complete;
+                    let (mut block_uses, ok) =
+                        resolve_uses(&mut block.exprs_mut(), &mut diagnostics);
+                    block_uses.retain(|id| !own.contains(id));
+                    for id in own {
+                        broken[id] |= !ok || !complete;
+                        uses.push(block_uses.clone());
+                    }
+                }
                 StatementKind::Heading { .. }
                 | StatementKind::Note { .. }
                 | StatementKind::Review(_)
@@ -357,6 +406,14 @@ impl Sheet {
                 | StatementKind::Invalid => {}
             }
         }
+        runs::link_run_queries(
+            &mut statements,
+            &cells,
+            &checks,
+            &mut broken,
+            &mut broken_checks,
+            &mut diagnostics,
+        );
 
         // One node per formula cell and per solve block.
         let mut nodes = Vec::new();
@@ -368,6 +425,19 @@ impl Sheet {
                     node_of_cell[id] = nodes.len();
                     nodes.push(Node::Cell(id));
                     id += 1;
+                }
+                CellOrigin::Simulated { statement, .. } => {
+                    let members: Vec<CellId> = (id..cells.len())
+                        .take_while(|&other| matches!(cells[other], CellOrigin::Simulated { statement: s, .. } if s == statement))
+                        .collect();
+                    for &member in &members {
+                        node_of_cell[member] = nodes.len();
+                    }
+                    id += members.len();
+                    nodes.push(Node::Simulate {
+                        statement,
+                        cells: members,
+                    });
                 }
                 CellOrigin::Unknown { statement, .. } => {
                     let unknowns: Vec<CellId> = (id..cells.len())
@@ -390,6 +460,7 @@ impl Sheet {
                 let first = match node {
                     Node::Cell(id) => *id,
                     Node::Solve { unknowns, .. } => unknowns.first().copied().unwrap_or_default(),
+                    Node::Simulate { cells, .. } => cells.first().copied().unwrap_or_default(),
                 };
                 let mut used: Vec<NodeId> = uses
                     .get(first)
@@ -412,6 +483,7 @@ impl Sheet {
                     .flat_map(|&node| match &nodes[node] {
                         Node::Cell(id) => vec![*id],
                         Node::Solve { unknowns, .. } => unknowns.clone(),
+                        Node::Simulate { cells, .. } => cells.clone(),
                     })
                     .collect();
                 members.sort_unstable();
@@ -497,7 +569,9 @@ impl Sheet {
     /// The index of the statement that defines a cell.
     pub fn cell_statement(&self, id: CellId) -> usize {
         match self.cells[id] {
-            CellOrigin::Formula { statement } | CellOrigin::Unknown { statement, .. } => statement,
+            CellOrigin::Formula { statement }
+            | CellOrigin::Unknown { statement, .. }
+            | CellOrigin::Simulated { statement, .. } => statement,
         }
     }
 
@@ -522,12 +596,25 @@ impl Sheet {
         }
     }
 
+    /// The simulate block at a statement index, if it is one.
+    pub fn simulate_block(&self, statement: usize) -> Option<&SimulateBlock> {
+        match &self.statements.get(statement)?.kind {
+            StatementKind::Simulate(block) => Some(block),
+            _ => None,
+        }
+    }
+
     /// The tolerance written on a cell, if any.
     pub fn tolerance(&self, id: CellId) -> Option<&Tolerance> {
         match &self.statements[self.cell_statement(id)].kind {
             StatementKind::Cell(cell) => cell.tolerance.as_ref(),
             _ => None,
         }
+    }
+
+    /// Whether a cell is the time or a state of a simulate block.
+    pub fn is_simulated(&self, id: CellId) -> bool {
+        matches!(self.cells[id], CellOrigin::Simulated { .. })
     }
 
     /// The body statement defining a cell, if the cell is a body's resultant.
@@ -546,6 +633,7 @@ impl Sheet {
             .flat_map(|&node| match &self.nodes[node] {
                 Node::Cell(id) => std::slice::from_ref(id).iter().copied(),
                 Node::Solve { unknowns, .. } => unknowns.iter().copied(),
+                Node::Simulate { cells, .. } => cells.iter().copied(),
             })
     }
 }
@@ -569,6 +657,24 @@ fn decl(statements: &[Statement], origin: CellOrigin) -> CellDecl<'_> {
                 }
             }
             other => unreachable!("expected a solve block, found {other:?}"),
+        },
+        CellOrigin::Simulated { statement, index } => match &statements[statement].kind {
+            StatementKind::Simulate(block) if index == 0 => CellDecl {
+                name: &block.time,
+                unit: None,
+                expr: None,
+                description: None,
+            },
+            StatementKind::Simulate(block) => {
+                let state = &block.states[index - 1];
+                CellDecl {
+                    name: &state.name,
+                    unit: None,
+                    expr: None,
+                    description: state.description.as_ref(),
+                }
+            }
+            other => unreachable!("expected a simulate block, found {other:?}"),
         },
     }
 }

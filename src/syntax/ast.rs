@@ -45,6 +45,8 @@ pub enum StatementKind {
     /// A checker's sign-off of the sheet as it stands:
     /// `signoff by "K. Brandt" on 2026-12-03 fingerprint 5e0c… cells m_skid:1a2b3c4d …`.
     SignOff(Box<SignOff>),
+    /// Equations of motion integrated over time: `simulate t from 0 s to 5 s: … end`.
+    Simulate(Box<SimulateBlock>),
 }
 
 /// What a review mark says about the item it is attached to.
@@ -358,6 +360,165 @@ pub enum ExprKind {
         /// The arguments.
         args: Vec<Expr>,
     },
+    /// A value read from a simulate run: `v at stop`, `max of k * x`.
+    RunQuery(Box<RunQuery>),
+}
+
+/// A value read from a simulate run: `value at point`, or `max of value`
+/// (the value at its own maximum).
+#[derive(Clone, Debug, PartialEq)]
+pub struct RunQuery {
+    /// What is read: an expression of the run's states and time (and cells).
+    pub value: Expr,
+    /// Where in the run.
+    pub point: RunPoint,
+    /// The statement index of the simulate block whose states `value`
+    /// names; filled in by linking, like [`NameRef::target`].
+    pub block: Option<usize>,
+}
+
+/// A point of a simulate run.
+#[derive(Clone, Debug, PartialEq)]
+pub enum RunPoint {
+    /// `at start`
+    Start,
+    /// `at end`: where the run ended (the stop, or the end time).
+    End,
+    /// `at stop`: where a stop condition ended the run.
+    Stop,
+    /// `at max of expr`, `at min of expr`; also `max of expr` on its own.
+    Extremum {
+        /// Largest (true) or smallest.
+        maximum: bool,
+        /// The expression whose extremum is sought.
+        of: Expr,
+    },
+    /// `at 2 s`, `at t_check`: a time.
+    Time(Expr),
+    /// `at slow`: the first time a named event happened (linking turns a
+    /// bare name that is one of the block's events into this).
+    Event(Ident),
+}
+
+/// The time's name of a simulate block whose head did not parse: not an
+/// identifier, so it never clashes with or resolves to a cell.
+pub const UNNAMED_TIME: &str = "(time)";
+
+/// A simulate block: states with their rates and starting values, stop
+/// conditions, events and output choices, integrated from `start` to `end`.
+#[derive(Clone, Debug, PartialEq)]
+pub struct SimulateBlock {
+    /// The time variable's name (`t`), a cell after the block.
+    pub time: Ident,
+    /// When the run starts.
+    pub start: Expr,
+    /// When it ends unless a stop condition ends it first.
+    pub end: Expr,
+    /// The states, in written order: `x' = v`.
+    pub states: Vec<StateRate>,
+    /// Starting values: `x(0) = 0 m`.
+    pub initial_values: Vec<InitialValue>,
+    /// Stop conditions and named events, in written order.
+    pub events: Vec<EventDef>,
+    /// Tolerances: `tolerance 1e-8`, `tolerance x 1 mm`.
+    pub tolerances: Vec<ToleranceDef>,
+    /// The table of the run: `table every 0.5 s: x, v`.
+    pub tables: Vec<TableDef>,
+    /// The plotted series: `plot x, v`.
+    pub plots: Vec<PlotDef>,
+    /// Whether every line parsed and the block is closed by `end`.
+    pub complete: bool,
+    /// The `simulate …:` line.
+    pub head: Span,
+}
+
+/// A state and its rate of change: `v' = g0 - c / m * v * abs(v) "speed"`.
+#[derive(Clone, Debug, PartialEq)]
+pub struct StateRate {
+    /// The state's name, a cell after the block (its final value).
+    pub name: Ident,
+    /// The rate of change, per unit time.
+    pub rate: Expr,
+    /// The optional description.
+    pub description: Option<Description>,
+    /// The whole line.
+    pub span: Span,
+}
+
+/// A state's value at the start: `x(0) = 0 m "on the deck"`.
+#[derive(Clone, Debug, PartialEq)]
+pub struct InitialValue {
+    /// The state's name.
+    pub name: Ident,
+    /// The value.
+    pub value: Expr,
+    /// The optional description.
+    pub description: Option<Description>,
+    /// The whole line.
+    pub span: Span,
+}
+
+/// A condition watched over the run: `stop when x >= h` or
+/// `event slow when v <= 1 m/s`.
+#[derive(Clone, Debug, PartialEq)]
+pub struct EventDef {
+    /// The event's name (optional for a stop).
+    pub name: Option<Ident>,
+    /// Whether it ends the run.
+    pub stops: bool,
+    /// Left side of the condition.
+    pub lhs: Expr,
+    /// The comparison.
+    pub comparison: Comparison,
+    /// Right side.
+    pub rhs: Expr,
+    /// The optional label.
+    pub label: Option<Description>,
+    /// The whole line.
+    pub span: Span,
+}
+
+/// An error tolerance: `tolerance 1e-8` (relative, every state) or
+/// `tolerance x 1 mm` (absolute, one state).
+#[derive(Clone, Debug, PartialEq)]
+pub struct ToleranceDef {
+    /// The state, for an absolute tolerance.
+    pub state: Option<Ident>,
+    /// The tolerance.
+    pub value: Expr,
+    /// The whole line.
+    pub span: Span,
+}
+
+/// The run's table: `table every 0.5 s: x, v` or `table at 1 s, 2 s`.
+#[derive(Clone, Debug, PartialEq)]
+pub struct TableDef {
+    /// Which rows.
+    pub rows: TableRows,
+    /// The columns after the time (every state when empty).
+    pub columns: Vec<Expr>,
+    /// The whole line.
+    pub span: Span,
+}
+
+/// The rows of a run's table.
+#[derive(Clone, Debug, PartialEq)]
+pub enum TableRows {
+    /// Ten equal intervals of the run.
+    Default,
+    /// `every 0.5 s` from the start.
+    Every(Expr),
+    /// `at 1 s, 2 s`.
+    At(Vec<Expr>),
+}
+
+/// The plotted series: `plot x, v, k * x`.
+#[derive(Clone, Debug, PartialEq)]
+pub struct PlotDef {
+    /// The series, each an expression of the states and time.
+    pub series: Vec<Expr>,
+    /// The whole line.
+    pub span: Span,
 }
 
 /// A name used in a formula, with the slot that linking fills in.
@@ -445,6 +606,15 @@ impl Expr {
             ExprKind::Call { args, .. } => {
                 args.iter_mut().for_each(|arg| arg.walk_names_mut(visit))
             }
+            ExprKind::RunQuery(query) => {
+                query.value.walk_names_mut(visit);
+                match &mut query.point {
+                    RunPoint::Extremum { of: expr, .. } | RunPoint::Time(expr) => {
+                        expr.walk_names_mut(visit)
+                    }
+                    RunPoint::Start | RunPoint::End | RunPoint::Stop | RunPoint::Event(_) => {}
+                }
+            }
             ExprKind::Number(_)
             | ExprKind::Quantity { .. }
             | ExprKind::Slope { .. }
@@ -465,6 +635,13 @@ impl Expr {
                 rhs.walk(visit);
             }
             ExprKind::Call { args, .. } => args.iter().for_each(|arg| arg.walk(visit)),
+            ExprKind::RunQuery(query) => {
+                query.value.walk(visit);
+                match &query.point {
+                    RunPoint::Extremum { of: expr, .. } | RunPoint::Time(expr) => expr.walk(visit),
+                    RunPoint::Start | RunPoint::End | RunPoint::Stop | RunPoint::Event(_) => {}
+                }
+            }
             ExprKind::Number(_)
             | ExprKind::Quantity { .. }
             | ExprKind::Slope { .. }
@@ -472,5 +649,74 @@ impl Expr {
             | ExprKind::Invalid
             | ExprKind::Name(_) => {}
         }
+    }
+
+    /// Calls `visit` on every run query in this expression (outer queries
+    /// first), so linking can settle what their points name.
+    pub fn walk_run_queries_mut(&mut self, visit: &mut impl FnMut(&mut RunQuery)) {
+        match &mut self.kind {
+            ExprKind::RunQuery(query) => {
+                visit(query);
+                query.value.walk_run_queries_mut(visit);
+                match &mut query.point {
+                    RunPoint::Extremum { of: expr, .. } | RunPoint::Time(expr) => {
+                        expr.walk_run_queries_mut(visit)
+                    }
+                    RunPoint::Start | RunPoint::End | RunPoint::Stop | RunPoint::Event(_) => {}
+                }
+            }
+            ExprKind::Negate(inner) | ExprKind::Component { vector: inner, .. } => {
+                inner.walk_run_queries_mut(visit)
+            }
+            ExprKind::Binary { lhs, rhs, .. } => {
+                lhs.walk_run_queries_mut(visit);
+                rhs.walk_run_queries_mut(visit);
+            }
+            ExprKind::Call { args, .. } => args
+                .iter_mut()
+                .for_each(|arg| arg.walk_run_queries_mut(visit)),
+            ExprKind::Number(_)
+            | ExprKind::Quantity { .. }
+            | ExprKind::Slope { .. }
+            | ExprKind::UnitValue(_)
+            | ExprKind::Invalid
+            | ExprKind::Name(_) => {}
+        }
+    }
+}
+
+impl SimulateBlock {
+    /// Every expression of the block, mutably (for linking).
+    pub fn exprs_mut(&mut self) -> impl Iterator<Item = &mut Expr> {
+        let SimulateBlock {
+            start,
+            end,
+            states,
+            initial_values,
+            events,
+            tolerances,
+            tables,
+            plots,
+            ..
+        } = self;
+        [start, end]
+            .into_iter()
+            .chain(states.iter_mut().map(|state| &mut state.rate))
+            .chain(initial_values.iter_mut().map(|initial| &mut initial.value))
+            .chain(
+                events
+                    .iter_mut()
+                    .flat_map(|event| [&mut event.lhs, &mut event.rhs]),
+            )
+            .chain(tolerances.iter_mut().map(|tolerance| &mut tolerance.value))
+            .chain(tables.iter_mut().flat_map(|table| {
+                let rows: Vec<&mut Expr> = match &mut table.rows {
+                    TableRows::Default => Vec::new(),
+                    TableRows::Every(every) => vec![every],
+                    TableRows::At(times) => times.iter_mut().collect(),
+                };
+                rows.into_iter().chain(table.columns.iter_mut())
+            }))
+            .chain(plots.iter_mut().flat_map(|plot| plot.series.iter_mut()))
     }
 }

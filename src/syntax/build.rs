@@ -8,9 +8,10 @@ use pest::pratt_parser::{Assoc, Op, PrattParser};
 
 use super::Span;
 use super::ast::{
-    BinaryOp, BodyDef, CellDef, CheckDef, Comparison, Description, Equation, Expr, ExprKind, Ident,
-    NameRef, Override, ReviewKind, ReviewMark, SignOff, StatementKind, Target, Tolerance, UnitExpr,
-    UnitFactor, Unknown,
+    BinaryOp, BodyDef, CellDef, CheckDef, Comparison, Description, Equation, EventDef, Expr,
+    ExprKind, Ident, InitialValue, NameRef, Override, PlotDef, ReviewKind, ReviewMark, RunPoint,
+    RunQuery, SignOff, StateRate, StatementKind, TableDef, TableRows, Target, Tolerance,
+    ToleranceDef, UnitExpr, UnitFactor, Unknown,
 };
 use super::parser::Rule;
 
@@ -203,6 +204,131 @@ pub(crate) fn override_of(mut pairs: Pairs<'_, Rule>, offset: usize) -> Built<Ov
     })
 }
 
+/// The head of a simulate block: the time variable, start and end.
+pub(crate) fn simulate_head(
+    mut pairs: Pairs<'_, Rule>,
+    offset: usize,
+) -> Built<(Ident, Expr, Expr)> {
+    let builder = Builder { offset };
+    let head = pairs
+        .next()
+        .unwrap_or_else(|| unreachable!("expected a simulate head"));
+    let mut time = None;
+    let mut bounds = Vec::with_capacity(2);
+    for part in head.into_inner() {
+        match part.as_rule() {
+            Rule::keyword_simulate | Rule::keyword_from | Rule::keyword_to => {}
+            Rule::name => time = Some(builder.ident(part)),
+            Rule::expr => bounds.push(builder.expr(part)?),
+            rule => unreachable!("expected a part of a simulate head, found {rule:?}"),
+        }
+    }
+    let end = bounds.pop();
+    let start = bounds.pop();
+    match (time, start, end) {
+        (Some(time), Some(start), Some(end)) => Ok((time, start, end)),
+        _ => unreachable!("expected a time variable, a start and an end"),
+    }
+}
+
+/// One line inside a simulate block.
+pub(crate) enum SimulateLine {
+    Rate(StateRate),
+    Initial(InitialValue),
+    Event(EventDef),
+    Tolerance(ToleranceDef),
+    Table(TableDef),
+    Plot(PlotDef),
+}
+
+/// Builds a line of a simulate block from the pairs of `Rule::simulate_body_line`.
+pub(crate) fn simulate_line(mut pairs: Pairs<'_, Rule>, offset: usize) -> Built<SimulateLine> {
+    let builder = Builder { offset };
+    let pair = pairs
+        .next()
+        .unwrap_or_else(|| unreachable!("expected a simulate line"));
+    let span = builder.span(&pair);
+    let rule = pair.as_rule();
+    let mut name = None;
+    let mut exprs = Vec::new();
+    let mut description = None;
+    let mut condition = None;
+    let mut rows = TableRows::Default;
+    for part in pair.into_inner() {
+        match part.as_rule() {
+            Rule::name => name = Some(builder.ident(part)),
+            Rule::expr => exprs.push(builder.expr(part)?),
+            Rule::description => description = Some(builder.description(part)),
+            Rule::condition => condition = Some(builder.condition(part)?),
+            Rule::table_every => {
+                let every = part
+                    .into_inner()
+                    .find(|p| p.as_rule() == Rule::expr)
+                    .unwrap_or_else(|| unreachable!("expected an interval"));
+                rows = TableRows::Every(builder.expr(every)?);
+            }
+            Rule::table_at => {
+                let times = part
+                    .into_inner()
+                    .filter(|p| p.as_rule() == Rule::expr)
+                    .map(|p| builder.expr(p))
+                    .collect::<Built<Vec<_>>>()?;
+                rows = TableRows::At(times);
+            }
+            _ => {} // keywords and `=`
+        }
+    }
+    let name_or = |name: Option<Ident>| name.unwrap_or_else(|| unreachable!("expected a name"));
+    Ok(match rule {
+        Rule::rate => SimulateLine::Rate(StateRate {
+            name: name_or(name),
+            rate: exprs
+                .pop()
+                .unwrap_or_else(|| unreachable!("expected a rate")),
+            description,
+            span,
+        }),
+        Rule::initial_value => SimulateLine::Initial(InitialValue {
+            name: name_or(name),
+            value: exprs
+                .pop()
+                .unwrap_or_else(|| unreachable!("expected a value")),
+            description,
+            span,
+        }),
+        Rule::stop_line | Rule::event_line => {
+            let (lhs, comparison, rhs) =
+                condition.unwrap_or_else(|| unreachable!("expected a condition"));
+            SimulateLine::Event(EventDef {
+                name,
+                stops: rule == Rule::stop_line,
+                lhs,
+                comparison,
+                rhs,
+                label: description,
+                span,
+            })
+        }
+        Rule::tolerance_line => SimulateLine::Tolerance(ToleranceDef {
+            state: name,
+            value: exprs
+                .pop()
+                .unwrap_or_else(|| unreachable!("expected a tolerance")),
+            span,
+        }),
+        Rule::table_line => SimulateLine::Table(TableDef {
+            rows,
+            columns: exprs,
+            span,
+        }),
+        Rule::plot_line => SimulateLine::Plot(PlotDef {
+            series: exprs,
+            span,
+        }),
+        rule => unreachable!("expected a simulate line, found {rule:?}"),
+    })
+}
+
 /// Builds the expression from the pairs of `Rule::expression_only`.
 pub(crate) fn expression(mut pairs: Pairs<'_, Rule>) -> Built<Option<Expr>> {
     match pairs.next() {
@@ -260,6 +386,8 @@ impl Builder {
                 Rule::declared_unit => unit = Some(self.unit_in_brackets(part)?),
                 Rule::expr => expr = Some(self.expr(part)?),
                 Rule::plus_minus | Rule::range_to => tolerance = Some(self.tolerance(part)?),
+                Rule::extremum_query => expr = Some(self.extremum_query(part)?),
+                Rule::query_point => expr = Some(self.located(expr.take(), part)?),
                 Rule::description => description = Some(self.description(part)),
                 rule => unreachable!("expected a part of a cell, found {rule:?}"),
             }
@@ -298,6 +426,11 @@ impl Builder {
             match part.as_rule() {
                 Rule::keyword_check => {}
                 Rule::expr => sides.push(self.expr(part)?),
+                Rule::extremum_query => sides.push(self.extremum_query(part)?),
+                Rule::query_point => {
+                    let value = sides.pop();
+                    sides.push(self.located(value, part)?);
+                }
                 Rule::at_most => comparison = Some(Comparison::AtMost),
                 Rule::below => comparison = Some(Comparison::Below),
                 Rule::at_least => comparison = Some(Comparison::AtLeast),
@@ -459,6 +592,83 @@ impl Builder {
         }
     }
 
+    /// `max of expr` / `min of expr`: the value at its own extremum.
+    fn extremum_query(&self, pair: Pair<'_, Rule>) -> Built<Expr> {
+        let span = self.span(&pair);
+        let mut inner = pair.into_inner();
+        let maximum = inner
+            .next()
+            .map(|word| word.as_rule() == Rule::maximum_of)
+            .unwrap_or_else(|| unreachable!("expected `max of` or `min of`"));
+        let of = self.expr(
+            inner
+                .next()
+                .unwrap_or_else(|| unreachable!("expected an expression")),
+        )?;
+        Ok(Expr {
+            span,
+            kind: ExprKind::RunQuery(Box::new(RunQuery {
+                value: of.clone(),
+                point: RunPoint::Extremum { maximum, of },
+                block: None,
+            })),
+        })
+    }
+
+    /// `value at point`, from the value built so far and the `at …` pair.
+    fn located(&self, value: Option<Expr>, pair: Pair<'_, Rule>) -> Built<Expr> {
+        let value = value.unwrap_or_else(|| unreachable!("expected a value before `at`"));
+        let span = value.span.to(self.span(&pair));
+        let mut inner = pair.into_inner().skip(1); // `at`
+        let first = inner
+            .next()
+            .unwrap_or_else(|| unreachable!("expected a point of the run"));
+        let point = match first.as_rule() {
+            Rule::keyword_stop => RunPoint::Stop,
+            Rule::keyword_end => RunPoint::End,
+            Rule::keyword_start => RunPoint::Start,
+            Rule::maximum_of | Rule::minimum_of => RunPoint::Extremum {
+                maximum: first.as_rule() == Rule::maximum_of,
+                of: self.expr(
+                    inner
+                        .next()
+                        .unwrap_or_else(|| unreachable!("expected an expression")),
+                )?,
+            },
+            Rule::expr => RunPoint::Time(self.expr(first)?),
+            rule => unreachable!("expected a point of the run, found {rule:?}"),
+        };
+        Ok(Expr {
+            span,
+            kind: ExprKind::RunQuery(Box::new(RunQuery {
+                value,
+                point,
+                block: None,
+            })),
+        })
+    }
+
+    fn condition(&self, pair: Pair<'_, Rule>) -> Built<(Expr, Comparison, Expr)> {
+        let mut sides = Vec::with_capacity(2);
+        let mut comparison = None;
+        for part in pair.into_inner() {
+            match part.as_rule() {
+                Rule::expr => sides.push(self.expr(part)?),
+                Rule::at_most => comparison = Some(Comparison::AtMost),
+                Rule::below => comparison = Some(Comparison::Below),
+                Rule::at_least => comparison = Some(Comparison::AtLeast),
+                Rule::above => comparison = Some(Comparison::Above),
+                rule => unreachable!("expected a part of a condition, found {rule:?}"),
+            }
+        }
+        let rhs = sides.pop();
+        let lhs = sides.pop();
+        match (lhs, comparison, rhs) {
+            (Some(lhs), Some(comparison), Some(rhs)) => Ok((lhs, comparison, rhs)),
+            _ => unreachable!("expected a condition with two sides and a comparison"),
+        }
+    }
+
     fn ident(&self, pair: Pair<'_, Rule>) -> Ident {
         Ident {
             text: pair.as_str().to_string(),
@@ -532,11 +742,17 @@ impl Builder {
         let span = self.span(&pair);
         let kind = match pair.as_rule() {
             Rule::group => {
-                let inner = pair
-                    .into_inner()
-                    .next()
-                    .unwrap_or_else(|| unreachable!("expected an expression in brackets"));
-                let mut expr = self.expr(inner)?;
+                let mut expr = None;
+                for inner in pair.into_inner() {
+                    expr = Some(match inner.as_rule() {
+                        Rule::expr => self.expr(inner)?,
+                        Rule::extremum_query => self.extremum_query(inner)?,
+                        Rule::query_point => self.located(expr.take(), inner)?,
+                        rule => unreachable!("expected an expression in brackets, found {rule:?}"),
+                    });
+                }
+                let mut expr =
+                    expr.unwrap_or_else(|| unreachable!("expected an expression in brackets"));
                 expr.span = span;
                 return Ok(expr);
             }

@@ -4,6 +4,7 @@
 pub mod ast;
 mod build;
 mod parser;
+mod simulate;
 mod span;
 mod split;
 

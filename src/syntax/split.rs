@@ -113,6 +113,9 @@ pub fn parse(source: &str) -> ParsedSheet {
             let (kind, diagnostic) = parse_statement(raw.span.text(source), raw.span.start());
             (kind, diagnostic.into_iter().collect())
         }
+        Some(block) if code_of(block.head.text(source)).starts_with("simulate") => {
+            super::simulate::parse_simulate_block(source, block)
+        }
         Some(block) => parse_block(source, block),
     };
     let parsed: Vec<(StatementKind, Vec<Diagnostic>)> = if statements.len() < PARALLEL_THRESHOLD {
@@ -146,14 +149,14 @@ struct RawStatement {
 }
 
 /// The lines of a block statement.
-struct BlockLines {
-    head: Span,
-    body: Vec<Span>,
-    end: Option<Span>,
+pub(super) struct BlockLines {
+    pub(super) head: Span,
+    pub(super) body: Vec<Span>,
+    pub(super) end: Option<Span>,
 }
 
 /// Words that open a block running to a line `end`.
-const BLOCK_KEYWORDS: &[&str] = &["solve", "case"];
+const BLOCK_KEYWORDS: &[&str] = &["solve", "case", "simulate"];
 
 /// The code of a line without a trailing `//` comment, trimmed.
 fn code_of(text: &str) -> &str {
@@ -380,7 +383,7 @@ fn recover_cell(text: &str, offset: usize) -> Option<StatementKind> {
 
 /// Refuses statements nested deeper than [`MAX_NESTING`] or with more than
 /// [`MAX_OPERATORS`] operators, before any recursive code sees them.
-fn check_limits(text: &str, offset: usize) -> Option<Diagnostic> {
+pub(super) fn check_limits(text: &str, offset: usize) -> Option<Diagnostic> {
     let mut depth = 0usize;
     let mut n_operators = 0usize;
     let mut in_quotes = false;

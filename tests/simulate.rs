@@ -1,0 +1,488 @@
+//! Simulate blocks against closed-form solutions of their equations of
+//! motion. Each check names where its expected value comes from; tabulated
+//! values were computed from the closed forms in 40-digit arithmetic and are
+//! given to 10 significant figures.
+
+use heftsheet::diag::{Code, Severity};
+use heftsheet::eval::{Evaluated, RunStatus, evaluate_source};
+
+/// g0, exactly (3rd CGPM, 1901).
+const G0: f64 = 9.80665;
+
+fn evaluate_clean(source: &str) -> Evaluated {
+    let evaluated = evaluate_source(source);
+    let findings: Vec<String> = evaluated
+        .diagnostics
+        .iter()
+        .filter(|d| d.severity >= Severity::Warning)
+        .map(|d| format!("{}: {}", d.code, d.message))
+        .collect();
+    assert!(findings.is_empty(), "{findings:?}");
+    evaluated
+}
+
+/// A cell's value in SI units.
+fn si(evaluated: &Evaluated, name: &str) -> f64 {
+    evaluated
+        .cell(name)
+        .and_then(|cell| cell.value)
+        .unwrap_or_else(|| panic!("`{name}` has no value"))
+        .si
+}
+
+#[track_caller]
+fn assert_relative(actual: f64, expected: f64, tolerance: f64, what: &str) {
+    let error = ((actual - expected) / expected).abs();
+    assert!(
+        error <= tolerance,
+        "{what}: {actual} vs {expected}, relative error {error:e} > {tolerance:e}"
+    );
+}
+
+/// A 5 kg test weight falling from rest with drag c v², c = 0.02 kg/m.
+fn drop_sheet(tolerance: &str, until: &str, extra: &str) -> String {
+    format!(
+        "m = 5 kg\nc = 0.02 kg/m\nv_t = sqrt(m * g0 / c)\n\
+         simulate t from 0 s to {until}:\n  x' = v\n  v' = g0 - c / m * v * abs(v)\n  x(0) = 0 m\n  v(0) = 0 m/s\n  tolerance {tolerance}\n{extra}end\n"
+    )
+}
+
+#[test]
+fn quadratic_drag_from_rest_follows_the_closed_form_within_the_tolerance() {
+    // Closed form of m v' = m g − c v² from rest (standard result):
+    // v_t = √(m g / c), v = v_t tanh(g t / v_t), x = (v_t²/g) ln cosh(g t / v_t).
+    let v_t = (5.0 * G0 / 0.02_f64).sqrt();
+    for tolerance in [1e-6, 1e-8, 1e-10] {
+        let source = drop_sheet(
+            &format!("{tolerance:e}"),
+            "10 s",
+            "  table at 0.5 s, 1 s, 2 s, 5 s, 10 s\n",
+        );
+        let evaluated = evaluate_clean(&source);
+        let run = &evaluated.runs[0];
+        assert_eq!(run.status, RunStatus::Reached);
+        let mut n_rows = 0;
+        for row in run.rows.iter().filter(|row| row.time > 0.0) {
+            let t = row.time;
+            let x = row.values[0]
+                .and_then(|v| v.scalar())
+                .map_or(f64::NAN, |q| q.si);
+            let v = row.values[1]
+                .and_then(|v| v.scalar())
+                .map_or(f64::NAN, |q| q.si);
+            let v_exact = v_t * (G0 * t / v_t).tanh();
+            let x_exact = v_t * v_t / G0 * (G0 * t / v_t).cosh().ln();
+            assert_relative(v, v_exact, tolerance, &format!("v({t} s) at {tolerance:e}"));
+            assert_relative(x, x_exact, tolerance, &format!("x({t} s) at {tolerance:e}"));
+            n_rows += 1;
+        }
+        assert_eq!(n_rows, 5);
+    }
+}
+
+#[test]
+fn quadratic_drag_matches_tabulated_values() {
+    // Closed form above, evaluated in 40-digit arithmetic (10 s.f.):
+    // t, v(t) in m/s, x(t) in m.
+    let table = [
+        (0.5, 4.887359228, 1.223832924),
+        (1.0, 9.680403343, 4.871599590),
+        (2.0, 18.64802100, 19.12087941),
+        (5.0, 37.50626179, 106.6005242),
+        (10.0, 47.66386087, 326.5714493),
+    ];
+    let source = drop_sheet("1e-10", "10 s", "")
+        + "v1 = v at 0.5 s\nx1 = x at 0.5 s\nv2 = v at 1 s\nx2 = x at 1 s\nv3 = v at 2 s\nx3 = x at 2 s\nv4 = v at 5 s\nx4 = x at 5 s\nv5 = v at end\nx5 = x at end\n";
+    let evaluated = evaluate_clean(&source);
+    for (index, (t, v, x)) in table.into_iter().enumerate() {
+        // 10 significant figures, so a relative error of 1e-9 at most.
+        assert_relative(
+            si(&evaluated, &format!("v{}", index + 1)),
+            v,
+            1e-9,
+            &format!("v({t} s)"),
+        );
+        assert_relative(
+            si(&evaluated, &format!("x{}", index + 1)),
+            x,
+            1e-9,
+            &format!("x({t} s)"),
+        );
+    }
+}
+
+#[test]
+fn terminal_speed_and_the_time_to_reach_99_percent_of_it() {
+    // Closed form: v_t = √(m g / c) = 49.51426562 m/s; 99 % of v_t is reached
+    // at t = (v_t/g) artanh(0.99) = 13.36308021 s, after falling
+    // (v_t²/2g) ln(1/(1 − 0.99²)) = 489.6294434 m (40-digit arithmetic).
+    let source = drop_sheet("1e-9", "60 s", "  event near when v >= 0.99 * v_t\n")
+        + "v_end [m/s] = v at end\nt_near [s] = t at near\nx_near [m] = x at near\n";
+    let evaluated = evaluate_clean(&source);
+    assert_relative(si(&evaluated, "v_t"), 49.51426562, 1e-9, "v_t");
+    // tanh(60 s · g / v_t) = 1 − 1e-10: the run ends at terminal speed.
+    assert_relative(si(&evaluated, "v_end"), 49.51426562, 1e-9, "v at 60 s");
+    assert_relative(
+        si(&evaluated, "t_near"),
+        13.36308021,
+        1e-9,
+        "time to 99 % of v_t",
+    );
+    assert_relative(
+        si(&evaluated, "x_near"),
+        489.6294434,
+        1e-9,
+        "fall to 99 % of v_t",
+    );
+}
+
+#[test]
+fn a_stop_condition_is_located_inside_the_step_to_the_tolerance() {
+    // Inverting the closed form: x reaches h at t = (v_t/g) acosh(exp(g h / v_t²)),
+    // where the speed is v_t tanh(g t / v_t).
+    let v_t = (5.0 * G0 / 0.02_f64).sqrt();
+    let h = 100.0;
+    let t_exact = v_t / G0 * (G0 * h / (v_t * v_t)).exp().acosh();
+    let v_exact = v_t * (G0 * t_exact / v_t).tanh();
+    for tolerance in [1e-6, 1e-9] {
+        let source = drop_sheet(
+            &format!("{tolerance:e}"),
+            "20 s",
+            "  stop when x >= 100 m\n",
+        ) + "t_floor [s] = t at stop\nv_floor [m/s] = v at stop\nx_floor [m] = x at stop\n";
+        let evaluated = evaluate_clean(&source);
+        assert_eq!(evaluated.runs[0].status, RunStatus::Stopped);
+        assert_relative(si(&evaluated, "t_floor"), t_exact, tolerance, "stop time");
+        assert_relative(
+            si(&evaluated, "v_floor"),
+            v_exact,
+            tolerance,
+            "speed at the stop",
+        );
+        assert_relative(
+            si(&evaluated, "x_floor"),
+            h,
+            tolerance,
+            "height at the stop",
+        );
+        // The stop is not at a step boundary found by stepping past it: the
+        // run ends exactly where the condition was located.
+        assert_eq!(
+            evaluated.runs[0].final_time(),
+            Some(si(&evaluated, "t_floor"))
+        );
+    }
+}
+
+/// The test fixture of 4 kg on 1600 N/m from x0 = 0.02 m, v0 = 0.5 m/s,
+/// with damping `c` (N·s/m).
+fn spring_sheet(c: f64, periods: f64, tolerance: &str, extra: &str) -> String {
+    format!(
+        "m = 4 kg\nk = 1600 N/m\nc = {c} N*s/m\n\
+         simulate t from 0 s to {:.12} s:\n  x' = v\n  v' = -(k * x + c * v) / m\n  x(0) = 0.02 m\n  v(0) = 0.5 m/s\n  tolerance {tolerance}\n{extra}end\n",
+        periods * std::f64::consts::PI / 10.0
+    )
+}
+
+#[test]
+fn undamped_spring_mass_position_amplitude_and_period() {
+    // Standard result of linear vibration: x = x0 cos ωt + (v0/ω) sin ωt with
+    // ω = √(k/m) = 20 rad/s, amplitude X = √(x0² + (v0/ω)²) = 0.03201562119 m,
+    // period 2π/ω = 0.3141592654 s; tabulated x(t) from 40-digit arithmetic.
+    let tolerance = 1e-8;
+    let source = spring_sheet(0.0, 10.0, "1e-8", "  event rise when x >= 0 m\n")
+        + "x1 = x at 0.05 s\nx2 = x at 0.1 s\nx3 = x at 0.25 s\nx4 = x at 0.5 s\nX = max of x\nX_low = min of x\nt_peak = t at max of x\n";
+    let evaluated = evaluate_clean(&source);
+    let amplitude = 0.03201562119;
+    for (name, expected) in [
+        ("x1", 0.03184282074),
+        ("x2", 0.01440949894),
+        ("x3", -0.01829986316),
+        ("x4", -0.03038195835),
+    ] {
+        // Errors are bounded relative to the amplitude (errors are scaled by
+        // each state's largest size).
+        let error = (si(&evaluated, name) - expected).abs();
+        assert!(error <= tolerance * amplitude, "{name}: error {error:e}");
+    }
+    assert_relative(si(&evaluated, "X"), amplitude, tolerance, "amplitude");
+    assert_relative(
+        si(&evaluated, "X_low"),
+        -amplitude,
+        tolerance,
+        "lowest point",
+    );
+    // The peak is where ωt = φ + 2πn, φ = atan2(v0/ω, x0) = 0.8960553846 rad.
+    let phase = 0.8960553846;
+    let t_peak = si(&evaluated, "t_peak");
+    let cycles = (t_peak * 20.0 - phase) / (2.0 * std::f64::consts::PI);
+    assert!((cycles - cycles.round()).abs() < 1e-3, "peak at {t_peak} s");
+    // Successive upward zero crossings are one period apart. x starts
+    // positive, so the condition holds at the start and happens there first.
+    let crossings = &evaluated.runs[0].events[0].times;
+    assert_eq!(crossings.first(), Some(&0.0));
+    let crossings = &crossings[1..];
+    assert!(crossings.len() >= 9, "{crossings:?}");
+    for pair in crossings.windows(2) {
+        assert_relative(pair[1] - pair[0], 0.3141592654, tolerance, "period");
+    }
+}
+
+#[test]
+fn damped_spring_mass_decays_by_the_logarithmic_decrement() {
+    // Standard result: ζ = c / (2√(k m)) = 0.3, ω_d = ω√(1 − ζ²) =
+    // 19.07878403 rad/s, damped period 0.3293283942 s, and successive peaks
+    // shrink by the log decrement 2πζ/√(1 − ζ²) = 1.975970365; tabulated
+    // x(t) from the closed form in 40-digit arithmetic.
+    let tolerance = 1e-9;
+    let source = spring_sheet(48.0, 6.0, "1e-9", "  event peak when v <= 0 m/s\n")
+        + "x1 = x at 0.05 s\nx2 = x at 0.1 s\nx3 = x at 0.25 s\nx4 = x at 0.5 s\n";
+    let evaluated = evaluate_clean(&source);
+    for (name, expected) in [
+        ("x1", 0.02820826114),
+        ("x2", 0.01320074965),
+        ("x3", -0.006983521036),
+        ("x4", -0.001174239163),
+    ] {
+        let error = (si(&evaluated, name) - expected).abs();
+        // Bounded relative to the largest size x reaches (about 0.029 m).
+        assert!(error <= tolerance * 0.03, "{name}: error {error:e}");
+    }
+    let run = &evaluated.runs[0];
+    let Some(trajectory) = &run.trajectory else {
+        panic!("the run has a trajectory");
+    };
+    let peaks: Vec<(f64, f64)> = run.events[0]
+        .times
+        .iter()
+        .map(|&t| {
+            let mut state = [0.0; 2];
+            trajectory.state_at(t, &mut state);
+            (t, state[0])
+        })
+        .collect();
+    assert!(peaks.len() >= 3, "{peaks:?}");
+    for pair in peaks.windows(2) {
+        assert_relative(pair[1].0 - pair[0].0, 0.3293283942, 1e-7, "damped period");
+        // Relative error of a ratio of two small peaks: looser than the tolerance.
+        assert_relative(
+            (pair[0].1 / pair[1].1).ln(),
+            1.975970365,
+            1e-6,
+            "log decrement",
+        );
+    }
+}
+
+#[test]
+fn constant_force_motion_in_fps_units_is_exact_to_rounding() {
+    // Newton's second law with a constant force: a = F/m, x = v0 t + a t²/2.
+    // 20 lbf on 180 lbm is a = 20 g_c/180 ft/s² (lbf = lbm·g0 by definition,
+    // NIST SP 811 App. B); the crate reaches 12 ft at the positive root of
+    // a t²/2 + v0 t − 12 ft = 0.
+    let source = "m = 180 lbm\nF = 20 lbf\n\
+        simulate t from 0 s to 10 s:\n  x' = v\n  v' = F / m\n  x(0) = 0 ft\n  v(0) = 1.5 ft/s\n  stop when x >= 12 ft\nend\n\
+        t_12 [s] = t at stop\nv_12 [ft/s] = v at stop\n";
+    let evaluated = evaluate_clean(source);
+    let g_c = G0 / 0.3048; // ft/s², exact by the 1959 definition of the foot
+    let a = 20.0 * g_c / 180.0; // ft/s²
+    let (v0, d) = (1.5, 12.0);
+    let t_stop = (-v0 + (v0 * v0 + 2.0 * a * d).sqrt()) / a;
+    assert_relative(si(&evaluated, "t_12"), t_stop, 1e-12, "time to 12 ft");
+    assert_relative(
+        si(&evaluated, "v_12") / 0.3048,
+        v0 + a * t_stop,
+        1e-12,
+        "speed at 12 ft",
+    );
+}
+
+#[test]
+fn a_time_after_a_stop_is_not_in_the_run() {
+    let source = "a = 2 m/s^2\nsimulate t from 0 s to 10 s:\n  x' = v\n  v' = a\n  x(0) = 0 m\n  v(0) = 0 m/s\n  stop when x >= 1 m\nend\nlate = x at 3 s\n";
+    let evaluated = evaluate_source(source);
+    let codes: Vec<Code> = evaluated.diagnostics.iter().map(|d| d.code).collect();
+    assert_eq!(codes, vec![Code::NotInRun]);
+    // x = a t²/2 reaches 1 m at t = 1 s; the message says where the run ended.
+    assert!(
+        evaluated.diagnostics[0].message.contains("1 s"),
+        "{}",
+        evaluated.diagnostics[0].message
+    );
+}
+
+#[test]
+fn energy_of_an_undamped_oscillator_holds_over_1000_periods() {
+    // Conservation of mechanical energy: k x²/2 + m v²/2 is constant for the
+    // undamped oscillator (closed form). The tolerance bounds the error
+    // accumulated over the whole run, so the energy drifts by less than it.
+    for (tolerance, text) in [(1e-6, "1e-6"), (1e-8, "1e-8")] {
+        let source = spring_sheet(0.0, 1000.0, text, "")
+            + "E0 [J] = (k * x^2 / 2 + m * v^2 / 2) at start\nE1 [J] = (k * x^2 / 2 + m * v^2 / 2) at end\n";
+        let evaluated = evaluate_clean(&source);
+        let (e0, e1) = (si(&evaluated, "E0"), si(&evaluated, "E1"));
+        // E = k X²/2 with X = 0.03201562119 m: 0.82 J (closed form).
+        assert_relative(e0, 1600.0 * 0.03201562119_f64.powi(2) / 2.0, 1e-9, "E0");
+        assert_relative(
+            e1,
+            e0,
+            tolerance,
+            &format!("energy after 1000 periods at {text}"),
+        );
+        assert!(evaluated.runs[0].compiled);
+    }
+}
+
+#[test]
+fn vector_states_fly_a_parabola() {
+    // A thrown part under g0 alone: r = r0 + v0 t + g t²/2 (uniformly
+    // accelerated motion); it lands (r.y = 0) at t = 2 v0y / g0.
+    let source = "v0 = vec(3 m/s, 4 m/s)\n\
+        simulate t from 0 s to 5 s:\n  r' = v\n  v' = vec(0 m/s^2, -g0)\n  r(0) = vec(0 m, 0 m)\n  v(0) = v0\n  stop when r.y <= 0 m\nend\n\
+        t_land [s] = t at stop\nrange [m] = (r at stop).x\nh_top [m] = max of r.y\n";
+    // The stop condition holds at the start (r.y = 0): the run must refuse.
+    let refused = evaluate_source(source);
+    assert!(
+        refused
+            .diagnostics
+            .iter()
+            .any(|d| d.code == Code::BadSimulation),
+        "{:?}",
+        refused.diagnostics
+    );
+    let source = source.replace("r(0) = vec(0 m, 0 m)", "r(0) = vec(0 m, 1 mm)");
+    let evaluated = evaluate_clean(&source);
+    assert!(!evaluated.runs[0].compiled, "vector states are interpreted");
+    let g = G0;
+    // From 1 mm up: 0.001 + 4 t − g t²/2 = 0.
+    let t_land = (4.0 + (16.0 + 2.0 * g * 0.001_f64).sqrt()) / g;
+    assert_relative(si(&evaluated, "t_land"), t_land, 1e-9, "time of flight");
+    assert_relative(si(&evaluated, "range"), 3.0 * t_land, 1e-9, "range");
+    assert_relative(
+        si(&evaluated, "h_top"),
+        0.001 + 16.0 / (2.0 * g),
+        1e-9,
+        "highest point",
+    );
+}
+
+#[test]
+fn a_stiff_system_is_reported_instead_of_crawling() {
+    // A 1 kg slider on a soft spring with a very strong damper: eigenvalues
+    // near −10⁶ s⁻¹ and −10⁻⁴ s⁻¹, the classic stiff pair.
+    let source = "m = 1 kg\nk = 100 N/m\nc = 1e6 N*s/m\n\
+        simulate t from 0 s to 100 s:\n  x' = v\n  v' = -(k * x + c * v) / m\n  x(0) = 1 m\n  v(0) = 0 m/s\nend\nx_end = x at end\n";
+    let evaluated = evaluate_source(source);
+    let codes: Vec<Code> = evaluated.diagnostics.iter().map(|d| d.code).collect();
+    assert_eq!(codes, vec![Code::StiffSystem]);
+    assert_eq!(evaluated.runs[0].status, RunStatus::Failed);
+    assert!(evaluated.runs[0].stats.accepted < 10_000);
+    assert!(matches!(
+        evaluated.cell("x_end").map(|c| c.status),
+        Some(heftsheet::eval::CellStatus::Blocked { .. })
+    ));
+}
+
+#[test]
+fn run_queries_read_points_extremes_and_work_inside_formulas_and_checks() {
+    let source = "m = 4 kg\nk = 1600 N/m\n\
+        simulate t from 0 s to 0.2 s:\n  x' = v\n  v' = -k / m * x\n  x(0) = 0.02 m\n  v(0) = 0 m/s\nend\n\
+        x_first [m] = x at start\nF_peak [N] = k * (max of abs(x))\nt_low [s] = t at min of x\n\
+        check (max of x) <= 0.03 m \"never further out than it started\"\n";
+    let evaluated = evaluate_clean(source);
+    assert_eq!(si(&evaluated, "x_first"), 0.02);
+    // Released from rest at 0.02 m: the spring force peaks at k · 0.02 m = 32 N,
+    // and x is lowest half a period later, at π/ω = π/20 s (closed form).
+    assert_relative(si(&evaluated, "F_peak"), 32.0, 1e-6, "peak force");
+    assert_relative(
+        si(&evaluated, "t_low"),
+        std::f64::consts::PI / 20.0,
+        1e-4,
+        "time of the low point",
+    );
+    assert_eq!(evaluated.checks[0].passed(), Some(true));
+}
+
+mod hostile {
+    use heftsheet::eval::evaluate_source;
+    use proptest::prelude::*;
+
+    const HEADS: &[&str] = &[
+        "simulate t from 0 s to 2 s:",
+        "simulate t from 2 s to 0 s:",
+        "simulate t from 0 to 2:",
+        "simulate from 0 s to 2 s:",
+        "simulate t from 0 kg to 2 s:",
+    ];
+
+    const LINES: &[&str] = &[
+        "x' = v",
+        "v' = -k / m * x",
+        "x(0) = 1 m",
+        "v(0) = 0 m/s",
+        "stop when x <= 0 m",
+        "event e when v >= 1 m/s",
+        "tolerance 1e-9",
+        "tolerance x 1 mm",
+        "table every 0.1 s",
+        "table at 1 s, 3 s: x, k * x",
+        "plot x, v, k * x",
+        "x' = v * v",
+        "v' = 1 m^2/s^3 / x",
+        "y(0) = 2",
+        "x'' = 1",
+        "stop x",
+        "table every 0 s",
+        "tolerance -1",
+        "v' = (x at end) / (1 s^2)",
+        "v' = vec(1 m/s^2, 0 m/s^2)",
+        "event e when x >= 1 kg",
+        "plot",
+    ];
+
+    const AFTER: &[&str] = &[
+        "a = x at stop",
+        "b = max of v",
+        "c = t at e",
+        "d = x",
+        "f = (x + 1 m) at 1 s",
+        "check (min of x) <= 2 m",
+    ];
+
+    proptest! {
+        #![proptest_config(ProptestConfig::with_cases(96))]
+        #[test]
+        fn any_mix_of_simulate_lines_is_evaluated_without_panicking(
+            head in 0..HEADS.len(),
+            lines in proptest::collection::vec(0..LINES.len(), 0..10),
+            close in any::<bool>(),
+            after in proptest::collection::vec(0..AFTER.len(), 0..4),
+        ) {
+            let mut sheet = String::from("k = 100 N/m\nm = 1 kg\n");
+            sheet.push_str(HEADS[head]);
+            sheet.push('\n');
+            for line in lines {
+                sheet.push_str("  ");
+                sheet.push_str(LINES[line]);
+                sheet.push('\n');
+            }
+            if close {
+                sheet.push_str("end\n");
+            }
+            for line in after {
+                sheet.push_str(AFTER[line]);
+                sheet.push('\n');
+            }
+            let evaluated = evaluate_source(&sheet);
+            for diagnostic in &evaluated.diagnostics {
+                prop_assert!(diagnostic.span.end() <= sheet.len());
+                prop_assert!(!diagnostic.message.is_empty());
+            }
+            // Every cell is accounted for: a value, or a status saying why not.
+            for cell in evaluated.cells() {
+                let has_value = cell.any_value().is_some();
+                prop_assert_eq!(has_value, cell.status == heftsheet::eval::CellStatus::Ok, "{}", cell.name);
+            }
+        }
+    }
+}
