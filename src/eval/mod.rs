@@ -4,8 +4,10 @@
 
 mod explain;
 pub mod functions;
+mod incremental;
 mod model;
 
+pub use incremental::{CellField, EditError, Finding, LiveSheet, Row};
 pub use model::{
     CellOutcome, CellResult, CellStatus, CheckResult, CheckStatus, Evaluated, OutlineItem,
 };
@@ -44,12 +46,12 @@ pub fn evaluate(sheet: Arc<Sheet>, source: Arc<str>) -> Evaluated {
     let checks = (0..sheet.checks.len())
         .map(|index| evaluator.evaluate_check(index))
         .collect();
-    evaluator.finish(checks)
+    evaluator.finish(checks, &sheet, &source)
 }
 
 struct Evaluator<'a> {
-    sheet: &'a Arc<Sheet>,
-    source: &'a Arc<str>,
+    sheet: &'a Sheet,
+    source: &'a str,
     /// Units already looked up, by their text: a sheet repeats a few units
     /// many times.
     unit_cache: RefCell<FxHashMap<&'a str, ResolvedUnit>>,
@@ -83,7 +85,7 @@ pub fn evaluate_unit(text: &str) -> Result<(UnitExpr, ResolvedUnit), Diagnostic>
 }
 
 impl<'a> Evaluator<'a> {
-    fn new(sheet: &'a Arc<Sheet>, source: &'a Arc<str>) -> Self {
+    fn new(sheet: &'a Sheet, source: &'a str) -> Self {
         Evaluator {
             sheet,
             source,
@@ -550,8 +552,12 @@ impl<'a> Evaluator<'a> {
         })
     }
 
-    fn finish(mut self, checks: Vec<CheckResult>) -> Evaluated {
-        let (sheet, source) = (self.sheet, self.source);
+    fn finish(
+        mut self,
+        checks: Vec<CheckResult>,
+        sheet: &Arc<Sheet>,
+        source: &Arc<str>,
+    ) -> Evaluated {
         let lines = LineIndex::new(source);
         let outcomes = (0..sheet.cells.len())
             .map(|id| {

@@ -1,6 +1,7 @@
 //! The sheet model: header, statements, the cells and checks they define,
 //! the dependency graph between cells and the order to evaluate them in.
 
+pub mod edit;
 mod graph;
 mod header;
 

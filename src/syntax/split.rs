@@ -77,11 +77,11 @@ pub fn parse(source: &str) -> ParsedSheet {
     }) {
         lines.next();
     }
-    if let Some(open) = lines.next_if(|line| source[line.start..line.end].trim() == "+++") {
+    if let Some(open) = lines.next_if(|line| is_header_delimiter(&source[line.start..line.end])) {
         let body_start = (open.end + 1).min(source.len());
         let close = lines
             .by_ref()
-            .find(|line| source[line.start..line.end].trim() == "+++");
+            .find(|line| is_header_delimiter(&source[line.start..line.end]));
         match close {
             Some(close) => {
                 sheet.header = Some(HeaderBlock {
@@ -107,10 +107,7 @@ pub fn parse(source: &str) -> ParsedSheet {
     }
 
     let spans: Vec<Span> = lines
-        .filter(|line| {
-            let trimmed = source[line.start..line.end].trim_start();
-            !trimmed.is_empty() && !trimmed.starts_with("//")
-        })
+        .filter(|line| is_statement_line(&source[line.start..line.end]))
         .map(|line| Span::new(line.start, line.end))
         .collect();
     // Statements parse independently, so large sheets parse on every core.
@@ -133,6 +130,25 @@ pub fn parse(source: &str) -> ParsedSheet {
         sheet.statements.push(Statement { span, kind });
     }
     sheet
+}
+
+/// Whether a line (after the header) is a statement: neither blank nor a
+/// `//` comment.
+pub fn is_statement_line(text: &str) -> bool {
+    let trimmed = text.trim_start();
+    !trimmed.is_empty() && !trimmed.starts_with("//")
+}
+
+/// Whether a line opens or closes a `+++` header block.
+pub fn is_header_delimiter(text: &str) -> bool {
+    text.trim() == "+++"
+}
+
+/// Parses one statement line that sits at byte `offset` of the text its
+/// spans point into: what [`parse`] does for each line, for callers that
+/// edit a sheet one statement at a time.
+pub fn parse_line(text: &str, offset: usize) -> (StatementKind, Option<Diagnostic>) {
+    parse_statement(text, offset)
 }
 
 /// Below this many statements, parsing on one thread is faster.
