@@ -4,13 +4,15 @@
 //! [`syntax`] turns text into statements, [`sheet`] reads the header and
 //! orders the cells by their dependencies, [`eval`] computes every cell with
 //! its dimension checked at each operation (values in [`units`]), and
-//! [`cli`] presents the result. [`diag`] carries every finding as data.
+//! [`cli`] presents the result; [`tui`] is the terminal notebook that edits a
+//! sheet and recomputes it live. [`diag`] carries every finding as data.
 
 pub mod cli;
 pub mod diag;
 pub mod eval;
 pub mod sheet;
 pub mod syntax;
+pub mod tui;
 pub mod units;
 
 /// The caution every output for people carries: heft supports the

@@ -25,7 +25,7 @@ use crate::syntax::ast::{
 use crate::syntax::{self, LineIndex, Span};
 use crate::units::{self, DisplaySystem, DisplayUnit, Quantity, format_significant, pick_unit};
 
-pub use crate::sheet::edit::{CellField, EditError};
+pub use crate::sheet::edit::{CellField, EditError, FieldEditor};
 
 /// One finding, placed by line and column of the file as it is now.
 #[derive(Clone, Debug, PartialEq)]
@@ -100,6 +100,8 @@ pub struct LiveSheet {
     /// Statements in presentation order (cells in dependency order, each
     /// heading, note and broken line just before the cell that follows it).
     rows: Vec<u32>,
+    /// Position of each statement in `rows`.
+    row_positions: Vec<u32>,
     /// Visit marks for the downstream walk (compared with `visit_stamp`).
     visited: Vec<u32>,
     visited_checks: Vec<u32>,
@@ -155,6 +157,7 @@ impl LiveSheet {
             check_dependents: Vec::new(),
             rank: Vec::new(),
             rows: Vec::new(),
+            row_positions: Vec::new(),
             visited: Vec::new(),
             visited_checks: Vec::new(),
             visit_stamp: 0,
@@ -202,6 +205,24 @@ impl LiveSheet {
     /// in the file, checks and trailing lines where they stand.
     pub fn rows(&self) -> &[u32] {
         &self.rows
+    }
+
+    /// Where statement `index` is in [`LiveSheet::rows`].
+    pub fn row_position(&self, index: usize) -> Option<usize> {
+        self.row_positions
+            .get(index)
+            .map(|&position| position as usize)
+    }
+
+    /// An editor for one field of cell `id` (see [`FieldEditor`]).
+    pub fn field_editor(&self, id: CellId, field: CellField) -> FieldEditor {
+        let span = self.sheet.cell_span(id);
+        FieldEditor::new(
+            self.sheet.cell(id),
+            span.text(self.document.arena()),
+            span.start(),
+            field,
+        )
     }
 
     /// What statement `index` is, with its results.
@@ -803,6 +824,10 @@ impl LiveSheet {
             self.rank[id] = position as u32;
         }
         self.rows = presentation_order(&self.sheet);
+        self.row_positions = vec![0; self.rows.len()];
+        for (position, &statement) in self.rows.iter().enumerate() {
+            self.row_positions[statement as usize] = position as u32;
+        }
         self.visited = vec![0; n_cells];
         self.visited_checks = vec![0; n_checks];
         self.visit_stamp = 0;

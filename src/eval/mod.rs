@@ -7,7 +7,7 @@ pub mod functions;
 mod incremental;
 mod model;
 
-pub use incremental::{CellField, EditError, Finding, LiveSheet, Row};
+pub use incremental::{CellField, EditError, FieldEditor, Finding, LiveSheet, Row};
 pub use model::{
     CellOutcome, CellResult, CellStatus, CheckResult, CheckStatus, Evaluated, OutlineItem,
 };

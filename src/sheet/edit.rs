@@ -376,6 +376,55 @@ pub enum CellField {
     Description,
 }
 
+/// One field of one cell being edited: keeps the line as it was when the
+/// edit began, so each new value is spliced into the same original line
+/// however the line reads in between (broken, half typed).
+#[derive(Clone, Debug)]
+pub struct FieldEditor {
+    cell: CellDef,
+    line_text: String,
+    line_start: usize,
+    field: CellField,
+}
+
+impl FieldEditor {
+    /// An editor for `field` of `cell`, written in `line_text` at arena offset `line_start`.
+    pub fn new(cell: &CellDef, line_text: &str, line_start: usize, field: CellField) -> Self {
+        FieldEditor {
+            cell: cell.clone(),
+            line_text: line_text.to_string(),
+            line_start,
+            field,
+        }
+    }
+
+    /// The field being edited.
+    pub fn field(&self) -> CellField {
+        self.field
+    }
+
+    /// The field's text when the edit began.
+    pub fn value(&self) -> String {
+        cell_field_text(&self.cell, &self.line_text, self.line_start, self.field)
+    }
+
+    /// The line as it began.
+    pub fn original_line(&self) -> &str {
+        &self.line_text
+    }
+
+    /// The line with the field set to `value`.
+    pub fn line_with(&self, value: &str) -> String {
+        with_cell_field(
+            &self.cell,
+            &self.line_text,
+            self.line_start,
+            self.field,
+            value,
+        )
+    }
+}
+
 /// The current text of one field of `cell`, written in the line `line_text`
 /// whose first byte is at arena offset `line_start`.
 pub fn cell_field_text(
