@@ -61,7 +61,12 @@ pub fn areas(viewport: Rect) -> Areas {
             ),
         )
     } else {
-        let detail_height = (middle.height / 2).clamp(8.min(middle.height), 14);
+        let half = middle.height / 2;
+        let detail_height = if middle.height >= 16 {
+            half.clamp(8, 14)
+        } else {
+            half
+        };
         let sheet_height = middle.height - detail_height;
         (
             Rect::new(middle.x, middle.y, width, sheet_height),

@@ -64,6 +64,8 @@ pub const LABEL_USED_BY: &str = "used by";
 pub const LABEL_FINDINGS: &str = "findings";
 /// The suggested fix.
 pub const LABEL_FIX: &str = "fix";
+/// Findings on other lines.
+pub const LABEL_ELSEWHERE: &str = "findings elsewhere in the sheet";
 /// A check's comparison.
 pub const LABEL_COMPARES: &str = "compares";
 /// A check's utilization.
@@ -156,5 +158,8 @@ pub const NO_MATCH: &str = "no cell by that name";
 pub const DELETED: &str = "deleted (< undoes)";
 /// The line cannot be deleted.
 pub const NOTHING_TO_DELETE: &str = "nothing to delete";
+/// Shown in an empty sheet.
+pub const EMPTY_SHEET: &str =
+    "An empty sheet: Enter or a adds a cell, h a heading, t a note, c a check.";
 /// Help footer.
 pub const HELP_FOOTER: &str = "Esc or ? closes · ↑↓ scroll";

@@ -72,21 +72,24 @@ fn pad_left(text: &str, width: usize) -> String {
 /// `text` cut into pieces of at most `room` columns (at least one piece),
 /// between words where it can be and inside a word that is too long.
 fn wrap(text: &str, room: usize) -> Vec<String> {
+    let room = room.max(1);
     let mut pieces = Vec::new();
     let mut current = String::new();
-    for word in text.split_inclusive(' ') {
-        if current.width() + word.trim_end().width() > room && !current.is_empty() {
-            pieces.push(current.trim_end().to_string());
-            current.clear();
+    for word in text.split(' ') {
+        if !current.is_empty() && current.width() + 1 + word.width() > room {
+            pieces.push(std::mem::take(&mut current));
+        }
+        if !current.is_empty() {
+            current.push(' ');
         }
         for c in word.chars() {
-            if current.width() + c.width().unwrap_or(0) > room && !current.is_empty() {
+            if !current.is_empty() && current.width() + c.width().unwrap_or(0) > room {
                 pieces.push(std::mem::take(&mut current));
             }
             current.push(c);
         }
     }
-    pieces.push(current.trim_end().to_string());
+    pieces.push(current);
     pieces
 }
 
@@ -238,6 +241,9 @@ fn draw_sheet(app: &App, frame: &mut Frame, area: Rect) {
         ),
         theme.label(),
     ));
+    if live.rows().is_empty() {
+        lines.push(Line::raw(fit(text::EMPTY_SHEET, width)));
+    }
     for (offset, &statement) in shown_rows.iter().enumerate() {
         let statement = statement as usize;
         let row = live.row(statement);
@@ -578,15 +584,46 @@ fn detail(app: &App, inner: Rect) -> Detail {
         }
     }
     detail.findings(theme, &findings, width);
-    if detail.lines.len() + 2 <= usize::from(inner.height) {
+    let caution = wrap(crate::CAUTION, width.saturating_sub(LABEL_WIDTH));
+    let height = usize::from(inner.height);
+    // A tall pane also lists the sheet's other findings.
+    let others: Vec<Finding> = live
+        .findings()
+        .into_iter()
+        .filter(|finding| finding.statement != Some(statement))
+        .collect();
+    let room = height.saturating_sub(detail.lines.len() + caution.len() + 3);
+    if !others.is_empty() && room >= 3 {
         detail.lines.push(Line::raw(""));
-        detail.labelled(
-            theme,
-            "",
-            crate::CAUTION.to_string(),
-            theme.caution(),
-            width,
-        );
+        detail
+            .lines
+            .push(Line::styled(text::LABEL_ELSEWHERE, theme.label()));
+        for finding in others.iter().take(room - 2) {
+            let style = match finding.severity {
+                Severity::Error => theme.bad(),
+                Severity::Warning => theme.warning(),
+                Severity::Info => Style::default(),
+            };
+            detail.lines.push(Line::from(vec![
+                Span::raw(pad(&format!("line {}", finding.line), LABEL_WIDTH)),
+                Span::styled(
+                    fit(
+                        &format!("[{}] {}", finding.code, finding.message),
+                        width.saturating_sub(LABEL_WIDTH),
+                    ),
+                    style,
+                ),
+            ]));
+        }
+    }
+    if detail.lines.len() + caution.len() < height {
+        detail.lines.push(Line::raw(""));
+        for piece in caution {
+            detail.lines.push(Line::from(vec![
+                Span::raw(" ".repeat(LABEL_WIDTH)),
+                Span::styled(piece, theme.caution()),
+            ]));
+        }
     }
     detail
 }
@@ -796,10 +833,26 @@ fn draw_findings(app: &App, frame: &mut Frame, areas: &Areas, list: &[Finding], 
     let theme = app.theme();
     let block = overlay_block(format!("{} ({})", text::PANE_FINDINGS, list.len()));
     let inner = block.inner(area);
-    let rows = usize::from(inner.height);
-    let first = selected.saturating_sub(rows.saturating_sub(1));
     let width = usize::from(inner.width);
-    let lines: Vec<Line> = list
+    // The selected finding in full, with its fix, under the list.
+    let mut full: Vec<Line> = Vec::new();
+    if let Some(finding) = list.get(selected) {
+        full.push(Line::styled("─".repeat(width), theme.quiet()));
+        for piece in wrap(
+            &format!("line {}: {}", finding.line, finding.message),
+            width,
+        ) {
+            full.push(Line::raw(piece));
+        }
+        if let Some(help) = &finding.help {
+            for piece in wrap(&format!("{}: {help}", text::LABEL_FIX), width) {
+                full.push(Line::raw(piece));
+            }
+        }
+    }
+    let rows = usize::from(inner.height).saturating_sub(full.len()).max(1);
+    let first = selected.saturating_sub(rows.saturating_sub(1));
+    let mut lines: Vec<Line> = list
         .iter()
         .enumerate()
         .skip(first)
@@ -824,6 +877,8 @@ fn draw_findings(app: &App, frame: &mut Frame, areas: &Areas, list: &[Finding], 
             line
         })
         .collect();
+    lines.resize(rows, Line::raw(""));
+    lines.extend(full);
     frame.render_widget(Clear, area);
     frame.render_widget(Paragraph::new(lines).block(block), area);
 }
