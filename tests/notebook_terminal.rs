@@ -85,7 +85,9 @@ impl Session {
     }
 
     fn send(&mut self, keys: &str) {
-        self.writer.write_all(keys.as_bytes()).expect("keys reach heft");
+        self.writer
+            .write_all(keys.as_bytes())
+            .expect("keys reach heft");
         self.writer.flush().expect("keys reach heft");
         // One read per key press is how a person types; give the loop time.
         std::thread::sleep(Duration::from_millis(100));
@@ -162,7 +164,12 @@ fn edit_an_input_watch_the_result_change_and_save_one_line() {
     assert_eq!(saved.lines().count(), original.lines().count());
     assert_eq!(saved.len(), original.len() - 1);
     // Saved and quit cleanly: no recovery copy is left behind.
-    assert!(!directory.path().join(".skid_lift.heft.heft-unsaved").exists());
+    assert!(
+        !directory
+            .path()
+            .join(".skid_lift.heft.heft-unsaved")
+            .exists()
+    );
 }
 
 #[test]

@@ -470,6 +470,11 @@ impl LiveSheet {
             .max()
     }
 
+    /// Number of findings in the whole sheet.
+    pub fn n_findings(&self) -> usize {
+        self.all_diagnostics().count()
+    }
+
     /// Number of findings of `severity` in the whole sheet.
     pub fn count(&self, severity: Severity) -> usize {
         self.all_diagnostics()

@@ -587,11 +587,14 @@ fn detail(app: &App, inner: Rect) -> Detail {
     let caution = wrap(crate::CAUTION, width.saturating_sub(LABEL_WIDTH));
     let height = usize::from(inner.height);
     // A tall pane also lists the sheet's other findings.
-    let others: Vec<Finding> = live
-        .findings()
-        .into_iter()
-        .filter(|finding| finding.statement != Some(statement))
-        .collect();
+    let others: Vec<Finding> = if live.n_findings() > findings.len() {
+        live.findings()
+            .into_iter()
+            .filter(|finding| finding.statement != Some(statement))
+            .collect()
+    } else {
+        Vec::new()
+    };
     let room = height.saturating_sub(detail.lines.len() + caution.len() + 3);
     if !others.is_empty() && room >= 3 {
         detail.lines.push(Line::raw(""));
