@@ -150,7 +150,10 @@ fn the_text_report_of_a_broken_sheet() {
 #[test]
 fn the_notebook_needs_a_terminal_and_points_scripts_to_check() {
     // `cargo test` gives the binary pipes, not a terminal.
-    for args in [&["sheets/skid_lift.heft"][..], &["edit", "sheets/skid_lift.heft"]] {
+    for args in [
+        &["sheets/skid_lift.heft"][..],
+        &["edit", "sheets/skid_lift.heft"],
+    ] {
         let (code, out, err) = heft(args);
         assert_eq!(code, 2, "{out}{err}");
         assert!(err.contains("the notebook needs a terminal"), "{err}");

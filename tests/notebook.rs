@@ -770,3 +770,120 @@ fn help_opens_scrolls_and_closes() {
     assert!(matches!(app.mode(), Mode::Browse));
     assert!(BINDINGS.iter().any(|b| b.action == Action::Help));
 }
+
+// ----- undo and redo over random edits -----
+
+use proptest::prelude::*;
+
+/// One edit made with the notebook's keys.
+#[derive(Clone, Debug)]
+enum KeyEdit {
+    Formula {
+        row: usize,
+        text: &'static str,
+    },
+    Unit {
+        row: usize,
+        text: &'static str,
+    },
+    Add {
+        row: usize,
+        kind: char,
+        text: &'static str,
+    },
+    Delete {
+        row: usize,
+    },
+    WholeLine {
+        row: usize,
+        text: &'static str,
+    },
+}
+
+const TEXTS: &[&str] = &[
+    "2 kN",
+    "m_tot * 3",
+    "(1 +",
+    "m_skid / 0",
+    "W + m_rig",
+    "12 lbm",
+    "",
+];
+
+fn key_edit() -> impl Strategy<Value = KeyEdit> {
+    let text = proptest::sample::select(TEXTS);
+    prop_oneof![
+        (any::<usize>(), text.clone()).prop_map(|(row, text)| KeyEdit::Formula { row, text }),
+        (
+            any::<usize>(),
+            proptest::sample::select(&["kN", "", "lbf", "bad unit"][..])
+        )
+            .prop_map(|(row, text)| KeyEdit::Unit { row, text }),
+        (
+            any::<usize>(),
+            proptest::sample::select(&['a', 'h', 't', 'c'][..]),
+            text.clone()
+        )
+            .prop_map(|(row, kind, text)| KeyEdit::Add { row, kind, text }),
+        any::<usize>().prop_map(|row| KeyEdit::Delete { row }),
+        (any::<usize>(), text).prop_map(|(row, text)| KeyEdit::WholeLine { row, text }),
+    ]
+}
+
+fn go_to_row(app: &mut App, row: usize) {
+    let n_rows = app.live().rows().len().max(1);
+    press(app, KeyCode::Home);
+    for _ in 0..row % n_rows {
+        press(app, KeyCode::Down);
+    }
+}
+
+fn apply_key_edit(app: &mut App, edit: &KeyEdit) {
+    let (row, start, clear, text) = match *edit {
+        KeyEdit::Formula { row, text } => (row, '=', true, text),
+        KeyEdit::Unit { row, text } => (row, '[', true, text),
+        KeyEdit::Add { row, kind, text } => (row, kind, false, text),
+        KeyEdit::WholeLine { row, text } => (row, 'e', true, text),
+        KeyEdit::Delete { row } => (row, 'x', false, ""),
+    };
+    go_to_row(app, row);
+    press_char(app, start);
+    // A field key on a row that is not a cell only leaves a message.
+    if matches!(app.mode(), Mode::Editing(_)) {
+        if clear {
+            clear_field(app);
+        }
+        type_text(app, text);
+        press(app, KeyCode::Enter);
+    }
+    assert!(matches!(app.mode(), Mode::Browse), "{edit:?}");
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(64))]
+
+    #[test]
+    fn undo_walks_back_through_every_text_and_redo_forward(
+        edits in proptest::collection::vec(key_edit(), 1..10),
+    ) {
+        let mut app = app_for(SKID_LIFT);
+        let mut texts = vec![app.live().text()];
+        for edit in &edits {
+            apply_key_edit(&mut app, edit);
+            let text = app.live().text();
+            if texts.last() != Some(&text) {
+                texts.push(text);
+            }
+        }
+        prop_assert_eq!(app.history().undoable(), texts.len() - 1);
+        for expected in texts.iter().rev().skip(1) {
+            press_char(&mut app, '<');
+            prop_assert_eq!(&app.live().text(), expected);
+        }
+        prop_assert!(!app.is_dirty());
+        for expected in texts.iter().skip(1) {
+            press_char(&mut app, '>');
+            prop_assert_eq!(&app.live().text(), expected);
+        }
+    }
+}

@@ -5,7 +5,8 @@ use std::fs;
 
 use heftsheet::tui::files::{self, Fingerprint, SaveError};
 
-const SHEET: &str = "// hand-aligned, CRLF, no final break\r\nm   = 12 kg   \"mass\"\r\nW [N] = m * g0";
+const SHEET: &str =
+    "// hand-aligned, CRLF, no final break\r\nm   = 12 kg   \"mass\"\r\nW [N] = m * g0";
 
 #[test]
 fn opening_reads_the_text_and_its_fingerprint() {
@@ -41,7 +42,10 @@ fn a_file_that_is_not_utf8_is_refused_rather_than_saved_back_changed() {
     let path = directory.path().join("latin1.heft");
     fs::write(&path, b"m = 12 kg \"\xe9\"\n").expect("write");
     let error = files::open(&path).expect_err("refused");
-    assert!(error.to_string().contains("not valid UTF-8 from byte 11"), "{error}");
+    assert!(
+        error.to_string().contains("not valid UTF-8 from byte 11"),
+        "{error}"
+    );
 }
 
 #[test]
@@ -50,11 +54,23 @@ fn saving_replaces_the_file_whole_and_leaves_no_temporary_file() {
     let path = directory.path().join("fixture.heft");
     fs::write(&path, SHEET).expect("write");
     let edited = SHEET.replace("12 kg", "14 kg");
-    files::save(&path, &edited, Some(Fingerprint::of(SHEET.as_bytes())), false).expect("save");
+    files::save(
+        &path,
+        &edited,
+        Some(Fingerprint::of(SHEET.as_bytes())),
+        false,
+    )
+    .expect("save");
     assert_eq!(fs::read(&path).expect("read"), edited.as_bytes());
     let names: Vec<String> = fs::read_dir(directory.path())
         .expect("list")
-        .map(|entry| entry.expect("entry").file_name().to_string_lossy().into_owned())
+        .map(|entry| {
+            entry
+                .expect("entry")
+                .file_name()
+                .to_string_lossy()
+                .into_owned()
+        })
         .collect();
     assert_eq!(names, vec!["fixture.heft"]);
 }
@@ -86,9 +102,15 @@ fn the_recovery_copy_is_kept_offered_and_dropped() {
     let path = directory.path().join("fixture.heft");
     fs::write(&path, SHEET).expect("write");
     let recovery = files::recovery_path(&path);
-    assert_eq!(recovery, directory.path().join(".fixture.heft.heft-unsaved"));
+    assert_eq!(
+        recovery,
+        directory.path().join(".fixture.heft.heft-unsaved")
+    );
     files::keep_recovery(&path, "m = 15 kg\n").expect("keep");
-    assert_eq!(files::open(&path).expect("open").recovery.as_deref(), Some("m = 15 kg\n"));
+    assert_eq!(
+        files::open(&path).expect("open").recovery.as_deref(),
+        Some("m = 15 kg\n")
+    );
     // A copy equal to the file is nothing to recover.
     files::keep_recovery(&path, SHEET).expect("keep");
     assert_eq!(files::open(&path).expect("open").recovery, None);

@@ -217,3 +217,31 @@ fn a_frame_of_a_ten_thousand_row_sheet_draws_only_what_shows() {
     assert!(screen.contains("m9999"), "{screen}");
     assert!(screen.contains("10000 kg"), "{screen}");
 }
+
+#[test]
+fn tiny_and_odd_terminal_sizes_draw_without_panicking() {
+    for (width, height) in [
+        (1, 1),
+        (2, 3),
+        (10, 4),
+        (20, 6),
+        (40, 10),
+        (79, 23),
+        (119, 30),
+        (120, 30),
+        (300, 100),
+    ] {
+        for setup in [
+            &[][..],
+            &[KeyCode::Char('?')],
+            &[KeyCode::Char('!')],
+            &[KeyCode::Char('f')],
+            &[KeyCode::Enter],
+        ] {
+            let mut app = app(BROKEN, width, height, true);
+            keys(&mut app, &[KeyCode::Down, KeyCode::Down, KeyCode::Down]);
+            keys(&mut app, setup);
+            draw(&app);
+        }
+    }
+}
