@@ -186,11 +186,6 @@ impl Document {
         self.lines.get(line).map(|l| l.text.text(&self.arena))
     }
 
-    /// The span of 0-based `line` in the arena.
-    pub fn line_span(&self, line: usize) -> Option<Span> {
-        self.lines.get(line).map(|l| l.text)
-    }
-
     /// The first line after the header block.
     pub fn body_start(&self) -> usize {
         self.body_start
@@ -406,11 +401,6 @@ impl FieldEditor {
     /// The field's text when the edit began.
     pub fn value(&self) -> String {
         cell_field_text(&self.cell, &self.line_text, self.line_start, self.field)
-    }
-
-    /// The line as it began.
-    pub fn original_line(&self) -> &str {
-        &self.line_text
     }
 
     /// The line with the field set to `value`.

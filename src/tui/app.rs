@@ -444,23 +444,19 @@ impl App {
             return Vec::new();
         };
         match self.live.row(statement) {
-            Row::Cell(cell) => cell
-                .uses
-                .iter()
-                .map(|&id| Link::Uses(id))
-                .chain(
-                    self.live
-                        .dependents(cell.id)
-                        .iter()
-                        .map(|&id| Link::UsedByCell(id)),
-                )
-                .chain(
-                    self.live
-                        .check_dependents(cell.id)
-                        .iter()
-                        .map(|&check| Link::UsedByCheck(check)),
-                )
-                .collect(),
+            Row::Cell(cell) => {
+                // Users in file order, whatever order edits left the edges in.
+                let mut dependents = self.live.dependents(cell.id).to_vec();
+                dependents.sort_unstable();
+                let mut checks = self.live.check_dependents(cell.id).to_vec();
+                checks.sort_unstable();
+                cell.uses
+                    .iter()
+                    .map(|&id| Link::Uses(id))
+                    .chain(dependents.into_iter().map(Link::UsedByCell))
+                    .chain(checks.into_iter().map(Link::UsedByCheck))
+                    .collect()
+            }
             Row::Check(check, _) => self
                 .live
                 .check_uses(check)
@@ -1082,12 +1078,28 @@ fn typed_char(key: &KeyEvent) -> Option<char> {
 pub fn update(app: &mut App, message: Message) -> Vec<Effect> {
     match message {
         Message::Key(key) => {
-            let mode = app.mode.clone();
-            match mode {
-                Mode::Editing(_) => return app.editor_key(&key),
-                Mode::Find(_) => app.find_key(&key),
-                Mode::Findings(_) => app.findings_key(&key),
-                Mode::Help { scroll } => match action_for(Scope::Help, &key) {
+            // Which handler gets the key, decided before any of them borrows the app.
+            enum Handler {
+                Editor,
+                Find,
+                Findings,
+                Help(usize),
+                Ask(Question),
+                Browse,
+            }
+            let handler = match &app.mode {
+                Mode::Editing(_) => Handler::Editor,
+                Mode::Find(_) => Handler::Find,
+                Mode::Findings(_) => Handler::Findings,
+                Mode::Help { scroll } => Handler::Help(*scroll),
+                Mode::Ask(question) => Handler::Ask(*question),
+                Mode::Browse => Handler::Browse,
+            };
+            match handler {
+                Handler::Editor => return app.editor_key(&key),
+                Handler::Find => app.find_key(&key),
+                Handler::Findings => app.findings_key(&key),
+                Handler::Help(scroll) => match action_for(Scope::Help, &key) {
                     Some(Action::Up) => {
                         app.mode = Mode::Help {
                             scroll: scroll.saturating_sub(1),
@@ -1097,8 +1109,8 @@ pub fn update(app: &mut App, message: Message) -> Vec<Effect> {
                     Some(Action::Close) => app.mode = Mode::Browse,
                     _ => {}
                 },
-                Mode::Ask(question) => return app.answer(question, &key),
-                Mode::Browse => {
+                Handler::Ask(question) => return app.answer(question, &key),
+                Handler::Browse => {
                     app.message = None;
                     if app.focus == Focus::Links
                         && let Some(effects) = app.links_action(action_for(Scope::Links, &key))

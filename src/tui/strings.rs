@@ -35,8 +35,6 @@ pub const MARK_FAIL: &str = "FAIL";
 /// A note line.
 pub const MARK_NOTE: &str = "note";
 
-/// Pane titles.
-pub const PANE_SHEET: &str = "sheet";
 /// The detail pane.
 pub const PANE_DETAIL: &str = "detail";
 /// The help overlay.

@@ -75,18 +75,24 @@ fn wrap(text: &str, room: usize) -> Vec<String> {
     let room = room.max(1);
     let mut pieces = Vec::new();
     let mut current = String::new();
+    let mut used = 0;
     for word in text.split(' ') {
-        if !current.is_empty() && current.width() + 1 + word.width() > room {
+        if !current.is_empty() && used + 1 + word.width() > room {
             pieces.push(std::mem::take(&mut current));
+            used = 0;
         }
         if !current.is_empty() {
             current.push(' ');
+            used += 1;
         }
         for c in word.chars() {
-            if !current.is_empty() && current.width() + c.width().unwrap_or(0) > room {
+            let w = c.width().unwrap_or(0);
+            if !current.is_empty() && used + w > room {
                 pieces.push(std::mem::take(&mut current));
+                used = 0;
             }
             current.push(c);
+            used += w;
         }
     }
     pieces.push(current);
@@ -715,7 +721,11 @@ fn draw_status(app: &App, frame: &mut Frame, area: Rect) {
     ];
     let used: usize = spans.iter().map(|span| span.width()).sum();
     let width = usize::from(area.width);
-    let hint = text::HINT_HELP;
+    let hint = if matches!(app.mode(), Mode::Editing(_)) {
+        text::EDIT_KEYS
+    } else {
+        text::HINT_HELP
+    };
     if used + hint.width() < width {
         spans.push(Span::raw(" ".repeat(width - used - hint.width())));
         spans.push(Span::styled(hint, theme.key()));
