@@ -361,3 +361,16 @@ proptest! {
         }
     }
 }
+
+#[test]
+fn every_member_of_a_loop_lists_the_loop_among_its_findings() {
+    let live = LiveSheet::open("a = b + 1 m\nb = c * 2\nc = a / 3\n");
+    for name in ["a", "b", "c"] {
+        let statement = live.cell_statement(live.cell_named(name).expect("cell"));
+        let findings = live.statement_findings(statement);
+        assert_eq!(findings.len(), 1, "{name}: {findings:?}");
+        assert_eq!(findings[0].code, Code::Cycle);
+        // Placed where it is reported: the first member's name, line 1.
+        assert_eq!((findings[0].line, findings[0].column), (1, 1));
+    }
+}

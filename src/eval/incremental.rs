@@ -450,14 +450,28 @@ impl LiveSheet {
     }
 
     /// The findings that lie in statement `index`.
+    /// Also those placed elsewhere that point a label here (the other
+    /// members of a loop, the first of two cells of one name).
     pub fn statement_findings(&self, index: usize) -> Vec<Finding> {
         let span = self.sheet.statements[index].span;
         let mut findings: Vec<Finding> = self
             .statement_diagnostics(index)
-            .filter(|d| span.start() <= d.span.start() && d.span.start() <= span.end())
-            .map(|diagnostic| self.finding(diagnostic, Some(index)))
+            .filter_map(|d| {
+                if within(d.span, span) {
+                    Some(self.finding(d, Some(index)))
+                } else if d.labels.iter().any(|label| within(label.span, span)) {
+                    let owner = self
+                        .sheet
+                        .statements
+                        .iter()
+                        .position(|statement| within(d.span, statement.span));
+                    Some(self.finding(d, owner))
+                } else {
+                    None
+                }
+            })
             .collect();
-        findings.sort_by_key(|finding| finding.column);
+        findings.sort_by_key(|finding| (finding.line, finding.column));
         findings
     }
 
