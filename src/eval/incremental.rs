@@ -651,9 +651,13 @@ impl LiveSheet {
         }
     }
 
-    /// Whether the header's extent may have changed, so the text must be read again.
+    /// Whether the text must be read again: the header's extent may have
+    /// changed, or statements span several lines (blocks), which the
+    /// line-by-line paths do not handle.
     fn needs_reopen(&self) -> bool {
-        self.document.header_unclosed() || self.document.first_statement_opens_header()
+        self.document.header_unclosed()
+            || self.document.first_statement_opens_header()
+            || self.document.has_blocks()
     }
 
     fn reopen(&mut self) {

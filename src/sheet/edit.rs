@@ -102,6 +102,9 @@ pub struct Document {
     unused_bytes: usize,
     /// The break given to new lines: the file's first one, else `\n`.
     newline: LineEnding,
+    /// Whether some statement spans several lines (a block), so that a
+    /// line is no longer a statement and every edit reads the text again.
+    has_blocks: bool,
 }
 
 impl Document {
@@ -149,6 +152,9 @@ impl Document {
             .iter()
             .map(|statement| line_of(statement.span.start()) as u32)
             .collect();
+        let has_blocks = statements
+            .iter()
+            .any(|statement| statement.span.text(text).contains('\n'));
         Document {
             arena: text.to_string(),
             lines,
@@ -158,6 +164,7 @@ impl Document {
             statement_lines,
             unused_bytes: 0,
             newline,
+            has_blocks,
         }
     }
 
@@ -345,6 +352,11 @@ impl Document {
             .filter(|(_, line)| syntax::is_statement_line(line.text.text(arena)))
             .map(|(index, _)| index as u32)
             .collect();
+    }
+
+    /// Whether some statement spans several lines.
+    pub fn has_blocks(&self) -> bool {
+        self.has_blocks
     }
 
     /// Whether the first statement opens a header block (so the whole text
@@ -642,6 +654,21 @@ mod tests {
         assert_eq!(document.text(), "a = 1\r\nb = 2\n\n// note\nc = 3\r\nd = 4");
         document.remove_line(5);
         assert_eq!(document.text(), text);
+    }
+
+    #[test]
+    fn a_statement_over_several_lines_is_noticed() {
+        let text = "a = 1\nblock\n  inside\nend\n";
+        let one_line = syntax::parse(text);
+        assert!(!Document::open(text, None, &one_line.statements).has_blocks());
+        // A statement spanning lines 2 to 4, as a multi-line block would.
+        let block = Statement {
+            span: Span::new(6, 22),
+            kind: StatementKind::Invalid,
+        };
+        let document = Document::open(text, None, &[one_line.statements[0].clone(), block]);
+        assert!(document.has_blocks());
+        assert_eq!(document.statement_line(1), 1);
     }
 
     #[test]
