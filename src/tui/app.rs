@@ -971,10 +971,7 @@ impl App {
                 if let Some(finding) = finding {
                     match finding.statement {
                         Some(statement) => self.jump_to_statement(statement),
-                        None => self.say(format!(
-                            "line {}: {} (in the header)",
-                            finding.line, finding.message
-                        )),
+                        None => self.say(text::in_header(finding.line, &finding.message)),
                     }
                 }
             }

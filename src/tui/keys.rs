@@ -406,6 +406,20 @@ pub const BINDINGS: &[Binding] = &[
     ),
 ];
 
+/// The keys the bottom line suggests, most used first, with one word each.
+pub const HINTS: &[(Action, &str)] = &[
+    (A::EditMain, "edit"),
+    (A::AddCell, "add"),
+    (A::Delete, "delete"),
+    (A::Undo, "undo"),
+    (A::Save, "save"),
+    (A::Find, "find"),
+    (A::Findings, "findings"),
+    (A::CycleUnits, "units"),
+    (A::Help, "keys"),
+    (A::Quit, "quit"),
+];
+
 impl Key {
     /// Whether a key event is this key.
     pub fn matches(&self, event: &KeyEvent) -> bool {

@@ -161,3 +161,48 @@ pub const EMPTY_SHEET: &str =
     "An empty sheet: Enter or a adds a cell, h a heading, t a note, c a check.";
 /// Help footer.
 pub const HELP_FOOTER: &str = "Esc or ? closes · ↑↓ scroll";
+
+/// The name column of a check row.
+pub const ROW_CHECK: &str = "check";
+/// The prompt of the find overlay.
+pub const FIND_PROMPT: &str = "name › ";
+/// Running the notebook without a terminal.
+pub const NEEDS_TERMINAL: &str =
+    "the notebook needs a terminal; for scripts and CI use `heft check FILE`";
+
+/// A check by its number: `check 2`.
+pub fn check_name(index: usize) -> String {
+    format!("check {}", index + 1)
+}
+
+/// A line by its number: `line 12`.
+pub fn line_name(line: usize) -> String {
+    format!("line {line}")
+}
+
+/// `1 error`, `3 warnings`.
+pub fn count(n: usize, word: &str) -> String {
+    if n == 1 {
+        format!("{n} {word}")
+    } else {
+        format!("{n} {word}s")
+    }
+}
+
+/// A finding in the header, which has no row to jump to.
+pub fn in_header(line: usize, message: &str) -> String {
+    format!("line {line}: {message} (in the header)")
+}
+
+/// A save that failed.
+pub fn save_failed(path: &std::path::Path, error: &std::io::Error) -> String {
+    format!("could not save {}: {error}", path.display())
+}
+
+/// A recovery copy that could not be written or removed.
+pub fn recovery_failed(path: &std::path::Path, error: &std::io::Error) -> String {
+    format!(
+        "could not keep or remove the recovery copy beside {}: {error}",
+        path.display()
+    )
+}

@@ -13,15 +13,14 @@ use ratatui::layout::Rect;
 
 use super::app::{App, Effect, Message, update};
 use super::files::{self, SaveError};
+use super::strings;
 use super::theme::Theme;
 use super::view::view;
 
 /// Opens `path` in the notebook and runs it until the user quits.
 pub fn run(path: &Path, colour: bool) -> io::Result<()> {
     if !io::stdout().is_terminal() || !io::stdin().is_terminal() {
-        return Err(io::Error::other(
-            "the notebook needs a terminal; for scripts and CI use `heft check FILE`",
-        ));
+        return Err(io::Error::other(strings::NEEDS_TERMINAL));
     }
     let opened = files::open(path)?;
     let mut terminal = ratatui::try_init()?;
@@ -85,23 +84,19 @@ fn perform(effect: Effect, path: &Path) -> Performed {
         } => Performed::Answer(match files::save(path, &text, expected, overwrite) {
             Ok(fingerprint) => Message::Saved(fingerprint),
             Err(SaveError::ChangedOnDisk) => Message::SaveRefused,
-            Err(SaveError::Io(error)) => {
-                Message::SaveFailed(format!("could not save {}: {error}", path.display()))
-            }
+            Err(SaveError::Io(error)) => Message::SaveFailed(strings::save_failed(path, &error)),
         }),
-        Effect::KeepRecovery(text) => match files::keep_recovery(path, &text) {
-            Ok(()) => Performed::Done,
-            Err(error) => Performed::Answer(Message::RecoveryFailed(format!(
-                "could not keep a recovery copy beside {}: {error}",
-                path.display()
-            ))),
-        },
-        Effect::DropRecovery => match files::drop_recovery(path) {
-            Ok(()) => Performed::Done,
-            Err(error) => Performed::Answer(Message::RecoveryFailed(format!(
-                "could not remove the recovery copy: {error}"
-            ))),
-        },
+        Effect::KeepRecovery(text) => recovery_outcome(path, files::keep_recovery(path, &text)),
+        Effect::DropRecovery => recovery_outcome(path, files::drop_recovery(path)),
         Effect::Quit => Performed::Quit,
+    }
+}
+
+fn recovery_outcome(path: &Path, outcome: io::Result<()>) -> Performed {
+    match outcome {
+        Ok(()) => Performed::Done,
+        Err(error) => Performed::Answer(Message::RecoveryFailed(strings::recovery_failed(
+            path, &error,
+        ))),
     }
 }

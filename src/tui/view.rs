@@ -10,7 +10,7 @@ use ratatui::widgets::{Block, Borders, Clear, Paragraph};
 use unicode_width::{UnicodeWidthChar, UnicodeWidthStr};
 
 use super::app::{App, Focus, Link, Mode, UnitsView};
-use super::keys::{Action, BINDINGS, Scope, key_for};
+use super::keys::{BINDINGS, HINTS, Scope, key_for};
 use super::layout::{Areas, areas};
 use super::strings as text;
 use super::theme::Theme;
@@ -271,7 +271,7 @@ fn draw_sheet(app: &App, frame: &mut Frame, area: Rect) {
                 )));
             }
             Row::Check(_, check) => {
-                spans.push(Span::raw(pad("check", columns.name)));
+                spans.push(Span::raw(pad(text::ROW_CHECK, columns.name)));
                 spans.push(Span::raw(" "));
                 spans.push(Span::raw(pad(&check_text(check), columns.formula)));
                 spans.push(Span::raw(" "));
@@ -438,7 +438,7 @@ impl Detail {
 fn link_name(live: &LiveSheet, link: Link) -> String {
     match link {
         Link::Uses(id) | Link::UsedByCell(id) => live.cell(id).name.to_string(),
-        Link::UsedByCheck(check) => format!("check {}", check + 1),
+        Link::UsedByCheck(check) => text::check_name(check),
     }
 }
 
@@ -474,7 +474,7 @@ fn detail(app: &App, inner: Rect) -> Detail {
             } else {
                 String::new()
             };
-            detail.title = format!("{}{unit} · line {}", cell.name, cell.line);
+            detail.title = format!("{}{unit} · {}", cell.name, text::line_name(cell.line));
             let description = cell.description.map(str::to_string).unwrap_or_else(|| {
                 if cell.is_input {
                     text::INPUT.to_string()
@@ -533,9 +533,9 @@ fn detail(app: &App, inner: Rect) -> Detail {
         }
         Row::Check(index, check) => {
             detail.title = format!(
-                "check {} · line {}",
-                index + 1,
-                live.statement_line(statement) + 1
+                "{} · {}",
+                text::check_name(index),
+                text::line_name(live.statement_line(statement) + 1)
             );
             if let Some(label) = &check.label {
                 detail
@@ -579,7 +579,7 @@ fn detail(app: &App, inner: Rect) -> Detail {
         }
         Row::Heading { .. } | Row::Note { .. } | Row::Invalid { .. } => {
             let line = live.statement_line(statement) + 1;
-            detail.title = format!("{} {line}", text::LABEL_LINE);
+            detail.title = text::line_name(line);
             detail.labelled(
                 theme,
                 text::LABEL_LINE,
@@ -614,7 +614,7 @@ fn detail(app: &App, inner: Rect) -> Detail {
                 Severity::Info => Style::default(),
             };
             detail.lines.push(Line::from(vec![
-                Span::raw(pad(&format!("line {}", finding.line), LABEL_WIDTH)),
+                Span::raw(pad(&text::line_name(finding.line), LABEL_WIDTH)),
                 Span::styled(
                     fit(
                         &format!("[{}] {}", finding.code, finding.message),
@@ -669,16 +669,9 @@ fn draw_status(app: &App, frame: &mut Frame, area: Rect) {
             _ => {}
         }
     }
-    let plural = |n: usize, word: &str| {
-        if n == 1 {
-            format!("{n} {word}")
-        } else {
-            format!("{n} {word}s")
-        }
-    };
     let mut spans = vec![
         Span::styled(
-            plural(errors, "error"),
+            text::count(errors, "error"),
             if errors > 0 {
                 theme.bad()
             } else {
@@ -687,7 +680,7 @@ fn draw_status(app: &App, frame: &mut Frame, area: Rect) {
         ),
         Span::raw(" · "),
         Span::styled(
-            plural(warnings, "warning"),
+            text::count(warnings, "warning"),
             if warnings > 0 {
                 theme.warning()
             } else {
@@ -775,21 +768,9 @@ fn draw_bottom(app: &App, frame: &mut Frame, area: Rect) {
 
 /// The most used keys, as many as fit.
 fn hints(theme: Theme, width: usize) -> Line<'static> {
-    let wanted = [
-        (Action::EditMain, "edit"),
-        (Action::AddCell, "add"),
-        (Action::Delete, "delete"),
-        (Action::Undo, "undo"),
-        (Action::Save, "save"),
-        (Action::Find, "find"),
-        (Action::Findings, "findings"),
-        (Action::CycleUnits, "units"),
-        (Action::Help, "keys"),
-        (Action::Quit, "quit"),
-    ];
     let mut spans = Vec::new();
     let mut used = 0;
-    for (action, word) in wanted {
+    for &(action, word) in HINTS {
         let key = key_for(Scope::Sheet, action);
         let w = key.width() + word.width() + 3;
         if used + w > width {
@@ -852,7 +833,7 @@ fn draw_findings(app: &App, frame: &mut Frame, areas: &Areas, list: &[Finding], 
     if let Some(finding) = list.get(selected) {
         full.push(Line::styled("─".repeat(width), theme.quiet()));
         for piece in wrap(
-            &format!("line {}: {}", finding.line, finding.message),
+            &format!("{}: {}", text::line_name(finding.line), finding.message),
             width,
         ) {
             full.push(Line::raw(piece));
@@ -903,7 +884,7 @@ fn draw_find(app: &App, frame: &mut Frame, areas: &Areas, state: &super::app::Fi
     let block = overlay_block(text::PANE_FIND.to_string());
     let inner = block.inner(area);
     let width = usize::from(inner.width);
-    let prompt = "name › ";
+    let prompt = text::FIND_PROMPT;
     let mut lines = vec![Line::from(vec![
         Span::styled(prompt, theme.label()),
         Span::styled(state.query.value().to_string(), theme.input()),
