@@ -766,6 +766,16 @@ fn help_opens_scrolls_and_closes() {
     assert!(matches!(app.mode(), Mode::Help { scroll: 0 }));
     press(&mut app, KeyCode::Down);
     assert!(matches!(app.mode(), Mode::Help { scroll: 1 }));
+    // Scrolling stops at the last screenful, so Up answers at once.
+    for _ in 0..500 {
+        press(&mut app, KeyCode::Down);
+    }
+    let Mode::Help { scroll: bottom } = *app.mode() else {
+        panic!("still in help");
+    };
+    assert!(bottom > 1 && bottom < 200, "{bottom}");
+    press(&mut app, KeyCode::Up);
+    assert!(matches!(app.mode(), Mode::Help { scroll } if *scroll == bottom - 1));
     press(&mut app, KeyCode::Esc);
     assert!(matches!(app.mode(), Mode::Browse));
     assert!(BINDINGS.iter().any(|b| b.action == Action::Help));

@@ -1102,7 +1102,16 @@ pub fn update(app: &mut App, message: Message) -> Vec<Effect> {
                             scroll: scroll.saturating_sub(1),
                         }
                     }
-                    Some(Action::Down) => app.mode = Mode::Help { scroll: scroll + 1 },
+                    Some(Action::Down) => {
+                        let overlay = app.areas().overlay;
+                        let inner_width = usize::from(overlay.width.saturating_sub(2));
+                        let n_lines = super::view::help_lines(app.theme, inner_width).len();
+                        let last =
+                            n_lines.saturating_sub(usize::from(overlay.height.saturating_sub(2)));
+                        app.mode = Mode::Help {
+                            scroll: (scroll + 1).min(last),
+                        }
+                    }
                     Some(Action::Close) => app.mode = Mode::Browse,
                     _ => {}
                 },
