@@ -62,6 +62,8 @@ pub const LABEL_USED_BY: &str = "used by";
 pub const LABEL_FINDINGS: &str = "findings";
 /// The suggested fix.
 pub const LABEL_FIX: &str = "fix";
+/// The sheet's checks.
+pub const LABEL_CHECKS: &str = "checks, failed and most used first";
 /// Findings on other lines.
 pub const LABEL_ELSEWHERE: &str = "findings elsewhere in the sheet";
 /// A check's comparison.

@@ -625,6 +625,42 @@ fn detail(app: &App, inner: Rect) -> Detail {
             ]));
         }
     }
+    // And the checks, failed and most used first.
+    let room = height.saturating_sub(detail.lines.len() + caution.len() + 3);
+    if live.n_checks() > 0 && room >= 3 {
+        let mut checks: Vec<usize> = (0..live.n_checks()).collect();
+        checks.sort_by(|&a, &b| {
+            let key = |index: usize| {
+                let check = live.check(index);
+                (
+                    check.status != CheckStatus::Failed,
+                    -check.utilization.unwrap_or(0.0),
+                )
+            };
+            key(a)
+                .partial_cmp(&key(b))
+                .unwrap_or(std::cmp::Ordering::Equal)
+        });
+        detail.lines.push(Line::raw(""));
+        detail
+            .lines
+            .push(Line::styled(text::LABEL_CHECKS, theme.label()));
+        for index in checks.into_iter().take(room - 2) {
+            let check = live.check(index);
+            let statement = live.check_statement(index);
+            let mark = mark_of(live, statement, &Row::Check(index, check));
+            let label = check.label.as_deref().unwrap_or_default();
+            detail.lines.push(Line::from(vec![
+                Span::styled(pad(mark, 5), mark_style(theme, mark)),
+                Span::raw(pad_left(&utilization_text(check), 8)),
+                Span::raw("  "),
+                Span::raw(fit(
+                    &format!("{}  {label}", check_text(check)),
+                    width.saturating_sub(15),
+                )),
+            ]));
+        }
+    }
     if detail.lines.len() + caution.len() < height {
         detail.lines.push(Line::raw(""));
         for piece in caution {
