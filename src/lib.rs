@@ -7,6 +7,8 @@
 //! [`cli`] presents the result. [`diag`] carries every finding as data.
 //! [`audit`] reads the evaluated sheet for the mistakes dimensions miss
 //! (lints) and lists every conversion for the checker.
+//! [`cli`] presents the result; [`tui`] is the terminal notebook that edits a
+//! sheet and recomputes it live. [`diag`] carries every finding as data.
 
 pub mod audit;
 pub mod cases;
@@ -20,6 +22,7 @@ pub mod review;
 pub mod sheet;
 pub mod simulate;
 pub mod syntax;
+pub mod tui;
 pub mod units;
 
 /// The caution every output for people carries: heft supports the

@@ -135,3 +135,22 @@ fn the_text_report_of_a_broken_sheet() {
     let text = heftsheet::cli::check_text("blocked_chain.heft", &source, &evaluated);
     insta::assert_snapshot!(text);
 }
+
+#[test]
+fn the_notebook_needs_a_terminal_and_points_scripts_to_check() {
+    // `cargo test` gives the binary pipes, not a terminal.
+    for args in [
+        &["sheets/skid_lift.heft"][..],
+        &["edit", "sheets/skid_lift.heft"],
+    ] {
+        let (code, out, err) = heft(args);
+        assert_eq!(code, 2, "{out}{err}");
+        assert!(err.contains("the notebook needs a terminal"), "{err}");
+        assert!(err.contains("heft check FILE"), "{err}");
+    }
+    let (code, _, err) = heft(&[]);
+    assert_eq!(code, 2);
+    assert!(err.contains("Usage"), "{err}");
+    // The subcommands are unchanged by the bare-file form.
+    assert_eq!(heft(&["check", "sheets/skid_lift.heft"]).0, 0);
+}

@@ -20,10 +20,13 @@ use clap::{Parser, Subcommand, ValueEnum};
 /// heft: unit-checked calculation sheets for lifts, hoists, carts and fixtures.
 #[derive(Debug, Parser)]
 #[command(name = "heft", version, about, long_about = None)]
+#[command(args_conflicts_with_subcommands = true, arg_required_else_help = true)]
 pub struct Args {
     /// What to do.
     #[command(subcommand)]
-    pub command: Command,
+    pub command: Option<Command>,
+    /// A sheet to open in the notebook (a new file name starts an empty sheet).
+    pub file: Option<PathBuf>,
     /// When to colour the output.
     #[arg(long, global = true, value_enum, default_value_t = Colour::Auto)]
     pub color: Colour,
@@ -112,6 +115,11 @@ pub enum Command {
         #[arg(long)]
         json: bool,
     },
+    /// Open a sheet in the terminal notebook (the same as `heft FILE`).
+    Edit {
+        /// The sheet file; a new name starts an empty sheet.
+        file: PathBuf,
+    },
 }
 
 /// The text report of `heft check`, without colour (for tests and tools).
@@ -140,15 +148,23 @@ pub fn run(args: Args) -> ExitCode {
             io::stdout().is_terminal() && std::env::var_os("NO_COLOR").is_none_or(|v| v.is_empty())
         }
     };
-    let outcome = match args.command {
-        Command::Check {
-            file,
-            json,
-            deny_warnings,
-            csv,
-            svg,
-            run,
-        } => {
+    let notebook_colour = match args.color {
+        Colour::Always => true,
+        Colour::Never => false,
+        Colour::Auto => std::env::var_os("NO_COLOR").is_none_or(|v| v.is_empty()),
+    };
+    let outcome = match (args.command, args.file) {
+        (
+            Some(Command::Check {
+                file,
+                json,
+                deny_warnings,
+                csv,
+                svg,
+                run,
+            }),
+            _,
+        ) => {
             let output = match (json, csv, svg) {
                 (true, _, _) => check::Output::Json,
                 (_, true, _) => check::Output::Csv { run },
@@ -157,12 +173,18 @@ pub fn run(args: Args) -> ExitCode {
             };
             check::run(&file, output, deny_warnings, colour)
         }
-        Command::Convert { quantity, unit } => convert::run(&quantity, &unit, colour),
-        Command::Units => units_list::run(),
-        Command::Report { file, output } => report::run(&file, &output),
-        Command::Diff { old, new, json } => diff::run(&old, &new, json),
-        Command::Signoff { file, by, on } => review::run_signoff(&file, &by, &on),
-        Command::Audit { file, json } => audit::run(&file, json, colour),
+        (Some(Command::Convert { quantity, unit }), _) => convert::run(&quantity, &unit, colour),
+        (Some(Command::Units), _) => units_list::run(),
+        (Some(Command::Report { file, output }), _) => report::run(&file, &output),
+        (Some(Command::Diff { old, new, json }), _) => diff::run(&old, &new, json),
+        (Some(Command::Signoff { file, by, on }), _) => review::run_signoff(&file, &by, &on),
+        (Some(Command::Audit { file, json }), _) => audit::run(&file, json, colour),
+        (Some(Command::Edit { file }), _) | (None, Some(file)) => {
+            crate::tui::run(&file, notebook_colour).map(|()| EXIT_CLEAN)
+        }
+        (None, None) => Err(io::Error::other(
+            "give a sheet to open, or a command; see `heft --help`",
+        )),
     };
     match outcome {
         Ok(code) => ExitCode::from(code),

@@ -137,17 +137,22 @@ impl Evaluator<'_> {
 
     /// Runs every node of the sheet.
     pub(super) fn run_nodes(&mut self) {
+        for &node in &self.sheet.order.order {
+            self.run_node(node);
+        }
+    }
+
+    /// Runs one node: a cell, a solve block or a simulate block.
+    pub(super) fn run_node(&mut self, node: crate::sheet::NodeId) {
         let sheet = self.sheet;
-        for &node in &sheet.order.order {
-            match &sheet.nodes[node] {
-                crate::sheet::Node::Cell(id) => self.evaluate_cell(*id),
-                crate::sheet::Node::Solve {
-                    statement,
-                    unknowns,
-                } => self.evaluate_solve(*statement, unknowns),
-                crate::sheet::Node::Simulate { statement, cells } => {
-                    self.evaluate_simulate(*statement, cells)
-                }
+        match &sheet.nodes[node] {
+            crate::sheet::Node::Cell(id) => self.evaluate_cell(*id),
+            crate::sheet::Node::Solve {
+                statement,
+                unknowns,
+            } => self.evaluate_solve(*statement, unknowns),
+            crate::sheet::Node::Simulate { statement, cells } => {
+                self.evaluate_simulate(*statement, cells)
             }
         }
     }
@@ -168,8 +173,8 @@ fn worst_side(
 /// Evaluates every load case; returns the outcomes and the diagnostics that
 /// belong to the cases (errors in their overrides, checks that fail in them).
 pub(super) fn evaluate_cases(
-    sheet: &std::sync::Arc<Sheet>,
-    source: &std::sync::Arc<str>,
+    sheet: &Sheet,
+    source: &str,
     chosen: &[CellId],
 ) -> (Vec<CaseOutcome>, Vec<Diagnostic>) {
     let mut outcomes = Vec::new();

@@ -8,6 +8,7 @@ mod explain;
 mod expr;
 pub mod formula;
 pub mod functions;
+mod incremental;
 mod model;
 pub mod program;
 mod ranges;
@@ -17,6 +18,7 @@ mod solve;
 mod vectors;
 
 pub use explain::format_value;
+pub use incremental::{CellField, EditError, FieldEditor, Finding, LiveSheet, Row};
 pub use model::{
     CaseCheck, CaseOutcome, CaseValue, CellOutcome, CellRange, CellResult, CellStatus, CheckRange,
     CheckResult, CheckStatus, EquationReport, Evaluated, FreeBody, OutlineItem, Sensitivity,
@@ -59,7 +61,7 @@ pub fn evaluate(sheet: Arc<Sheet>, source: Arc<str>) -> Evaluated {
     let (case_outcomes, case_diagnostics) = cases::evaluate_cases(&sheet, &source, &chosen);
     evaluator.diagnostics.extend(case_diagnostics);
     let governing = cases::governing(&checks, &case_outcomes);
-    let mut evaluated = evaluator.finish(checks);
+    let mut evaluated = evaluator.finish(checks, &sheet, &source);
     evaluated.ranges = ranges;
     evaluated.cases = case_outcomes;
     evaluated.case_results = chosen;
@@ -117,8 +119,8 @@ fn override_uses(replacement: &Override) -> Vec<CellId> {
 
 /// The evaluation in progress: values and statuses by cell.
 struct Evaluator<'a> {
-    sheet: &'a Arc<Sheet>,
-    source: &'a Arc<str>,
+    sheet: &'a Sheet,
+    source: &'a str,
     /// Units already looked up, by their text: a sheet repeats a few units
     /// many times.
     unit_cache: RefCell<FxHashMap<&'a str, ResolvedUnit>>,
@@ -142,7 +144,7 @@ struct Evaluator<'a> {
 }
 
 impl<'a> Evaluator<'a> {
-    fn new(sheet: &'a Arc<Sheet>, source: &'a Arc<str>) -> Self {
+    fn new(sheet: &'a Sheet, source: &'a str) -> Self {
         Evaluator {
             sheet,
             source,
@@ -515,8 +517,12 @@ impl<'a> Evaluator<'a> {
             .unwrap_or_else(|| pick_unit(value.dimension, value.si, self.style.system))
     }
 
-    fn finish(mut self, checks: Vec<CheckResult>) -> Evaluated {
-        let (sheet, source) = (self.sheet, self.source);
+    fn finish(
+        mut self,
+        checks: Vec<CheckResult>,
+        sheet: &Arc<Sheet>,
+        source: &Arc<str>,
+    ) -> Evaluated {
         let lines = LineIndex::new(source);
         let outcomes = (0..sheet.cells.len())
             .map(|id| {
@@ -534,6 +540,7 @@ impl<'a> Evaluator<'a> {
         let outline = sheet
             .items
             .iter()
+            .filter(|item| !matches!(item, Item::Review(_)))
             .map(|item| match *item {
                 Item::Heading(index) => match &sheet.statements[index].kind {
                     StatementKind::Heading { level, text } => OutlineItem::Heading {
@@ -563,7 +570,7 @@ impl<'a> Evaluator<'a> {
                         span: sheet.statements[statement].span,
                     },
                 },
-                Item::Invalid(index) => OutlineItem::Invalid {
+                Item::Invalid(index) | Item::Review(index) => OutlineItem::Invalid {
                     span: sheet.statements[index].span,
                 },
                 Item::Simulate(statement) => match self

@@ -419,14 +419,7 @@ impl Evaluated {
             name: &cell.name.text,
             span,
             line: self.lines.line_of(line_span.start()) + 1,
-            formula: match (cell.expr, self.sheet.tolerance(id)) {
-                (Some(expr), Some(tolerance)) => {
-                    expr.span.to(tolerance_span(tolerance)).text(&self.source)
-                }
-                (Some(expr), None) => expr.span.text(&self.source),
-                (None, _) if self.sheet.is_simulated(id) => "(simulated)",
-                (None, _) => "(solved)",
-            },
+            formula: formula_text(&self.sheet, id, &self.source),
             description: cell.description.map(|d| d.text.as_str()),
             declared_unit: cell.unit.is_some(),
             is_input: outcome.is_input,
@@ -507,5 +500,16 @@ impl Evaluated {
     pub fn is_clean(&self) -> bool {
         self.count(Severity::Error) == 0
             && self.checks.iter().all(|check| check.passed() == Some(true))
+    }
+}
+
+/// A cell's formula as written, its tolerance included; `(solved)` or
+/// `(simulated)` for a cell a block gives.
+pub(super) fn formula_text<'s>(sheet: &Sheet, id: CellId, source: &'s str) -> &'s str {
+    match (sheet.cell(id).expr, sheet.tolerance(id)) {
+        (Some(expr), Some(tolerance)) => expr.span.to(tolerance_span(tolerance)).text(source),
+        (Some(expr), None) => expr.span.text(source),
+        (None, _) if sheet.is_simulated(id) => "(simulated)",
+        (None, _) => "(solved)",
     }
 }

@@ -1,6 +1,7 @@
 //! The sheet model: header, statements, the cells and checks they define,
 //! the dependency graph between cells and the order to evaluate them in.
 
+pub mod edit;
 mod graph;
 mod header;
 mod runs;
@@ -103,6 +104,8 @@ pub enum Item {
     Case(usize),
     /// A simulate block, at this statement index.
     Simulate(usize),
+    /// A review mark or sign-off line, at this statement index.
+    Review(usize),
 }
 
 /// A whole sheet, parsed and linked: everything the evaluator needs.
@@ -208,7 +211,7 @@ impl Sheet {
                 }
                 // Review marks and sign-offs are the checker's record, not
                 // content to evaluate: the `review` module reads them.
-                StatementKind::Review(_) | StatementKind::SignOff(_) => continue,
+                StatementKind::Review(_) | StatementKind::SignOff(_) => Item::Review(index),
             };
             items.push(item);
         }

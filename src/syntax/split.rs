@@ -77,11 +77,11 @@ pub fn parse(source: &str) -> ParsedSheet {
     }) {
         lines.next();
     }
-    if let Some(open) = lines.next_if(|line| source[line.start..line.end].trim() == "+++") {
+    if let Some(open) = lines.next_if(|line| is_header_delimiter(&source[line.start..line.end])) {
         let body_start = (open.end + 1).min(source.len());
         let close = lines
             .by_ref()
-            .find(|line| source[line.start..line.end].trim() == "+++");
+            .find(|line| is_header_delimiter(&source[line.start..line.end]));
         match close {
             Some(close) => {
                 sheet.header = Some(HeaderBlock {
@@ -175,10 +175,7 @@ fn opens_block(text: &str) -> bool {
 /// lines, and gathering each block up to its `end`.
 fn gather_statements(source: &str, lines: impl Iterator<Item = Line>) -> Vec<RawStatement> {
     let mut statements = Vec::new();
-    let mut lines = lines.filter(|line| {
-        let trimmed = source[line.start..line.end].trim_start();
-        !trimmed.is_empty() && !trimmed.starts_with("//")
-    });
+    let mut lines = lines.filter(|line| is_statement_line(&source[line.start..line.end]));
     while let Some(line) = lines.next() {
         let span = Span::new(line.start, line.end);
         if !opens_block(span.text(source)) {
@@ -208,7 +205,7 @@ fn gather_statements(source: &str, lines: impl Iterator<Item = Line>) -> Vec<Raw
 }
 
 /// Parses one line of a block with `rule`, building it with `build`.
-fn parse_line<T>(
+fn parse_block_line<T>(
     source: &str,
     line: Span,
     rule: Rule,
@@ -237,7 +234,7 @@ fn parse_body<T>(
 ) -> Vec<T> {
     let mut parsed = Vec::with_capacity(block.body.len());
     for &line in &block.body {
-        match parse_line(source, line, rule, build) {
+        match parse_block_line(source, line, rule, build) {
             Ok(item) => parsed.push(item),
             Err(diagnostic) => {
                 *complete = false;
@@ -276,7 +273,7 @@ fn parse_block(source: &str, block: &BlockLines) -> (StatementKind, Vec<Diagnost
             &mut complete,
             &mut diagnostics,
         );
-        match parse_line(source, block.head, Rule::case_line, |pairs, offset| {
+        match parse_block_line(source, block.head, Rule::case_line, |pairs, offset| {
             Ok(build::case_head(pairs, offset))
         }) {
             Ok((name, label)) => StatementKind::Case(Box::new(CaseBlock {
@@ -300,15 +297,17 @@ fn parse_block(source: &str, block: &BlockLines) -> (StatementKind, Vec<Diagnost
             &mut complete,
             &mut diagnostics,
         );
-        let unknowns = match parse_line(source, block.head, Rule::solve_line, build::solve_head) {
-            Ok(unknowns) => unknowns,
-            Err(diagnostic) => {
-                diagnostics
-                    .push(diagnostic.with_help("write `solve name [unit], name [unit] ~ guess:`"));
-                complete = false;
-                Vec::new()
-            }
-        };
+        let unknowns =
+            match parse_block_line(source, block.head, Rule::solve_line, build::solve_head) {
+                Ok(unknowns) => unknowns,
+                Err(diagnostic) => {
+                    diagnostics.push(
+                        diagnostic.with_help("write `solve name [unit], name [unit] ~ guess:`"),
+                    );
+                    complete = false;
+                    Vec::new()
+                }
+            };
         StatementKind::Solve(Box::new(SolveBlock {
             unknowns,
             equations,
@@ -318,6 +317,31 @@ fn parse_block(source: &str, block: &BlockLines) -> (StatementKind, Vec<Diagnost
     };
     diagnostics.sort_by_key(|d| d.span.start());
     (kind, diagnostics)
+}
+
+/// Whether a line (after the header) is a statement: neither blank nor a
+/// `//` comment.
+pub fn is_statement_line(text: &str) -> bool {
+    let trimmed = text.trim_start();
+    !trimmed.is_empty() && !trimmed.starts_with("//")
+}
+
+/// Whether a line opens a block (`solve`, `case`, `simulate`) or ends one
+/// (`end`): a line that changes how the lines after it group.
+pub fn is_block_line(text: &str) -> bool {
+    opens_block(text) || code_of(text) == "end"
+}
+
+/// Whether a line opens or closes a `+++` header block.
+pub fn is_header_delimiter(text: &str) -> bool {
+    text.trim() == "+++"
+}
+
+/// Parses one statement line that sits at byte `offset` of the text its
+/// spans point into: what [`parse`] does for each line, for callers that
+/// edit a sheet one statement at a time.
+pub fn parse_line(text: &str, offset: usize) -> (StatementKind, Option<Diagnostic>) {
+    parse_statement(text, offset)
 }
 
 /// Below this many statements, parsing on one thread is faster.

@@ -1,0 +1,1158 @@
+//! The notebook's state and its update function. No I/O happens here:
+//! `update` turns a [`Message`] into a new state and a list of [`Effect`]s
+//! (save, keep a recovery copy, quit) that the event loop carries out and
+//! answers with further messages.
+
+use std::path::{Path, PathBuf};
+
+use ratatui::crossterm::event::{KeyEvent, KeyModifiers, MouseButton, MouseEvent, MouseEventKind};
+use ratatui::layout::{Position, Rect};
+use tui_input::{Input, InputRequest};
+
+use super::files::{Fingerprint, Opened};
+use super::keys::{Action, Scope, action_for};
+use super::layout::{Areas, areas};
+use super::strings as text;
+use super::theme::Theme;
+use crate::eval::{CellField, FieldEditor, Finding, LiveSheet, Row};
+use crate::sheet::CellId;
+use crate::units::DisplaySystem;
+
+/// Something that happened: a key, the mouse, a new terminal size, or the
+/// answer to an [`Effect`].
+#[derive(Clone, Debug)]
+pub enum Message {
+    /// A key was pressed.
+    Key(KeyEvent),
+    /// The mouse was used.
+    Mouse(MouseEvent),
+    /// The terminal is now this many columns and rows.
+    Resize(u16, u16),
+    /// The file was saved; it now has this fingerprint.
+    Saved(Fingerprint),
+    /// The save was refused: the file changed on disk since it was opened.
+    SaveRefused,
+    /// The save failed.
+    SaveFailed(String),
+    /// The recovery copy could not be written.
+    RecoveryFailed(String),
+}
+
+/// Something for the event loop to do.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub enum Effect {
+    /// Save `text`, refusing if the file's fingerprint is no longer
+    /// `expected` unless `overwrite`.
+    Save {
+        /// The whole text.
+        text: String,
+        /// The fingerprint the file should still have (`None`: not there).
+        expected: Option<Fingerprint>,
+        /// Save even if the file changed on disk.
+        overwrite: bool,
+    },
+    /// Keep this text as the recovery copy.
+    KeepRecovery(String),
+    /// Remove the recovery copy.
+    DropRecovery,
+    /// Leave the notebook.
+    Quit,
+}
+
+/// How values are shown.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum UnitsView {
+    /// Each cell in its declared or written unit, others in the sheet's system.
+    AsWritten,
+    /// Every value in SI units.
+    Si,
+    /// Every value in FPS units.
+    Fps,
+}
+
+impl UnitsView {
+    /// The system to force, if any.
+    pub fn system(self) -> Option<DisplaySystem> {
+        match self {
+            UnitsView::AsWritten => None,
+            UnitsView::Si => Some(DisplaySystem::Si),
+            UnitsView::Fps => Some(DisplaySystem::Fps),
+        }
+    }
+
+    /// The name in the status line.
+    pub fn label(self) -> &'static str {
+        match self {
+            UnitsView::AsWritten => text::UNITS_SHEET,
+            UnitsView::Si => text::UNITS_SI,
+            UnitsView::Fps => text::UNITS_FPS,
+        }
+    }
+
+    fn next(self) -> Self {
+        match self {
+            UnitsView::AsWritten => UnitsView::Si,
+            UnitsView::Si => UnitsView::Fps,
+            UnitsView::Fps => UnitsView::AsWritten,
+        }
+    }
+}
+
+/// Which pane has the keys.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Focus {
+    /// The sheet table.
+    Sheet,
+    /// The links in the detail pane.
+    Links,
+}
+
+/// A question the notebook is waiting on.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Question {
+    /// Quit with unsaved changes?
+    QuitUnsaved,
+    /// The file changed on disk: overwrite?
+    Overwrite,
+    /// Restore unsaved work from an earlier session?
+    Recover,
+}
+
+impl Question {
+    /// The question as shown.
+    pub fn prompt(self) -> &'static str {
+        match self {
+            Question::QuitUnsaved => text::ASK_QUIT,
+            Question::Overwrite => text::ASK_OVERWRITE,
+            Question::Recover => text::ASK_RECOVER,
+        }
+    }
+}
+
+/// What a line edit is changing.
+#[derive(Clone, Debug)]
+pub enum EditTarget {
+    /// One field of a cell.
+    Field(CellId, Box<FieldEditor>),
+    /// The whole line.
+    Line,
+    /// A new line, inserted for this edit.
+    NewLine,
+}
+
+/// A line being edited. Every keystroke is applied to the sheet at once,
+/// so results update while typing; Esc puts the line back as it was.
+#[derive(Clone, Debug)]
+pub struct EditSession {
+    /// What is edited.
+    pub target: EditTarget,
+    /// The 0-based line of the file being edited.
+    pub line: usize,
+    /// The line as it was (none for a new line).
+    pub before: Option<String>,
+    /// The text typed so far.
+    pub input: Input,
+    /// What the prompt says.
+    pub prompt: &'static str,
+}
+
+impl EditSession {
+    fn line_text(&self) -> String {
+        match &self.target {
+            EditTarget::Field(_, editor) => editor.line_with(self.input.value()),
+            EditTarget::Line | EditTarget::NewLine => self.input.value().to_string(),
+        }
+    }
+}
+
+/// The find overlay.
+#[derive(Clone, Debug)]
+pub struct FindState {
+    /// The name typed so far.
+    pub query: Input,
+    /// Matching cells, best first.
+    pub matches: Vec<CellId>,
+    /// The selected match.
+    pub selected: usize,
+}
+
+/// The findings overlay.
+#[derive(Clone, Debug)]
+pub struct FindingsState {
+    /// Every finding, by line.
+    pub list: Vec<Finding>,
+    /// The selected finding.
+    pub selected: usize,
+}
+
+/// What the notebook is doing.
+#[derive(Clone, Debug)]
+pub enum Mode {
+    /// Moving around the sheet.
+    Browse,
+    /// Editing a line.
+    Editing(Box<EditSession>),
+    /// Finding a cell by name.
+    Find(FindState),
+    /// Listing findings.
+    Findings(FindingsState),
+    /// Showing every key.
+    Help {
+        /// First help line shown.
+        scroll: usize,
+    },
+    /// Waiting for an answer.
+    Ask(Question),
+}
+
+/// One undoable edit of the file, by line.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub enum Change {
+    /// A line's text changed.
+    Replace {
+        /// 0-based line.
+        line: usize,
+        /// The text before.
+        before: String,
+        /// The text after.
+        after: String,
+    },
+    /// A line was inserted.
+    Insert {
+        /// 0-based line.
+        line: usize,
+        /// Its text.
+        text: String,
+    },
+    /// A line was removed.
+    Remove {
+        /// 0-based line.
+        line: usize,
+        /// Its text.
+        text: String,
+    },
+}
+
+/// Undo and redo, and where the file was last saved.
+#[derive(Clone, Debug, Default)]
+pub struct History {
+    changes: Vec<Change>,
+    /// How many changes are applied.
+    done: usize,
+    /// `done` when the text last matched the file on disk; `None` if never.
+    saved: Option<usize>,
+}
+
+impl History {
+    fn record(&mut self, change: Change) {
+        self.changes.truncate(self.done);
+        if self.saved.is_some_and(|saved| saved > self.done) {
+            self.saved = None;
+        }
+        self.changes.push(change);
+        self.done += 1;
+    }
+
+    /// Number of changes that can be undone.
+    pub fn undoable(&self) -> usize {
+        self.done
+    }
+
+    /// Number of changes that can be redone.
+    pub fn redoable(&self) -> usize {
+        self.changes.len() - self.done
+    }
+}
+
+/// A link in the detail pane.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Link {
+    /// A cell this one uses.
+    Uses(CellId),
+    /// A cell that uses this one.
+    UsedByCell(CellId),
+    /// A check that uses this one.
+    UsedByCheck(usize),
+}
+
+/// The whole state of the notebook.
+#[derive(Debug)]
+pub struct App {
+    live: LiveSheet,
+    path: PathBuf,
+    file_name: String,
+    disk: Option<Fingerprint>,
+    recovered: Option<String>,
+    selected: usize,
+    scroll: usize,
+    focus: Focus,
+    link_selected: usize,
+    mode: Mode,
+    units: UnitsView,
+    sig_figs: u32,
+    history: History,
+    message: Option<String>,
+    viewport: Rect,
+    jumps: Vec<usize>,
+    theme: Theme,
+    quit_after_save: bool,
+}
+
+/// Rows moved by one turn of the mouse wheel.
+const WHEEL_ROWS: usize = 3;
+
+impl App {
+    /// The notebook on an opened sheet, for a terminal of `viewport` size.
+    pub fn new(opened: Opened, viewport: Rect, theme: Theme) -> App {
+        let live = LiveSheet::open(&opened.text);
+        let sig_figs = live.header().sig_figs;
+        let file_name = opened
+            .path
+            .file_name()
+            .map(|name| name.to_string_lossy().into_owned())
+            .unwrap_or_else(|| opened.path.display().to_string());
+        let mode = if opened.recovery.is_some() {
+            Mode::Ask(Question::Recover)
+        } else {
+            Mode::Browse
+        };
+        App {
+            live,
+            path: opened.path,
+            file_name,
+            disk: opened.disk,
+            recovered: opened.recovery,
+            selected: 0,
+            scroll: 0,
+            focus: Focus::Sheet,
+            link_selected: 0,
+            mode,
+            units: UnitsView::AsWritten,
+            sig_figs,
+            history: History {
+                saved: Some(0),
+                ..History::default()
+            },
+            message: Some(text::OPENING_CAUTION.to_string()),
+            viewport,
+            jumps: Vec::new(),
+            theme,
+            quit_after_save: false,
+        }
+    }
+
+    // ----- what the view reads -----
+
+    /// The sheet.
+    pub fn live(&self) -> &LiveSheet {
+        &self.live
+    }
+
+    /// The file's path.
+    pub fn path(&self) -> &Path {
+        &self.path
+    }
+
+    /// The file's name as shown.
+    pub fn file_name(&self) -> &str {
+        &self.file_name
+    }
+
+    /// Whether the file does not exist on disk yet.
+    pub fn is_new_file(&self) -> bool {
+        self.disk.is_none()
+    }
+
+    /// Whether the text differs from the file on disk.
+    pub fn is_dirty(&self) -> bool {
+        let typing = match &self.mode {
+            Mode::Editing(session) => session.before.as_deref() != Some(&session.line_text()),
+            _ => false,
+        };
+        typing || self.history.saved != Some(self.history.done)
+    }
+
+    /// The selected row (position in [`LiveSheet::rows`]).
+    pub fn selected(&self) -> usize {
+        self.selected
+    }
+
+    /// The statement of the selected row, if the sheet has any.
+    pub fn selected_statement(&self) -> Option<usize> {
+        self.live.rows().get(self.selected).map(|&s| s as usize)
+    }
+
+    /// The first row shown.
+    pub fn scroll(&self) -> usize {
+        self.scroll
+    }
+
+    /// Which pane has the keys.
+    pub fn focus(&self) -> Focus {
+        self.focus
+    }
+
+    /// The selected link, when the links have the keys.
+    pub fn link_selected(&self) -> usize {
+        self.link_selected
+    }
+
+    /// What the notebook is doing.
+    pub fn mode(&self) -> &Mode {
+        &self.mode
+    }
+
+    /// How values are shown.
+    pub fn units(&self) -> UnitsView {
+        self.units
+    }
+
+    /// Significant figures shown.
+    pub fn sig_figs(&self) -> u32 {
+        self.sig_figs
+    }
+
+    /// Undo and redo.
+    pub fn history(&self) -> &History {
+        &self.history
+    }
+
+    /// The last message, if any.
+    pub fn message(&self) -> Option<&str> {
+        self.message.as_deref()
+    }
+
+    /// The terminal size.
+    pub fn viewport(&self) -> Rect {
+        self.viewport
+    }
+
+    /// The styles.
+    pub fn theme(&self) -> Theme {
+        self.theme
+    }
+
+    /// The screen areas for the current size.
+    pub fn areas(&self) -> Areas {
+        areas(self.viewport)
+    }
+
+    /// The links of the selected row: cells it uses, then cells and checks
+    /// that use it.
+    pub fn links(&self) -> Vec<Link> {
+        let Some(statement) = self.selected_statement() else {
+            return Vec::new();
+        };
+        match self.live.row(statement) {
+            Row::Cell(cell) => {
+                // Users in file order, whatever order edits left the edges in.
+                let mut dependents = self.live.dependents(cell.id).to_vec();
+                dependents.sort_unstable();
+                let mut checks = self.live.check_dependents(cell.id).to_vec();
+                checks.sort_unstable();
+                cell.uses
+                    .iter()
+                    .map(|&id| Link::Uses(id))
+                    .chain(dependents.into_iter().map(Link::UsedByCell))
+                    .chain(checks.into_iter().map(Link::UsedByCheck))
+                    .collect()
+            }
+            Row::Check(check, _) => self
+                .live
+                .check_uses(check)
+                .iter()
+                .map(|&id| Link::Uses(id))
+                .collect(),
+            _ => Vec::new(),
+        }
+    }
+
+    // ----- changing state -----
+
+    fn say(&mut self, message: impl Into<String>) {
+        self.message = Some(message.into());
+    }
+
+    fn n_rows(&self) -> usize {
+        self.live.rows().len()
+    }
+
+    fn visible_rows(&self) -> usize {
+        self.areas().sheet_rows().max(1)
+    }
+
+    fn select(&mut self, row: usize) {
+        self.selected = row.min(self.n_rows().saturating_sub(1));
+        self.link_selected = 0;
+        self.keep_selection_visible();
+    }
+
+    fn keep_selection_visible(&mut self) {
+        let visible = self.visible_rows();
+        if self.selected < self.scroll {
+            self.scroll = self.selected;
+        } else if self.selected >= self.scroll + visible {
+            self.scroll = self.selected + 1 - visible;
+        }
+        self.scroll = self.scroll.min(self.n_rows().saturating_sub(visible));
+    }
+
+    fn select_statement(&mut self, statement: usize) {
+        if let Some(row) = self.live.row_position(statement) {
+            self.select(row);
+        }
+    }
+
+    /// Selects the statement on 0-based `line`, or the nearest before it.
+    fn select_line(&mut self, line: usize) {
+        let statement = self
+            .live
+            .statement_at_line(line)
+            .or_else(|| self.live.document().statements_before(line).checked_sub(1));
+        match statement {
+            Some(statement) => self.select_statement(statement),
+            None => self.select(0),
+        }
+    }
+
+    fn jump_to_statement(&mut self, statement: usize) {
+        if let Some(current) = self.selected_statement() {
+            self.jumps.push(current);
+        }
+        self.focus = Focus::Sheet;
+        self.select_statement(statement);
+    }
+
+    /// The 0-based line a new line goes to: below the selected row.
+    fn insertion_line(&self) -> usize {
+        let below = self
+            .selected_statement()
+            .map_or(self.live.document().n_lines(), |s| {
+                self.live.statement_line(s) + 1
+            });
+        below.max(self.live.document().editable_from())
+    }
+
+    fn start_edit(
+        &mut self,
+        target: EditTarget,
+        line: usize,
+        initial: String,
+        prompt: &'static str,
+    ) {
+        let before = match target {
+            EditTarget::NewLine => None,
+            _ => self.live.document().line_text(line).map(str::to_string),
+        };
+        let session = EditSession {
+            target,
+            line,
+            before,
+            input: Input::new(initial),
+            prompt,
+        };
+        self.message = None;
+        self.mode = Mode::Editing(Box::new(session));
+    }
+
+    fn edit_field(&mut self, field: CellField) {
+        let Some(statement) = self.selected_statement() else {
+            return;
+        };
+        let Row::Cell(cell) = self.live.row(statement) else {
+            self.say(text::NOT_A_CELL);
+            return;
+        };
+        let Some(editor) = self.live.field_editor(cell.id, field) else {
+            self.edit_line();
+            return;
+        };
+        let initial = editor.value();
+        let line = self.live.statement_line(statement);
+        let prompt = match field {
+            CellField::Formula => text::EDIT_FORMULA,
+            CellField::Unit => text::EDIT_UNIT,
+            CellField::Description => text::EDIT_DESCRIPTION,
+            CellField::Name => text::EDIT_NAME,
+        };
+        self.start_edit(
+            EditTarget::Field(cell.id, Box::new(editor)),
+            line,
+            initial,
+            prompt,
+        );
+    }
+
+    fn edit_line(&mut self) {
+        let Some(statement) = self.selected_statement() else {
+            return;
+        };
+        let line = self.live.statement_line(statement);
+        let initial = self.live.statement_text(statement).to_string();
+        self.start_edit(EditTarget::Line, line, initial, text::EDIT_LINE);
+    }
+
+    fn add_line(&mut self, initial: &str, prompt: &'static str) {
+        let line = self.insertion_line();
+        match self.live.insert_line(line, "") {
+            Ok(()) => self.start_edit(EditTarget::NewLine, line, initial.to_string(), prompt),
+            Err(error) => self.say(error.to_string()),
+        }
+        if let Mode::Editing(_) = self.mode {
+            self.apply_typing();
+        }
+    }
+
+    /// Applies the text typed so far to the sheet.
+    fn apply_typing(&mut self) {
+        let Mode::Editing(session) = &self.mode else {
+            return;
+        };
+        let (line, text) = (session.line, session.line_text());
+        if let Err(error) = self.live.replace_line(line, &text) {
+            self.say(error.to_string());
+        }
+        self.select_line(line);
+    }
+
+    fn finish_edit(&mut self, keep: bool) -> Vec<Effect> {
+        let Mode::Editing(session) = std::mem::replace(&mut self.mode, Mode::Browse) else {
+            return Vec::new();
+        };
+        let after = session.line_text();
+        let line = session.line;
+        let result = match (&session.before, keep) {
+            (None, false) => self.live.remove_line(line),
+            (None, true) if after.trim().is_empty() => self.live.remove_line(line),
+            (Some(before), false) => self.live.replace_line(line, before),
+            (Some(before), true) if *before == after => Ok(()),
+            (Some(before), true) => {
+                self.history.record(Change::Replace {
+                    line,
+                    before: before.clone(),
+                    after: after.clone(),
+                });
+                Ok(())
+            }
+            (None, true) => {
+                self.history.record(Change::Insert {
+                    line,
+                    text: after.clone(),
+                });
+                Ok(())
+            }
+        };
+        if let Err(error) = result {
+            self.say(error.to_string());
+        }
+        if keep
+            && !after.trim().is_empty()
+            && self.live.statement_at_line(line).is_none()
+            && line < self.live.document().n_lines()
+        {
+            self.say(text::COMMENT_ADDED);
+        }
+        self.select_line(line.min(self.live.document().n_lines().saturating_sub(1)));
+        self.recovery_effects()
+    }
+
+    /// Keeps the recovery copy in step with the text.
+    fn recovery_effects(&self) -> Vec<Effect> {
+        if self.is_dirty() {
+            vec![Effect::KeepRecovery(self.live.text())]
+        } else {
+            vec![Effect::DropRecovery]
+        }
+    }
+
+    fn delete_selected(&mut self) -> Vec<Effect> {
+        let Some(statement) = self.selected_statement() else {
+            self.say(text::NOTHING_TO_DELETE);
+            return Vec::new();
+        };
+        let line = self.live.statement_line(statement);
+        let removed = self.live.statement_text(statement).to_string();
+        match self.live.remove_line(line) {
+            Ok(()) => {
+                self.history.record(Change::Remove {
+                    line,
+                    text: removed,
+                });
+                self.say(text::DELETED);
+                let row = self.selected;
+                self.select(row);
+                self.recovery_effects()
+            }
+            Err(error) => {
+                self.say(error.to_string());
+                Vec::new()
+            }
+        }
+    }
+
+    fn undo(&mut self) -> Vec<Effect> {
+        let Some(change) = self
+            .history
+            .done
+            .checked_sub(1)
+            .and_then(|index| self.history.changes.get(index).cloned())
+        else {
+            self.say(text::NOTHING_TO_UNDO);
+            return Vec::new();
+        };
+        let (result, line) = match &change {
+            Change::Replace { line, before, .. } => (self.live.replace_line(*line, before), *line),
+            Change::Insert { line, .. } => (self.live.remove_line(*line), *line),
+            Change::Remove { line, text } => (self.live.insert_line(*line, text), *line),
+        };
+        self.after_history_step(result, line, -1, text::UNDONE)
+    }
+
+    fn redo(&mut self) -> Vec<Effect> {
+        let Some(change) = self.history.changes.get(self.history.done).cloned() else {
+            self.say(text::NOTHING_TO_REDO);
+            return Vec::new();
+        };
+        let (result, line) = match &change {
+            Change::Replace { line, after, .. } => (self.live.replace_line(*line, after), *line),
+            Change::Insert { line, text } => (self.live.insert_line(*line, text), *line),
+            Change::Remove { line, .. } => (self.live.remove_line(*line), *line),
+        };
+        self.after_history_step(result, line, 1, text::REDONE)
+    }
+
+    fn after_history_step(
+        &mut self,
+        result: Result<(), crate::eval::EditError>,
+        line: usize,
+        step: isize,
+        done: &str,
+    ) -> Vec<Effect> {
+        match result {
+            Ok(()) => {
+                self.history.done = self.history.done.saturating_add_signed(step);
+                self.say(done);
+                self.select_line(line.min(self.live.document().n_lines().saturating_sub(1)));
+                self.recovery_effects()
+            }
+            Err(error) => {
+                self.say(error.to_string());
+                Vec::new()
+            }
+        }
+    }
+
+    fn save(&mut self, overwrite: bool) -> Vec<Effect> {
+        if !self.is_dirty() && !self.is_new_file() && !overwrite {
+            self.say(text::NOTHING_TO_SAVE);
+            return Vec::new();
+        }
+        vec![Effect::Save {
+            text: self.live.text(),
+            expected: self.disk,
+            overwrite,
+        }]
+    }
+
+    fn quit(&mut self) -> Vec<Effect> {
+        if self.is_dirty() {
+            self.mode = Mode::Ask(Question::QuitUnsaved);
+            Vec::new()
+        } else {
+            vec![Effect::DropRecovery, Effect::Quit]
+        }
+    }
+
+    fn find_matches(&self, query: &str) -> Vec<CellId> {
+        let query = query.to_lowercase();
+        let mut matches: Vec<(usize, usize, CellId)> = (0..self.live.n_cells())
+            .filter_map(|id| {
+                let name = self.live.cell(id).name;
+                let lower = name.to_lowercase();
+                let at = lower.find(&query)?;
+                Some((usize::from(at != 0), name.len(), id))
+            })
+            .collect();
+        matches.sort_unstable();
+        matches.truncate(MAX_MATCHES);
+        matches.into_iter().map(|(_, _, id)| id).collect()
+    }
+
+    fn move_selection(&mut self, action: Action) {
+        let page = self.visible_rows().saturating_sub(1).max(1);
+        let last = self.n_rows().saturating_sub(1);
+        let row = match action {
+            Action::Up => self.selected.saturating_sub(1),
+            Action::Down => (self.selected + 1).min(last),
+            Action::PageUp => self.selected.saturating_sub(page),
+            Action::PageDown => (self.selected + page).min(last),
+            Action::First => 0,
+            Action::Last => last,
+            _ => self.selected,
+        };
+        self.select(row);
+    }
+
+    fn follow_link(&mut self, link: Link) {
+        let statement = match link {
+            Link::Uses(id) | Link::UsedByCell(id) => self.live.cell_statement(id),
+            Link::UsedByCheck(check) => self.live.check_statement(check),
+        };
+        self.jump_to_statement(statement);
+    }
+
+    fn sheet_action(&mut self, action: Action) -> Vec<Effect> {
+        match action {
+            Action::Up
+            | Action::Down
+            | Action::PageUp
+            | Action::PageDown
+            | Action::First
+            | Action::Last => self.move_selection(action),
+            Action::EditMain => match self.selected_statement().map(|s| self.live.row(s)) {
+                Some(Row::Cell(_)) => self.edit_field(CellField::Formula),
+                Some(_) => self.edit_line(),
+                None => self.add_line("", text::ADD_CELL),
+            },
+            Action::EditFormula => self.edit_field(CellField::Formula),
+            Action::EditUnit => self.edit_field(CellField::Unit),
+            Action::EditDescription => self.edit_field(CellField::Description),
+            Action::EditName => self.edit_field(CellField::Name),
+            Action::EditLine => self.edit_line(),
+            Action::AddCell => self.add_line("", text::ADD_CELL),
+            Action::AddHeading => self.add_line("# ", text::ADD_HEADING),
+            Action::AddNote => self.add_line("> ", text::ADD_NOTE),
+            Action::AddCheck => self.add_line("check ", text::ADD_CHECK),
+            Action::Delete => return self.delete_selected(),
+            Action::Undo => return self.undo(),
+            Action::Redo => return self.redo(),
+            Action::CycleUnits => {
+                self.units = self.units.next();
+                self.say(self.units.label());
+            }
+            Action::MoreFigures => self.sig_figs = (self.sig_figs + 1).min(15),
+            Action::FewerFigures => self.sig_figs = self.sig_figs.saturating_sub(1).max(1),
+            Action::Find => {
+                self.mode = Mode::Find(FindState {
+                    query: Input::default(),
+                    matches: self.find_matches(""),
+                    selected: 0,
+                })
+            }
+            Action::Findings => {
+                let list = self.live.findings();
+                if list.is_empty() {
+                    self.say(text::NO_FINDINGS);
+                } else {
+                    self.mode = Mode::Findings(FindingsState { list, selected: 0 });
+                }
+            }
+            Action::Help => self.mode = Mode::Help { scroll: 0 },
+            Action::FocusLinks => {
+                if self.links().is_empty() {
+                    self.say(text::NO_LINKS);
+                } else {
+                    self.focus = Focus::Links;
+                    self.link_selected = 0;
+                }
+            }
+            Action::JumpBack => match self.jumps.pop() {
+                Some(statement) if statement < self.live.n_statements() => {
+                    self.select_statement(statement)
+                }
+                _ => self.say(text::NO_JUMP_BACK),
+            },
+            Action::Save => return self.save(false),
+            Action::Quit => return self.quit(),
+            _ => {}
+        }
+        Vec::new()
+    }
+
+    /// The links pane gets the key first; returns `None` if it did not use it.
+    fn links_action(&mut self, action: Option<Action>) -> Option<Vec<Effect>> {
+        let links = self.links();
+        match action? {
+            Action::Up => self.link_selected = self.link_selected.saturating_sub(1),
+            Action::Down => {
+                self.link_selected = (self.link_selected + 1).min(links.len().saturating_sub(1))
+            }
+            Action::Jump => {
+                if let Some(&link) = links.get(self.link_selected) {
+                    self.follow_link(link);
+                }
+            }
+            Action::Close => self.focus = Focus::Sheet,
+            Action::JumpBack => {
+                self.focus = Focus::Sheet;
+                return Some(self.sheet_action(Action::JumpBack));
+            }
+            _ => return None,
+        }
+        Some(Vec::new())
+    }
+
+    fn editor_key(&mut self, key: &KeyEvent) -> Vec<Effect> {
+        let request = match action_for(Scope::Editor, key) {
+            Some(Action::Keep) => return self.finish_edit(true),
+            Some(Action::Cancel) => return self.finish_edit(false),
+            Some(Action::CursorLeft) => InputRequest::GoToPrevChar,
+            Some(Action::CursorRight) => InputRequest::GoToNextChar,
+            Some(Action::CursorStart) => InputRequest::GoToStart,
+            Some(Action::CursorEnd) => InputRequest::GoToEnd,
+            Some(Action::DeleteBack) => InputRequest::DeletePrevChar,
+            Some(Action::DeleteForward) => InputRequest::DeleteNextChar,
+            Some(Action::ClearField) => InputRequest::DeleteLine,
+            _ => match typed_char(key) {
+                Some(c) => InputRequest::InsertChar(c),
+                None => return Vec::new(),
+            },
+        };
+        let Mode::Editing(session) = &mut self.mode else {
+            return Vec::new();
+        };
+        let changed = session
+            .input
+            .handle(request)
+            .is_some_and(|state| state.value);
+        if changed {
+            self.apply_typing();
+        }
+        Vec::new()
+    }
+
+    fn find_key(&mut self, key: &KeyEvent) {
+        let Mode::Find(state) = &mut self.mode else {
+            return;
+        };
+        match action_for(Scope::Find, key) {
+            Some(Action::Up) => state.selected = state.selected.saturating_sub(1),
+            Some(Action::Down) => {
+                state.selected = (state.selected + 1).min(state.matches.len().saturating_sub(1))
+            }
+            Some(Action::Close) => self.mode = Mode::Browse,
+            Some(Action::Jump) => {
+                let chosen = state.matches.get(state.selected).copied();
+                self.mode = Mode::Browse;
+                match chosen {
+                    Some(id) => self.jump_to_statement(self.live.cell_statement(id)),
+                    None => self.say(text::NO_MATCH),
+                }
+            }
+            action => {
+                let request = match (action, typed_char(key)) {
+                    (Some(Action::DeleteBack), _) => InputRequest::DeletePrevChar,
+                    (_, Some(c)) => InputRequest::InsertChar(c),
+                    _ => return,
+                };
+                state.query.handle(request);
+                let query = state.query.value().to_string();
+                let matches = self.find_matches(&query);
+                if let Mode::Find(state) = &mut self.mode {
+                    state.matches = matches;
+                    state.selected = 0;
+                }
+            }
+        }
+    }
+
+    fn findings_key(&mut self, key: &KeyEvent) {
+        let page = self.areas().overlay_rows().max(1);
+        let Mode::Findings(state) = &mut self.mode else {
+            return;
+        };
+        let last = state.list.len().saturating_sub(1);
+        match action_for(Scope::Findings, key) {
+            Some(Action::Up) => state.selected = state.selected.saturating_sub(1),
+            Some(Action::Down) => state.selected = (state.selected + 1).min(last),
+            Some(Action::PageUp) => state.selected = state.selected.saturating_sub(page),
+            Some(Action::PageDown) => state.selected = (state.selected + page).min(last),
+            Some(Action::Close) => self.mode = Mode::Browse,
+            Some(Action::Jump) => {
+                let finding = state.list.get(state.selected).cloned();
+                self.mode = Mode::Browse;
+                if let Some(finding) = finding {
+                    match finding.statement {
+                        Some(statement) => self.jump_to_statement(statement),
+                        None => self.say(text::in_header(finding.line, &finding.message)),
+                    }
+                }
+            }
+            _ => {}
+        }
+    }
+
+    fn answer(&mut self, question: Question, key: &KeyEvent) -> Vec<Effect> {
+        match (question, action_for(Scope::Question, key)) {
+            // Unsaved work kept from a crash must be restored or dropped:
+            // the first edit would otherwise write over the copy.
+            (Question::Recover, Some(Action::Close)) => Vec::new(),
+            (_, Some(Action::Close)) => {
+                self.mode = Mode::Browse;
+                self.quit_after_save = false;
+                Vec::new()
+            }
+            (Question::QuitUnsaved, Some(Action::AnswerSave)) => {
+                self.mode = Mode::Browse;
+                self.quit_after_save = true;
+                self.save(false)
+            }
+            (Question::QuitUnsaved, Some(Action::AnswerDiscard)) => {
+                vec![Effect::DropRecovery, Effect::Quit]
+            }
+            (Question::Overwrite, Some(Action::AnswerOverwrite)) => {
+                self.mode = Mode::Browse;
+                self.save(true)
+            }
+            (Question::Recover, Some(Action::AnswerRestore)) => {
+                self.mode = Mode::Browse;
+                if let Some(kept) = self.recovered.take() {
+                    self.live = LiveSheet::open(&kept);
+                    self.history = History::default();
+                    self.select(0);
+                    self.say(text::RESTORED);
+                }
+                Vec::new()
+            }
+            (Question::Recover, Some(Action::AnswerDiscard)) => {
+                self.mode = Mode::Browse;
+                self.recovered = None;
+                self.say(text::DISCARDED);
+                vec![Effect::DropRecovery]
+            }
+            _ => Vec::new(),
+        }
+    }
+
+    fn mouse(&mut self, event: MouseEvent) {
+        if !matches!(self.mode, Mode::Browse) {
+            return;
+        }
+        let position = Position::new(event.column, event.row);
+        let areas = self.areas();
+        match event.kind {
+            MouseEventKind::Down(MouseButton::Left) => {
+                if let Some(row) = areas.sheet_row_at(position) {
+                    let row = self.scroll + row;
+                    if row < self.n_rows() {
+                        self.focus = Focus::Sheet;
+                        self.select(row);
+                    }
+                } else if areas.detail.contains(position) {
+                    let hotspots = super::view::link_hotspots(self, areas.detail);
+                    if let Some(&(_, link)) =
+                        hotspots.iter().find(|(area, _)| area.contains(position))
+                    {
+                        self.follow_link(link);
+                    }
+                }
+            }
+            MouseEventKind::ScrollDown => {
+                let row = (self.selected + WHEEL_ROWS).min(self.n_rows().saturating_sub(1));
+                self.select(row);
+            }
+            MouseEventKind::ScrollUp => self.select(self.selected.saturating_sub(WHEEL_ROWS)),
+            _ => {}
+        }
+    }
+}
+
+/// Most matches the find overlay lists.
+const MAX_MATCHES: usize = 200;
+
+/// The character a key types, if it types one.
+fn typed_char(key: &KeyEvent) -> Option<char> {
+    match key.code {
+        ratatui::crossterm::event::KeyCode::Char(c)
+            if !key
+                .modifiers
+                .intersects(KeyModifiers::CONTROL | KeyModifiers::ALT) =>
+        {
+            Some(c)
+        }
+        _ => None,
+    }
+}
+
+/// Applies `message` to `app`; returns what the event loop must do.
+pub fn update(app: &mut App, message: Message) -> Vec<Effect> {
+    match message {
+        Message::Key(key) => {
+            // Which handler gets the key, decided before any of them borrows the app.
+            enum Handler {
+                Editor,
+                Find,
+                Findings,
+                Help(usize),
+                Ask(Question),
+                Browse,
+            }
+            let handler = match &app.mode {
+                Mode::Editing(_) => Handler::Editor,
+                Mode::Find(_) => Handler::Find,
+                Mode::Findings(_) => Handler::Findings,
+                Mode::Help { scroll } => Handler::Help(*scroll),
+                Mode::Ask(question) => Handler::Ask(*question),
+                Mode::Browse => Handler::Browse,
+            };
+            match handler {
+                Handler::Editor => return app.editor_key(&key),
+                Handler::Find => app.find_key(&key),
+                Handler::Findings => app.findings_key(&key),
+                Handler::Help(scroll) => match action_for(Scope::Help, &key) {
+                    Some(Action::Up) => {
+                        app.mode = Mode::Help {
+                            scroll: scroll.saturating_sub(1),
+                        }
+                    }
+                    Some(Action::Down) => {
+                        let overlay = app.areas().overlay;
+                        let inner_width = usize::from(overlay.width.saturating_sub(2));
+                        let n_lines = super::view::help_lines(app.theme, inner_width).len();
+                        let last =
+                            n_lines.saturating_sub(usize::from(overlay.height.saturating_sub(2)));
+                        app.mode = Mode::Help {
+                            scroll: (scroll + 1).min(last),
+                        }
+                    }
+                    Some(Action::Close) => app.mode = Mode::Browse,
+                    _ => {}
+                },
+                Handler::Ask(question) => return app.answer(question, &key),
+                Handler::Browse => {
+                    app.message = None;
+                    if app.focus == Focus::Links
+                        && let Some(effects) = app.links_action(action_for(Scope::Links, &key))
+                    {
+                        return effects;
+                    }
+                    if let Some(action) = action_for(Scope::Sheet, &key) {
+                        return app.sheet_action(action);
+                    }
+                }
+            }
+        }
+        Message::Mouse(event) => app.mouse(event),
+        Message::Resize(width, height) => {
+            app.viewport = Rect::new(0, 0, width, height);
+            app.keep_selection_visible();
+        }
+        Message::Saved(fingerprint) => {
+            app.disk = Some(fingerprint);
+            app.history.saved = Some(app.history.done);
+            app.say(format!("{} {}", text::SAVED, app.file_name));
+            let mut effects = vec![Effect::DropRecovery];
+            if app.quit_after_save {
+                effects.push(Effect::Quit);
+            }
+            return effects;
+        }
+        Message::SaveRefused => app.mode = Mode::Ask(Question::Overwrite),
+        Message::SaveFailed(error) => {
+            app.quit_after_save = false;
+            app.say(error);
+        }
+        Message::RecoveryFailed(error) => app.say(error),
+    }
+    Vec::new()
+}

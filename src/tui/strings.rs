@@ -1,0 +1,210 @@
+//! Every word the notebook shows, in one place.
+
+/// The program's name in the title bar.
+pub const APP_NAME: &str = "heft";
+/// Title of a sheet whose header gives none.
+pub const UNTITLED: &str = "(untitled sheet)";
+/// Marks in the title bar for the file's state.
+pub const STATE_SAVED: &str = "saved";
+/// The file has edits that are not saved.
+pub const STATE_MODIFIED: &str = "● modified";
+/// The file does not exist yet.
+pub const STATE_NEW: &str = "new file";
+
+/// Column headings of the sheet table.
+pub const COLUMN_STATE: &str = "state";
+/// Column heading: the cell's name.
+pub const COLUMN_NAME: &str = "name";
+/// Column heading: the formula as written.
+pub const COLUMN_FORMULA: &str = "formula";
+/// Column heading: the value and unit.
+pub const COLUMN_VALUE: &str = "value";
+
+/// Status marks (each five columns wide, readable without colour).
+pub const MARK_OK: &str = "ok";
+/// A finding of warning severity.
+pub const MARK_WARNING: &str = "warn";
+/// The cell's own formula or definition is wrong.
+pub const MARK_ERROR: &str = "error";
+/// A cell it uses failed.
+pub const MARK_BLOCKED: &str = "block";
+/// A check that holds.
+pub const MARK_PASS: &str = "pass";
+/// A check that does not hold.
+pub const MARK_FAIL: &str = "FAIL";
+/// A note line.
+pub const MARK_NOTE: &str = "note";
+
+/// The detail pane.
+pub const PANE_DETAIL: &str = "detail";
+/// The help overlay.
+pub const PANE_HELP: &str = "keys";
+/// The findings overlay.
+pub const PANE_FINDINGS: &str = "findings";
+/// The find overlay.
+pub const PANE_FIND: &str = "find a cell";
+
+/// Detail labels.
+pub const LABEL_FORMULA: &str = "formula";
+/// The formula with values put in.
+pub const LABEL_WITH_VALUES: &str = "with values";
+/// The result.
+pub const LABEL_RESULT: &str = "result";
+/// The value in SI.
+pub const LABEL_SI: &str = "in SI";
+/// The value in FPS.
+pub const LABEL_FPS: &str = "in FPS";
+/// The cells this one uses.
+pub const LABEL_USES: &str = "uses";
+/// The cells and checks that use this one.
+pub const LABEL_USED_BY: &str = "used by";
+/// Findings on this line.
+pub const LABEL_FINDINGS: &str = "findings";
+/// The suggested fix.
+pub const LABEL_FIX: &str = "fix";
+/// The sheet's checks.
+pub const LABEL_CHECKS: &str = "checks, failed and most used first";
+/// Findings on other lines.
+pub const LABEL_ELSEWHERE: &str = "findings elsewhere in the sheet";
+/// A check's comparison.
+pub const LABEL_COMPARES: &str = "compares";
+/// A check's utilization.
+pub const LABEL_UTILIZATION: &str = "utilization";
+/// The line as written.
+pub const LABEL_LINE: &str = "line";
+/// Nothing to list.
+pub const NONE: &str = "none";
+/// The cell's input marker.
+pub const INPUT: &str = "input";
+/// A value that could not be computed.
+pub const NO_VALUE: &str = "—";
+/// Blocked by another cell.
+pub const BLOCKED_BY: &str = "blocked by";
+
+/// Unit view names in the status line.
+pub const UNITS_SHEET: &str = "units as written";
+/// Everything in SI.
+pub const UNITS_SI: &str = "all SI";
+/// Everything in FPS.
+pub const UNITS_FPS: &str = "all FPS";
+/// Significant figures.
+pub const SIG_FIGS: &str = "sig. fig.";
+/// The hint at the right of the status line.
+pub const HINT_HELP: &str = "? keys";
+
+/// Edit prompts, by what is edited.
+pub const EDIT_FORMULA: &str = "formula";
+/// Editing the unit.
+pub const EDIT_UNIT: &str = "unit (empty: none)";
+/// Editing the description.
+pub const EDIT_DESCRIPTION: &str = "description (empty: none)";
+/// Editing the name.
+pub const EDIT_NAME: &str = "new name";
+/// Editing a whole line.
+pub const EDIT_LINE: &str = "line";
+/// Adding a cell.
+pub const ADD_CELL: &str = "new cell  name [unit] = formula \"description\"";
+/// Adding a heading.
+pub const ADD_HEADING: &str = "new heading";
+/// Adding a note.
+pub const ADD_NOTE: &str = "new note";
+/// Adding a check.
+pub const ADD_CHECK: &str = "new check  check A <= B \"label\"";
+/// How an edit ends.
+pub const EDIT_KEYS: &str = "Enter keep · Esc undo this edit";
+
+/// Questions.
+pub const ASK_QUIT: &str =
+    "Unsaved changes. s: save and quit · d: discard and quit · Esc: keep working";
+/// The file changed on disk.
+pub const ASK_OVERWRITE: &str =
+    "The file changed on disk since it was opened. o: overwrite it · Esc: do not save";
+/// A recovery copy was found.
+pub const ASK_RECOVER: &str =
+    "Unsaved work from an earlier session was kept. r: restore it · d: discard it";
+
+/// Messages.
+pub const SAVED: &str = "saved";
+/// Nothing to save.
+pub const NOTHING_TO_SAVE: &str = "nothing to save: no changes since the last save";
+/// Nothing to undo.
+pub const NOTHING_TO_UNDO: &str = "nothing to undo";
+/// Nothing to redo.
+pub const NOTHING_TO_REDO: &str = "nothing to redo";
+/// Undone.
+pub const UNDONE: &str = "undone";
+/// Redone.
+pub const REDONE: &str = "redone";
+/// Not a cell.
+pub const NOT_A_CELL: &str = "that is not a cell: Enter or e edits the whole line";
+/// No jump to go back to.
+pub const NO_JUMP_BACK: &str = "no earlier place to go back to";
+/// Nothing to link to.
+pub const NO_LINKS: &str = "this line uses nothing and nothing uses it";
+/// Restored from the recovery copy.
+pub const RESTORED: &str = "restored the unsaved work; save to keep it";
+/// The recovery copy was discarded.
+pub const DISCARDED: &str = "discarded the kept copy";
+/// A comment was written.
+pub const COMMENT_ADDED: &str = "kept as a comment or blank line: in the file, not shown as a row";
+/// Shown when the notebook opens.
+pub const OPENING_CAUTION: &str =
+    "Results support, never replace, an engineer's judgment and an independent check";
+/// No findings.
+pub const NO_FINDINGS: &str = "no findings";
+/// No cell matches.
+pub const NO_MATCH: &str = "no cell by that name";
+/// Deleted.
+pub const DELETED: &str = "deleted (< undoes)";
+/// The line cannot be deleted.
+pub const NOTHING_TO_DELETE: &str = "nothing to delete";
+/// Shown in an empty sheet.
+pub const EMPTY_SHEET: &str =
+    "An empty sheet: Enter or a adds a cell, h a heading, t a note, c a check.";
+/// Help footer.
+pub const HELP_FOOTER: &str = "Esc or ? closes · ↑↓ scroll";
+
+/// The name column of a check row.
+pub const ROW_CHECK: &str = "check";
+/// The prompt of the find overlay.
+pub const FIND_PROMPT: &str = "name › ";
+/// Running the notebook without a terminal.
+pub const NEEDS_TERMINAL: &str =
+    "the notebook needs a terminal; for scripts and CI use `heft check FILE`";
+
+/// A check by its number: `check 2`.
+pub fn check_name(index: usize) -> String {
+    format!("check {}", index + 1)
+}
+
+/// A line by its number: `line 12`.
+pub fn line_name(line: usize) -> String {
+    format!("line {line}")
+}
+
+/// `1 error`, `3 warnings`.
+pub fn count(n: usize, word: &str) -> String {
+    if n == 1 {
+        format!("{n} {word}")
+    } else {
+        format!("{n} {word}s")
+    }
+}
+
+/// A finding in the header, which has no row to jump to.
+pub fn in_header(line: usize, message: &str) -> String {
+    format!("line {line}: {message} (in the header)")
+}
+
+/// A save that failed.
+pub fn save_failed(path: &std::path::Path, error: &std::io::Error) -> String {
+    format!("could not save {}: {error}", path.display())
+}
+
+/// A recovery copy that could not be written or removed.
+pub fn recovery_failed(path: &std::path::Path, error: &std::io::Error) -> String {
+    format!(
+        "could not keep or remove the recovery copy beside {}: {error}",
+        path.display()
+    )
+}

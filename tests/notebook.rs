@@ -1,0 +1,899 @@
+//! The notebook's state and update logic, driven by messages without a
+//! terminal: every key of the key table, and what each action must do.
+
+use heftsheet::eval::{CellStatus, Row};
+use heftsheet::tui::app::{Change, Focus, Mode, Question, UnitsView};
+use heftsheet::tui::files::{Fingerprint, Opened};
+use heftsheet::tui::keys::{Action, BINDINGS, Key, Scope};
+use heftsheet::tui::theme::Theme;
+use heftsheet::tui::{App, Effect, Message, update};
+use ratatui::crossterm::event::{
+    KeyCode, KeyEvent, KeyModifiers, MouseButton, MouseEvent, MouseEventKind,
+};
+use ratatui::layout::Rect;
+
+const SKID_LIFT: &str = include_str!("../sheets/skid_lift.heft");
+
+/// A sheet with findings: an undefined name, a weight used as a mass, a
+/// failed check.
+const BROKEN: &str = "\
+# Broken on purpose
+m = 10 kg
+W [lbf] = m
+F [N] = m * a_missing
+check m <= 5 kg \"too heavy\"
+";
+
+fn opened(text: &str) -> Opened {
+    Opened {
+        path: "demo.heft".into(),
+        text: text.to_string(),
+        disk: Some(Fingerprint::of(text.as_bytes())),
+        recovery: None,
+    }
+}
+
+fn app_for(text: &str) -> App {
+    App::new(opened(text), Rect::new(0, 0, 80, 24), Theme::new(false))
+}
+
+fn key(code: KeyCode) -> Message {
+    Message::Key(KeyEvent::new(code, KeyModifiers::NONE))
+}
+
+fn press(app: &mut App, code: KeyCode) -> Vec<Effect> {
+    update(app, key(code))
+}
+
+fn press_char(app: &mut App, c: char) -> Vec<Effect> {
+    press(app, KeyCode::Char(c))
+}
+
+fn type_text(app: &mut App, text: &str) {
+    for c in text.chars() {
+        press_char(app, c);
+    }
+}
+
+fn clear_field(app: &mut App) {
+    update(
+        app,
+        Message::Key(KeyEvent::new(KeyCode::Char('u'), KeyModifiers::CONTROL)),
+    );
+}
+
+/// Selects the row of cell `name`.
+fn select_cell(app: &mut App, name: &str) {
+    press_char(app, 'f');
+    type_text(app, name);
+    press(app, KeyCode::Enter);
+    assert_eq!(selected_name(app).as_deref(), Some(name));
+}
+
+fn selected_name(app: &App) -> Option<String> {
+    let statement = app.selected_statement()?;
+    match app.live().row(statement) {
+        Row::Cell(cell) => Some(cell.name.to_string()),
+        _ => None,
+    }
+}
+
+fn value_of(app: &App, name: &str) -> f64 {
+    let id = app.live().cell_named(name).expect("cell");
+    app.live().cell(id).value.expect("a value").si
+}
+
+/// The lines that differ between two texts.
+fn changed_lines<'a>(before: &'a str, after: &'a str) -> Vec<(&'a str, &'a str)> {
+    before
+        .lines()
+        .zip(after.lines())
+        .filter(|(a, b)| a != b)
+        .collect()
+}
+
+// ----- every binding does something -----
+
+/// An app in the state where `scope`'s keys apply, with room to move.
+fn app_in_scope(scope: Scope, key: &Key) -> App {
+    let mut app = app_for(SKID_LIFT);
+    match scope {
+        Scope::Sheet => select_cell(&mut app, "T_brake"),
+        Scope::Links => {
+            select_cell(&mut app, "T_brake");
+            select_cell(&mut app, "m_tot");
+            press(&mut app, KeyCode::Tab);
+            press(&mut app, KeyCode::Down);
+        }
+        Scope::Editor => {
+            select_cell(&mut app, "a_up");
+            press(&mut app, KeyCode::Enter);
+            press(&mut app, KeyCode::Left);
+            press(&mut app, KeyCode::Left);
+        }
+        Scope::Find => {
+            press_char(&mut app, 'f');
+            press_char(&mut app, 'a');
+            press(&mut app, KeyCode::Down);
+        }
+        Scope::Findings => {
+            app = app_for(&format!("{BROKEN}{}", "x = 1\n".repeat(3)));
+            press_char(&mut app, '!');
+            press(&mut app, KeyCode::Down);
+        }
+        Scope::Help => {
+            press_char(&mut app, '?');
+            press(&mut app, KeyCode::Down);
+        }
+        Scope::Question => {
+            let question = match key.code {
+                KeyCode::Char('o') => Question::Overwrite,
+                KeyCode::Char('r') => Question::Recover,
+                _ => Question::QuitUnsaved,
+            };
+            match question {
+                Question::Recover => {
+                    let mut with_copy = opened(SKID_LIFT);
+                    with_copy.recovery = Some(SKID_LIFT.replace("1850 kg", "1900 kg"));
+                    app = App::new(with_copy, Rect::new(0, 0, 80, 24), Theme::new(false));
+                }
+                Question::Overwrite => {
+                    select_cell(&mut app, "a_up");
+                    press(&mut app, KeyCode::Enter);
+                    type_text(&mut app, "1");
+                    press(&mut app, KeyCode::Enter);
+                    update(&mut app, Message::SaveRefused);
+                }
+                Question::QuitUnsaved => {
+                    select_cell(&mut app, "a_up");
+                    press(&mut app, KeyCode::Enter);
+                    type_text(&mut app, "1");
+                    press(&mut app, KeyCode::Enter);
+                    press_char(&mut app, 'q');
+                }
+            }
+            assert!(matches!(app.mode(), Mode::Ask(q) if *q == question));
+        }
+    }
+    app
+}
+
+#[test]
+fn every_key_in_the_table_changes_the_state_or_asks_for_an_effect() {
+    for binding in BINDINGS {
+        for key in binding.keys {
+            let mut app = app_in_scope(binding.scope, key);
+            let before = format!("{app:?}");
+            let effects = update(
+                &mut app,
+                Message::Key(KeyEvent::new(key.code, key.modifiers)),
+            );
+            let after = format!("{app:?}");
+            assert!(
+                before != after || !effects.is_empty(),
+                "{} in {:?} ({:?}) did nothing",
+                key.label(),
+                binding.scope,
+                binding.action
+            );
+        }
+    }
+}
+
+// ----- what each action does -----
+
+#[test]
+fn arrows_pages_and_ends_move_the_selection_and_keep_it_on_screen() {
+    let mut app = app_for(SKID_LIFT);
+    assert_eq!(app.selected(), 0);
+    press(&mut app, KeyCode::Down);
+    assert_eq!(app.selected(), 1);
+    press(&mut app, KeyCode::Up);
+    press(&mut app, KeyCode::Up);
+    assert_eq!(app.selected(), 0);
+    press(&mut app, KeyCode::PageDown);
+    assert_eq!(app.selected(), 9, "a page is the 10 visible rows less one");
+    press(&mut app, KeyCode::End);
+    let last = app.live().rows().len() - 1;
+    assert_eq!(app.selected(), last);
+    assert!(app.scroll() + app.areas().sheet_rows() > last);
+    assert!(app.scroll() > 0);
+    press(&mut app, KeyCode::PageUp);
+    assert_eq!(app.selected(), last - 9);
+    press(&mut app, KeyCode::Home);
+    assert_eq!((app.selected(), app.scroll()), (0, 0));
+}
+
+#[test]
+fn editing_an_input_updates_its_dependents_while_typing_and_keeps_one_line_changed() {
+    let mut app = app_for(SKID_LIFT);
+    select_cell(&mut app, "a_up");
+    let before = value_of(&app, "T_up");
+    press(&mut app, KeyCode::Enter);
+    let Mode::Editing(session) = app.mode() else {
+        panic!("Enter on a cell edits its formula");
+    };
+    assert_eq!(session.input.value(), "0.35 m/s^2");
+    clear_field(&mut app);
+    type_text(&mut app, "0.5 m/s^2");
+    // Already recomputed before Enter: T = m (g0 + a), so ΔT = m_tot × 0.15 m/s²
+    // (Newton's second law, closed form).
+    let after = value_of(&app, "T_up");
+    let m_tot = value_of(&app, "m_tot");
+    assert!((after - before - m_tot * 0.15).abs() < 1e-9 * after);
+    assert!(app.is_dirty());
+    let effects = press(&mut app, KeyCode::Enter);
+    assert!(matches!(app.mode(), Mode::Browse));
+    assert!(matches!(effects.as_slice(), [Effect::KeepRecovery(_)]));
+    assert_eq!(app.history().undoable(), 1);
+    let text = app.live().text();
+    assert_eq!(
+        changed_lines(SKID_LIFT, &text),
+        vec![(
+            "a_up   = 0.35 m/s^2            \"start-of-hoist acceleration\"",
+            "a_up   = 0.5 m/s^2            \"start-of-hoist acceleration\""
+        )]
+    );
+}
+
+#[test]
+fn escape_puts_the_line_back_exactly() {
+    let mut app = app_for(SKID_LIFT);
+    select_cell(&mut app, "m_rig");
+    press_char(&mut app, '=');
+    type_text(&mut app, " + 3 kg");
+    assert_ne!(app.live().text(), SKID_LIFT);
+    let effects = press(&mut app, KeyCode::Esc);
+    assert_eq!(app.live().text(), SKID_LIFT);
+    assert!(!app.is_dirty());
+    assert_eq!(app.history().undoable(), 0);
+    assert_eq!(effects, vec![Effect::DropRecovery]);
+}
+
+#[test]
+fn invalid_input_is_kept_and_marked_until_fixed() {
+    let mut app = app_for(SKID_LIFT);
+    select_cell(&mut app, "m_rig");
+    press(&mut app, KeyCode::Enter);
+    press(&mut app, KeyCode::End);
+    type_text(&mut app, " +* 3");
+    press(&mut app, KeyCode::Enter);
+    assert!(app.live().text().contains("m_rig  = 42 kg +* 3"));
+    let id = app.live().cell_named("m_rig").expect("m_rig");
+    assert_eq!(app.live().cell(id).status, CellStatus::Error);
+    let m_tot = app.live().cell_named("m_tot").expect("m_tot");
+    assert_eq!(
+        app.live().cell(m_tot).status,
+        CellStatus::Blocked { by: id }
+    );
+    // Fix it. A formula that does not parse runs to the end of the line
+    // (the description cannot be told apart), so the field shows it all.
+    press(&mut app, KeyCode::Enter);
+    let Mode::Editing(session) = app.mode() else {
+        panic!("Enter edits");
+    };
+    assert_eq!(
+        session.input.value(),
+        "42 kg +* 3                 \"spreader bar, shackles, slings\""
+    );
+    press(&mut app, KeyCode::Home);
+    for _ in 0..5 {
+        press(&mut app, KeyCode::Right);
+    }
+    for _ in 0..5 {
+        press(&mut app, KeyCode::Delete);
+    }
+    press(&mut app, KeyCode::Enter);
+    assert_eq!(app.live().cell(m_tot).status, CellStatus::Ok);
+    assert_eq!(app.live().text(), SKID_LIFT);
+}
+
+#[test]
+fn unit_description_and_name_edits_change_only_their_field() {
+    let mut app = app_for(SKID_LIFT);
+    select_cell(&mut app, "W");
+    press_char(&mut app, '[');
+    clear_field(&mut app);
+    type_text(&mut app, "lbf");
+    press(&mut app, KeyCode::Enter);
+    press_char(&mut app, '"');
+    clear_field(&mut app);
+    type_text(&mut app, "static weight, \"dead\" load");
+    press(&mut app, KeyCode::Enter);
+    press_char(&mut app, 'n');
+    clear_field(&mut app);
+    type_text(&mut app, "W_static");
+    press(&mut app, KeyCode::Enter);
+    let text = app.live().text();
+    assert_eq!(
+        changed_lines(SKID_LIFT, &text),
+        vec![(
+            "W        [kN] = m_tot * g0                  \"static weight\"",
+            "W_static        [lbf] = m_tot * g0                  \"static weight, \\\"dead\\\" load\""
+        )]
+    );
+    assert_eq!(app.history().undoable(), 3);
+    // The cell that used W now names an undefined cell, with a suggestion.
+    let findings = app.live().findings();
+    assert!(
+        findings
+            .iter()
+            .any(|f| f.message.contains("`W` is not defined"))
+    );
+}
+
+#[test]
+fn field_keys_on_a_heading_say_it_is_not_a_cell_and_e_edits_its_line() {
+    let mut app = app_for(SKID_LIFT);
+    assert!(matches!(
+        app.live().row(app.selected_statement().expect("a row")),
+        Row::Heading { .. }
+    ));
+    press_char(&mut app, '=');
+    assert!(matches!(app.mode(), Mode::Browse));
+    assert!(app.message().is_some_and(|m| m.contains("not a cell")));
+    press_char(&mut app, 'e');
+    let Mode::Editing(session) = app.mode() else {
+        panic!("e edits the line");
+    };
+    assert_eq!(session.input.value(), "# Inputs");
+    clear_field(&mut app);
+    type_text(&mut app, "# Inputs (weighed)");
+    press(&mut app, KeyCode::Enter);
+    assert_eq!(
+        changed_lines(SKID_LIFT, &app.live().text()),
+        vec![("# Inputs", "# Inputs (weighed)")]
+    );
+}
+
+#[test]
+fn adding_a_cell_heading_note_and_check_inserts_lines_below_the_selection() {
+    let mut app = app_for(SKID_LIFT);
+    select_cell(&mut app, "W_hoist");
+    press_char(&mut app, 'a');
+    type_text(
+        &mut app,
+        "margin [kN] = W_hoist - T_brake \"hoist reserve\"",
+    );
+    press(&mut app, KeyCode::Enter);
+    assert!(app.live().cell_named("margin").is_some());
+    assert!(value_of(&app, "margin") > 0.0);
+    press_char(&mut app, 'h');
+    type_text(&mut app, "Reserve");
+    press(&mut app, KeyCode::Enter);
+    press_char(&mut app, 't');
+    type_text(
+        &mut app,
+        "Reserve is the hoist rating less the braking tension.",
+    );
+    press(&mut app, KeyCode::Enter);
+    press_char(&mut app, 'c');
+    type_text(&mut app, "margin >= 5 kN \"reserve\"");
+    press(&mut app, KeyCode::Enter);
+    let text = app.live().text();
+    let added: Vec<&str> = text
+        .lines()
+        .filter(|line| !SKID_LIFT.contains(line))
+        .collect();
+    assert_eq!(
+        added,
+        vec![
+            "margin [kN] = W_hoist - T_brake \"hoist reserve\"",
+            "# Reserve",
+            "> Reserve is the hoist rating less the braking tension.",
+            "check margin >= 5 kN \"reserve\"",
+        ]
+    );
+    assert_eq!(app.live().n_checks(), 4);
+    assert_eq!(app.history().undoable(), 4);
+    // Esc on a new line leaves nothing behind.
+    press_char(&mut app, 'a');
+    type_text(&mut app, "half = typed");
+    press(&mut app, KeyCode::Esc);
+    assert_eq!(app.live().text(), text);
+}
+
+#[test]
+fn delete_undo_and_redo_restore_the_text_exactly() {
+    let mut app = app_for(SKID_LIFT);
+    select_cell(&mut app, "dyn_factor");
+    press_char(&mut app, 'x');
+    assert!(app.live().cell_named("dyn_factor").is_none());
+    let deleted = app.live().text();
+    press_char(&mut app, '<');
+    assert_eq!(app.live().text(), SKID_LIFT);
+    assert!(!app.is_dirty(), "back to the saved text");
+    press_char(&mut app, '>');
+    assert_eq!(app.live().text(), deleted);
+    press_char(&mut app, '>');
+    assert_eq!(app.message(), Some("nothing to redo"));
+    press_char(&mut app, '<');
+    press_char(&mut app, '<');
+    assert_eq!(app.message(), Some("nothing to undo"));
+    // A new edit after an undo drops the redo.
+    select_cell(&mut app, "m_rig");
+    press_char(&mut app, 'x');
+    assert_eq!(app.history().redoable(), 0);
+}
+
+#[test]
+fn unit_view_and_significant_figures_change_the_display_not_the_file() {
+    let mut app = app_for(SKID_LIFT);
+    assert_eq!(app.units(), UnitsView::AsWritten);
+    press_char(&mut app, 'u');
+    assert_eq!(app.units(), UnitsView::Si);
+    press_char(&mut app, 'u');
+    assert_eq!(app.units(), UnitsView::Fps);
+    let id = app.live().cell_named("T_up").expect("T_up");
+    let unit = app.live().display_unit(id, app.units().system());
+    assert_eq!(&*unit.text, "lbf");
+    press_char(&mut app, 'u');
+    assert_eq!(app.units(), UnitsView::AsWritten);
+    assert_eq!(app.sig_figs(), 4);
+    press_char(&mut app, '+');
+    assert_eq!(app.sig_figs(), 5);
+    for _ in 0..20 {
+        press_char(&mut app, '-');
+    }
+    assert_eq!(app.sig_figs(), 1);
+    for _ in 0..20 {
+        press_char(&mut app, '+');
+    }
+    assert_eq!(app.sig_figs(), 15);
+    assert_eq!(app.live().text(), SKID_LIFT);
+    assert!(!app.is_dirty());
+}
+
+#[test]
+fn find_narrows_by_name_and_jumps() {
+    let mut app = app_for(SKID_LIFT);
+    press_char(&mut app, 'f');
+    type_text(&mut app, "BRAKE");
+    let Mode::Find(state) = app.mode() else {
+        panic!("f finds");
+    };
+    let names: Vec<&str> = state
+        .matches
+        .iter()
+        .map(|&id| app.live().cell(id).name)
+        .collect();
+    assert_eq!(
+        names,
+        vec!["a_brake", "T_brake"],
+        "case ignored, then file order"
+    );
+    press(&mut app, KeyCode::Down);
+    press(&mut app, KeyCode::Enter);
+    assert_eq!(selected_name(&app).as_deref(), Some("T_brake"));
+    press_char(&mut app, 'f');
+    type_text(&mut app, "m_");
+    let Mode::Find(state) = app.mode() else {
+        panic!("f finds");
+    };
+    let names: Vec<&str> = state
+        .matches
+        .iter()
+        .map(|&id| app.live().cell(id).name)
+        .collect();
+    assert_eq!(
+        names,
+        vec!["m_rig", "m_tot", "m_skid"],
+        "prefix first, then shorter"
+    );
+    press(&mut app, KeyCode::Esc);
+    press_char(&mut app, 'f');
+    type_text(&mut app, "zz");
+    press(&mut app, KeyCode::Backspace);
+    press(&mut app, KeyCode::Backspace);
+    press(&mut app, KeyCode::Esc);
+    assert!(matches!(app.mode(), Mode::Browse));
+    assert_eq!(selected_name(&app).as_deref(), Some("T_brake"));
+}
+
+#[test]
+fn findings_list_every_finding_and_jump_to_each() {
+    let mut app = app_for(BROKEN);
+    press_char(&mut app, '!');
+    let Mode::Findings(state) = app.mode() else {
+        panic!("! lists findings");
+    };
+    let codes: Vec<&str> = state.list.iter().map(|f| f.code.as_str()).collect();
+    assert_eq!(
+        codes,
+        vec!["mass-weight-mixup", "undefined-name", "check-failed"]
+    );
+    assert_eq!(state.list[0].line, 3);
+    press(&mut app, KeyCode::Down);
+    press(&mut app, KeyCode::Enter);
+    assert_eq!(selected_name(&app).as_deref(), Some("F"));
+    // Backspace goes back to where the jump came from.
+    press(&mut app, KeyCode::Backspace);
+    assert_eq!(app.selected(), 0);
+    let mut clean = app_for(SKID_LIFT);
+    press_char(&mut clean, '!');
+    assert!(matches!(clean.mode(), Mode::Browse));
+    assert_eq!(clean.message(), Some("no findings"));
+}
+
+#[test]
+fn links_jump_to_what_a_cell_uses_and_what_uses_it() {
+    let mut app = app_for(SKID_LIFT);
+    select_cell(&mut app, "T_brake");
+    press(&mut app, KeyCode::Tab);
+    assert_eq!(app.focus(), Focus::Links);
+    // Links: uses m_tot, a_brake; used by dyn_factor, check 2.
+    press(&mut app, KeyCode::Down);
+    press(&mut app, KeyCode::Down);
+    press(&mut app, KeyCode::Enter);
+    assert_eq!(selected_name(&app).as_deref(), Some("dyn_factor"));
+    assert_eq!(app.focus(), Focus::Sheet);
+    press(&mut app, KeyCode::Backspace);
+    assert_eq!(selected_name(&app).as_deref(), Some("T_brake"));
+    press(&mut app, KeyCode::Tab);
+    press(&mut app, KeyCode::Esc);
+    assert_eq!(app.focus(), Focus::Sheet);
+}
+
+#[test]
+fn saving_asks_the_loop_and_clears_the_modified_mark() {
+    let mut app = app_for(SKID_LIFT);
+    let effects = press_char(&mut app, 's');
+    assert!(effects.is_empty());
+    assert!(app.message().is_some_and(|m| m.contains("nothing to save")));
+    select_cell(&mut app, "m_skid");
+    press(&mut app, KeyCode::Enter);
+    clear_field(&mut app);
+    type_text(&mut app, "1900 kg");
+    press(&mut app, KeyCode::Enter);
+    let effects = press_char(&mut app, 's');
+    let [
+        Effect::Save {
+            text,
+            expected,
+            overwrite,
+        },
+    ] = effects.as_slice()
+    else {
+        panic!("s saves: {effects:?}");
+    };
+    assert_eq!(*expected, Some(Fingerprint::of(SKID_LIFT.as_bytes())));
+    assert!(!overwrite);
+    assert_eq!(changed_lines(SKID_LIFT, text).len(), 1);
+    let effects = update(&mut app, Message::Saved(Fingerprint::of(text.as_bytes())));
+    assert_eq!(effects, vec![Effect::DropRecovery]);
+    assert!(!app.is_dirty());
+}
+
+#[test]
+fn a_file_changed_on_disk_is_overwritten_only_when_asked() {
+    let mut app = app_for(SKID_LIFT);
+    select_cell(&mut app, "m_skid");
+    press(&mut app, KeyCode::Enter);
+    type_text(&mut app, "0");
+    press(&mut app, KeyCode::Enter);
+    press_char(&mut app, 's');
+    update(&mut app, Message::SaveRefused);
+    assert!(matches!(app.mode(), Mode::Ask(Question::Overwrite)));
+    press(&mut app, KeyCode::Esc);
+    assert!(matches!(app.mode(), Mode::Browse));
+    assert!(app.is_dirty());
+    press_char(&mut app, 's');
+    update(&mut app, Message::SaveRefused);
+    let effects = press_char(&mut app, 'o');
+    assert!(matches!(
+        effects.as_slice(),
+        [Effect::Save {
+            overwrite: true,
+            ..
+        }]
+    ));
+}
+
+#[test]
+fn quitting_with_unsaved_changes_asks() {
+    let mut clean = app_for(SKID_LIFT);
+    assert_eq!(
+        press_char(&mut clean, 'q'),
+        vec![Effect::DropRecovery, Effect::Quit]
+    );
+
+    let mut app = app_for(SKID_LIFT);
+    select_cell(&mut app, "m_rig");
+    press_char(&mut app, 'x');
+    assert!(press_char(&mut app, 'q').is_empty());
+    assert!(matches!(app.mode(), Mode::Ask(Question::QuitUnsaved)));
+    press(&mut app, KeyCode::Esc);
+    assert!(matches!(app.mode(), Mode::Browse));
+    press_char(&mut app, 'q');
+    assert_eq!(
+        press_char(&mut app, 'd'),
+        vec![Effect::DropRecovery, Effect::Quit]
+    );
+
+    let mut saving = app_for(SKID_LIFT);
+    select_cell(&mut saving, "m_rig");
+    press_char(&mut saving, 'x');
+    press_char(&mut saving, 'q');
+    let effects = press_char(&mut saving, 's');
+    let [Effect::Save { text, .. }] = effects.as_slice() else {
+        panic!("s saves first: {effects:?}");
+    };
+    let effects = update(
+        &mut saving,
+        Message::Saved(Fingerprint::of(text.as_bytes())),
+    );
+    assert_eq!(effects, vec![Effect::DropRecovery, Effect::Quit]);
+}
+
+#[test]
+fn kept_work_from_a_crash_is_offered_and_restored() {
+    let kept = SKID_LIFT.replace("m_rig  = 42 kg", "m_rig  = 47 kg");
+    let mut with_copy = opened(SKID_LIFT);
+    with_copy.recovery = Some(kept.clone());
+    let mut app = App::new(
+        with_copy.clone(),
+        Rect::new(0, 0, 80, 24),
+        Theme::new(false),
+    );
+    assert!(matches!(app.mode(), Mode::Ask(Question::Recover)));
+    press(&mut app, KeyCode::Esc);
+    assert!(
+        matches!(app.mode(), Mode::Ask(Question::Recover)),
+        "must choose"
+    );
+    press_char(&mut app, 'r');
+    assert_eq!(app.live().text(), kept);
+    assert!(app.is_dirty());
+
+    let mut declined = App::new(with_copy, Rect::new(0, 0, 80, 24), Theme::new(false));
+    assert_eq!(press_char(&mut declined, 'd'), vec![Effect::DropRecovery]);
+    assert_eq!(declined.live().text(), SKID_LIFT);
+}
+
+#[test]
+fn a_new_file_starts_empty_and_grows() {
+    let mut app = App::new(
+        Opened {
+            path: "new.heft".into(),
+            text: String::new(),
+            disk: None,
+            recovery: None,
+        },
+        Rect::new(0, 0, 80, 24),
+        Theme::new(false),
+    );
+    assert!(app.is_new_file());
+    assert!(app.live().rows().is_empty());
+    press(&mut app, KeyCode::Enter);
+    type_text(&mut app, "m = 20 kg");
+    press(&mut app, KeyCode::Enter);
+    press_char(&mut app, 'a');
+    type_text(&mut app, "W [N] = m * g0");
+    press(&mut app, KeyCode::Enter);
+    assert_eq!(app.live().text(), "m = 20 kg\nW [N] = m * g0\n");
+    // W = m g0 = 20 kg × 9.80665 m/s² = 196.133 N (standard gravity, CGPM 1901).
+    assert!((value_of(&app, "W") - 196.133).abs() < 1e-9);
+    let effects = press_char(&mut app, 's');
+    assert!(matches!(
+        effects.as_slice(),
+        [Effect::Save { expected: None, .. }]
+    ));
+}
+
+#[test]
+fn history_records_one_change_per_kept_edit() {
+    let mut app = app_for(SKID_LIFT);
+    select_cell(&mut app, "a_brake");
+    press(&mut app, KeyCode::Enter);
+    clear_field(&mut app);
+    type_text(&mut app, "1.2 m/s^2");
+    press(&mut app, KeyCode::Enter);
+    let line = app
+        .live()
+        .statement_line(app.selected_statement().expect("a row"));
+    assert_eq!(app.history().undoable(), 1);
+    press_char(&mut app, '<');
+    press_char(&mut app, '>');
+    // The change is recorded by line, with both texts.
+    let text = app.live().text();
+    assert_eq!(
+        text.lines().nth(line),
+        Some("a_brake = 1.2 m/s^2            \"deceleration when the brake stops a descent\"")
+    );
+    let _ = Change::Insert {
+        line,
+        text: String::new(),
+    };
+}
+
+#[test]
+fn the_mouse_selects_rows_scrolls_and_follows_links() {
+    let mut app = app_for(SKID_LIFT);
+    let click = |column, row| {
+        Message::Mouse(MouseEvent {
+            kind: MouseEventKind::Down(MouseButton::Left),
+            column,
+            row,
+            modifiers: KeyModifiers::NONE,
+        })
+    };
+    // Row 0 is the title, row 1 the column headings, row 2 the first sheet row.
+    update(&mut app, click(10, 5));
+    assert_eq!(app.selected(), 3);
+    update(
+        &mut app,
+        Message::Mouse(MouseEvent {
+            kind: MouseEventKind::ScrollDown,
+            column: 10,
+            row: 5,
+            modifiers: KeyModifiers::NONE,
+        }),
+    );
+    assert_eq!(app.selected(), 6);
+    select_cell(&mut app, "W");
+    let hotspots = heftsheet::tui::view::link_hotspots(&app, app.areas().detail);
+    let (area, _) = hotspots.first().copied().expect("W uses m_tot");
+    update(&mut app, click(area.x, area.y));
+    assert_eq!(selected_name(&app).as_deref(), Some("m_tot"));
+}
+
+#[test]
+fn a_smaller_terminal_keeps_the_selection_in_view() {
+    let mut app = app_for(SKID_LIFT);
+    press(&mut app, KeyCode::End);
+    update(&mut app, Message::Resize(80, 12));
+    assert_eq!(app.viewport(), Rect::new(0, 0, 80, 12));
+    let visible = app.areas().sheet_rows();
+    assert!(app.selected() >= app.scroll() && app.selected() < app.scroll() + visible);
+}
+
+#[test]
+fn a_failed_save_or_recovery_copy_is_reported() {
+    let mut app = app_for(SKID_LIFT);
+    update(
+        &mut app,
+        Message::SaveFailed("could not save demo.heft: disk full".into()),
+    );
+    assert_eq!(app.message(), Some("could not save demo.heft: disk full"));
+    update(&mut app, Message::RecoveryFailed("no room".into()));
+    assert_eq!(app.message(), Some("no room"));
+}
+
+#[test]
+fn help_opens_scrolls_and_closes() {
+    let mut app = app_for(SKID_LIFT);
+    press_char(&mut app, '?');
+    assert!(matches!(app.mode(), Mode::Help { scroll: 0 }));
+    press(&mut app, KeyCode::Down);
+    assert!(matches!(app.mode(), Mode::Help { scroll: 1 }));
+    // Scrolling stops at the last screenful, so Up answers at once.
+    for _ in 0..500 {
+        press(&mut app, KeyCode::Down);
+    }
+    let Mode::Help { scroll: bottom } = *app.mode() else {
+        panic!("still in help");
+    };
+    assert!(bottom > 1 && bottom < 200, "{bottom}");
+    press(&mut app, KeyCode::Up);
+    assert!(matches!(app.mode(), Mode::Help { scroll } if *scroll == bottom - 1));
+    press(&mut app, KeyCode::Esc);
+    assert!(matches!(app.mode(), Mode::Browse));
+    assert!(BINDINGS.iter().any(|b| b.action == Action::Help));
+}
+
+// ----- undo and redo over random edits -----
+
+use proptest::prelude::*;
+
+/// One edit made with the notebook's keys.
+#[derive(Clone, Debug)]
+enum KeyEdit {
+    Formula {
+        row: usize,
+        text: &'static str,
+    },
+    Unit {
+        row: usize,
+        text: &'static str,
+    },
+    Add {
+        row: usize,
+        kind: char,
+        text: &'static str,
+    },
+    Delete {
+        row: usize,
+    },
+    WholeLine {
+        row: usize,
+        text: &'static str,
+    },
+}
+
+const TEXTS: &[&str] = &[
+    "2 kN",
+    "m_tot * 3",
+    "(1 +",
+    "m_skid / 0",
+    "W + m_rig",
+    "12 lbm",
+    "",
+];
+
+fn key_edit() -> impl Strategy<Value = KeyEdit> {
+    let text = proptest::sample::select(TEXTS);
+    prop_oneof![
+        (any::<usize>(), text.clone()).prop_map(|(row, text)| KeyEdit::Formula { row, text }),
+        (
+            any::<usize>(),
+            proptest::sample::select(&["kN", "", "lbf", "bad unit"][..])
+        )
+            .prop_map(|(row, text)| KeyEdit::Unit { row, text }),
+        (
+            any::<usize>(),
+            proptest::sample::select(&['a', 'h', 't', 'c'][..]),
+            text.clone()
+        )
+            .prop_map(|(row, kind, text)| KeyEdit::Add { row, kind, text }),
+        any::<usize>().prop_map(|row| KeyEdit::Delete { row }),
+        (any::<usize>(), text).prop_map(|(row, text)| KeyEdit::WholeLine { row, text }),
+    ]
+}
+
+fn go_to_row(app: &mut App, row: usize) {
+    let n_rows = app.live().rows().len().max(1);
+    press(app, KeyCode::Home);
+    for _ in 0..row % n_rows {
+        press(app, KeyCode::Down);
+    }
+}
+
+fn apply_key_edit(app: &mut App, edit: &KeyEdit) {
+    let (row, start, clear, text) = match *edit {
+        KeyEdit::Formula { row, text } => (row, '=', true, text),
+        KeyEdit::Unit { row, text } => (row, '[', true, text),
+        KeyEdit::Add { row, kind, text } => (row, kind, false, text),
+        KeyEdit::WholeLine { row, text } => (row, 'e', true, text),
+        KeyEdit::Delete { row } => (row, 'x', false, ""),
+    };
+    go_to_row(app, row);
+    press_char(app, start);
+    // A field key on a row that is not a cell only leaves a message.
+    if matches!(app.mode(), Mode::Editing(_)) {
+        if clear {
+            clear_field(app);
+        }
+        type_text(app, text);
+        press(app, KeyCode::Enter);
+    }
+    assert!(matches!(app.mode(), Mode::Browse), "{edit:?}");
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(64))]
+
+    #[test]
+    fn undo_walks_back_through_every_text_and_redo_forward(
+        edits in proptest::collection::vec(key_edit(), 1..10),
+    ) {
+        let mut app = app_for(SKID_LIFT);
+        let mut texts = vec![app.live().text()];
+        for edit in &edits {
+            apply_key_edit(&mut app, edit);
+            let text = app.live().text();
+            if texts.last() != Some(&text) {
+                texts.push(text);
+            }
+        }
+        prop_assert_eq!(app.history().undoable(), texts.len() - 1);
+        for expected in texts.iter().rev().skip(1) {
+            press_char(&mut app, '<');
+            prop_assert_eq!(&app.live().text(), expected);
+        }
+        prop_assert!(!app.is_dirty());
+        for expected in texts.iter().skip(1) {
+            press_char(&mut app, '>');
+            prop_assert_eq!(&app.live().text(), expected);
+        }
+    }
+}

@@ -1,0 +1,213 @@
+//! End to end: the real `heft` binary in a pseudo-terminal, read back
+//! through a terminal emulator. Open a demo sheet, change an input, see a
+//! dependent value change, save, and check that the saved file differs from
+//! the original only on that line.
+
+use std::io::{Read, Write};
+use std::num::NonZeroU16;
+use std::sync::{Arc, Mutex};
+use std::time::{Duration, Instant};
+
+use portable_pty::{Child, CommandBuilder, PtySize, native_pty_system};
+
+const ROWS: NonZeroU16 = NonZeroU16::new(24).expect("24 rows");
+const COLUMNS: NonZeroU16 = NonZeroU16::new(80).expect("80 columns");
+/// Generous: a debug build on a busy two-core machine.
+const PATIENCE: Duration = Duration::from_secs(30);
+
+/// The notebook running in a pseudo-terminal, with the screen it draws.
+struct Session {
+    child: Box<dyn Child + Send + Sync>,
+    writer: Box<dyn Write + Send>,
+    screen: Arc<Mutex<vt100::Parser>>,
+}
+
+impl Session {
+    fn start(file: &std::path::Path) -> Session {
+        let pair = native_pty_system()
+            .openpty(PtySize {
+                rows: ROWS.get(),
+                cols: COLUMNS.get(),
+                pixel_width: 0,
+                pixel_height: 0,
+            })
+            .expect("a pseudo-terminal");
+        let mut command = CommandBuilder::new(env!("CARGO_BIN_EXE_heft"));
+        command.arg(file);
+        command.env("TERM", "xterm-256color");
+        command.env("NO_COLOR", "1");
+        let child = pair.slave.spawn_command(command).expect("heft starts");
+        drop(pair.slave);
+        let mut reader = pair.master.try_clone_reader().expect("reader");
+        let writer = pair.master.take_writer().expect("writer");
+        let screen = Arc::new(Mutex::new(vt100::Parser::new(ROWS, COLUMNS, 0)));
+        let feed = Arc::clone(&screen);
+        std::thread::spawn(move || {
+            let mut buffer = [0u8; 8192];
+            while let Ok(n) = reader.read(&mut buffer) {
+                if n == 0 {
+                    break;
+                }
+                if let Ok(mut parser) = feed.lock() {
+                    parser.process(&buffer[..n]);
+                }
+            }
+        });
+        // The master must outlive the child; keep it alive with the session.
+        std::mem::forget(pair.master);
+        Session {
+            child,
+            writer,
+            screen,
+        }
+    }
+
+    fn contents(&self) -> String {
+        self.screen
+            .lock()
+            .map(|parser| parser.screen().contents())
+            .unwrap_or_default()
+    }
+
+    /// Waits until the screen shows `text`.
+    #[track_caller]
+    fn wait_for(&mut self, text: &str) {
+        let deadline = Instant::now() + PATIENCE;
+        while Instant::now() < deadline {
+            if self.contents().contains(text) {
+                return;
+            }
+            std::thread::sleep(Duration::from_millis(50));
+        }
+        let screen = self.contents();
+        let _ = self.child.kill();
+        panic!("the screen never showed {text:?}; it shows:\n{screen}");
+    }
+
+    fn send(&mut self, keys: &str) {
+        self.writer
+            .write_all(keys.as_bytes())
+            .expect("keys reach heft");
+        self.writer.flush().expect("keys reach heft");
+        // One read per key press is how a person types; give the loop time.
+        std::thread::sleep(Duration::from_millis(100));
+    }
+
+    /// Waits for heft to exit and returns whether it succeeded.
+    fn wait_exit(&mut self) -> bool {
+        let deadline = Instant::now() + PATIENCE;
+        while Instant::now() < deadline {
+            if let Ok(Some(status)) = self.child.try_wait() {
+                return status.success();
+            }
+            std::thread::sleep(Duration::from_millis(50));
+        }
+        let _ = self.child.kill();
+        panic!("heft did not exit; the screen shows:\n{}", self.contents());
+    }
+}
+
+const ENTER: &str = "\r";
+const CLEAR_FIELD: &str = "\u{15}";
+
+#[test]
+fn edit_an_input_watch_the_result_change_and_save_one_line() {
+    let directory = tempfile::tempdir().expect("a temporary directory");
+    let file = directory.path().join("skid_lift.heft");
+    let original = include_str!("../sheets/skid_lift.heft");
+    std::fs::write(&file, original).expect("the demo sheet is copied");
+
+    let mut heft = Session::start(&file);
+    heft.wait_for("Compressor skid lift");
+    // Bring T_up into view: T_up = m_tot (g0 + a_up)
+    // = 1892 kg × (9.80665 + 0.35) m/s² = 19.22 kN (Newton's second law).
+    heft.send("f");
+    heft.send("T_up");
+    heft.send(ENTER);
+    heft.wait_for("19.22 kN");
+
+    // Its input a_up is on screen too; edit it there.
+    heft.send("f");
+    heft.send("a_up");
+    heft.send(ENTER);
+    heft.send("=");
+    heft.send(CLEAR_FIELD);
+    heft.send("0.5 m/s^2");
+    heft.send(ENTER);
+    // With a_up = 0.5 m/s²: 1892 kg × 10.30665 m/s² = 19.50 kN (shown to 4
+    // significant figures as 19.5 kN), and the file is marked modified.
+    heft.wait_for("19.5 kN");
+    heft.wait_for("modified");
+    assert!(!heft.contents().contains("19.22 kN"));
+
+    heft.send("s");
+    heft.wait_for("saved skid_lift.heft");
+    heft.send("q");
+    assert!(heft.wait_exit(), "heft exits cleanly");
+
+    let saved = std::fs::read_to_string(&file).expect("the saved sheet");
+    let changed: Vec<(usize, &str, &str)> = original
+        .lines()
+        .zip(saved.lines())
+        .enumerate()
+        .filter(|(_, (before, after))| before != after)
+        .map(|(line, (before, after))| (line + 1, before, after))
+        .collect();
+    assert_eq!(
+        changed,
+        vec![(
+            20,
+            "a_up   = 0.35 m/s^2            \"start-of-hoist acceleration\"",
+            "a_up   = 0.5 m/s^2            \"start-of-hoist acceleration\""
+        )]
+    );
+    assert_eq!(saved.lines().count(), original.lines().count());
+    assert_eq!(saved.len(), original.len() - 1);
+    // Saved and quit cleanly: no recovery copy is left behind.
+    assert!(
+        !directory
+            .path()
+            .join(".skid_lift.heft.heft-unsaved")
+            .exists()
+    );
+}
+
+#[test]
+fn quitting_with_unsaved_changes_asks_and_a_kept_copy_survives_a_kill() {
+    let directory = tempfile::tempdir().expect("a temporary directory");
+    let file = directory.path().join("cart.heft");
+    let original = include_str!("../sheets/cart_train.heft");
+    std::fs::write(&file, original).expect("the demo sheet is copied");
+
+    let mut heft = Session::start(&file);
+    heft.wait_for("Parts-cart train");
+    heft.send("f");
+    heft.send("F_draw");
+    heft.send(ENTER);
+    heft.send("=");
+    heft.send(CLEAR_FIELD);
+    heft.send("240 lbf");
+    heft.send(ENTER);
+    heft.wait_for("modified");
+    heft.send("q");
+    heft.wait_for("Unsaved changes");
+    heft.send("\u{1b}");
+    // A crash now (the process killed) keeps the edit beside the file.
+    heft.child.kill().expect("heft is stopped");
+    let _ = heft.child.wait();
+    let kept = std::fs::read_to_string(directory.path().join(".cart.heft.heft-unsaved"))
+        .expect("a recovery copy");
+    assert!(kept.contains("F_draw = 240 lbf"), "{kept}");
+    assert_eq!(std::fs::read_to_string(&file).expect("sheet"), original);
+
+    // The next session offers it back.
+    let mut again = Session::start(&file);
+    again.wait_for("Unsaved work from an earlier session");
+    again.send("r");
+    again.wait_for("restored");
+    again.send("q");
+    again.wait_for("Unsaved changes");
+    again.send("s");
+    assert!(again.wait_exit());
+    assert_eq!(std::fs::read_to_string(&file).expect("sheet"), kept);
+}

@@ -1,0 +1,247 @@
+//! The notebook's drawing, on ratatui's TestBackend, against snapshots at
+//! 80×24 and 160×48 (text; styles are checked separately for colour).
+
+use heftsheet::tui::files::{Fingerprint, Opened};
+use heftsheet::tui::theme::Theme;
+use heftsheet::tui::{App, Message, update, view};
+use ratatui::Terminal;
+use ratatui::backend::TestBackend;
+use ratatui::crossterm::event::{KeyCode, KeyEvent, KeyModifiers};
+use ratatui::layout::Rect;
+use ratatui::style::Color;
+
+const SKID_LIFT: &str = include_str!("../sheets/skid_lift.heft");
+const CART_TRAIN: &str = include_str!("../sheets/cart_train.heft");
+
+const BROKEN: &str = "\
++++
+title = \"Bench fixture, broken on purpose\"
+revision = \"B\"
++++
+# Clamp
+m_part = 12 kg          \"part on the slide\"
+a_slide = 3 m/s^2       \"slide acceleration\"
+F_hold [lbf] = m_part   \"weight, not a force\"
+F_need [N] = m_part * a_slide + mu
+check F_need <= 40 N \"clamp rating\"
+";
+
+fn app(text: &str, width: u16, height: u16, colour: bool) -> App {
+    App::new(
+        Opened {
+            path: "sheets/demo.heft".into(),
+            text: text.to_string(),
+            disk: Some(Fingerprint::of(text.as_bytes())),
+            recovery: None,
+        },
+        Rect::new(0, 0, width, height),
+        Theme::new(colour),
+    )
+}
+
+fn keys(app: &mut App, keys: &[KeyCode]) {
+    for &code in keys {
+        update(app, Message::Key(KeyEvent::new(code, KeyModifiers::NONE)));
+    }
+}
+
+fn typed(app: &mut App, text: &str) {
+    for c in text.chars() {
+        keys(app, &[KeyCode::Char(c)]);
+    }
+}
+
+fn find(app: &mut App, name: &str) {
+    keys(app, &[KeyCode::Char('f')]);
+    typed(app, name);
+    keys(app, &[KeyCode::Enter]);
+}
+
+fn draw(app: &App) -> Terminal<TestBackend> {
+    let area = app.viewport();
+    let mut terminal = Terminal::new(TestBackend::new(area.width, area.height)).expect("terminal");
+    terminal.draw(|frame| view(app, frame)).expect("draw");
+    terminal
+}
+
+#[test]
+fn demo_sheet_at_80_by_24() {
+    let app = app(SKID_LIFT, 80, 24, false);
+    insta::assert_snapshot!(draw(&app).backend());
+}
+
+#[test]
+fn a_selected_cell_at_160_by_48() {
+    let mut app = app(SKID_LIFT, 160, 48, false);
+    find(&mut app, "T_brake");
+    insta::assert_snapshot!(draw(&app).backend());
+}
+
+#[test]
+fn a_selected_cell_at_80_by_24() {
+    let mut app = app(SKID_LIFT, 80, 24, false);
+    find(&mut app, "T_brake");
+    insta::assert_snapshot!(draw(&app).backend());
+}
+
+#[test]
+fn a_weight_typed_as_a_mass_is_flagged_while_editing_80_by_24() {
+    let mut app = app(SKID_LIFT, 80, 24, false);
+    find(&mut app, "m_tot");
+    keys(&mut app, &[KeyCode::Enter, KeyCode::End]);
+    typed(&mut app, " + WLL");
+    insta::assert_snapshot!(draw(&app).backend());
+}
+
+#[test]
+fn findings_and_a_broken_sheet_at_80_by_24() {
+    let mut app = app(BROKEN, 80, 24, false);
+    find(&mut app, "F_hold");
+    insta::assert_snapshot!("broken_sheet_80x24", draw(&app).backend());
+    keys(&mut app, &[KeyCode::Char('!')]);
+    insta::assert_snapshot!("findings_overlay_80x24", draw(&app).backend());
+}
+
+#[test]
+fn a_broken_sheet_at_160_by_48() {
+    let mut app = app(BROKEN, 160, 48, false);
+    find(&mut app, "F_hold");
+    insta::assert_snapshot!(draw(&app).backend());
+}
+
+#[test]
+fn fps_view_with_more_figures_at_160_by_48() {
+    let mut app = app(CART_TRAIN, 160, 48, false);
+    keys(
+        &mut app,
+        &[
+            KeyCode::Char('u'),
+            KeyCode::Char('u'),
+            KeyCode::Char('+'),
+            KeyCode::End,
+        ],
+    );
+    insta::assert_snapshot!(draw(&app).backend());
+}
+
+#[test]
+fn help_at_80_by_24_and_160_by_48() {
+    let mut small = app(SKID_LIFT, 80, 24, false);
+    keys(&mut small, &[KeyCode::Char('?')]);
+    insta::assert_snapshot!("help_80x24", draw(&small).backend());
+    let mut large = app(SKID_LIFT, 160, 48, false);
+    keys(&mut large, &[KeyCode::Char('?')]);
+    insta::assert_snapshot!("help_160x48", draw(&large).backend());
+}
+
+#[test]
+fn find_overlay_and_quit_question_at_80_by_24() {
+    let mut app = app(SKID_LIFT, 80, 24, false);
+    keys(&mut app, &[KeyCode::Char('f')]);
+    typed(&mut app, "t");
+    insta::assert_snapshot!("find_80x24", draw(&app).backend());
+    keys(
+        &mut app,
+        &[KeyCode::Esc, KeyCode::Char('x'), KeyCode::Char('q')],
+    );
+    insta::assert_snapshot!("quit_question_80x24", draw(&app).backend());
+}
+
+#[test]
+fn a_new_empty_sheet_at_80_by_24() {
+    let app = App::new(
+        Opened {
+            path: "new_fixture.heft".into(),
+            text: String::new(),
+            disk: None,
+            recovery: None,
+        },
+        Rect::new(0, 0, 80, 24),
+        Theme::new(false),
+    );
+    insta::assert_snapshot!(draw(&app).backend());
+}
+
+/// Every foreground colour used in the frame.
+fn colours(terminal: &Terminal<TestBackend>) -> Vec<Color> {
+    let mut colours: Vec<Color> = terminal
+        .backend()
+        .buffer()
+        .content()
+        .iter()
+        .map(|cell| cell.fg)
+        .filter(|&fg| fg != Color::Reset)
+        .collect();
+    colours.sort_by_key(|c| format!("{c:?}"));
+    colours.dedup();
+    colours
+}
+
+#[test]
+fn without_colour_only_emphasis_remains_and_the_text_is_the_same() {
+    let mut plain = app(BROKEN, 80, 24, false);
+    let mut coloured = app(BROKEN, 80, 24, true);
+    find(&mut plain, "F_hold");
+    find(&mut coloured, "F_hold");
+    let (plain, coloured) = (draw(&plain), draw(&coloured));
+    assert!(colours(&plain).is_empty(), "{:?}", colours(&plain));
+    assert_eq!(plain.backend().to_string(), coloured.backend().to_string());
+    // Colour uses only the terminal's own base colours, which follow its
+    // light or dark scheme, and never sets a background.
+    let used = colours(&coloured);
+    assert!(used.contains(&Color::Red), "errors are red: {used:?}");
+    assert!(
+        used.iter()
+            .all(|c| matches!(c, Color::Red | Color::Green | Color::Magenta))
+    );
+    assert!(
+        coloured
+            .backend()
+            .buffer()
+            .content()
+            .iter()
+            .all(|cell| cell.bg == Color::Reset)
+    );
+}
+
+#[test]
+fn a_frame_of_a_ten_thousand_row_sheet_draws_only_what_shows() {
+    let mut text = String::from("# Long\nm0 = 1 kg\n");
+    for i in 1..10_000 {
+        text.push_str(&format!("m{i} [kg] = m{} + 1 kg\n", i - 1));
+    }
+    let mut app = app(&text, 80, 24, false);
+    keys(&mut app, &[KeyCode::End]);
+    let terminal = draw(&app);
+    let screen = terminal.backend().to_string();
+    assert!(screen.contains("m9999"), "{screen}");
+    assert!(screen.contains("10000 kg"), "{screen}");
+}
+
+#[test]
+fn tiny_and_odd_terminal_sizes_draw_without_panicking() {
+    for (width, height) in [
+        (1, 1),
+        (2, 3),
+        (10, 4),
+        (20, 6),
+        (40, 10),
+        (79, 23),
+        (119, 30),
+        (120, 30),
+        (300, 100),
+    ] {
+        for setup in [
+            &[][..],
+            &[KeyCode::Char('?')],
+            &[KeyCode::Char('!')],
+            &[KeyCode::Char('f')],
+            &[KeyCode::Enter],
+        ] {
+            let mut app = app(BROKEN, width, height, true);
+            keys(&mut app, &[KeyCode::Down, KeyCode::Down, KeyCode::Down]);
+            keys(&mut app, setup);
+            draw(&app);
+        }
+    }
+}
