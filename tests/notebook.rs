@@ -49,10 +49,9 @@ fn press_char(app: &mut App, c: char) -> Vec<Effect> {
     press(app, KeyCode::Char(c))
 }
 
-fn type_text(app: &mut App, text: &str) {
-    for c in text.chars() {
-        press_char(app, c);
-    }
+/// Types `text` a key at a time; returns the last key's effects.
+fn type_text(app: &mut App, text: &str) -> Vec<Effect> {
+    text.chars().fold(Vec::new(), |_, c| press_char(app, c))
 }
 
 fn clear_field(app: &mut App) {
@@ -224,7 +223,10 @@ fn editing_an_input_updates_its_dependents_while_typing_and_keeps_one_line_chang
     assert!(app.is_dirty());
     let effects = press(&mut app, KeyCode::Enter);
     assert!(matches!(app.mode(), Mode::Browse));
-    assert!(matches!(effects.as_slice(), [Effect::KeepRecovery(_)]));
+    assert!(matches!(
+        effects.as_slice(),
+        [Effect::KeepRecovery(_), Effect::Lint { .. }]
+    ));
     assert_eq!(app.history().undoable(), 1);
     let text = app.live().text();
     assert_eq!(
@@ -247,7 +249,64 @@ fn escape_puts_the_line_back_exactly() {
     assert_eq!(app.live().text(), SKID_LIFT);
     assert!(!app.is_dirty());
     assert_eq!(app.history().undoable(), 0);
-    assert_eq!(effects, vec![Effect::DropRecovery]);
+    assert_eq!(effects, vec![Effect::DropRecovery, app.lint_request()]);
+}
+
+/// Carries out every lint effect as the event loop does (there on a thread
+/// of its own) and hands the answer back; returns the other effects.
+fn with_lints(app: &mut App, effects: Vec<Effect>) -> Vec<Effect> {
+    let mut others = Vec::new();
+    for effect in effects {
+        match effect {
+            Effect::Lint { revision, text } => {
+                update(app, heftsheet::tui::app::lint(revision, text));
+            }
+            other => others.push(other),
+        }
+    }
+    others
+}
+
+#[test]
+fn audit_lints_show_once_linted_and_only_for_the_text_they_were_run_on() {
+    let mut app = app_for(SKID_LIFT);
+    let clean = app.live().n_findings();
+    select_cell(&mut app, "m_rig");
+    press_char(&mut app, '=');
+    clear_field(&mut app);
+    // A hand-typed pound-to-kilogram factor: a lint, not an evaluation error.
+    let typing = type_text(&mut app, "92.6 / 2.2046 * 1 k");
+    let stale = typing
+        .iter()
+        .find(|effect| matches!(effect, Effect::Lint { .. }))
+        .cloned()
+        .expect("every keystroke asks for lints");
+    press_char(&mut app, 'g');
+    let effects = press(&mut app, KeyCode::Enter);
+    assert_eq!(app.live().n_findings(), clean, "lints arrive later");
+    // An answer about an older text is dropped: its lines may have moved.
+    with_lints(&mut app, vec![stale]);
+    assert_eq!(app.live().n_findings(), clean);
+    with_lints(&mut app, effects);
+    let findings = app.live().findings();
+    let statement = app
+        .live()
+        .cell_statement(app.live().cell_named("m_rig").expect("m_rig"));
+    let lint = findings
+        .iter()
+        .find(|finding| finding.code == heftsheet::diag::Code::HandConversionFactor)
+        .unwrap_or_else(|| panic!("no hand-typed factor lint in {findings:#?}"));
+    assert_eq!(lint.statement, Some(statement));
+    assert_eq!(lint.line, app.live().statement_line(statement) + 1);
+    assert!(
+        app.live()
+            .statement_findings(statement)
+            .iter()
+            .any(|finding| finding.code == heftsheet::diag::Code::HandConversionFactor)
+    );
+    // The next edit drops them until the new text is linted.
+    press(&mut app, KeyCode::Char('<'));
+    assert_eq!(app.live().n_findings(), clean);
 }
 
 #[test]

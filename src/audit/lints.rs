@@ -292,6 +292,9 @@ fn hand_conversion_factor(context: &Context<'_>, used: &HandFactorUse<'_>) -> Di
             |v| v.dimension.describe(),
         )
     };
+    // Whether the factor converts a bare number: then dropping the factor
+    // alone would change the result, so the fix is to give the number its unit.
+    let mut converts_bare_number = false;
     let explanation = match repair {
         Repair::Remove => {
             // What is already a quantity the factor converts: the operand,
@@ -319,9 +322,12 @@ fn hand_conversion_factor(context: &Context<'_>, used: &HandFactorUse<'_>) -> Di
                 Some((part, dimension)) => format!(
                     "`{part}` is already {dimension}{units} and heft converts units exactly, so `{operation}` converts it a second time: the result is {off_by}"
                 ),
-                None => format!(
-                    "a bare number carries no unit, so heft cannot check this conversion; write the quantity with its unit and heft converts it exactly (as it stands the result is {off_by} if the units already convert)"
-                ),
+                None => {
+                    converts_bare_number = true;
+                    format!(
+                        "a bare number carries no unit, so heft cannot check this conversion; write the quantity with its unit and heft converts it exactly (as it stands the result is {off_by} if the units already convert)"
+                    )
+                }
             }
         }
         Repair::UseG0 => match current {
@@ -342,6 +348,9 @@ fn hand_conversion_factor(context: &Context<'_>, used: &HandFactorUse<'_>) -> Di
         ),
     };
     let help = match fixed_value {
+        _ if converts_bare_number => format!(
+            "give `{other}` its unit in place of the factor `{number}` (heft then converts it exactly); removing the factor alone would give `{fix}`, a different value"
+        ),
         Some(value) => format!("write `{fix}` (= {})", context.show_for(used.owner, *value)),
         None => format!("write `{fix}`"),
     };

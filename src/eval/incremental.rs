@@ -126,6 +126,18 @@ pub struct LiveSheet {
     visit_stamp: u32,
     /// Cells evaluated by the last edit.
     last_evaluated: usize,
+    /// The revision of the text: a new one, unique in the process, after
+    /// every edit and for every sheet opened.
+    revision: u64,
+    /// The lint findings of the text at this revision (none until they are
+    /// put in with [`LiveSheet::set_lints`]; every edit drops them).
+    lints: Vec<Finding>,
+}
+
+/// A revision number not given before in this process.
+fn next_revision() -> u64 {
+    static NEXT: std::sync::atomic::AtomicU64 = std::sync::atomic::AtomicU64::new(1);
+    NEXT.fetch_add(1, std::sync::atomic::Ordering::Relaxed)
 }
 
 /// Past this many unused arena bytes (and more than the text itself), the
@@ -183,6 +195,8 @@ impl LiveSheet {
             visited_checks: Vec::new(),
             visit_stamp: 0,
             last_evaluated: 0,
+            revision: next_revision(),
+            lints: Vec::new(),
         };
         live.sheet.header = header;
         live.relink(statements);
@@ -525,6 +539,7 @@ impl LiveSheet {
                 self.finding(diagnostic, statement)
             })
             .collect();
+        findings.extend(self.lints.iter().cloned());
         findings.sort_by(|a, b| {
             (a.line, a.column, a.code, &a.message).cmp(&(b.line, b.column, b.code, &b.message))
         });
@@ -553,6 +568,7 @@ impl LiveSheet {
                 }
             })
             .collect();
+        findings.extend(self.statement_lints(index).cloned());
         findings.sort_by_key(|finding| (finding.line, finding.column));
         findings
     }
@@ -563,19 +579,22 @@ impl LiveSheet {
         self.statement_diagnostics(index)
             .filter(|d| span.start() <= d.span.start() && d.span.start() <= span.end())
             .map(|diagnostic| diagnostic.severity)
+            .chain(self.statement_lints(index).map(|finding| finding.severity))
             .max()
     }
 
     /// Number of findings in the whole sheet.
     pub fn n_findings(&self) -> usize {
-        self.all_diagnostics().count()
+        self.all_diagnostics().count() + self.lints.len()
     }
 
     /// Number of findings of `severity` in the whole sheet.
     pub fn count(&self, severity: Severity) -> usize {
+        let lints = self.lints.iter().filter(|f| f.severity == severity);
         self.all_diagnostics()
             .filter(|diagnostic| diagnostic.severity == severity)
             .count()
+            + lints.count()
     }
 
     /// Diagnostics that may lie in statement `index`: the sheet's (parse and
@@ -664,7 +683,7 @@ impl LiveSheet {
         let old_statement = self.document.statement_at_line(line);
         let span = self.document.append(text);
         let (was, is) = self.document.set_line(line, span);
-        self.last_evaluated = 0;
+        self.begin_edit();
         if self.needs_reopen() || syntax::is_block_line(text) {
             self.reopen();
             return Ok(());
@@ -700,7 +719,7 @@ impl LiveSheet {
         self.document.check_insert(at, text)?;
         let span = self.document.append(text);
         let is = self.document.insert_line(at, span);
-        self.last_evaluated = 0;
+        self.begin_edit();
         if self.needs_reopen() || syntax::is_block_line(text) {
             self.reopen();
         } else if is {
@@ -719,7 +738,7 @@ impl LiveSheet {
         self.document.check_edit(line, None)?;
         let old_statement = self.document.statement_at_line(line);
         let was = self.document.remove_line(line);
-        self.last_evaluated = 0;
+        self.begin_edit();
         if self.needs_reopen() {
             self.reopen();
         } else if let (true, Some(index)) = (was, old_statement) {
@@ -731,9 +750,63 @@ impl LiveSheet {
         Ok(())
     }
 
-    /// Rebuilds the arena from the text (every span is then fresh).
+    /// Rebuilds the arena from the text (every span is then fresh). The
+    /// text is unchanged, so its lint findings stay.
     pub fn compact(&mut self) {
+        let lints = std::mem::take(&mut self.lints);
         self.reopen();
+        self.lints = lints;
+    }
+
+    /// Starts an edit: a new revision, whose lint findings are not known yet.
+    fn begin_edit(&mut self) {
+        self.last_evaluated = 0;
+        self.revision = next_revision();
+        self.lints.clear();
+    }
+
+    /// The revision of the text, unique in the process: answers about an
+    /// older text (or another sheet's) are told apart by it.
+    pub fn revision(&self) -> u64 {
+        self.revision
+    }
+
+    /// Puts in the lint findings (`audit::lint` over a fresh evaluation) of
+    /// `text`, the text at `revision`. Findings of an older revision are
+    /// dropped, since lines may have moved; returns whether they were taken.
+    pub fn set_lints(&mut self, revision: u64, text: &str, lints: &[Diagnostic]) -> bool {
+        if revision != self.revision {
+            return false;
+        }
+        let lines = LineIndex::new(text);
+        self.lints = lints
+            .iter()
+            .map(|diagnostic| {
+                let place = lines.line_column(text, diagnostic.span.start());
+                let line = place.line - 1;
+                let statement = self
+                    .document
+                    .statement_at_line(line)
+                    .or_else(|| self.document.statements_before(line + 1).checked_sub(1));
+                Finding {
+                    severity: diagnostic.severity,
+                    code: diagnostic.code,
+                    line: place.line,
+                    column: place.column,
+                    message: diagnostic.message.clone(),
+                    help: diagnostic.help.clone(),
+                    statement,
+                }
+            })
+            .collect();
+        true
+    }
+
+    /// The lint findings in statement `index`.
+    fn statement_lints(&self, index: usize) -> impl Iterator<Item = &Finding> {
+        self.lints
+            .iter()
+            .filter(move |finding| finding.statement == Some(index))
     }
 
     fn compact_if_worthwhile(&mut self) {
@@ -755,7 +828,9 @@ impl LiveSheet {
 
     fn reopen(&mut self) {
         let text = self.document.text();
+        let revision = self.revision;
         *self = LiveSheet::open(&text);
+        self.revision = revision;
     }
 
     /// Puts `statement` in place of statement `index`, recomputing as little

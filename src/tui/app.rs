@@ -36,6 +36,15 @@ pub enum Message {
     SaveFailed(String),
     /// The recovery copy could not be written.
     RecoveryFailed(String),
+    /// The lint findings of the text at `revision` (see [`lint`]).
+    Linted {
+        /// The revision linted.
+        revision: u64,
+        /// Its text, which the findings' spans point into.
+        text: String,
+        /// The findings.
+        lints: Vec<crate::diag::Diagnostic>,
+    },
 }
 
 /// Something for the event loop to do.
@@ -55,6 +64,15 @@ pub enum Effect {
     KeepRecovery(String),
     /// Remove the recovery copy.
     DropRecovery,
+    /// Run the audit lints over `text`, the text at `revision`, and answer
+    /// with [`Message::Linted`] (see [`lint`]). The event loop runs them
+    /// off the drawing thread, so typing never waits for them.
+    Lint {
+        /// The revision of the text.
+        revision: u64,
+        /// The whole text.
+        text: String,
+    },
     /// Leave the notebook.
     Quit,
 }
@@ -656,12 +674,22 @@ impl App {
         self.recovery_effects()
     }
 
-    /// Keeps the recovery copy in step with the text.
+    /// After an edit: keeps the recovery copy in step with the text and
+    /// asks for the new text's lint findings.
     fn recovery_effects(&self) -> Vec<Effect> {
-        if self.is_dirty() {
-            vec![Effect::KeepRecovery(self.live.text())]
+        let recovery = if self.is_dirty() {
+            Effect::KeepRecovery(self.live.text())
         } else {
-            vec![Effect::DropRecovery]
+            Effect::DropRecovery
+        };
+        vec![recovery, self.lint_request()]
+    }
+
+    /// Asks for the lint findings of the text as it is now.
+    pub fn lint_request(&self) -> Effect {
+        Effect::Lint {
+            revision: self.live.revision(),
+            text: self.live.text(),
         }
     }
 
@@ -917,6 +945,7 @@ impl App {
             .is_some_and(|state| state.value);
         if changed {
             self.apply_typing();
+            return vec![self.lint_request()];
         }
         Vec::new()
     }
@@ -1153,6 +1182,24 @@ pub fn update(app: &mut App, message: Message) -> Vec<Effect> {
             app.say(error);
         }
         Message::RecoveryFailed(error) => app.say(error),
+        Message::Linted {
+            revision,
+            text,
+            lints,
+        } => {
+            app.live.set_lints(revision, &text, &lints);
+        }
     }
     Vec::new()
+}
+
+/// Carries out [`Effect::Lint`]: the audit lints (`heft audit`'s, and
+/// `heft check`'s warnings) over a fresh evaluation of `text`.
+pub fn lint(revision: u64, text: String) -> Message {
+    let lints = crate::audit::lint(&crate::eval::evaluate_source(&text));
+    Message::Linted {
+        revision,
+        text,
+        lints,
+    }
 }

@@ -3,6 +3,8 @@
 
 use std::io::{self, IsTerminal};
 use std::path::Path;
+use std::sync::mpsc::{self, Receiver, Sender};
+use std::time::Duration;
 
 use ratatui::DefaultTerminal;
 use ratatui::crossterm::event::{
@@ -11,7 +13,7 @@ use ratatui::crossterm::event::{
 use ratatui::crossterm::execute;
 use ratatui::layout::Rect;
 
-use super::app::{App, Effect, Message, update};
+use super::app::{self, App, Effect, Message, update};
 use super::files::{self, SaveError};
 use super::strings;
 use super::theme::Theme;
@@ -38,26 +40,48 @@ pub fn run(path: &Path, colour: bool) -> io::Result<()> {
         Rect::new(0, 0, size.width, size.height),
         Theme::new(colour),
     );
-    let outcome = event_loop(&mut terminal, &mut app, path);
+    let linter = Linter::start();
+    if let Effect::Lint { revision, text } = app.lint_request() {
+        linter.request(revision, text);
+    }
+    let outcome = event_loop(&mut terminal, &mut app, path, &linter);
     let _ = execute!(io::stdout(), DisableMouseCapture);
     ratatui::try_restore()?;
     outcome
 }
 
-fn event_loop(terminal: &mut DefaultTerminal, app: &mut App, path: &Path) -> io::Result<()> {
+/// How long the loop waits for a terminal event before it looks for lint
+/// findings.
+const LINT_POLL: Duration = Duration::from_millis(40);
+
+fn event_loop(
+    terminal: &mut DefaultTerminal,
+    app: &mut App,
+    path: &Path,
+    linter: &Linter,
+) -> io::Result<()> {
     loop {
         terminal.draw(|frame| view(app, frame))?;
-        let message = match event::read()? {
-            Event::Key(key) if key.kind != KeyEventKind::Release => Message::Key(key),
-            Event::Mouse(mouse) => Message::Mouse(mouse),
-            Event::Resize(width, height) => Message::Resize(width, height),
-            _ => continue,
+        let message = loop {
+            if event::poll(LINT_POLL)? {
+                match event::read()? {
+                    Event::Key(key) if key.kind != KeyEventKind::Release => {
+                        break Message::Key(key);
+                    }
+                    Event::Mouse(mouse) => break Message::Mouse(mouse),
+                    Event::Resize(width, height) => break Message::Resize(width, height),
+                    _ => continue,
+                }
+            }
+            if let Ok(linted) = linter.answers.try_recv() {
+                break linted;
+            }
         };
         let mut pending = update(app, message);
         while !pending.is_empty() {
             let mut next = Vec::new();
             for effect in pending {
-                match perform(effect, path) {
+                match perform(effect, path, linter) {
                     Performed::Quit => return Ok(()),
                     Performed::Answer(message) => next.extend(update(app, message)),
                     Performed::Done => {}
@@ -75,8 +99,12 @@ enum Performed {
     Quit,
 }
 
-fn perform(effect: Effect, path: &Path) -> Performed {
+fn perform(effect: Effect, path: &Path, linter: &Linter) -> Performed {
     match effect {
+        Effect::Lint { revision, text } => {
+            linter.request(revision, text);
+            Performed::Done
+        }
         Effect::Save {
             text,
             expected,
@@ -98,5 +126,37 @@ fn recovery_outcome(path: &Path, outcome: io::Result<()>) -> Performed {
         Err(error) => Performed::Answer(Message::RecoveryFailed(strings::recovery_failed(
             path, &error,
         ))),
+    }
+}
+
+/// Runs the lints on a thread of its own, so that typing never waits for
+/// them; of the requests waiting, only the newest text is linted.
+struct Linter {
+    requests: Sender<(u64, String)>,
+    answers: Receiver<Message>,
+}
+
+impl Linter {
+    fn start() -> Linter {
+        let (requests, waiting) = mpsc::channel::<(u64, String)>();
+        let (answer, answers) = mpsc::channel();
+        std::thread::spawn(move || {
+            while let Ok(mut request) = waiting.recv() {
+                while let Ok(newer) = waiting.try_recv() {
+                    request = newer;
+                }
+                let (revision, text) = request;
+                if answer.send(app::lint(revision, text)).is_err() {
+                    break;
+                }
+            }
+        });
+        Linter { requests, answers }
+    }
+
+    /// Asks for the lint findings of `text` at `revision`. If the thread
+    /// has gone, the notebook carries on without lint findings.
+    fn request(&self, revision: u64, text: String) {
+        let _ = self.requests.send((revision, text));
     }
 }
