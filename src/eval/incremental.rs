@@ -1113,11 +1113,13 @@ impl LiveSheet {
         }
 
         let arena = self.document.arena();
-        let mut evaluator = Evaluator::new(&self.sheet, arena);
-        // The sheet's own findings are kept in `self.sheet.diagnostics`.
-        evaluator.diagnostics.clear();
-        evaluator.values = std::mem::take(&mut self.values);
-        evaluator.statuses = std::mem::take(&mut self.statuses);
+        let mut evaluator = Evaluator::resume(
+            &self.sheet,
+            arena,
+            std::mem::take(&mut self.values),
+            std::mem::take(&mut self.statuses),
+            std::mem::take(&mut self.spreads),
+        );
         for &id in &affected {
             evaluator.values[id] = None;
             evaluator.evaluate_cell(id);
@@ -1132,6 +1134,7 @@ impl LiveSheet {
         }
         self.values = evaluator.values;
         self.statuses = evaluator.statuses;
+        self.spreads = evaluator.spreads;
         self.last_evaluated = affected.len();
     }
 }

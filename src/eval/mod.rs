@@ -145,6 +145,29 @@ struct Evaluator<'a> {
 
 impl<'a> Evaluator<'a> {
     fn new(sheet: &'a Sheet, source: &'a str) -> Self {
+        let n_cells = sheet.cells.len();
+        let mut evaluator = Evaluator::resume(
+            sheet,
+            source,
+            vec![None; n_cells],
+            vec![CellStatus::Error; n_cells],
+            vec![None; n_cells],
+        );
+        evaluator.diagnostics = sheet.diagnostics.clone();
+        evaluator
+    }
+
+    /// An evaluator that carries on from earlier results, one per cell
+    /// (the notebook's): nothing per cell is allocated, so re-evaluating a
+    /// few cells of a large sheet costs only those cells. Starts with no
+    /// diagnostics.
+    fn resume(
+        sheet: &'a Sheet,
+        source: &'a str,
+        values: Vec<Option<Value>>,
+        statuses: Vec<CellStatus>,
+        spreads: Vec<Option<Spread>>,
+    ) -> Self {
         Evaluator {
             sheet,
             source,
@@ -154,12 +177,12 @@ impl<'a> Evaluator<'a> {
                 system: sheet.header.display,
                 sig_figs: sheet.header.sig_figs,
             },
-            values: vec![None; sheet.cells.len()],
-            statuses: vec![CellStatus::Error; sheet.cells.len()],
-            spreads: vec![None; sheet.cells.len()],
+            values,
+            statuses,
+            spreads,
             overrides: FxHashMap::default(),
             solves: Vec::new(),
-            diagnostics: sheet.diagnostics.clone(),
+            diagnostics: Vec::new(),
             runs: Vec::new(),
             probe_range: Cell::new(None),
             probe_values: RefCell::new(Vec::new()),
