@@ -5,38 +5,13 @@
 //! Precision and recall over the whole corpus are printed and must be 100 %.
 //! The scenarios are invented.
 
+mod common;
+
 use std::collections::BTreeMap;
 use std::fs;
-use std::path::{Path, PathBuf};
 
 use heftsheet::audit::check_source;
 use heftsheet::diag::{Code, Severity};
-
-fn sheets_in(dir: &str) -> Vec<PathBuf> {
-    let root = Path::new(env!("CARGO_MANIFEST_DIR")).join(dir);
-    let mut paths: Vec<PathBuf> = fs::read_dir(&root)
-        .unwrap_or_else(|e| panic!("{}: {e}", root.display()))
-        .filter_map(|entry| entry.ok().map(|e| e.path()))
-        .filter(|path| path.extension().is_some_and(|ext| ext == "heft"))
-        .collect();
-    paths.sort();
-    paths
-}
-
-/// (line, code) → how many times, from `// expect:` annotations.
-fn expected(source: &str) -> BTreeMap<(usize, String), usize> {
-    let mut expected = BTreeMap::new();
-    for (index, line) in source.lines().enumerate() {
-        if let Some(at) = line.find("// expect:") {
-            for code in line[at + "// expect:".len()..].split(',') {
-                *expected
-                    .entry((index + 1, code.trim().to_string()))
-                    .or_insert(0) += 1;
-            }
-        }
-    }
-    expected
-}
 
 /// (line, code) → how many times, as `heft check` reports them.
 fn produced(source: &str) -> BTreeMap<(usize, String), usize> {
@@ -80,8 +55,8 @@ const LINTS: [Code; 7] = [
 
 #[test]
 fn the_corpus_is_found_with_full_precision_and_recall() {
-    let bad = sheets_in("tests/sheets/audit/bad");
-    let clean = sheets_in("tests/sheets/audit/clean");
+    let bad = common::sheets_in("tests/sheets/audit/bad");
+    let clean = common::sheets_in("tests/sheets/audit/clean");
     assert!(bad.len() >= 25, "{} mistaken sheets, want 25", bad.len());
     assert!(clean.len() >= 10, "{} clean sheets, want 10", clean.len());
     let (mut true_positives, mut false_positives, mut false_negatives) = (0, 0, 0);
@@ -89,7 +64,7 @@ fn the_corpus_is_found_with_full_precision_and_recall() {
     let mut failures = Vec::new();
     for path in bad.iter().chain(&clean) {
         let source = fs::read_to_string(path).unwrap_or_default();
-        let (want, got) = (expected(&source), produced(&source));
+        let (want, got) = (common::expected_findings(&source), produced(&source));
         let (tp, fp, fn_) = score(&want, &got);
         true_positives += tp;
         false_positives += fp;
@@ -146,9 +121,13 @@ fn the_corpus_is_found_with_full_precision_and_recall() {
 #[test]
 fn every_lint_is_exercised_by_the_mistaken_sheets() {
     let mut seen = std::collections::BTreeSet::new();
-    for path in sheets_in("tests/sheets/audit/bad") {
+    for path in common::sheets_in("tests/sheets/audit/bad") {
         let source = fs::read_to_string(&path).unwrap_or_default();
-        seen.extend(expected(&source).into_keys().map(|(_, code)| code));
+        seen.extend(
+            common::expected_findings(&source)
+                .into_keys()
+                .map(|(_, code)| code),
+        );
     }
     for code in LINTS {
         assert!(
@@ -160,9 +139,9 @@ fn every_lint_is_exercised_by_the_mistaken_sheets() {
 
 #[test]
 fn clean_sheets_and_demo_sheets_give_no_warning() {
-    let mut paths = sheets_in("tests/sheets/audit/clean");
-    paths.extend(sheets_in("tests/sheets/ok"));
-    paths.extend(sheets_in("sheets"));
+    let mut paths = common::sheets_in("tests/sheets/audit/clean");
+    paths.extend(common::sheets_in("tests/sheets/ok"));
+    paths.extend(common::sheets_in("sheets"));
     for path in paths {
         let source = fs::read_to_string(&path).unwrap_or_default();
         let evaluated = check_source(&source);
@@ -178,7 +157,7 @@ fn clean_sheets_and_demo_sheets_give_no_warning() {
 
 #[test]
 fn clean_sheets_mix_si_and_fps_units() {
-    for path in sheets_in("tests/sheets/audit/clean") {
+    for path in common::sheets_in("tests/sheets/audit/clean") {
         let source = fs::read_to_string(&path).unwrap_or_default();
         let audit = heftsheet::audit::conversion_audit(&check_source(&source));
         let systems: Vec<&str> = audit.systems.iter().map(|s| s.system.label()).collect();

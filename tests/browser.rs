@@ -4,6 +4,8 @@
 //! `pdftotext` (Debian: `apt-get install chromium poppler-utils`; `.ci/run`
 //! installs them).
 
+mod common;
+
 use std::path::{Path, PathBuf};
 use std::process::{Command, Stdio};
 use std::time::{Duration, Instant};
@@ -103,20 +105,9 @@ fn expected_texts(document: &Document) -> Vec<String> {
     texts.into_iter().map(|text| collapse(&text)).collect()
 }
 
-fn demo_sheets() -> Vec<PathBuf> {
-    let dir = Path::new(env!("CARGO_MANIFEST_DIR")).join("sheets");
-    let mut paths: Vec<PathBuf> = std::fs::read_dir(&dir)
-        .expect("sheets/")
-        .filter_map(|entry| entry.ok().map(|e| e.path()))
-        .filter(|path| path.extension().is_some_and(|ext| ext == "heft"))
-        .collect();
-    paths.sort();
-    paths
-}
-
 #[test]
 fn printed_demo_reports_show_every_result_and_check() {
-    let paths = demo_sheets();
+    let paths = common::sheets_in("sheets");
     assert!(paths.len() >= 3);
     for path in paths {
         let name = path

@@ -3,7 +3,7 @@
 
 mod common;
 
-use std::path::{Path, PathBuf};
+use std::path::Path;
 
 use heftsheet::eval::evaluate_source;
 use heftsheet::report::model::{Block, Document};
@@ -15,17 +15,6 @@ fn read(relative: &str) -> String {
         .unwrap_or_else(|error| panic!("{relative}: {error}"))
 }
 
-fn demo_sheets() -> Vec<PathBuf> {
-    let dir = Path::new(env!("CARGO_MANIFEST_DIR")).join("sheets");
-    let mut paths: Vec<PathBuf> = std::fs::read_dir(&dir)
-        .expect("sheets/")
-        .filter_map(|entry| entry.ok().map(|e| e.path()))
-        .filter(|path| path.extension().is_some_and(|ext| ext == "heft"))
-        .collect();
-    paths.sort();
-    paths
-}
-
 fn document_of(source: &str) -> Document {
     let evaluated = evaluate_source(source);
     report::document(&evaluated, &Review::of(&evaluated))
@@ -33,7 +22,7 @@ fn document_of(source: &str) -> Document {
 
 #[test]
 fn markdown_reports_of_the_demo_sheets() {
-    let paths = demo_sheets();
+    let paths = common::sheets_in("sheets");
     assert!(paths.len() >= 3, "expected the three demo sheets");
     for path in paths {
         let source = std::fs::read_to_string(&path).expect("demo sheet");

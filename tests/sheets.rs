@@ -7,38 +7,9 @@ mod common;
 
 use std::collections::BTreeMap;
 use std::fs;
-use std::path::{Path, PathBuf};
 
 use heftsheet::diag::Severity;
 use heftsheet::eval::evaluate_source;
-
-fn sheets_in(dir: &str) -> Vec<PathBuf> {
-    let root = Path::new(env!("CARGO_MANIFEST_DIR")).join(dir);
-    let mut paths: Vec<PathBuf> = fs::read_dir(&root)
-        .unwrap_or_else(|e| panic!("{}: {e}", root.display()))
-        .filter_map(|entry| entry.ok().map(|e| e.path()))
-        .filter(|path| path.extension().is_some_and(|ext| ext == "heft"))
-        .collect();
-    paths.sort();
-    paths
-}
-
-/// (line, code) pairs the sheet must produce, from its annotations.
-fn expectations(source: &str) -> BTreeMap<(usize, String), usize> {
-    let mut expected = BTreeMap::new();
-    for (index, line) in source.lines().enumerate() {
-        for marker in ["// expect:", "# expect:"] {
-            if let Some(at) = line.find(marker) {
-                for code in line[at + marker.len()..].split(',') {
-                    *expected
-                        .entry((index + 1, code.trim().to_string()))
-                        .or_insert(0) += 1;
-                }
-            }
-        }
-    }
-    expected
-}
 
 fn produced(source: &str) -> BTreeMap<(usize, String), usize> {
     found_at_least(source, Severity::Info)
@@ -73,8 +44,8 @@ fn findings(
 
 #[test]
 fn clean_sheets_have_no_findings() {
-    let mut paths = sheets_in("tests/sheets/ok");
-    paths.extend(sheets_in("sheets"));
+    let mut paths = common::sheets_in("tests/sheets/ok");
+    paths.extend(common::sheets_in("sheets"));
     assert!(
         paths.len() >= 10,
         "expected at least 10 clean sheets, found {}",
@@ -93,12 +64,12 @@ fn clean_sheets_have_no_findings() {
 
 #[test]
 fn broken_sheets_give_exactly_their_annotated_codes() {
-    let paths = sheets_in("tests/sheets/err");
+    let paths = common::sheets_in("tests/sheets/err");
     assert!(!paths.is_empty());
     let mut failures = Vec::new();
     for path in &paths {
         let source = fs::read_to_string(path).unwrap_or_default();
-        let expected = expectations(&source);
+        let expected = common::expected_findings(&source);
         assert!(
             !expected.is_empty(),
             "{} has no `expect:` annotation",
@@ -119,11 +90,15 @@ fn broken_sheets_give_exactly_their_annotated_codes() {
 fn every_error_code_is_exercised_by_the_corpus() {
     let mut seen = std::collections::BTreeSet::new();
     // Lint codes are exercised by the audit corpus (tests/audit_corpus.rs).
-    let mut paths = sheets_in("tests/sheets/err");
-    paths.extend(sheets_in("tests/sheets/audit/bad"));
+    let mut paths = common::sheets_in("tests/sheets/err");
+    paths.extend(common::sheets_in("tests/sheets/audit/bad"));
     for path in paths {
         let source = fs::read_to_string(&path).unwrap_or_default();
-        seen.extend(expectations(&source).into_keys().map(|(_, code)| code));
+        seen.extend(
+            common::expected_findings(&source)
+                .into_keys()
+                .map(|(_, code)| code),
+        );
     }
     for code in heftsheet::diag::Code::ALL {
         if code == heftsheet::diag::Code::EncodingError {

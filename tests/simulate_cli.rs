@@ -2,21 +2,9 @@
 //! in the text report, the `runs` of the JSON, `--csv` of every step and
 //! `--svg` of the plot.
 
-use std::process::Command;
+mod common;
 
-fn heft(args: &[&str]) -> (i32, String, String) {
-    let output = Command::new(env!("CARGO_BIN_EXE_heft"))
-        .args(args)
-        .current_dir(env!("CARGO_MANIFEST_DIR"))
-        .env("NO_COLOR", "1")
-        .output()
-        .expect("the heft binary runs");
-    (
-        output.status.code().unwrap_or(-1),
-        String::from_utf8_lossy(&output.stdout).into_owned(),
-        String::from_utf8_lossy(&output.stderr).into_owned(),
-    )
-}
+use common::heft;
 
 const DROP: &str = "sheets/package_drop.heft";
 

@@ -15,8 +15,10 @@
 
 use super::{CellResult, CellStatus, CheckResult, Evaluator, Spread, cases};
 use crate::diag::{Code, Diagnostic, Severity};
-use crate::sheet::edit::{self, Document, resolve_names};
-use crate::sheet::{CellId, CellOrigin, Header, Item, Node, Sheet, read_header};
+use crate::sheet::edit::{self, Document};
+use crate::sheet::{
+    CellId, CellOrigin, Header, Item, MAX_SUGGESTIONS, Node, Sheet, read_header, resolve_names,
+};
 use crate::syntax::ast::{
     BinaryOp, CellDef, CheckDef, Expr, ExprKind, Statement, StatementKind, Target,
 };
@@ -912,7 +914,7 @@ impl LiveSheet {
             .iter()
             .filter(|d| d.code == Code::UndefinedName && !within(d.span, old_span))
             .count();
-        existing + new_undefined <= edit::MAX_SUGGESTIONS
+        existing + new_undefined <= MAX_SUGGESTIONS
     }
 
     /// A cell keeps its name and gets a new formula, unit or description:
@@ -934,12 +936,14 @@ impl LiveSheet {
         let mut uses = Vec::new();
         let mut diagnostics: Vec<Diagnostic> = parse_diagnostic.into_iter().cloned().collect();
         let before = diagnostics.len();
+        // `undefined_names_fit` checks the sheet's did-you-mean budget after.
+        let mut suggestions_left = MAX_SUGGESTIONS;
         let ok = resolve_names(
             [&mut new.expr],
             &self.sheet.names,
             &mut uses,
             &mut diagnostics,
-            true,
+            &mut suggestions_left,
         );
         if !self.undefined_names_fit(old_span, diagnostics.len() - before)
             || uses.iter().any(|&used| self.rank[used] >= self.rank[id])
@@ -972,12 +976,14 @@ impl LiveSheet {
         let mut uses = Vec::new();
         let mut diagnostics: Vec<Diagnostic> = parse_diagnostic.into_iter().cloned().collect();
         let before = diagnostics.len();
+        // `undefined_names_fit` checks the sheet's did-you-mean budget after.
+        let mut suggestions_left = MAX_SUGGESTIONS;
         let ok = resolve_names(
             [&mut new.lhs, &mut new.rhs],
             &self.sheet.names,
             &mut uses,
             &mut diagnostics,
-            true,
+            &mut suggestions_left,
         );
         if !self.undefined_names_fit(old_span, diagnostics.len() - before) {
             return Change::Relink;

@@ -3,6 +3,7 @@
 //! would serve with font handling and more dependencies than it needs; here
 //! the output is plain, byte-identical across machines, and easy to embed.
 
+use crate::report::html::escape;
 use std::fmt::Write as _;
 
 /// Width of the drawing, in SVG user units (pixels).
@@ -77,22 +78,6 @@ pub fn nice_ticks(low: f64, high: f64, target: usize) -> Vec<f64> {
             if tick.abs() < step * 1e-9 { 0.0 } else { tick }
         })
         .collect()
-}
-
-/// Escapes text for SVG content and attributes.
-fn escape(text: &str) -> String {
-    let mut out = String::with_capacity(text.len());
-    for c in text.chars() {
-        match c {
-            '&' => out.push_str("&amp;"),
-            '<' => out.push_str("&lt;"),
-            '>' => out.push_str("&gt;"),
-            '"' => out.push_str("&quot;"),
-            '\'' => out.push_str("&#39;"),
-            c => out.push(c),
-        }
-    }
-    out
 }
 
 /// A tick label: short, without float noise.

@@ -14,7 +14,7 @@ use super::model::{
     Tone,
 };
 
-/// Escapes text for HTML element content and quoted attribute values.
+/// Escapes text for HTML (and SVG) element content and quoted attribute values.
 pub fn escape(text: &str) -> String {
     let mut out = String::with_capacity(text.len() + 8);
     for c in text.chars() {

@@ -11,12 +11,8 @@
 //! Hand-written rather than a rope crate: heft needs stable offsets for its
 //! syntax tree, not fast edits inside long lines (a line is one statement).
 
-use crate::diag::{Code, Diagnostic};
-use crate::syntax::ast::{CellDef, Expr, NameRef, Statement};
+use crate::syntax::ast::{CellDef, Statement};
 use crate::syntax::{self, HeaderBlock, MAX_SOURCE_LEN, Span};
-use crate::units;
-
-use super::{CellId, HashMap, did_you_mean};
 
 /// How a line ends in the file.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -542,51 +538,6 @@ fn bracket_around(line: &str, start: usize, end: usize) -> (usize, usize) {
 /// A description as written between quotes: `\` and `"` escaped.
 pub fn escape_description(text: &str) -> String {
     text.replace('\\', "\\\\").replace('"', "\\\"")
-}
-
-/// How many did-you-mean searches a sheet gets (as in [`super::Sheet::link`]).
-pub(crate) const MAX_SUGGESTIONS: usize = super::MAX_SUGGESTIONS;
-
-/// The names of `exprs` resolved against `names` and the constants, as
-/// linking does: targets filled, the cells used (no repeats, first-use
-/// order), and a diagnostic for each undefined name (with a did-you-mean
-/// while `suggestions` lasts). Returns whether every name was defined.
-///
-/// Mirrors the resolution in [`super::Sheet::link`]; `tests/live.rs` checks
-/// that a sheet edited this way evaluates exactly like one linked whole.
-pub(crate) fn resolve_names<'e>(
-    exprs: impl IntoIterator<Item = &'e mut Expr>,
-    names: &HashMap<String, CellId>,
-    uses: &mut Vec<CellId>,
-    diagnostics: &mut Vec<Diagnostic>,
-    suggestions: bool,
-) -> bool {
-    let mut ok = true;
-    for expr in exprs {
-        expr.walk_names_mut(&mut |name: &mut NameRef, span| {
-            if let Some(&id) = names.get(&*name.text) {
-                name.target = crate::syntax::ast::Target::Cell(id);
-                if !uses.contains(&id) {
-                    uses.push(id);
-                }
-            } else if let Some(index) = units::CONSTANTS.iter().position(|c| *c.name == *name.text)
-            {
-                name.target = crate::syntax::ast::Target::Constant(index);
-            } else {
-                ok = false;
-                let mut diagnostic = Diagnostic::error(
-                    Code::UndefinedName,
-                    span,
-                    format!("`{}` is not defined", name.text),
-                );
-                if suggestions && let Some(similar) = did_you_mean(&name.text, names) {
-                    diagnostic = diagnostic.with_help(format!("did you mean `{similar}`?"));
-                }
-                diagnostics.push(diagnostic);
-            }
-        });
-    }
-    ok
 }
 
 #[cfg(test)]

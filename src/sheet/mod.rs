@@ -150,7 +150,7 @@ pub struct Sheet {
 }
 
 /// How many did-you-mean searches a sheet gets; each scans every name.
-const MAX_SUGGESTIONS: usize = 64;
+pub(crate) const MAX_SUGGESTIONS: usize = 64;
 
 impl Sheet {
     /// Parses and links `source`. Never fails: problems become diagnostics.
@@ -249,36 +249,7 @@ impl Sheet {
         let mut resolve_uses = |exprs: &mut dyn Iterator<Item = &mut Expr>,
                                 diagnostics: &mut Vec<Diagnostic>| {
             let mut uses = Vec::new();
-            let mut ok = true;
-            for expr in exprs {
-                expr.walk_names_mut(&mut |name, span| {
-                    if let Some(&id) = names.get(&*name.text) {
-                        name.target = Target::Cell(id);
-                        if !uses.contains(&id) {
-                            uses.push(id);
-                        }
-                    } else if let Some(index) =
-                        units::CONSTANTS.iter().position(|c| *c.name == *name.text)
-                    {
-                        name.target = Target::Constant(index);
-                    } else {
-                        ok = false;
-                        let mut diagnostic = Diagnostic::error(
-                            Code::UndefinedName,
-                            span,
-                            format!("`{}` is not defined", name.text),
-                        );
-                        if suggestions_left > 0 {
-                            suggestions_left -= 1;
-                            if let Some(similar) = did_you_mean(&name.text, &names) {
-                                diagnostic =
-                                    diagnostic.with_help(format!("did you mean `{similar}`?"));
-                            }
-                        }
-                        diagnostics.push(diagnostic);
-                    }
-                });
-            }
+            let ok = resolve_names(exprs, &names, &mut uses, diagnostics, &mut suggestions_left);
             (uses, ok)
         };
 
@@ -720,4 +691,47 @@ fn did_you_mean(name: &str, names: &HashMap<String, CellId>) -> Option<String> {
         .filter(|(score, _)| *score >= 0.85)
         .max_by(|a, b| a.0.total_cmp(&b.0).then_with(|| b.1.cmp(a.1)))
         .map(|(_, candidate)| candidate.to_string())
+}
+
+/// Resolves the names of `exprs` against `names` and the constants: fills
+/// their targets, adds the cells used to `uses` (no repeats, first-use
+/// order) and gives a diagnostic for each undefined name, with a
+/// did-you-mean while `suggestions_left` lasts. Returns whether every name
+/// was defined. Linking and the notebook's one-line edits both use it.
+pub(crate) fn resolve_names<'e>(
+    exprs: impl IntoIterator<Item = &'e mut Expr>,
+    names: &HashMap<String, CellId>,
+    uses: &mut Vec<CellId>,
+    diagnostics: &mut Vec<Diagnostic>,
+    suggestions_left: &mut usize,
+) -> bool {
+    let mut ok = true;
+    for expr in exprs {
+        expr.walk_names_mut(&mut |name, span| {
+            if let Some(&id) = names.get(&*name.text) {
+                name.target = Target::Cell(id);
+                if !uses.contains(&id) {
+                    uses.push(id);
+                }
+            } else if let Some(index) = units::CONSTANTS.iter().position(|c| *c.name == *name.text)
+            {
+                name.target = Target::Constant(index);
+            } else {
+                ok = false;
+                let mut diagnostic = Diagnostic::error(
+                    Code::UndefinedName,
+                    span,
+                    format!("`{}` is not defined", name.text),
+                );
+                if *suggestions_left > 0 {
+                    *suggestions_left -= 1;
+                    if let Some(similar) = did_you_mean(&name.text, names) {
+                        diagnostic = diagnostic.with_help(format!("did you mean `{similar}`?"));
+                    }
+                }
+                diagnostics.push(diagnostic);
+            }
+        });
+    }
+    ok
 }

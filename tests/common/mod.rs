@@ -85,3 +85,33 @@ pub fn heft(args: &[&str]) -> (i32, String, String) {
         String::from_utf8_lossy(&output.stderr).into_owned(),
     )
 }
+
+/// The `.heft` files in `dir` (relative to the crate), sorted.
+pub fn sheets_in(dir: &str) -> Vec<std::path::PathBuf> {
+    let root = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join(dir);
+    let mut paths: Vec<std::path::PathBuf> = std::fs::read_dir(&root)
+        .unwrap_or_else(|e| panic!("{}: {e}", root.display()))
+        .filter_map(|entry| entry.ok().map(|e| e.path()))
+        .filter(|path| path.extension().is_some_and(|ext| ext == "heft"))
+        .collect();
+    paths.sort();
+    paths
+}
+
+/// (line, code) → how many times, from the sheet's `// expect: code, …`
+/// annotations (`# expect:` in the TOML header).
+pub fn expected_findings(source: &str) -> std::collections::BTreeMap<(usize, String), usize> {
+    let mut expected = std::collections::BTreeMap::new();
+    for (index, line) in source.lines().enumerate() {
+        for marker in ["// expect:", "# expect:"] {
+            if let Some(at) = line.find(marker) {
+                for code in line[at + marker.len()..].split(',') {
+                    *expected
+                        .entry((index + 1, code.trim().to_string()))
+                        .or_insert(0) += 1;
+                }
+            }
+        }
+    }
+    expected
+}
