@@ -370,7 +370,7 @@ impl Builder<'_, '_> {
             span,
             kind,
             location: match owner {
-                Owner::Cell(id) => sheet.cell(id).name.text.clone(),
+                Owner::Cell(id) => sheet.cell(id).name.text.to_string(),
                 Owner::Check(..) => "check".to_string(),
             },
             written,

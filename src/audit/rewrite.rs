@@ -38,7 +38,7 @@ pub(super) fn evaluate_rewritten(
     }
     let result_name = (0..)
         .map(|n| format!("fix_result_{n}"))
-        .find(|name| !context.sheet.names.contains_key(name))?;
+        .find(|name| !context.sheet.names.contains_key(name.as_str()))?;
     let _ = writeln!(sheet, "{result_name} = {formula}");
     let evaluated = evaluate_source(&sheet);
     let cell = evaluated.cell(&result_name)?;

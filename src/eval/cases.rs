@@ -22,7 +22,7 @@ pub(super) fn case_results(sheet: &Sheet, diagnostics: &mut Vec<Diagnostic>) -> 
             .case_results
             .iter()
             .filter_map(|name| {
-                let id = sheet.names.get(name).copied();
+                let id = sheet.names.get(name.as_str()).copied();
                 if id.is_none() {
                     diagnostics.push(Diagnostic::error(
                         Code::UndefinedName,
@@ -185,7 +185,7 @@ pub(super) fn evaluate_cases(
         };
         let mut outcome = CaseOutcome {
             statement,
-            name: case.name.text.clone(),
+            name: case.name.text.to_string(),
             label: case.label.as_ref().map(|l| l.text.clone()),
             results: Vec::new(),
             checks: Vec::new(),

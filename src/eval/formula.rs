@@ -161,7 +161,7 @@ impl Evaluated {
                 }
             }
             ExprKind::Call { function, args } => Term::Call {
-                function: function.text.clone(),
+                function: function.text.to_string(),
                 args: args.iter().map(|arg| self.term(arg)).collect(),
             },
             ExprKind::Invalid => Term::Invalid(text(expr.span)),

@@ -929,7 +929,7 @@ impl LiveSheet {
         if self.whole_sheet_only
             || new.tolerance.is_some()
             || !self.sheet.order.cycles.is_empty()
-            || self.sheet.names.get(&new.name.text) != Some(&id)
+            || self.sheet.names.get(new.name.text.as_str()) != Some(&id)
         {
             return Change::Relink;
         }

@@ -101,7 +101,7 @@ pub fn evaluate_unit(text: &str) -> Result<(UnitExpr, ResolvedUnit), Diagnostic>
 /// The cells an override's formula and tolerance use.
 fn override_uses(replacement: &Override) -> Vec<CellId> {
     let mut uses = Vec::new();
-    let tolerance = replacement.tolerance.as_ref().map(Tolerance::expr);
+    let tolerance = replacement.tolerance.as_deref().map(Tolerance::expr);
     for expr in std::iter::once(&replacement.expr).chain(tolerance) {
         expr.walk(&mut |node| {
             if let ExprKind::Name(NameRef {
@@ -226,7 +226,7 @@ impl<'a> Evaluator<'a> {
     fn compute_cell(&mut self, id: CellId) -> Evaluation {
         let cell = self.sheet.cell(id);
         let (expr, tolerance) = match self.overrides.get(&id) {
-            Some(replacement) => (Some(&replacement.expr), replacement.tolerance.as_ref()),
+            Some(replacement) => (Some(&replacement.expr), replacement.tolerance.as_deref()),
             None => (cell.expr, self.sheet.tolerance(id)),
         };
         let Some(expr) = expr else {
@@ -366,7 +366,7 @@ impl<'a> Evaluator<'a> {
     /// Every force listed on a body must be a force vector.
     fn check_forces(&self, body: &crate::syntax::ast::BodyDef) -> Result<(), Box<Diagnostic>> {
         for force in &body.forces {
-            let Some(&id) = self.sheet.names.get(&force.text) else {
+            let Some(&id) = self.sheet.names.get(force.text.as_str()) else {
                 continue;
             };
             let Some(value) = self.values[id] else {
@@ -556,7 +556,7 @@ impl<'a> Evaluator<'a> {
                     status: self.statuses[id],
                     display,
                     is_input,
-                    spread: self.spreads[id],
+                    spread: self.spreads[id].map(Box::new),
                 }
             })
             .collect();

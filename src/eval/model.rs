@@ -45,8 +45,8 @@ pub struct CellOutcome {
     pub display: DisplayUnit,
     /// Whether the cell is an input (a number or quantity as written).
     pub is_input: bool,
-    /// Its tolerance, if it has one.
-    pub spread: Option<Spread>,
+    /// Its tolerance, if it has one (boxed: few cells have one).
+    pub spread: Option<Box<Spread>>,
 }
 
 /// The range of a result over its inputs' tolerances, in SI units.
@@ -432,7 +432,7 @@ impl Evaluated {
                 .solves
                 .iter()
                 .position(|report| report.unknowns.contains(&id)),
-            spread: outcome.spread,
+            spread: outcome.spread.as_deref().copied(),
         }
     }
 
@@ -459,7 +459,7 @@ impl Evaluated {
                         let value = self
                             .sheet
                             .names
-                            .get(&force.text)
+                            .get(force.text.as_str())
                             .and_then(|&f| self.outcomes[f].value)
                             .and_then(|v| v.vector());
                         (force.text.as_str(), value)

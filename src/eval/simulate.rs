@@ -248,7 +248,7 @@ impl<'a> Evaluator<'a> {
                 .events
                 .iter()
                 .map(|event| RunEvent {
-                    name: event.name.as_ref().map(|name| name.text.clone()),
+                    name: event.name.as_ref().map(|name| name.text.to_string()),
                     condition: format!(
                         "{} {} {}",
                         event.lhs.span.text(self.source),
@@ -373,7 +373,7 @@ impl<'a> Evaluator<'a> {
                 StateSlots {
                     cell: first_cell + 1 + index,
                     column: RunColumn {
-                        label: state.name.text.clone(),
+                        label: state.name.text.to_string(),
                         display,
                         dimension,
                     },
@@ -644,7 +644,7 @@ impl<'a> Evaluator<'a> {
         block
             .initial_values
             .iter()
-            .find(|initial| &initial.name.text == name)
+            .find(|initial| initial.name.text == name)
             .map(|initial| &initial.value)
     }
 
@@ -992,7 +992,7 @@ impl<'a> Evaluator<'a> {
                 .states
                 .iter()
                 .enumerate()
-                .map(|(index, state)| (state.name.text.clone(), Source::State(index)))
+                .map(|(index, state)| (state.name.text.to_string(), Source::State(index)))
                 .collect());
         }
         let mut sources = Vec::with_capacity(listed.len());

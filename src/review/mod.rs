@@ -134,7 +134,7 @@ impl Review {
                         kind: mark.kind,
                         text: mark.text.as_ref().map(|text| text.text.clone()),
                         by: mark.by.text.clone(),
-                        on: mark.on.text.clone(),
+                        on: mark.on.text.to_string(),
                         line,
                         target,
                     });
@@ -157,9 +157,9 @@ impl Review {
                     };
                     signoffs.push(SignOffRecord {
                         by: signoff.by.text.clone(),
-                        on: signoff.on.text.clone(),
+                        on: signoff.on.text.to_string(),
                         line,
-                        signed_fingerprint: signed,
+                        signed_fingerprint: signed.to_string(),
                         state,
                     });
                     continue;

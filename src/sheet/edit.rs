@@ -449,7 +449,7 @@ pub fn cell_field_text(
             .to_string()
     };
     match field {
-        CellField::Name => cell.name.text.clone(),
+        CellField::Name => cell.name.text.to_string(),
         CellField::Unit => cell
             .unit
             .as_ref()

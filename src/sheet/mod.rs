@@ -6,6 +6,7 @@ mod graph;
 mod header;
 mod runs;
 
+use compact_str::CompactString;
 use rustc_hash::FxHashMap as HashMap;
 
 pub use graph::{EvaluationOrder, evaluation_order};
@@ -74,15 +75,26 @@ pub enum Node {
         /// The block's statement index.
         statement: usize,
         /// Its unknowns' cells, in written order.
-        unknowns: Vec<CellId>,
+        unknowns: Box<[CellId]>,
     },
     /// A simulate block.
     Simulate {
         /// The block's statement index.
         statement: usize,
         /// Its time's cell, then its states' cells in written order.
-        cells: Vec<CellId>,
+        cells: Box<[CellId]>,
     },
+}
+
+impl Node {
+    /// The cells it computes.
+    pub fn cells(&self) -> &[CellId] {
+        match self {
+            Node::Cell(id) => std::slice::from_ref(id),
+            Node::Solve { unknowns, .. } => unknowns,
+            Node::Simulate { cells, .. } => cells,
+        }
+    }
 }
 
 /// What a statement contributes to the sheet, in file order.
@@ -122,7 +134,7 @@ pub struct Sheet {
     /// The sheet's items in file order.
     pub items: Vec<Item>,
     /// Cell by name (first definition wins).
-    pub names: HashMap<String, CellId>,
+    pub names: HashMap<CompactString, CellId>,
     /// For each cell, the cells its formula uses (no repeats, in first-use
     /// order); for an unknown, what its block's equations use outside it.
     pub uses: Vec<Vec<CellId>>,
@@ -217,7 +229,7 @@ impl Sheet {
         }
 
         let mut broken = vec![false; cells.len()];
-        let mut names: HashMap<String, CellId> = HashMap::default();
+        let mut names: HashMap<CompactString, CellId> = HashMap::default();
         names.reserve(cells.len());
         for (id, &origin) in cells.iter().enumerate() {
             let name = decl(&statements, origin).name;
@@ -226,7 +238,7 @@ impl Sheet {
                 broken[id] = true;
                 continue;
             }
-            if let Some(&first) = names.get(&name.text) {
+            if let Some(&first) = names.get(name.text.as_str()) {
                 let first_span = decl(&statements, cells[first]).name.span;
                 diagnostics.push(
                     Diagnostic::error(
@@ -239,7 +251,7 @@ impl Sheet {
                 );
                 broken[id] = true;
             } else {
-                names.insert(name.text.clone(), id);
+                names.insert(name.text.as_str().into(), id);
             }
         }
 
@@ -250,6 +262,8 @@ impl Sheet {
                                 diagnostics: &mut Vec<Diagnostic>| {
             let mut uses = Vec::new();
             let ok = resolve_names(exprs, &names, &mut uses, diagnostics, &mut suggestions_left);
+            // Kept for the sheet's life: no spare capacity per cell.
+            uses.shrink_to_fit();
             (uses, ok)
         };
 
@@ -260,7 +274,7 @@ impl Sheet {
         for statement in &mut statements {
             match &mut statement.kind {
                 StatementKind::Cell(cell) => {
-                    let tolerance = cell.tolerance.as_mut().map(Tolerance::expr_mut);
+                    let tolerance = cell.tolerance.as_deref_mut().map(Tolerance::expr_mut);
                     let (cell_uses, ok) = resolve_uses(
                         &mut std::iter::once(&mut cell.expr).chain(tolerance),
                         &mut diagnostics,
@@ -313,7 +327,10 @@ impl Sheet {
                 StatementKind::Case(case) => {
                     let mut ok = case.complete;
                     for replacement in &mut case.overrides {
-                        let tolerance = replacement.tolerance.as_mut().map(Tolerance::expr_mut);
+                        let tolerance = replacement
+                            .tolerance
+                            .as_deref_mut()
+                            .map(Tolerance::expr_mut);
                         let (_, resolved) = resolve_uses(
                             &mut std::iter::once(&mut replacement.expr).chain(tolerance),
                             &mut diagnostics,
@@ -410,7 +427,7 @@ impl Sheet {
                     id += members.len();
                     nodes.push(Node::Simulate {
                         statement,
-                        cells: members,
+                        cells: members.into(),
                     });
                 }
                 CellOrigin::Unknown { statement, .. } => {
@@ -423,7 +440,7 @@ impl Sheet {
                     id += unknowns.len();
                     nodes.push(Node::Solve {
                         statement,
-                        unknowns,
+                        unknowns: unknowns.into(),
                     });
                 }
             }
@@ -454,11 +471,7 @@ impl Sheet {
             .map(|cycle| {
                 let mut members: Vec<CellId> = cycle
                     .iter()
-                    .flat_map(|&node| match &nodes[node] {
-                        Node::Cell(id) => vec![*id],
-                        Node::Solve { unknowns, .. } => unknowns.clone(),
-                        Node::Simulate { cells, .. } => cells.clone(),
-                    })
+                    .flat_map(|&node| nodes[node].cells().iter().copied())
                     .collect();
                 members.sort_unstable();
                 members
@@ -581,7 +594,7 @@ impl Sheet {
     /// The tolerance written on a cell, if any.
     pub fn tolerance(&self, id: CellId) -> Option<&Tolerance> {
         match &self.statements[self.cell_statement(id)].kind {
-            StatementKind::Cell(cell) => cell.tolerance.as_ref(),
+            StatementKind::Cell(cell) => cell.tolerance.as_deref(),
             _ => None,
         }
     }
@@ -604,11 +617,7 @@ impl Sheet {
         self.order
             .order
             .iter()
-            .flat_map(|&node| match &self.nodes[node] {
-                Node::Cell(id) => std::slice::from_ref(id).iter().copied(),
-                Node::Solve { unknowns, .. } => unknowns.iter().copied(),
-                Node::Simulate { cells, .. } => cells.iter().copied(),
-            })
+            .flat_map(|&node| self.nodes[node].cells().iter().copied())
     }
 }
 
@@ -673,10 +682,10 @@ fn cycle_text(names: &[String]) -> String {
 }
 
 /// The defined name or constant most like `name`.
-fn did_you_mean(name: &str, names: &HashMap<String, CellId>) -> Option<String> {
+fn did_you_mean(name: &str, names: &HashMap<CompactString, CellId>) -> Option<String> {
     let candidates = names
         .keys()
-        .map(String::as_str)
+        .map(CompactString::as_str)
         .chain(units::CONSTANTS.iter().map(|constant| constant.name));
     let lower = name.to_lowercase();
     candidates
@@ -700,7 +709,7 @@ fn did_you_mean(name: &str, names: &HashMap<String, CellId>) -> Option<String> {
 /// was defined. Linking and the notebook's one-line edits both use it.
 pub(crate) fn resolve_names<'e>(
     exprs: impl IntoIterator<Item = &'e mut Expr>,
-    names: &HashMap<String, CellId>,
+    names: &HashMap<CompactString, CellId>,
     uses: &mut Vec<CellId>,
     diagnostics: &mut Vec<Diagnostic>,
     suggestions_left: &mut usize,

@@ -2,6 +2,7 @@
 //! of a run (`t at slow`), the block each run query reads (`v at stop`), and
 //! states used where a formula would see only one moment of the run.
 
+use compact_str::CompactString;
 use rustc_hash::{FxHashMap as HashMap, FxHashSet as HashSet};
 
 use super::{CellId, CellOrigin};
@@ -34,7 +35,7 @@ fn statement_exprs_mut(kind: &mut StatementKind) -> Vec<&mut Expr> {
             .flat_map(|replacement| {
                 let tolerance = replacement
                     .tolerance
-                    .as_mut()
+                    .as_deref_mut()
                     .map(super::Tolerance::expr_mut);
                 std::iter::once(&mut replacement.expr).chain(tolerance)
             })
@@ -52,7 +53,7 @@ fn statement_exprs_mut(kind: &mut StatementKind) -> Vec<&mut Expr> {
 /// within their block.
 pub(super) fn name_run_events(
     statements: &mut [Statement],
-    names: &HashMap<String, CellId>,
+    names: &HashMap<CompactString, CellId>,
     diagnostics: &mut Vec<Diagnostic>,
 ) {
     let mut events: HashSet<String> = HashSet::default();
@@ -62,7 +63,7 @@ pub(super) fn name_run_events(
         };
         let mut seen: HashMap<&str, Span> = HashMap::default();
         for name in block.events.iter().filter_map(|event| event.name.as_ref()) {
-            if names.contains_key(&name.text) {
+            if names.contains_key(name.text.as_str()) {
                 diagnostics.push(
                     Diagnostic::error(
                         Code::DuplicateName,
@@ -82,7 +83,7 @@ pub(super) fn name_run_events(
                 );
             } else {
                 seen.insert(&name.text, name.span);
-                events.insert(name.text.clone());
+                events.insert(name.text.to_string());
             }
         }
     }
@@ -100,7 +101,7 @@ pub(super) fn name_run_events(
                     && !names.contains_key(&*name.text)
                 {
                     query.point = RunPoint::Event(Ident {
-                        text: name.text.to_string(),
+                        text: name.text.clone(),
                         span: *span,
                     });
                 }

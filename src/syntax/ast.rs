@@ -1,6 +1,8 @@
 //! The syntax tree of a sheet: what the user wrote, with spans, before any
 //! unit is looked up or any value computed.
 
+use compact_str::CompactString;
+
 use super::Span;
 
 /// One statement of a sheet, with the span of its line.
@@ -110,7 +112,7 @@ pub struct SignOff {
 #[derive(Clone, Debug, PartialEq, Eq)]
 pub struct Ident {
     /// The name.
-    pub text: String,
+    pub text: CompactString,
     /// Where it is written.
     pub span: Span,
 }
@@ -134,7 +136,7 @@ pub struct CellDef {
     /// The formula.
     pub expr: Expr,
     /// The tolerance, if any: `± 3 %`, `± 0.05 m`, `.. 1900 kg`.
-    pub tolerance: Option<Tolerance>,
+    pub tolerance: Option<Box<Tolerance>>,
     /// The optional description.
     pub description: Option<Description>,
 }
@@ -202,7 +204,7 @@ pub struct Override {
     /// The formula used in this case.
     pub expr: Expr,
     /// The tolerance used in this case, if any.
-    pub tolerance: Option<Tolerance>,
+    pub tolerance: Option<Box<Tolerance>>,
     /// The whole line.
     pub span: Span,
 }
@@ -358,7 +360,7 @@ pub enum ExprKind {
         /// The function's name.
         function: Ident,
         /// The arguments.
-        args: Vec<Expr>,
+        args: Box<[Expr]>,
     },
     /// A value read from a simulate run: `v at stop`, `max of k * x`.
     RunQuery(Box<RunQuery>),
@@ -525,7 +527,7 @@ pub struct PlotDef {
 #[derive(Clone, Debug, PartialEq)]
 pub struct NameRef {
     /// The name as written.
-    pub text: Box<str>,
+    pub text: CompactString,
     /// What the name refers to; [`Target::Unresolved`] until the sheet is
     /// linked (`sheet::Sheet::link`), so evaluation indexes instead of hashing.
     pub target: Target,
@@ -575,7 +577,7 @@ impl BinaryOp {
 #[derive(Clone, Debug, PartialEq, Eq)]
 pub struct UnitExpr {
     /// The factors in written order.
-    pub factors: Vec<UnitFactor>,
+    pub factors: Box<[UnitFactor]>,
     /// Where the whole unit expression is written.
     pub span: Span,
 }

@@ -187,7 +187,9 @@ pub(crate) fn override_of(mut pairs: Pairs<'_, Rule>, offset: usize) -> Built<Ov
             Rule::name => cell = Some(builder.ident(part)),
             Rule::assign => {}
             Rule::expr => expr = Some(builder.expr(part)?),
-            Rule::plus_minus | Rule::range_to => tolerance = Some(builder.tolerance(part)?),
+            Rule::plus_minus | Rule::range_to => {
+                tolerance = Some(Box::new(builder.tolerance(part)?))
+            }
             rule => unreachable!("expected a part of an override, found {rule:?}"),
         }
     }
@@ -385,7 +387,9 @@ impl Builder {
                 Rule::assign => {}
                 Rule::declared_unit => unit = Some(self.unit_in_brackets(part)?),
                 Rule::expr => expr = Some(self.expr(part)?),
-                Rule::plus_minus | Rule::range_to => tolerance = Some(self.tolerance(part)?),
+                Rule::plus_minus | Rule::range_to => {
+                    tolerance = Some(Box::new(self.tolerance(part)?))
+                }
                 Rule::extremum_query => expr = Some(self.extremum_query(part)?),
                 Rule::query_point => expr = Some(self.located(expr.take(), part)?),
                 Rule::description => description = Some(self.description(part)),
@@ -671,7 +675,7 @@ impl Builder {
 
     fn ident(&self, pair: Pair<'_, Rule>) -> Ident {
         Ident {
-            text: pair.as_str().to_string(),
+            text: pair.as_str().into(),
             span: self.span(&pair),
         }
     }
@@ -804,7 +808,7 @@ impl Builder {
                         args: arguments
                             .into_inner()
                             .map(|arg| self.expr(arg))
-                            .collect::<Built<Vec<_>>>()?,
+                            .collect::<Built<Box<[_]>>>()?,
                     },
                 }
             }
@@ -835,7 +839,10 @@ impl Builder {
         let span = self.span(&pair);
         let mut factors = Vec::new();
         self.collect_unit_factors(pair, 1, &mut factors)?;
-        Ok(UnitExpr { factors, span })
+        Ok(UnitExpr {
+            factors: factors.into_boxed_slice(),
+            span,
+        })
     }
 
     /// Flattens `unit_expr` into factors, multiplying exponents by `outer`

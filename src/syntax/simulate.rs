@@ -50,7 +50,7 @@ pub(super) fn parse_simulate_block(
             complete = false;
             (
                 crate::syntax::ast::Ident {
-                    text: crate::syntax::ast::UNNAMED_TIME.to_string(),
+                    text: crate::syntax::ast::UNNAMED_TIME.into(),
                     span: block.head,
                 },
                 placeholder(block.head.start()),

@@ -108,17 +108,24 @@ pub fn parse(source: &str) -> ParsedSheet {
 
     let statements = gather_statements(source, lines);
     // Statements parse independently, so large sheets parse on every core.
-    let parse_one = |raw: &RawStatement| match &raw.block {
-        None => {
-            let (kind, diagnostic) = parse_statement(raw.span.text(source), raw.span.start());
-            (kind, diagnostic.into_iter().collect())
-        }
-        Some(block) if code_of(block.head.text(source)).starts_with("simulate") => {
-            super::simulate::parse_simulate_block(source, block)
-        }
-        Some(block) => parse_block(source, block),
+    let parse_one = |raw: &RawStatement| {
+        let (kind, diagnostics) = match raw.block.as_deref() {
+            None => {
+                let (kind, diagnostic) = parse_statement(raw.span.text(source), raw.span.start());
+                (kind, diagnostic.into_iter().collect())
+            }
+            Some(block) if code_of(block.head.text(source)).starts_with("simulate") => {
+                super::simulate::parse_simulate_block(source, block)
+            }
+            Some(block) => parse_block(source, block),
+        };
+        let statement = Statement {
+            span: raw.span,
+            kind,
+        };
+        (statement, diagnostics)
     };
-    let parsed: Vec<(StatementKind, Vec<Diagnostic>)> = if statements.len() < PARALLEL_THRESHOLD {
+    let parsed: Vec<(Statement, Vec<Diagnostic>)> = if statements.len() < PARALLEL_THRESHOLD {
         statements.iter().map(parse_one).collect()
     } else {
         use rayon::prelude::*;
@@ -128,14 +135,16 @@ pub fn parse(source: &str) -> ParsedSheet {
             .map(parse_one)
             .collect()
     };
-    sheet.statements.reserve(statements.len());
-    for (raw, (kind, diagnostics)) in statements.into_iter().zip(parsed) {
-        sheet.diagnostics.extend(diagnostics);
-        sheet.statements.push(Statement {
-            span: raw.span,
-            kind,
-        });
-    }
+    drop(statements);
+    // Collected in place (the standard library reuses the buffer), so a large
+    // sheet's statements are not copied into fresh memory a second time.
+    sheet.statements = parsed
+        .into_iter()
+        .map(|(statement, diagnostics)| {
+            sheet.diagnostics.extend(diagnostics);
+            statement
+        })
+        .collect();
     sheet
 }
 
@@ -145,7 +154,8 @@ struct RawStatement {
     span: Span,
     /// For a block: its head line, the lines inside, and its `end` line if
     /// it has one (blank and comment lines left out).
-    block: Option<BlockLines>,
+    /// Boxed: a million-line sheet has few blocks and many lines.
+    block: Option<Box<BlockLines>>,
 }
 
 /// The lines of a block statement.
@@ -198,7 +208,7 @@ fn gather_statements(source: &str, lines: impl Iterator<Item = Line>) -> Vec<Raw
         let last = block.end.or(block.body.last().copied()).unwrap_or(span);
         statements.push(RawStatement {
             span: span.to(last),
-            block: Some(block),
+            block: Some(Box::new(block)),
         });
     }
     statements
