@@ -4,13 +4,12 @@
 pub mod edit;
 mod graph;
 mod header;
+mod names;
 mod runs;
-
-use compact_str::CompactString;
-use rustc_hash::FxHashMap as HashMap;
 
 pub use graph::{EvaluationOrder, evaluation_order};
 pub use header::{DEFAULT_SIG_FIGS, Header, read_header};
+pub use names::NameTable;
 
 use crate::diag::{Code, Diagnostic};
 use crate::syntax::ast::{
@@ -134,7 +133,7 @@ pub struct Sheet {
     /// The sheet's items in file order.
     pub items: Vec<Item>,
     /// Cell by name (first definition wins).
-    pub names: HashMap<CompactString, CellId>,
+    pub names: NameTable,
     /// For each cell, the cells its formula uses (no repeats, in first-use
     /// order); for an unknown, what its block's equations use outside it.
     pub uses: Vec<Vec<CellId>>,
@@ -229,8 +228,7 @@ impl Sheet {
         }
 
         let mut broken = vec![false; cells.len()];
-        let mut names: HashMap<CompactString, CellId> = HashMap::default();
-        names.reserve(cells.len());
+        let mut names = NameTable::with_capacity(cells.len());
         for (id, &origin) in cells.iter().enumerate() {
             let name = decl(&statements, origin).name;
             if name.text == crate::syntax::ast::UNNAMED_TIME {
@@ -238,7 +236,7 @@ impl Sheet {
                 broken[id] = true;
                 continue;
             }
-            if let Some(&first) = names.get(name.text.as_str()) {
+            if let Err(first) = names.insert_first(&name.text, id) {
                 let first_span = decl(&statements, cells[first]).name.span;
                 diagnostics.push(
                     Diagnostic::error(
@@ -250,8 +248,6 @@ impl Sheet {
                     .with_help("rename one of the two cells; names are case-sensitive"),
                 );
                 broken[id] = true;
-            } else {
-                names.insert(name.text.as_str().into(), id);
             }
         }
 
@@ -336,10 +332,7 @@ impl Sheet {
                             &mut diagnostics,
                         );
                         ok &= resolved;
-                        match names
-                            .get(&*replacement.cell.text)
-                            .map(|&id| (id, cells[id]))
-                        {
+                        match names.get(&replacement.cell.text).map(|&id| (id, cells[id])) {
                             Some((id, CellOrigin::Formula { .. })) => {
                                 replacement.cell.target = Target::Cell(id)
                             }
@@ -682,10 +675,9 @@ fn cycle_text(names: &[String]) -> String {
 }
 
 /// The defined name or constant most like `name`.
-fn did_you_mean(name: &str, names: &HashMap<CompactString, CellId>) -> Option<String> {
+fn did_you_mean(name: &str, names: &NameTable) -> Option<String> {
     let candidates = names
         .keys()
-        .map(CompactString::as_str)
         .chain(units::CONSTANTS.iter().map(|constant| constant.name));
     let lower = name.to_lowercase();
     candidates
@@ -709,7 +701,7 @@ fn did_you_mean(name: &str, names: &HashMap<CompactString, CellId>) -> Option<St
 /// was defined. Linking and the notebook's one-line edits both use it.
 pub(crate) fn resolve_names<'e>(
     exprs: impl IntoIterator<Item = &'e mut Expr>,
-    names: &HashMap<CompactString, CellId>,
+    names: &NameTable,
     uses: &mut Vec<CellId>,
     diagnostics: &mut Vec<Diagnostic>,
     suggestions_left: &mut usize,
@@ -717,7 +709,7 @@ pub(crate) fn resolve_names<'e>(
     let mut ok = true;
     for expr in exprs {
         expr.walk_names_mut(&mut |name, span| {
-            if let Some(&id) = names.get(&*name.text) {
+            if let Some(&id) = names.get(&name.text) {
                 name.target = Target::Cell(id);
                 if !uses.contains(&id) {
                     uses.push(id);

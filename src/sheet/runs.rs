@@ -2,7 +2,6 @@
 //! of a run (`t at slow`), the block each run query reads (`v at stop`), and
 //! states used where a formula would see only one moment of the run.
 
-use compact_str::CompactString;
 use rustc_hash::{FxHashMap as HashMap, FxHashSet as HashSet};
 
 use super::{CellId, CellOrigin};
@@ -53,7 +52,7 @@ fn statement_exprs_mut(kind: &mut StatementKind) -> Vec<&mut Expr> {
 /// within their block.
 pub(super) fn name_run_events(
     statements: &mut [Statement],
-    names: &HashMap<CompactString, CellId>,
+    names: &super::NameTable,
     diagnostics: &mut Vec<Diagnostic>,
 ) {
     let mut events: HashSet<String> = HashSet::default();
@@ -98,7 +97,7 @@ pub(super) fn name_run_events(
                     span,
                 }) = &query.point
                     && events.contains(&*name.text)
-                    && !names.contains_key(&*name.text)
+                    && !names.contains_key(&name.text)
                 {
                     query.point = RunPoint::Event(Ident {
                         text: name.text.clone(),
