@@ -202,6 +202,29 @@ fn fixes_give_the_closed_form_numbers() {
 }
 
 #[test]
+fn a_factor_on_a_bare_number_is_replaced_by_its_unit_not_dropped() {
+    // 92.6 / 2.2046 means "92.6 lb in kg": the honest fix is 92.6 lbm =
+    // 92.6 × 0.45359237 kg = 42.00265 kg (1959 pound). Dropping the factor
+    // alone would give 92.6 kg, 2.2× off, so the help must not offer that.
+    let source = "m_rig = 92.6 / 2.2046 * 1 kg\n";
+    let help = help_of(source, Code::HandConversionFactor);
+    assert!(
+        help.contains("its unit in place of the factor `2.2046`"),
+        "{help}"
+    );
+    assert!(help.contains("a different value"), "{help}");
+    assert!(!help.starts_with("write"), "{help}");
+    // The value itself is left as written: 92.6 / 2.2046 kg = 42.00308 kg.
+    let evaluated = check_source(source);
+    let value = evaluated
+        .cell("m_rig")
+        .and_then(|cell| cell.value)
+        .expect("m_rig evaluates");
+    assert_close(value.si, 92.6 / 2.2046, 1e-12);
+    assert!((value.si - 92.6 * 0.453_592_37).abs() > 1e-4);
+}
+
+#[test]
 fn counts_and_halves_are_not_conversion_factors() {
     // Common practice: 12 bolts, 1000 strokes, ½ k x², 2 legs are counts and
     // coefficients, not conversions; nothing here may be reported.
