@@ -503,39 +503,33 @@ fn unit_view_and_significant_figures_change_the_display_not_the_file() {
     assert!(!app.is_dirty());
 }
 
-#[test]
-fn find_narrows_by_name_and_jumps() {
-    let mut app = app_for(SKID_LIFT);
-    press_char(&mut app, 'f');
-    type_text(&mut app, "BRAKE");
+/// Opens find, types `query` and returns the names it matches, in order.
+fn find(app: &mut App, query: &str) -> Vec<String> {
+    press_char(app, 'f');
+    type_text(app, query);
     let Mode::Find(state) = app.mode() else {
         panic!("f finds");
     };
-    let names: Vec<&str> = state
+    state
         .matches
         .iter()
-        .map(|&id| app.live().cell(id).name)
-        .collect();
+        .map(|&id| app.live().cell(id).name.to_string())
+        .collect()
+}
+
+#[test]
+fn find_narrows_by_name_and_jumps() {
+    let mut app = app_for(SKID_LIFT);
     assert_eq!(
-        names,
+        find(&mut app, "BRAKE"),
         vec!["a_brake", "T_brake"],
         "case ignored, then file order"
     );
     press(&mut app, KeyCode::Down);
     press(&mut app, KeyCode::Enter);
     assert_eq!(selected_name(&app).as_deref(), Some("T_brake"));
-    press_char(&mut app, 'f');
-    type_text(&mut app, "m_");
-    let Mode::Find(state) = app.mode() else {
-        panic!("f finds");
-    };
-    let names: Vec<&str> = state
-        .matches
-        .iter()
-        .map(|&id| app.live().cell(id).name)
-        .collect();
     assert_eq!(
-        names,
+        find(&mut app, "m_"),
         vec!["m_rig", "m_tot", "m_skid"],
         "prefix first, then shorter"
     );

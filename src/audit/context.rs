@@ -63,7 +63,7 @@ impl<'a> Context<'a> {
         if let Some(resolved) = self.units.borrow().get(text) {
             return *resolved;
         }
-        let resolved = units::resolve(unit.factors.iter().map(|f| (&*f.symbol, f.exponent))).ok();
+        let resolved = units::resolve(unit.symbols()).ok();
         self.units.borrow_mut().insert(text, resolved);
         resolved
     }

@@ -251,11 +251,7 @@ impl Builder<'_, '_> {
             for (span, value, number_span, unit) in found {
                 self.note_system(unit);
                 let text = context.text(unit.span);
-                let symbols: Vec<(&str, i32)> = unit
-                    .factors
-                    .iter()
-                    .map(|f| (&*f.symbol, f.exponent))
-                    .collect();
+                let symbols: Vec<(&str, i32)> = unit.symbols().collect();
                 let Some(facts) = self.facts(text, &symbols) else {
                     continue;
                 };
@@ -297,11 +293,7 @@ impl Builder<'_, '_> {
             let Ok(unit) = crate::syntax::parse_unit(text) else {
                 continue;
             };
-            let symbols: Vec<(&str, i32)> = unit
-                .factors
-                .iter()
-                .map(|f| (&*f.symbol, f.exponent))
-                .collect();
+            let symbols: Vec<(&str, i32)> = unit.symbols().collect();
             let Some(facts) = self.facts(text, &symbols) else {
                 continue;
             };

@@ -163,5 +163,5 @@ fn conversion_text(
 }
 
 fn exact(unit: &UnitExpr) -> Option<ExactFactor> {
-    units::exact_factor(unit.factors.iter().map(|f| (&*f.symbol, f.exponent)))
+    units::exact_factor(unit.symbols())
 }

@@ -359,12 +359,7 @@ impl<'a> Evaluator<'a> {
     }
 
     fn resolve_unit_uncached(&self, unit: &UnitExpr) -> Result<ResolvedUnit, Box<Diagnostic>> {
-        units::resolve(
-            unit.factors
-                .iter()
-                .map(|factor| (&*factor.symbol, factor.exponent)),
-        )
-        .map_err(|error| {
+        units::resolve(unit.symbols()).map_err(|error| {
             let factor = &unit.factors[error.factor];
             Box::new(match error.kind {
                 UnitErrorKind::Unknown { suggestion } => {

@@ -917,6 +917,32 @@ impl LiveSheet {
         existing + new_undefined <= MAX_SUGGESTIONS
     }
 
+    /// Resolves the names of one edited line's `exprs`: the cells they use,
+    /// the line's diagnostics (its parse diagnostic first) and whether every
+    /// name was defined; `None` when the line's undefined names would
+    /// overrun the sheet's did-you-mean budget, so only a relink is right.
+    fn resolve_line<'e>(
+        &self,
+        exprs: impl IntoIterator<Item = &'e mut Expr>,
+        old_span: Span,
+        parse_diagnostic: Option<&Diagnostic>,
+    ) -> Option<(Vec<CellId>, Vec<Diagnostic>, bool)> {
+        let mut uses = Vec::new();
+        let mut diagnostics: Vec<Diagnostic> = parse_diagnostic.into_iter().cloned().collect();
+        let before = diagnostics.len();
+        // `undefined_names_fit` checks the sheet's did-you-mean budget after.
+        let mut suggestions_left = MAX_SUGGESTIONS;
+        let ok = resolve_names(
+            exprs,
+            &self.sheet.names,
+            &mut uses,
+            &mut diagnostics,
+            &mut suggestions_left,
+        );
+        self.undefined_names_fit(old_span, diagnostics.len() - before)
+            .then_some((uses, diagnostics, ok))
+    }
+
     /// A cell keeps its name and gets a new formula, unit or description:
     /// resolve its names and keep the order if its uses still come first.
     fn update_cell(
@@ -933,31 +959,17 @@ impl LiveSheet {
         {
             return Change::Relink;
         }
-        let mut uses = Vec::new();
-        let mut diagnostics: Vec<Diagnostic> = parse_diagnostic.into_iter().cloned().collect();
-        let before = diagnostics.len();
-        // `undefined_names_fit` checks the sheet's did-you-mean budget after.
-        let mut suggestions_left = MAX_SUGGESTIONS;
-        let ok = resolve_names(
-            [&mut new.expr],
-            &self.sheet.names,
-            &mut uses,
-            &mut diagnostics,
-            &mut suggestions_left,
-        );
-        if !self.undefined_names_fit(old_span, diagnostics.len() - before)
-            || uses.iter().any(|&used| self.rank[used] >= self.rank[id])
-        {
+        let Some((uses, diagnostics, ok)) =
+            self.resolve_line([&mut new.expr], old_span, parse_diagnostic)
+        else {
+            return Change::Relink;
+        };
+        if uses.iter().any(|&used| self.rank[used] >= self.rank[id]) {
             return Change::Relink;
         }
         self.swap_statement_diagnostics(old_span, diagnostics.into_iter());
         self.sheet.broken[id] = !ok || matches!(new.expr.kind, ExprKind::Invalid);
-        for &used in &self.sheet.uses[id] {
-            self.dependents[used].retain(|&dependent| dependent != id);
-        }
-        for &used in &uses {
-            self.dependents[used].push(id);
-        }
+        rewire(&mut self.dependents, &self.sheet.uses[id], &uses, id);
         self.sheet.uses[id] = uses;
         Change::Cell(id)
     }
@@ -973,29 +985,19 @@ impl LiveSheet {
         if self.whole_sheet_only {
             return Change::Relink;
         }
-        let mut uses = Vec::new();
-        let mut diagnostics: Vec<Diagnostic> = parse_diagnostic.into_iter().cloned().collect();
-        let before = diagnostics.len();
-        // `undefined_names_fit` checks the sheet's did-you-mean budget after.
-        let mut suggestions_left = MAX_SUGGESTIONS;
-        let ok = resolve_names(
-            [&mut new.lhs, &mut new.rhs],
-            &self.sheet.names,
-            &mut uses,
-            &mut diagnostics,
-            &mut suggestions_left,
-        );
-        if !self.undefined_names_fit(old_span, diagnostics.len() - before) {
+        let Some((uses, diagnostics, ok)) =
+            self.resolve_line([&mut new.lhs, &mut new.rhs], old_span, parse_diagnostic)
+        else {
             return Change::Relink;
-        }
+        };
         self.swap_statement_diagnostics(old_span, diagnostics.into_iter());
         self.sheet.broken_checks[check] = !ok;
-        for &used in &self.sheet.check_uses[check] {
-            self.check_dependents[used].retain(|&dependent| dependent != check);
-        }
-        for &used in &uses {
-            self.check_dependents[used].push(check);
-        }
+        rewire(
+            &mut self.check_dependents,
+            &self.sheet.check_uses[check],
+            &uses,
+            check,
+        );
         self.sheet.check_uses[check] = uses;
         Change::Check(check)
     }
@@ -1231,5 +1233,16 @@ fn collect_names<'e>(
         | ExprKind::Component { .. }
         | ExprKind::RunQuery(_)
         | ExprKind::Invalid => {}
+    }
+}
+
+/// Moves `user` (a cell or a check) in `dependents` from the cells it used
+/// (`before`) to the cells it uses now (`after`).
+fn rewire(dependents: &mut [Vec<usize>], before: &[CellId], after: &[CellId], user: usize) {
+    for &used in before {
+        dependents[used].retain(|&dependent| dependent != user);
+    }
+    for &used in after {
+        dependents[used].push(user);
     }
 }

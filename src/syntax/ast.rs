@@ -582,6 +582,15 @@ pub struct UnitExpr {
     pub span: Span,
 }
 
+impl UnitExpr {
+    /// Each factor as (symbol, exponent), the form the unit catalog reads.
+    pub fn symbols(&self) -> impl Iterator<Item = (&str, i32)> {
+        self.factors
+            .iter()
+            .map(|factor| (&*factor.symbol, factor.exponent))
+    }
+}
+
 /// One unit symbol raised to an integer power.
 #[derive(Clone, Debug, PartialEq, Eq)]
 pub struct UnitFactor {
