@@ -84,10 +84,9 @@ impl Evaluated {
 
     /// The value of cell `id` as shown, if it evaluated.
     pub fn shown_value(&self, id: CellId) -> Option<ShownValue> {
-        let outcome = &self.outcomes[id];
-        let value = outcome.value.filter(|_| outcome.status == CellStatus::Ok)?;
-        let number =
-            |si: f64| format_significant(outcome.display.value_of(si), self.sheet.header.sig_figs);
+        let value = self.values[id].filter(|_| self.statuses[id] == CellStatus::Ok)?;
+        let display = &self.displays[id];
+        let number = |si: f64| format_significant(display.value_of(si), self.sheet.header.sig_figs);
         Some(ShownValue {
             number: match value {
                 crate::units::Value::Scalar(q) => number(q.si),
@@ -102,7 +101,7 @@ impl Evaluated {
                     )
                 }
             },
-            unit: outcome.display.text.to_string(),
+            unit: display.text.to_string(),
         })
     }
 

@@ -20,9 +20,9 @@ mod vectors;
 pub use explain::format_value;
 pub use incremental::{CellField, EditError, FieldEditor, Finding, LiveSheet, Row};
 pub use model::{
-    CaseCheck, CaseOutcome, CaseValue, CellOutcome, CellRange, CellResult, CellStatus, CheckRange,
-    CheckResult, CheckStatus, EquationReport, Evaluated, FreeBody, OutlineItem, Sensitivity,
-    SolveReport, SolveStatus, Spread,
+    CaseCheck, CaseOutcome, CaseValue, CellRange, CellResult, CellStatus, CheckRange, CheckResult,
+    CheckStatus, EquationReport, Evaluated, FreeBody, OutlineItem, Sensitivity, SolveReport,
+    SolveStatus, Spread,
 };
 pub use run_model::{PlotSeries, RunColumn, RunEvent, RunReport, RunRow, RunStatus, StateSlots};
 pub use simulate::{DEFAULT_RELATIVE_TOLERANCE, MAX_STEPS};
@@ -547,73 +547,69 @@ impl<'a> Evaluator<'a> {
         source: &Arc<str>,
     ) -> Evaluated {
         let lines = LineIndex::new(source);
-        let outcomes = (0..sheet.cells.len())
-            .map(|id| {
-                let value = self.values[id];
-                let (display, is_input) = self.display_unit(id, value);
-                CellOutcome {
-                    value,
-                    status: self.statuses[id],
-                    display,
-                    is_input,
-                    spread: self.spreads[id].map(Box::new),
-                }
-            })
-            .collect();
-        let outline = sheet
-            .items
-            .iter()
-            .filter(|item| !matches!(item, Item::Review(_)))
-            .map(|item| match *item {
-                Item::Heading(index) => match &sheet.statements[index].kind {
-                    StatementKind::Heading { level, text } => OutlineItem::Heading {
-                        level: *level,
-                        text: text.clone(),
+        let (displays, inputs) = (0..sheet.cells.len())
+            .map(|id| self.display_unit(id, self.values[id]))
+            .unzip();
+        let mut outline = Vec::with_capacity(sheet.items.len());
+        outline.extend(
+            sheet
+                .items
+                .iter()
+                .filter(|item| !matches!(item, Item::Review(_)))
+                .map(|item| match *item {
+                    Item::Heading(index) => match &sheet.statements[index].kind {
+                        StatementKind::Heading { level, text } => OutlineItem::Heading {
+                            level: *level,
+                            text: text.clone(),
+                        },
+                        _ => OutlineItem::Invalid {
+                            span: sheet.statements[index].span,
+                        },
                     },
-                    _ => OutlineItem::Invalid {
+                    Item::Note(index) => match &sheet.statements[index].kind {
+                        StatementKind::Note { text } => OutlineItem::Note { text: text.clone() },
+                        _ => OutlineItem::Invalid {
+                            span: sheet.statements[index].span,
+                        },
+                    },
+                    Item::Cell(id) => OutlineItem::Cell(id),
+                    Item::Check(index) => OutlineItem::Check(index),
+                    Item::Case(statement) => OutlineItem::Case(statement),
+                    Item::Solve(statement) => match self
+                        .solves
+                        .iter()
+                        .position(|report| report.statement == statement)
+                    {
+                        Some(report) => OutlineItem::Solve(report),
+                        None => OutlineItem::Invalid {
+                            span: sheet.statements[statement].span,
+                        },
+                    },
+                    Item::Invalid(index) | Item::Review(index) => OutlineItem::Invalid {
                         span: sheet.statements[index].span,
                     },
-                },
-                Item::Note(index) => match &sheet.statements[index].kind {
-                    StatementKind::Note { text } => OutlineItem::Note { text: text.clone() },
-                    _ => OutlineItem::Invalid {
-                        span: sheet.statements[index].span,
+                    Item::Simulate(statement) => match self
+                        .runs
+                        .iter()
+                        .position(|report| report.statement == statement)
+                    {
+                        Some(report) => OutlineItem::Simulate(report),
+                        None => OutlineItem::Invalid {
+                            span: sheet.statements[statement].span,
+                        },
                     },
-                },
-                Item::Cell(id) => OutlineItem::Cell(id),
-                Item::Check(index) => OutlineItem::Check(index),
-                Item::Case(statement) => OutlineItem::Case(statement),
-                Item::Solve(statement) => match self
-                    .solves
-                    .iter()
-                    .position(|report| report.statement == statement)
-                {
-                    Some(report) => OutlineItem::Solve(report),
-                    None => OutlineItem::Invalid {
-                        span: sheet.statements[statement].span,
-                    },
-                },
-                Item::Invalid(index) | Item::Review(index) => OutlineItem::Invalid {
-                    span: sheet.statements[index].span,
-                },
-                Item::Simulate(statement) => match self
-                    .runs
-                    .iter()
-                    .position(|report| report.statement == statement)
-                {
-                    Some(report) => OutlineItem::Simulate(report),
-                    None => OutlineItem::Invalid {
-                        span: sheet.statements[statement].span,
-                    },
-                },
-            })
-            .collect();
+                }),
+        );
         let mut diagnostics = std::mem::take(&mut self.diagnostics);
         diagnostics.sort_by_key(|diagnostic| (diagnostic.span.start(), diagnostic.code));
         Evaluated {
             sheet: Arc::clone(sheet),
             source: Arc::clone(source),
-            outcomes,
+            values: std::mem::take(&mut self.values),
+            statuses: std::mem::take(&mut self.statuses),
+            spreads: std::mem::take(&mut self.spreads),
+            displays,
+            inputs,
             checks,
             solves: std::mem::take(&mut self.solves),
             ranges: Vec::new(),

@@ -34,21 +34,6 @@ impl CellStatus {
     }
 }
 
-/// What evaluation computed for one cell.
-#[derive(Clone, Debug)]
-pub struct CellOutcome {
-    /// The value, if it could be computed.
-    pub value: Option<Value>,
-    /// Ok, error or blocked.
-    pub status: CellStatus,
-    /// The unit the value is shown in.
-    pub display: DisplayUnit,
-    /// Whether the cell is an input (a number or quantity as written).
-    pub is_input: bool,
-    /// Its tolerance, if it has one (boxed: few cells have one).
-    pub spread: Option<Box<Spread>>,
-}
-
 /// The range of a result over its inputs' tolerances, in SI units.
 #[derive(Clone, Debug, PartialEq)]
 pub struct CellRange {
@@ -363,7 +348,14 @@ fn tolerance_span(tolerance: &crate::syntax::ast::Tolerance) -> Span {
 pub struct Evaluated {
     pub(super) sheet: Arc<Sheet>,
     pub(super) source: Arc<str>,
-    pub(super) outcomes: Vec<CellOutcome>,
+    /// Per cell, by id (the evaluator's columns, moved, not copied): the
+    /// value if it could be computed, the status, the spread of a cell with
+    /// a tolerance, the unit the value is shown in, whether it is an input.
+    pub(super) values: Vec<Option<Value>>,
+    pub(super) statuses: Vec<CellStatus>,
+    pub(super) spreads: Vec<Option<Spread>>,
+    pub(super) displays: Vec<DisplayUnit>,
+    pub(super) inputs: Vec<bool>,
     /// Checks, in file order.
     pub checks: Vec<CheckResult>,
     /// Solve blocks, in evaluation order.
@@ -405,13 +397,13 @@ impl Evaluated {
 
     /// Number of cells.
     pub fn n_cells(&self) -> usize {
-        self.outcomes.len()
+        self.values.len()
     }
 
     /// The cell with this id.
     pub fn cell_at(&self, id: CellId) -> CellResult<'_> {
         let cell = self.sheet.cell(id);
-        let outcome = &self.outcomes[id];
+        let value = self.values[id];
         let span = self.sheet.cell_span(id);
         let line_span = cell.name.span;
         CellResult {
@@ -422,23 +414,23 @@ impl Evaluated {
             formula: formula_text(&self.sheet, id, &self.source),
             description: cell.description.map(|d| d.text.as_str()),
             declared_unit: cell.unit.is_some(),
-            is_input: outcome.is_input,
-            display: &outcome.display,
-            value: outcome.value.and_then(|v| v.scalar()),
-            vector: outcome.value.and_then(|v| v.vector()),
-            status: outcome.status,
+            is_input: self.inputs[id],
+            display: &self.displays[id],
+            value: value.and_then(|v| v.scalar()),
+            vector: value.and_then(|v| v.vector()),
+            status: self.statuses[id],
             uses: &self.sheet.uses[id],
             solved_by: self
                 .solves
                 .iter()
                 .position(|report| report.unknowns.contains(&id)),
-            spread: outcome.spread.as_deref().copied(),
+            spread: self.spreads[id],
         }
     }
 
     /// Every cell, by id (file order).
     pub fn cells(&self) -> impl ExactSizeIterator<Item = CellResult<'_>> {
-        (0..self.outcomes.len()).map(|id| self.cell_at(id))
+        (0..self.n_cells()).map(|id| self.cell_at(id))
     }
 
     /// Cell ids in evaluation (dependency) order; a solve block's unknowns
@@ -449,7 +441,7 @@ impl Evaluated {
 
     /// Every free body declared with `body`, in file order.
     pub fn free_bodies(&self) -> Vec<FreeBody<'_>> {
-        (0..self.outcomes.len())
+        (0..self.n_cells())
             .filter_map(|id| {
                 let body = self.sheet.body(id)?;
                 let forces = body
@@ -460,7 +452,7 @@ impl Evaluated {
                             .sheet
                             .names
                             .get(force.text.as_str())
-                            .and_then(|&f| self.outcomes[f].value)
+                            .and_then(|&f| self.values[f])
                             .and_then(|v| v.vector());
                         (force.text.as_str(), value)
                     })
@@ -469,7 +461,7 @@ impl Evaluated {
                     cell: id,
                     name: &body.name.text,
                     forces,
-                    resultant: self.outcomes[id].value.and_then(|v| v.vector()),
+                    resultant: self.values[id].and_then(|v| v.vector()),
                 })
             })
             .collect()

@@ -181,7 +181,7 @@ impl Sheet {
         mut statements: Vec<Statement>,
         mut diagnostics: Vec<Diagnostic>,
     ) -> Sheet {
-        let mut cells = Vec::new();
+        let mut cells = Vec::with_capacity(statements.len());
         let mut checks = Vec::new();
         let mut cases = Vec::new();
         let mut items = Vec::with_capacity(statements.len());
@@ -229,7 +229,30 @@ impl Sheet {
 
         let mut broken = vec![false; cells.len()];
         let mut names = NameTable::with_capacity(cells.len());
+        // A formula is resolved as soon as its own name is entered if every
+        // name it uses is entered already: most formulas use the cells just
+        // above them, whose entries are then still in cache (resolving after
+        // the whole table is built misses it on every name of a large sheet).
+        // A formula that uses a later cell or an undefined name waits for the
+        // whole table, below.
+        let mut uses: Vec<Vec<CellId>> = vec![Vec::new(); cells.len()];
+        let mut resolved_early = vec![false; cells.len()];
+        let mut early_with_constants = Vec::new();
+        let mut scratch = Vec::new();
         for (id, &origin) in cells.iter().enumerate() {
+            if let Some(&ahead) = cells.get(id + PREFETCH_AHEAD) {
+                names.prefetch(&decl(&statements, ahead).name.text);
+            }
+            if let CellOrigin::Formula { statement } = origin
+                && let Some((cell_uses, reads_constant)) =
+                    resolve_early(&mut statements[statement].kind, &names, &mut scratch)
+            {
+                uses[id] = cell_uses;
+                resolved_early[id] = true;
+                if reads_constant {
+                    early_with_constants.push(id);
+                }
+            }
             let name = decl(&statements, origin).name;
             if name.text == crate::syntax::ast::UNNAMED_TIME {
                 // A simulate head that did not parse: reported already.
@@ -251,6 +274,18 @@ impl Sheet {
             }
         }
 
+        // A cell named like a constant (`g0 = 9.81 m/s^2`) stands for it in
+        // every formula, also those resolved before the cell was entered.
+        if units::CONSTANTS
+            .iter()
+            .any(|constant| names.contains_key(constant.name))
+        {
+            for id in early_with_constants {
+                resolved_early[id] = false;
+                uses[id].clear();
+            }
+        }
+
         runs::name_run_events(&mut statements, &names, &mut diagnostics);
 
         let mut suggestions_left = MAX_SUGGESTIONS;
@@ -263,33 +298,43 @@ impl Sheet {
             (uses, ok)
         };
 
-        let mut uses = Vec::with_capacity(cells.len());
+        let mut next_cell = 0;
         let mut check_uses = Vec::with_capacity(checks.len());
         let mut broken_checks = Vec::with_capacity(checks.len());
         let mut broken_cases = Vec::with_capacity(cases.len());
         for statement in &mut statements {
             match &mut statement.kind {
                 StatementKind::Cell(cell) => {
+                    let id = next_cell;
+                    next_cell += 1;
+                    broken[id] |= matches!(cell.expr.kind, ExprKind::Invalid);
+                    if resolved_early[id] {
+                        continue;
+                    }
                     let tolerance = cell.tolerance.as_deref_mut().map(Tolerance::expr_mut);
                     let (cell_uses, ok) = resolve_uses(
                         &mut std::iter::once(&mut cell.expr).chain(tolerance),
                         &mut diagnostics,
                     );
-                    let id = uses.len();
-                    broken[id] |= !ok || matches!(cell.expr.kind, ExprKind::Invalid);
-                    uses.push(cell_uses);
+                    broken[id] |= !ok;
+                    uses[id] = cell_uses;
                 }
                 StatementKind::Body(body) => {
+                    let id = next_cell;
+                    next_cell += 1;
+                    if resolved_early[id] {
+                        continue;
+                    }
                     let (cell_uses, ok) = resolve_uses(
                         &mut std::iter::once(&mut body.resultant.expr),
                         &mut diagnostics,
                     );
-                    let id = uses.len();
                     broken[id] |= !ok;
-                    uses.push(cell_uses);
+                    uses[id] = cell_uses;
                 }
                 StatementKind::Solve(block) => {
-                    let first = uses.len();
+                    let first = next_cell;
+                    next_cell += block.unknowns.len();
                     let own: Vec<CellId> = (first..first + block.unknowns.len()).collect();
                     let SolveBlock {
                         unknowns,
@@ -309,7 +354,7 @@ impl Sheet {
                     block_uses.retain(|id| !own.contains(id));
                     for id in own {
                         broken[id] |= !ok || !*complete;
-                        uses.push(block_uses.clone());
+                        uses[id] = block_uses.clone();
                     }
                 }
                 StatementKind::Check(check) => {
@@ -372,7 +417,8 @@ impl Sheet {
                     broken_cases.push(!ok);
                 }
                 StatementKind::Simulate(block) => {
-                    let first = uses.len();
+                    let first = next_cell;
+                    next_cell += block.states.len() + 1;
                     let own: Vec<CellId> = (first..=first + block.states.len()).collect();
                     let complete = block.complete;
                     let (mut block_uses, ok) =
@@ -380,7 +426,7 @@ impl Sheet {
                     block_uses.retain(|id| !own.contains(id));
                     for id in own {
                         broken[id] |= !ok || !complete;
-                        uses.push(block_uses.clone());
+                        uses[id] = block_uses.clone();
                     }
                 }
                 StatementKind::Heading { .. }
@@ -400,7 +446,7 @@ impl Sheet {
         );
 
         // One node per formula cell and per solve block.
-        let mut nodes = Vec::new();
+        let mut nodes = Vec::with_capacity(cells.len());
         let mut node_of_cell = vec![0; cells.len()];
         let mut id = 0;
         while id < cells.len() {
@@ -438,26 +484,20 @@ impl Sheet {
                 }
             }
         }
-        let node_uses: Vec<Vec<NodeId>> = nodes
-            .iter()
-            .map(|node| {
-                let first = match node {
-                    Node::Cell(id) => *id,
-                    Node::Solve { unknowns, .. } => unknowns.first().copied().unwrap_or_default(),
-                    Node::Simulate { cells, .. } => cells.first().copied().unwrap_or_default(),
-                };
-                let mut used: Vec<NodeId> = uses
-                    .get(first)
-                    .into_iter()
-                    .flatten()
-                    .map(|&cell| node_of_cell[cell])
-                    .collect();
-                used.dedup();
-                used
-            })
-            .collect();
-
-        let node_order = evaluation_order(&node_uses);
+        // What each node uses: the uses of its first cell (a block's cells
+        // share theirs), as nodes.
+        let node_uses = |node: NodeId| {
+            let first = match &nodes[node] {
+                Node::Cell(id) => *id,
+                Node::Solve { unknowns, .. } => unknowns.first().copied().unwrap_or_default(),
+                Node::Simulate { cells, .. } => cells.first().copied().unwrap_or_default(),
+            };
+            uses.get(first)
+                .into_iter()
+                .flatten()
+                .map(|&cell| node_of_cell[cell])
+        };
+        let node_order = evaluation_order(nodes.len(), node_uses);
         let cycles: Vec<Vec<CellId>> = node_order
             .cycles
             .iter()
@@ -699,6 +739,61 @@ fn did_you_mean(name: &str, names: &NameTable) -> Option<String> {
 /// order) and gives a diagnostic for each undefined name, with a
 /// did-you-mean while `suggestions_left` lasts. Returns whether every name
 /// was defined. Linking and the notebook's one-line edits both use it.
+/// How many cells ahead linking starts loading the name table's slot for a
+/// name, so that the slot is in cache when the name is entered.
+const PREFETCH_AHEAD: usize = 16;
+
+/// What `name` refers to among `names` and the built-in constants, if
+/// anything: a cell wins over a constant of the same name.
+fn target_of(name: &str, names: &NameTable) -> Option<Target> {
+    match names.get(name) {
+        Some(&id) => Some(Target::Cell(id)),
+        None => units::CONSTANTS
+            .iter()
+            .position(|constant| constant.name == name)
+            .map(Target::Constant),
+    }
+}
+
+/// Resolves a formula cell's names against the cells entered so far (not
+/// yet its own), for [`Sheet::link`]: the cells it uses and whether it reads
+/// a constant, or `None` (leaving it to be resolved against the whole
+/// table) if a name is not entered yet. A cell entered so far is the name's
+/// first definition (later ones are duplicates), so what is found here
+/// stands; a constant stands unless a cell takes its name.
+/// `scratch` is a buffer for the uses, so that each cell allocates only
+/// its exact list.
+fn resolve_early(
+    kind: &mut StatementKind,
+    names: &NameTable,
+    scratch: &mut Vec<CellId>,
+) -> Option<(Vec<CellId>, bool)> {
+    let (expr, tolerance) = match kind {
+        StatementKind::Cell(cell) => (
+            &mut cell.expr,
+            cell.tolerance.as_deref_mut().map(Tolerance::expr_mut),
+        ),
+        StatementKind::Body(body) => (&mut body.resultant.expr, None),
+        _ => return None,
+    };
+    scratch.clear();
+    let (mut complete, mut reads_constant) = (true, false);
+    for expr in std::iter::once(expr).chain(tolerance) {
+        expr.walk_names_mut(&mut |name, _| match target_of(&name.text, names) {
+            Some(target) => {
+                name.target = target;
+                match target {
+                    Target::Cell(used) if !scratch.contains(&used) => scratch.push(used),
+                    Target::Constant(_) => reads_constant = true,
+                    _ => {}
+                }
+            }
+            None => complete = false,
+        });
+    }
+    complete.then(|| (scratch.to_vec(), reads_constant))
+}
+
 pub(crate) fn resolve_names<'e>(
     exprs: impl IntoIterator<Item = &'e mut Expr>,
     names: &NameTable,
@@ -709,14 +804,13 @@ pub(crate) fn resolve_names<'e>(
     let mut ok = true;
     for expr in exprs {
         expr.walk_names_mut(&mut |name, span| {
-            if let Some(&id) = names.get(&name.text) {
-                name.target = Target::Cell(id);
-                if !uses.contains(&id) {
+            if let Some(target) = target_of(&name.text, names) {
+                name.target = target;
+                if let Target::Cell(id) = target
+                    && !uses.contains(&id)
+                {
                     uses.push(id);
                 }
-            } else if let Some(index) = units::CONSTANTS.iter().position(|c| *c.name == *name.text)
-            {
-                name.target = Target::Constant(index);
             } else {
                 ok = false;
                 let mut diagnostic = Diagnostic::error(

@@ -1,51 +1,97 @@
 //! The sheet's cells by name.
 //!
-//! Written by hand rather than a `HashMap<String, CellId>`: in such a map
-//! every slot holds the name itself (32 bytes a slot at best), so on a
-//! million-cell sheet the table outgrows the cache and every lookup while
-//! linking misses it. Here a slot holds a 4-byte index into the entries,
-//! which stay in definition order; the table of a million names fits in
-//! cache, and the entry a formula's name leads to is usually one defined a
-//! few lines above, already in cache too.
+//! Written by hand rather than a `HashMap<String, CellId>` or hashbrown's
+//! `HashTable`: on a million-cell sheet the table outgrows the caches, and
+//! entering each name then waits for memory. Here a slot is 8 bytes (part
+//! of the name's hash and an index into the entries, which stay in
+//! definition order), found by the hash's high bits with linear probing, and
+//! [`NameTable::prefetch`] lets linking load a name's slot a few cells before
+//! it enters the name: hashbrown offers no way to reach a slot ahead of
+//! time. The entry a formula's name leads to is usually one defined a few
+//! lines above, already in cache.
 
 use std::hash::BuildHasher;
 use std::ops::Index;
 
 use compact_str::CompactString;
-use hashbrown::HashTable;
 use rustc_hash::FxBuildHasher;
 
 use super::CellId;
 
 /// Cell by name: the first definition of each name.
-#[derive(Clone, Debug, Default)]
+#[derive(Clone, Debug)]
 pub struct NameTable {
-    /// Index into `entries` for each name, hashed by the name.
-    slots: HashTable<u32>,
+    /// Open addressing with linear probing, a power of two long and at most
+    /// half full: each slot is empty (0) or holds the low 32 bits of the
+    /// name's hash above the name's entry index + 1. The high bits of the
+    /// hash pick the first slot.
+    slots: Box<[u64]>,
+    /// `64 - log2(slots.len())`: shifting a hash by it gives the first slot.
+    shift: u32,
     /// The names and their cells, in the order they were added.
     entries: Vec<(CompactString, CellId)>,
+}
+
+/// The fewest slots a table has.
+const MIN_SLOTS: usize = 16;
+
+impl Default for NameTable {
+    fn default() -> Self {
+        NameTable::with_capacity(0)
+    }
 }
 
 impl NameTable {
     /// An empty table with room for `capacity` names.
     pub fn with_capacity(capacity: usize) -> Self {
+        let n_slots = (capacity * 2).next_power_of_two().max(MIN_SLOTS);
         NameTable {
-            slots: HashTable::with_capacity(capacity),
+            slots: vec![0; n_slots].into_boxed_slice(),
+            shift: 64 - n_slots.trailing_zeros(),
             entries: Vec::with_capacity(capacity),
         }
     }
 
     /// The cell named `name`, if there is one.
     pub fn get(&self, name: &str) -> Option<&CellId> {
-        self.entry_of(hash(name), name)
+        self.find(hash(name), name)
+            .ok()
             .map(|entry| &self.entries[entry].1)
     }
 
-    /// The index of `name`'s entry, given the name's hash.
-    fn entry_of(&self, name_hash: u64, name: &str) -> Option<usize> {
-        self.slots
-            .find(name_hash, |&entry| self.entries[entry as usize].0 == name)
-            .map(|&entry| entry as usize)
+    /// The index of `name`'s entry, or the empty slot where it would go.
+    fn find(&self, name_hash: u64, name: &str) -> Result<usize, usize> {
+        let mask = self.slots.len() - 1;
+        let tag = name_hash & u64::from(u32::MAX);
+        let mut slot = (name_hash >> self.shift) as usize;
+        loop {
+            let held = self.slots[slot];
+            if held == 0 {
+                return Err(slot);
+            }
+            if held >> 32 == tag {
+                let entry = (held & u64::from(u32::MAX)) as usize - 1;
+                if self.entries[entry].0 == name {
+                    return Ok(entry);
+                }
+            }
+            slot = (slot + 1) & mask;
+        }
+    }
+
+    /// Starts loading the slot `name` would be found in, so that entering
+    /// or looking up the name a little later does not wait for memory.
+    pub fn prefetch(&self, name: &str) {
+        let slot = (hash(name) >> self.shift) as usize;
+        #[cfg(target_arch = "x86_64")]
+        // SAFETY: a prefetch is only a hint: it never faults, whatever the
+        // address, and SSE (which provides it) is part of every x86-64.
+        unsafe {
+            use std::arch::x86_64::{_MM_HINT_T0, _mm_prefetch};
+            _mm_prefetch::<_MM_HINT_T0>(self.slots.as_ptr().wrapping_add(slot).cast());
+        }
+        #[cfg(not(target_arch = "x86_64"))]
+        let _ = slot;
     }
 
     /// Whether a cell is named `name`.
@@ -56,18 +102,35 @@ impl NameTable {
     /// Names `id` by `name`, unless the name is taken: then the cell that
     /// has it is returned and the table is unchanged.
     pub fn insert_first(&mut self, name: &str, id: CellId) -> Result<(), CellId> {
-        let name_hash = hash(name);
-        if let Some(first) = self.entry_of(name_hash, name) {
-            return Err(self.entries[first].1);
+        if (self.entries.len() + 1) * 2 > self.slots.len() {
+            self.grow();
         }
-        // Sheets are far below 4 billion names: spans are u32 (a 4 GiB file
-        // is refused before linking), and every name takes a byte or more.
-        let entry = u32::try_from(self.entries.len()).unwrap_or(u32::MAX);
-        let entries = &self.entries;
-        self.slots
-            .insert_unique(name_hash, entry, |&other| hash(&entries[other as usize].0));
-        self.entries.push((name.into(), id));
-        Ok(())
+        let name_hash = hash(name);
+        match self.find(name_hash, name) {
+            Ok(first) => Err(self.entries[first].1),
+            Err(slot) => {
+                self.slots[slot] = packed(name_hash, self.entries.len());
+                self.entries.push((name.into(), id));
+                Ok(())
+            }
+        }
+    }
+
+    /// Doubles the slots and enters every name again.
+    fn grow(&mut self) {
+        let n_slots = self.slots.len() * 2;
+        let mut slots = vec![0; n_slots].into_boxed_slice();
+        let shift = 64 - n_slots.trailing_zeros();
+        for (entry, (name, _)) in self.entries.iter().enumerate() {
+            let name_hash = hash(name);
+            let mut slot = (name_hash >> shift) as usize;
+            while slots[slot] != 0 {
+                slot = (slot + 1) & (n_slots - 1);
+            }
+            slots[slot] = packed(name_hash, entry);
+        }
+        self.slots = slots;
+        self.shift = shift;
     }
 
     /// Every name, in the order added.
@@ -87,6 +150,13 @@ impl Index<&str> for NameTable {
     }
 }
 
+/// A slot's content: the hash's low 32 bits above the entry index + 1.
+/// Sheets are far below 4 billion names (spans are u32, so a 4 GiB file is
+/// refused before linking, and every name takes a byte or more).
+fn packed(name_hash: u64, entry: usize) -> u64 {
+    (name_hash & u64::from(u32::MAX)) << 32 | (entry as u64 + 1)
+}
+
 fn hash(name: &str) -> u64 {
     FxBuildHasher.hash_one(name)
 }
@@ -94,6 +164,39 @@ fn hash(name: &str) -> u64 {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use proptest::prelude::*;
+    use std::collections::HashMap;
+
+    proptest! {
+        #![proptest_config(ProptestConfig::with_cases(64))]
+
+        /// The table answers as a `HashMap` keeping each name's first cell
+        /// does, through growth and many near-identical names.
+        #[test]
+        fn it_agrees_with_a_map_of_first_definitions(
+            names in proptest::collection::vec("[a-c_θ]{1,3}[0-9]{0,2}", 0..600),
+            capacity in 0usize..64,
+        ) {
+            let mut table = NameTable::with_capacity(capacity);
+            let mut reference: HashMap<&str, CellId> = HashMap::new();
+            for (id, name) in names.iter().enumerate() {
+                let expected = match reference.get(name.as_str()) {
+                    Some(&first) => Err(first),
+                    None => {
+                        reference.insert(name, id);
+                        Ok(())
+                    }
+                };
+                prop_assert_eq!(table.insert_first(name, id), expected);
+            }
+            for name in &names {
+                prop_assert_eq!(table.get(name), reference.get(name.as_str()));
+                table.prefetch(name);
+            }
+            prop_assert_eq!(table.get("not-a-name"), None);
+            prop_assert_eq!(table.keys().count(), reference.len());
+        }
+    }
 
     #[test]
     fn the_first_definition_keeps_the_name() {

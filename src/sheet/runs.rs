@@ -247,20 +247,24 @@ pub(super) fn link_run_queries(
 /// Whether a statement holds a run query at all (a sheet without simulate
 /// blocks skips the pass unless it asks for a run).
 fn mentions_run_query(statement: &Statement) -> bool {
-    let exprs: Vec<&Expr> = match &statement.kind {
-        StatementKind::Cell(cell) => vec![&cell.expr],
-        StatementKind::Check(check) => vec![&check.lhs, &check.rhs],
-        StatementKind::Solve(block) => block
-            .equations
-            .iter()
-            .flat_map(|equation| [&equation.lhs, &equation.rhs])
-            .collect(),
-        _ => Vec::new(),
+    let (first, second): (Option<&Expr>, Option<&Expr>) = match &statement.kind {
+        StatementKind::Cell(cell) => (Some(&cell.expr), None),
+        StatementKind::Check(check) => (Some(&check.lhs), Some(&check.rhs)),
+        StatementKind::Solve(block) => {
+            return block
+                .equations
+                .iter()
+                .any(|equation| has_run_query(&equation.lhs) || has_run_query(&equation.rhs));
+        }
+        _ => (None, None),
     };
+    first.into_iter().chain(second).any(has_run_query)
+}
+
+/// Whether `expr` holds a run query.
+fn has_run_query(expr: &Expr) -> bool {
     let mut found = false;
-    for expr in exprs {
-        expr.walk(&mut |node| found |= matches!(node.kind, ExprKind::RunQuery(_)));
-    }
+    expr.walk(&mut |node| found |= matches!(node.kind, ExprKind::RunQuery(_)));
     found
 }
 

@@ -70,7 +70,10 @@ pub struct LineIndex {
 impl LineIndex {
     /// Indexes `source`.
     pub fn new(source: &str) -> Self {
-        let mut line_starts = vec![0];
+        // Counted first so a large sheet's index is allocated once.
+        let n_newlines = source.bytes().filter(|&byte| byte == b'\n').count();
+        let mut line_starts = Vec::with_capacity(n_newlines + 1);
+        line_starts.push(0);
         line_starts.extend(memchr_newlines(source));
         LineIndex { line_starts }
     }

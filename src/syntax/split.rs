@@ -1,6 +1,8 @@
 //! Cuts a sheet into its `+++` header and its statements, one per line, and
 //! parses each statement on its own so that one bad line never hides the rest.
 
+use std::sync::{Mutex, PoisonError};
+
 use pest::Parser;
 
 use super::ast::{CaseBlock, CellDef, Expr, ExprKind, SolveBlock, Statement, StatementKind};
@@ -108,7 +110,10 @@ pub fn parse(source: &str) -> ParsedSheet {
 
     let statements = gather_statements(source, lines);
     // Statements parse independently, so large sheets parse on every core.
-    let parse_one = |raw: &RawStatement| {
+    // Their diagnostics (rare) are gathered with the statement's index and put
+    // back in file order, so the statements collect straight into one vector.
+    let failures = Mutex::new(Vec::new());
+    let parse_one = |(index, raw): (usize, &RawStatement)| {
         let (kind, diagnostics) = match raw.block.as_deref() {
             None => {
                 let (kind, diagnostic) = parse_statement(raw.span.text(source), raw.span.start());
@@ -119,32 +124,35 @@ pub fn parse(source: &str) -> ParsedSheet {
             }
             Some(block) => parse_block(source, block),
         };
-        let statement = Statement {
+        if !diagnostics.is_empty() {
+            let mut failures = failures.lock().unwrap_or_else(PoisonError::into_inner);
+            failures.push((index, diagnostics));
+        }
+        Statement {
             span: raw.span,
             kind,
-        };
-        (statement, diagnostics)
+        }
     };
-    let parsed: Vec<(Statement, Vec<Diagnostic>)> = if statements.len() < PARALLEL_THRESHOLD {
-        statements.iter().map(parse_one).collect()
+    sheet.statements = if statements.len() < PARALLEL_THRESHOLD {
+        statements.iter().enumerate().map(parse_one).collect()
     } else {
         use rayon::prelude::*;
         statements
             .par_iter()
+            .enumerate()
             .with_min_len(1024)
             .map(parse_one)
             .collect()
     };
-    drop(statements);
-    // Collected in place (the standard library reuses the buffer), so a large
-    // sheet's statements are not copied into fresh memory a second time.
-    sheet.statements = parsed
-        .into_iter()
-        .map(|(statement, diagnostics)| {
-            sheet.diagnostics.extend(diagnostics);
-            statement
-        })
-        .collect();
+    let mut failures = failures
+        .into_inner()
+        .unwrap_or_else(PoisonError::into_inner);
+    failures.sort_unstable_by_key(|&(index, _)| index);
+    sheet.diagnostics.extend(
+        failures
+            .into_iter()
+            .flat_map(|(_, diagnostics)| diagnostics),
+    );
     sheet
 }
 
@@ -184,7 +192,9 @@ fn opens_block(text: &str) -> bool {
 /// Groups the remaining lines into statements, skipping blank and comment
 /// lines, and gathering each block up to its `end`.
 fn gather_statements(source: &str, lines: impl Iterator<Item = Line>) -> Vec<RawStatement> {
-    let mut statements = Vec::new();
+    // At most one statement per line: counting lines first allocates once.
+    let n_lines = source.bytes().filter(|&byte| byte == b'\n').count() + 1;
+    let mut statements = Vec::with_capacity(n_lines);
     let mut lines = lines.filter(|line| is_statement_line(&source[line.start..line.end]));
     while let Some(line) = lines.next() {
         let span = Span::new(line.start, line.end);

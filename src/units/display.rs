@@ -48,8 +48,10 @@ pub struct DisplayUnit {
 impl DisplayUnit {
     /// No unit: a plain number.
     pub fn none() -> Self {
+        // One empty text for every plain number, not an allocation each.
+        static NO_UNIT: LazyLock<Arc<str>> = LazyLock::new(|| Arc::from(""));
         DisplayUnit {
-            text: Arc::from(""),
+            text: Arc::clone(&NO_UNIT),
             si_factor: 1.0,
         }
     }
