@@ -239,19 +239,23 @@ impl Sheet {
         let mut resolved_early = vec![false; cells.len()];
         let mut early_with_constants = Vec::new();
         let mut scratch = Vec::new();
+        // Whether any statement reads a simulate run; the early resolution
+        // sees its cells', the pass below every other statement's.
+        let mut reads_runs = false;
         for (id, &origin) in cells.iter().enumerate() {
             if let Some(&ahead) = cells.get(id + PREFETCH_AHEAD) {
                 names.prefetch(&decl(&statements, ahead).name.text);
             }
             if let CellOrigin::Formula { statement } = origin
-                && let Some((cell_uses, reads_constant)) =
+                && let Some(early) =
                     resolve_early(&mut statements[statement].kind, &names, &mut scratch)
             {
-                uses[id] = cell_uses;
+                uses[id] = early.uses;
                 resolved_early[id] = true;
-                if reads_constant {
+                if early.reads_constant {
                     early_with_constants.push(id);
                 }
+                reads_runs |= early.reads_run;
             }
             let name = decl(&statements, origin).name;
             if name.text == crate::syntax::ast::UNNAMED_TIME {
@@ -303,6 +307,11 @@ impl Sheet {
         let mut broken_checks = Vec::with_capacity(checks.len());
         let mut broken_cases = Vec::with_capacity(cases.len());
         for statement in &mut statements {
+            let early = match statement.kind {
+                StatementKind::Cell(_) | StatementKind::Body(_) => resolved_early[next_cell],
+                _ => false,
+            };
+            reads_runs |= !early && runs::mentions_run_query(statement);
             match &mut statement.kind {
                 StatementKind::Cell(cell) => {
                     let id = next_cell;
@@ -437,6 +446,7 @@ impl Sheet {
             }
         }
         runs::link_run_queries(
+            reads_runs,
             &mut statements,
             &cells,
             &checks,
@@ -755,19 +765,28 @@ fn target_of(name: &str, names: &NameTable) -> Option<Target> {
     }
 }
 
+/// A formula cell resolved as its name was entered.
+struct EarlyUses {
+    /// The cells it uses, no repeats, in first-use order.
+    uses: Vec<CellId>,
+    /// Whether it reads a built-in constant.
+    reads_constant: bool,
+    /// Whether it reads a simulate run (`v at stop`).
+    reads_run: bool,
+}
+
 /// Resolves a formula cell's names against the cells entered so far (not
-/// yet its own), for [`Sheet::link`]: the cells it uses and whether it reads
-/// a constant, or `None` (leaving it to be resolved against the whole
-/// table) if a name is not entered yet. A cell entered so far is the name's
-/// first definition (later ones are duplicates), so what is found here
-/// stands; a constant stands unless a cell takes its name.
-/// `scratch` is a buffer for the uses, so that each cell allocates only
-/// its exact list.
+/// yet its own), for [`Sheet::link`], or gives `None` (leaving the cell to
+/// be resolved against the whole table) if a name is not entered yet. A
+/// cell entered so far is the name's first definition (later ones are
+/// duplicates), so what is found here stands; a constant stands unless a
+/// cell takes its name. `scratch` is a buffer for the uses, so that each
+/// cell allocates only its exact list.
 fn resolve_early(
     kind: &mut StatementKind,
     names: &NameTable,
     scratch: &mut Vec<CellId>,
-) -> Option<(Vec<CellId>, bool)> {
+) -> Option<EarlyUses> {
     let (expr, tolerance) = match kind {
         StatementKind::Cell(cell) => (
             &mut cell.expr,
@@ -777,21 +796,29 @@ fn resolve_early(
         _ => return None,
     };
     scratch.clear();
-    let (mut complete, mut reads_constant) = (true, false);
+    let (mut complete, mut reads_constant, mut reads_run) = (true, false, false);
     for expr in std::iter::once(expr).chain(tolerance) {
-        expr.walk_names_mut(&mut |name, _| match target_of(&name.text, names) {
-            Some(target) => {
-                name.target = target;
-                match target {
-                    Target::Cell(used) if !scratch.contains(&used) => scratch.push(used),
-                    Target::Constant(_) => reads_constant = true,
-                    _ => {}
+        expr.walk_mut(&mut |node| match &mut node.kind {
+            ExprKind::Name(name) => match target_of(&name.text, names) {
+                Some(target) => {
+                    name.target = target;
+                    match target {
+                        Target::Cell(used) if !scratch.contains(&used) => scratch.push(used),
+                        Target::Constant(_) => reads_constant = true,
+                        _ => {}
+                    }
                 }
-            }
-            None => complete = false,
+                None => complete = false,
+            },
+            ExprKind::RunQuery(_) => reads_run = true,
+            _ => {}
         });
     }
-    complete.then(|| (scratch.to_vec(), reads_constant))
+    complete.then(|| EarlyUses {
+        uses: scratch.to_vec(),
+        reads_constant,
+        reads_run,
+    })
 }
 
 pub(crate) fn resolve_names<'e>(

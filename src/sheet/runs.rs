@@ -123,8 +123,11 @@ fn block_of(cells: &[CellOrigin], target: Target) -> Option<usize> {
 
 /// Settles which block each run query reads, and reports states and times
 /// of a run used outside a run query. The cells, checks and blocks with
-/// such a problem are marked broken.
+/// such a problem are marked broken. `reads_runs` says whether any
+/// statement holds a run query: without one and without simulate blocks
+/// there is nothing to do.
 pub(super) fn link_run_queries(
+    reads_runs: bool,
     statements: &mut [Statement],
     cells: &[CellOrigin],
     checks: &[usize],
@@ -140,7 +143,7 @@ pub(super) fn link_run_queries(
             _ => None,
         })
         .collect();
-    if heads.is_empty() && !statements.iter().any(mentions_run_query) {
+    if heads.is_empty() && !reads_runs {
         return;
     }
     let mut cells_of: HashMap<usize, Vec<CellId>> = HashMap::default();
@@ -246,7 +249,7 @@ pub(super) fn link_run_queries(
 
 /// Whether a statement holds a run query at all (a sheet without simulate
 /// blocks skips the pass unless it asks for a run).
-fn mentions_run_query(statement: &Statement) -> bool {
+pub(super) fn mentions_run_query(statement: &Statement) -> bool {
     let (first, second): (Option<&Expr>, Option<&Expr>) = match &statement.kind {
         StatementKind::Cell(cell) => (Some(&cell.expr), None),
         StatementKind::Check(check) => (Some(&check.lhs), Some(&check.rhs)),

@@ -605,23 +605,32 @@ pub struct UnitFactor {
 impl Expr {
     /// Calls `visit` on every name in this expression, in written order.
     pub fn walk_names_mut(&mut self, visit: &mut impl FnMut(&mut NameRef, Span)) {
+        self.walk_mut(&mut |node| {
+            let span = node.span;
+            if let ExprKind::Name(name) = &mut node.kind {
+                visit(name, span);
+            }
+        });
+    }
+
+    /// Calls `visit` on this expression and every sub-expression, parents
+    /// first (what a visit changes is then walked as changed), mutably.
+    pub fn walk_mut(&mut self, visit: &mut impl FnMut(&mut Expr)) {
+        visit(self);
         match &mut self.kind {
-            ExprKind::Name(name) => visit(name, self.span),
             ExprKind::Negate(inner) | ExprKind::Component { vector: inner, .. } => {
-                inner.walk_names_mut(visit)
+                inner.walk_mut(visit)
             }
             ExprKind::Binary { lhs, rhs, .. } => {
-                lhs.walk_names_mut(visit);
-                rhs.walk_names_mut(visit);
+                lhs.walk_mut(visit);
+                rhs.walk_mut(visit);
             }
-            ExprKind::Call { args, .. } => {
-                args.iter_mut().for_each(|arg| arg.walk_names_mut(visit))
-            }
+            ExprKind::Call { args, .. } => args.iter_mut().for_each(|arg| arg.walk_mut(visit)),
             ExprKind::RunQuery(query) => {
-                query.value.walk_names_mut(visit);
+                query.value.walk_mut(visit);
                 match &mut query.point {
                     RunPoint::Extremum { of: expr, .. } | RunPoint::Time(expr) => {
-                        expr.walk_names_mut(visit)
+                        expr.walk_mut(visit)
                     }
                     RunPoint::Start | RunPoint::End | RunPoint::Stop | RunPoint::Event(_) => {}
                 }
@@ -630,7 +639,8 @@ impl Expr {
             | ExprKind::Quantity { .. }
             | ExprKind::Slope { .. }
             | ExprKind::UnitValue(_)
-            | ExprKind::Invalid => {}
+            | ExprKind::Invalid
+            | ExprKind::Name(_) => {}
         }
     }
 
@@ -665,34 +675,11 @@ impl Expr {
     /// Calls `visit` on every run query in this expression (outer queries
     /// first), so linking can settle what their points name.
     pub fn walk_run_queries_mut(&mut self, visit: &mut impl FnMut(&mut RunQuery)) {
-        match &mut self.kind {
-            ExprKind::RunQuery(query) => {
+        self.walk_mut(&mut |node| {
+            if let ExprKind::RunQuery(query) = &mut node.kind {
                 visit(query);
-                query.value.walk_run_queries_mut(visit);
-                match &mut query.point {
-                    RunPoint::Extremum { of: expr, .. } | RunPoint::Time(expr) => {
-                        expr.walk_run_queries_mut(visit)
-                    }
-                    RunPoint::Start | RunPoint::End | RunPoint::Stop | RunPoint::Event(_) => {}
-                }
             }
-            ExprKind::Negate(inner) | ExprKind::Component { vector: inner, .. } => {
-                inner.walk_run_queries_mut(visit)
-            }
-            ExprKind::Binary { lhs, rhs, .. } => {
-                lhs.walk_run_queries_mut(visit);
-                rhs.walk_run_queries_mut(visit);
-            }
-            ExprKind::Call { args, .. } => args
-                .iter_mut()
-                .for_each(|arg| arg.walk_run_queries_mut(visit)),
-            ExprKind::Number(_)
-            | ExprKind::Quantity { .. }
-            | ExprKind::Slope { .. }
-            | ExprKind::UnitValue(_)
-            | ExprKind::Invalid
-            | ExprKind::Name(_) => {}
-        }
+        });
     }
 }
 
