@@ -11,11 +11,13 @@ use generated::generated_sheet;
 
 use criterion::{Criterion, Throughput, criterion_group, criterion_main};
 
-/// The binary uses mimalloc; measure with the same allocator.
+/// The binary uses mimalloc; measure with the same allocator and settings
+/// (`heftsheet::allocator::configure`).
 #[global_allocator]
 static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
 
 fn lints_against_evaluation(c: &mut Criterion) {
+    heftsheet::allocator::configure();
     let n_cells = 100_000usize;
     let source = generated_sheet(n_cells);
     let evaluated = heftsheet::eval::evaluate_source(&source);

@@ -13,6 +13,7 @@ static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
 mod generated;
 
 fn cases(c: &mut Criterion) {
+    heftsheet::allocator::configure();
     let plain = generated::generated_sheet(10_000);
     let with_cases = generated::generated_sheet_with_cases(10_000, 5);
     let evaluated = heftsheet::eval::evaluate_source(&with_cases);

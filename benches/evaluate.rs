@@ -9,11 +9,13 @@ use criterion::{BenchmarkId, Criterion, Throughput, criterion_group, criterion_m
 mod generated;
 use generated::generated_sheet;
 
-/// The binary uses mimalloc; measure with the same allocator.
+/// The binary uses mimalloc; measure with the same allocator and settings
+/// (`heftsheet::allocator::configure`).
 #[global_allocator]
 static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
 
 fn parse_and_evaluate(c: &mut Criterion) {
+    heftsheet::allocator::configure();
     let mut group = c.benchmark_group("parse_and_evaluate");
     group.sample_size(10);
     for n_cells in [100_000usize, 1_000_000] {

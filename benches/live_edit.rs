@@ -9,11 +9,13 @@ use heftsheet::eval::{CellField, LiveSheet};
 mod common;
 use common::sectioned_sheet;
 
-/// The binary uses mimalloc; measure with the same allocator.
+/// The binary uses mimalloc; measure with the same allocator and settings
+/// (`heftsheet::allocator::configure`).
 #[global_allocator]
 static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
 
 fn one_input_edit(c: &mut Criterion) {
+    heftsheet::allocator::configure();
     let mut live = LiveSheet::open(&sectioned_sheet(1000));
     assert_eq!(live.n_cells(), 100_000);
     assert_eq!(live.count(heftsheet::diag::Severity::Error), 0);

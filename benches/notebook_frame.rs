@@ -16,7 +16,8 @@ use ratatui::layout::Rect;
 mod common;
 use common::sectioned_sheet;
 
-/// The binary uses mimalloc; measure with the same allocator.
+/// The binary uses mimalloc; measure with the same allocator and settings
+/// (`heftsheet::allocator::configure`).
 #[global_allocator]
 static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
 
@@ -51,6 +52,7 @@ fn select(app: &mut App, name: &str) {
 }
 
 fn key_to_frame(c: &mut Criterion) {
+    heftsheet::allocator::configure();
     let mut group = c.benchmark_group("notebook_frame_10k");
 
     // Typing in an input's formula: each key recomputes the 100 cells of

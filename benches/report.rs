@@ -11,7 +11,8 @@ use criterion::{BenchmarkId, Criterion, criterion_group, criterion_main};
 use heftsheet::eval::evaluate_source;
 use heftsheet::report::{self, Format};
 
-/// The binary uses mimalloc; measure with the same allocator.
+/// The binary uses mimalloc; measure with the same allocator and settings
+/// (`heftsheet::allocator::configure`).
 #[global_allocator]
 static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
 
@@ -71,6 +72,7 @@ fn report_of(source: &str, format: Format) -> String {
 }
 
 fn reports(c: &mut Criterion) {
+    heftsheet::allocator::configure();
     let mut group = c.benchmark_group("report");
     group.sample_size(10);
     let demo = largest_demo_sheet();

@@ -59,6 +59,7 @@ fn steps_of(sheet: &str, energy_tolerance: f64) -> u64 {
 }
 
 fn simulate(c: &mut Criterion) {
+    heftsheet::allocator::configure();
     let mut group = c.benchmark_group("simulate");
     group.measurement_time(Duration::from_secs(10));
 

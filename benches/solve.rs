@@ -62,6 +62,7 @@ fn spring_chain(n_nodes: usize) -> String {
 }
 
 fn solve(c: &mut Criterion) {
+    heftsheet::allocator::configure();
     let mut group = c.benchmark_group("solve");
     for (name, sheet) in [
         ("linear_50_unknowns", cart_train(50)),

@@ -10,6 +10,7 @@
 //! [`cli`] presents the result; [`tui`] is the terminal notebook that edits a
 //! sheet and recomputes it live. [`diag`] carries every finding as data.
 
+pub mod allocator;
 pub mod audit;
 pub mod cases;
 pub mod cli;

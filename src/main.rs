@@ -10,5 +10,6 @@ use clap::Parser;
 static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
 
 fn main() -> ExitCode {
+    heftsheet::allocator::configure();
     heftsheet::cli::run(heftsheet::cli::Args::parse())
 }
