@@ -550,6 +550,10 @@ impl<'a> Evaluator<'a> {
         let (displays, inputs) = (0..sheet.cells.len())
             .map(|id| self.display_unit(id, self.values[id]))
             .unzip();
+        // A statement the outline cannot show as what it should be.
+        let invalid = |index: usize| OutlineItem::Invalid {
+            span: sheet.statements[index].span,
+        };
         let mut outline = Vec::with_capacity(sheet.items.len());
         outline.extend(
             sheet
@@ -562,42 +566,26 @@ impl<'a> Evaluator<'a> {
                             level: *level,
                             text: text.clone(),
                         },
-                        _ => OutlineItem::Invalid {
-                            span: sheet.statements[index].span,
-                        },
+                        _ => invalid(index),
                     },
                     Item::Note(index) => match &sheet.statements[index].kind {
                         StatementKind::Note { text } => OutlineItem::Note { text: text.clone() },
-                        _ => OutlineItem::Invalid {
-                            span: sheet.statements[index].span,
-                        },
+                        _ => invalid(index),
                     },
                     Item::Cell(id) => OutlineItem::Cell(id),
                     Item::Check(index) => OutlineItem::Check(index),
                     Item::Case(statement) => OutlineItem::Case(statement),
-                    Item::Solve(statement) => match self
+                    Item::Solve(statement) => self
                         .solves
                         .iter()
                         .position(|report| report.statement == statement)
-                    {
-                        Some(report) => OutlineItem::Solve(report),
-                        None => OutlineItem::Invalid {
-                            span: sheet.statements[statement].span,
-                        },
-                    },
-                    Item::Invalid(index) | Item::Review(index) => OutlineItem::Invalid {
-                        span: sheet.statements[index].span,
-                    },
-                    Item::Simulate(statement) => match self
+                        .map_or_else(|| invalid(statement), OutlineItem::Solve),
+                    Item::Invalid(index) | Item::Review(index) => invalid(index),
+                    Item::Simulate(statement) => self
                         .runs
                         .iter()
                         .position(|report| report.statement == statement)
-                    {
-                        Some(report) => OutlineItem::Simulate(report),
-                        None => OutlineItem::Invalid {
-                            span: sheet.statements[statement].span,
-                        },
-                    },
+                        .map_or_else(|| invalid(statement), OutlineItem::Simulate),
                 }),
         );
         let mut diagnostics = std::mem::take(&mut self.diagnostics);
