@@ -1079,9 +1079,7 @@ impl LiveSheet {
             self.block_findings.extend(case_findings);
         }
         self.checks = checks;
-        (self.displays, self.inputs) = (0..n_cells)
-            .map(|id| evaluator.display_unit(id, evaluator.values[id]))
-            .unzip();
+        (self.displays, self.inputs) = evaluator.display_units();
         self.values = evaluator.values;
         self.statuses = evaluator.statuses;
         self.spreads = evaluator.spreads;

@@ -547,9 +547,7 @@ impl<'a> Evaluator<'a> {
         source: &Arc<str>,
     ) -> Evaluated {
         let lines = LineIndex::new(source);
-        let (displays, inputs) = (0..sheet.cells.len())
-            .map(|id| self.display_unit(id, self.values[id]))
-            .unzip();
+        let (displays, inputs) = self.display_units();
         // A statement the outline cannot show as what it should be.
         let invalid = |index: usize| OutlineItem::Invalid {
             span: sheet.statements[index].span,
@@ -609,6 +607,13 @@ impl<'a> Evaluator<'a> {
             diagnostics,
             lines,
         }
+    }
+
+    /// Every cell's display unit and whether it is an input, by id.
+    fn display_units(&self) -> (Vec<DisplayUnit>, Vec<bool>) {
+        (0..self.values.len())
+            .map(|id| self.display_unit(id, self.values[id]))
+            .unzip()
     }
 
     /// The unit a cell is shown in, and whether it is an input: a declared unit

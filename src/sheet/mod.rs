@@ -744,11 +744,6 @@ fn did_you_mean(name: &str, names: &NameTable) -> Option<String> {
         .map(|(_, candidate)| candidate.to_string())
 }
 
-/// Resolves the names of `exprs` against `names` and the constants: fills
-/// their targets, adds the cells used to `uses` (no repeats, first-use
-/// order) and gives a diagnostic for each undefined name, with a
-/// did-you-mean while `suggestions_left` lasts. Returns whether every name
-/// was defined. Linking and the notebook's one-line edits both use it.
 /// How many cells ahead linking starts loading the name table's slot for a
 /// name, so that the slot is in cache when the name is entered.
 const PREFETCH_AHEAD: usize = 16;
@@ -821,6 +816,11 @@ fn resolve_early(
     })
 }
 
+/// Resolves the names of `exprs` against `names` and the constants: fills
+/// their targets, adds the cells used to `uses` (no repeats, first-use
+/// order) and gives a diagnostic for each undefined name, with a
+/// did-you-mean while `suggestions_left` lasts. Returns whether every name
+/// was defined. Linking and the notebook's one-line edits both use it.
 pub(crate) fn resolve_names<'e>(
     exprs: impl IntoIterator<Item = &'e mut Expr>,
     names: &NameTable,
