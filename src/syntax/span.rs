@@ -71,8 +71,7 @@ impl LineIndex {
     /// Indexes `source`.
     pub fn new(source: &str) -> Self {
         // Counted first so a large sheet's index is allocated once.
-        let n_newlines = source.bytes().filter(|&byte| byte == b'\n').count();
-        let mut line_starts = Vec::with_capacity(n_newlines + 1);
+        let mut line_starts = Vec::with_capacity(line_count(source));
         line_starts.push(0);
         line_starts.extend(memchr_newlines(source));
         LineIndex { line_starts }
@@ -109,6 +108,12 @@ impl LineIndex {
     pub fn n_lines(&self) -> usize {
         self.line_starts.len()
     }
+}
+
+/// How many lines `source` has (one more than its line breaks), for sizing
+/// what holds one item per line before filling it.
+pub(super) fn line_count(source: &str) -> usize {
+    source.bytes().filter(|&byte| byte == b'\n').count() + 1
 }
 
 fn memchr_newlines(source: &str) -> impl Iterator<Item = usize> + '_ {

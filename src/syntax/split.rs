@@ -193,8 +193,7 @@ fn opens_block(text: &str) -> bool {
 /// lines, and gathering each block up to its `end`.
 fn gather_statements(source: &str, lines: impl Iterator<Item = Line>) -> Vec<RawStatement> {
     // At most one statement per line: counting lines first allocates once.
-    let n_lines = source.bytes().filter(|&byte| byte == b'\n').count() + 1;
-    let mut statements = Vec::with_capacity(n_lines);
+    let mut statements = Vec::with_capacity(super::span::line_count(source));
     let mut lines = lines.filter(|line| is_statement_line(&source[line.start..line.end]));
     while let Some(line) = lines.next() {
         let span = Span::new(line.start, line.end);
