@@ -7,8 +7,9 @@
 //! [`cli`] presents the result. [`diag`] carries every finding as data.
 //! [`audit`] reads the evaluated sheet for the mistakes dimensions miss
 //! (lints) and lists every conversion for the checker.
-//! [`cli`] presents the result; [`tui`] is the terminal notebook that edits a
-//! sheet and recomputes it live. [`diag`] carries every finding as data.
+//! [`pipeline`] is the one function every command runs; [`cli`] presents
+//! the result; [`tui`] is the terminal notebook that edits a sheet and
+//! recomputes it live. [`diag`] carries every finding as data.
 
 pub mod allocator;
 pub mod audit;
@@ -17,6 +18,7 @@ pub mod cli;
 pub mod diag;
 pub mod diff;
 pub mod eval;
+pub mod pipeline;
 pub mod plot;
 pub mod report;
 pub mod review;

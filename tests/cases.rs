@@ -128,7 +128,7 @@ fn bounds_contain_every_sampled_value_and_are_tight_when_monotone() {
         );
         if case.monotone {
             assert!(
-                bounds.at_corners,
+                bounds.method == heftsheet::eval::RangeMethod::WorstCorners,
                 "{}: a monotone result is refined to its corners",
                 case.target
             );
@@ -175,8 +175,9 @@ fn derivatives_match_closed_form_results() {
     let t = range(&sheet, "T");
     let nominal = si(&sheet, "T");
     let spread = (9.80665 + 1.2) * 5.0 + 250.0 * 0.1;
-    assert_close(t.first_order_high, nominal + spread, 1e-12);
-    assert_close(t.first_order_low, nominal - spread, 1e-12);
+    let (first_order_low, first_order_high) = t.first_order.expect("a first-order estimate");
+    assert_close(first_order_high, nominal + spread, 1e-12);
+    assert_close(first_order_low, nominal - spread, 1e-12);
 }
 
 #[test]
@@ -235,4 +236,232 @@ fn the_governing_case_is_the_one_with_the_highest_utilization() {
         (1850.0 * 1.03 + 95.0) * (9.80665 + 3.6) / 2.0,
         1e-9,
     );
+}
+
+// ---------------------------------------------------------------------------
+// Verdicts: an unknown is never a pass, and a check is judged everywhere.
+
+/// A check's verdict by its statement.
+#[track_caller]
+fn check_status(sheet: &Evaluated, statement: &str) -> heftsheet::eval::CheckStatus {
+    sheet
+        .checks
+        .iter()
+        .find(|c| c.statement() == statement)
+        .map(|c| c.status)
+        .unwrap_or_else(|| panic!("no check `{statement}`"))
+}
+
+#[test]
+fn a_solved_result_is_judged_at_the_worst_case_of_its_tolerances() {
+    // Closed form: 2 T = m g0, so T = m g0 / 2 with m = 100 kg ± 10 %: the
+    // worst case is 110 kg × 9.80665 / 2 = 539.37 N > 500 N. The solved T
+    // and the hand formula T_hand are the same quantity and must agree.
+    let sheet = run(
+        "m = 100 kg ± 10 %\nW [N] = m * g0\nsolve T [N] ~ 500:\n  2 * T = W\nend\n\
+         T_hand [N] = W / 2\ncheck T <= 500 N\ncheck T_hand <= 500 N\n",
+    );
+    use heftsheet::eval::{CheckStatus, RangeMethod};
+    assert_eq!(check_status(&sheet, "T <= 500 N"), CheckStatus::Failed);
+    assert_eq!(check_status(&sheet, "T_hand <= 500 N"), CheckStatus::Failed);
+    let solved = sheet.checks[0]
+        .worst
+        .clone()
+        .expect("a worst case through the solve block");
+    let by_hand = sheet.checks[1].worst.clone().expect("a worst case");
+    assert_eq!(solved.method, RangeMethod::Corners(2));
+    assert_close(
+        solved.worst_utilization.unwrap_or(f64::NAN),
+        110.0 * 9.80665 / 2.0 / 500.0,
+        1e-12,
+    );
+    assert_close(
+        solved.worst_utilization.unwrap_or(f64::NAN),
+        by_hand.worst_utilization.unwrap_or(f64::NAN),
+        1e-12,
+    );
+    let t_range = range(&sheet, "T");
+    assert_eq!(t_range.method, RangeMethod::Corners(2));
+    assert_close(t_range.low, 90.0 * 9.80665 / 2.0, 1e-12);
+    assert_close(t_range.high, 110.0 * 9.80665 / 2.0, 1e-12);
+    assert!(!sheet.is_clean());
+}
+
+#[test]
+fn vector_and_simulated_results_are_judged_at_their_corners() {
+    // A sling force as a vector: |F| = T / cos(θ) hand-checked at the worst
+    // corner T = 1.1 × 4 kN, θ = 32° (5.188 kN > 5.1 kN; nominal 4.619 kN); a run's peak speed for a free fall
+    // from h (closed form v = sqrt(2 g0 h)) with h ± 5 %.
+    let sheet = run(
+        "T = 4 kN ± 10 %\nθ = 30 deg ± 2 deg\nF = vec(T * tan(θ), T)\ncheck mag(F) <= 5.1 kN\n\
+         h = 2 m ± 5 %\nsimulate t from 0 s to 5 s:\n  y' = v\n  v' = g0\n  y(0) = 0 m\n  v(0) = 0 m/s\n  stop when y >= h\n  tolerance 1e-9\nend\n\
+         v_hit = v at stop\ncheck v_hit <= 6.35 m/s\n",
+    );
+    use heftsheet::eval::CheckStatus;
+    let magnitude = 4.4 / 32f64.to_radians().cos();
+    assert!(
+        magnitude > 5.1,
+        "the worst corner fails by hand: {magnitude}"
+    );
+    assert_eq!(
+        check_status(&sheet, "mag(F) <= 5.1 kN"),
+        CheckStatus::Failed
+    );
+    let worst = sheet.checks[0].worst.clone().expect("a worst case");
+    assert_close(worst.lhs.high, magnitude * 1000.0, 1e-9);
+    // sqrt(2 × 9.80665 × 2.1) = 6.4177 m/s > 6.35; nominal sqrt(2 g0 2) = 6.2629.
+    assert_eq!(
+        check_status(&sheet, "v_hit <= 6.35 m/s"),
+        CheckStatus::Failed
+    );
+    let worst = sheet.checks[1]
+        .worst
+        .clone()
+        .expect("a worst case through the run");
+    assert_close(worst.lhs.high, (2.0f64 * 9.80665 * 2.1).sqrt(), 1e-7);
+    let id = sheet.cell("F").map(|c| c.id);
+    let components = sheet
+        .vector_ranges
+        .iter()
+        .find(|(cell, _)| Some(*cell) == id)
+        .map(|(_, c)| c.clone())
+        .expect("F's components have ranges");
+    assert_close(components[1].0, 3600.0, 1e-12);
+    assert_close(components[1].1, 4400.0, 1e-12);
+}
+
+#[test]
+fn a_worst_case_beyond_the_corner_limit_is_unknown_never_passed() {
+    // Eleven toleranced inputs reach a solved result: 2^11 corners is beyond
+    // the limit, so the check cannot be judged at its worst case.
+    let mut source = String::new();
+    let names: Vec<String> = (0..11).map(|k| format!("m_{k}")).collect();
+    for name in &names {
+        source.push_str(&format!("{name} = 10 kg ± 1 %\n"));
+    }
+    source.push_str(&format!(
+        "solve T [N] ~ 500:\n  2 * T = ({}) * g0\nend\ncheck T <= 5 kN\n",
+        names.join(" + ")
+    ));
+    let sheet = run(&source);
+    use heftsheet::eval::CheckStatus;
+    assert_eq!(sheet.checks[0].status, CheckStatus::Unknown);
+    assert_eq!(sheet.checks[0].passed(), None);
+    assert!(common::codes(&sheet).contains(&"check-unknown"));
+    let summary = sheet.summary();
+    assert_eq!((summary.passed, summary.unknown), (0, 1));
+    assert!(!sheet.is_clean());
+    assert!(summary.line().contains("1 unknown"), "{}", summary.line());
+}
+
+#[test]
+fn non_smooth_functions_range_over_the_argument_they_take() {
+    // max and min take one argument or the other over the box; their range
+    // is that of the hull (closed form from the bounds: max of [2, 3] and
+    // [5, 9] is [5, 9], min is [2, 3]); abs of [-1, 2] is [0, 2]; hypot of
+    // [3, 4] and [4, 5] is [5, sqrt(41)].
+    let sheet = run(
+        "+++\ncase_results = [\"F_gov\", \"F_low\", \"a\", \"h\"]\n+++\n\
+         F_wind = 2 kN .. 3 kN\nF_snow = 5 kN .. 9 kN\nF_gov [kN] = max(F_wind, F_snow)\n\
+         F_low [kN] = min(F_wind, F_snow)\nx = -1 .. 2\na = abs(x)\n\
+         p = 3 .. 4\nq = 4 .. 5\nh = hypot(p, q)\ncheck F_gov <= 8.5 kN\n",
+    );
+    let of = |name: &str| {
+        let r = range(&sheet, name);
+        r.shown_bounds()
+    };
+    let (low, high) = of("F_gov");
+    assert_close(low, 5000.0, 1e-12);
+    assert_close(high, 9000.0, 1e-12);
+    let (low, high) = of("F_low");
+    assert_close(low, 2000.0, 1e-12);
+    assert_close(high, 3000.0, 1e-12);
+    let (low, high) = of("a");
+    assert!(
+        low.abs() < 1e-12 && (high - 2.0).abs() < 1e-12,
+        "[{low}, {high}]"
+    );
+    let (low, high) = of("h");
+    assert_close(low, 5.0, 1e-12);
+    assert_close(high, 41f64.sqrt(), 1e-12);
+    // The governing force follows the snow load: 9 kN / 8.5 kN = 105.9 %.
+    let worst = sheet.checks[0].worst.clone().expect("worst case");
+    assert!(!worst.passes);
+    assert_close(
+        worst.worst_utilization.unwrap_or(f64::NAN),
+        9.0 / 8.5,
+        1e-12,
+    );
+    let snow = sheet.cell("F_snow").map(|c| c.id);
+    let derivative = range(&sheet, "F_gov")
+        .sensitivities
+        .iter()
+        .find(|s| Some(s.input) == snow)
+        .map(|s| s.derivative);
+    assert_eq!(derivative, Some(1.0));
+}
+
+#[test]
+fn a_case_override_may_use_a_cell_written_later_in_the_file() {
+    // N_req = SF m (g0 + a) / (2 μ): in case `oily`, μ = 0.10 (defined at
+    // the end of the file), so N_req = 2 × 12 × 11.80665 / 0.2 = 1416.8 N.
+    let source = "SF = 2\nm_part = 12 kg\na_up = 2 m/s^2\nN_avail = 1300 N\nμ = 0.25 .. 0.3\n\
+                  N_req [N] = SF * m_part * (g0 + a_up) / (2 * μ)\ncheck N_avail >= N_req\n\
+                  case oily \"oily parts\":\n  μ = μ_oily\nend\nμ_oily = 0.10\n";
+    let sheet = heftsheet::pipeline::run(source);
+    assert!(sheet.cases[0].evaluated);
+    let n_req = sheet.cases[0].results[1]
+        .value
+        .and_then(|v| v.scalar())
+        .map(|q| q.si);
+    assert_close(
+        n_req.unwrap_or(f64::NAN),
+        2.0 * 12.0 * (9.80665 + 2.0) / 0.2,
+        1e-12,
+    );
+    use heftsheet::eval::{CheckStatus, Place};
+    assert_eq!(sheet.checks[0].status, CheckStatus::Failed);
+    assert_eq!(sheet.checks[0].fails, vec![Place::Case(0)]);
+    assert_eq!(sheet.governing, vec![Some(0)]);
+    // μ_oily is used by the case: no unused-input note.
+    assert!(
+        !common::codes(&sheet).contains(&"unused-input"),
+        "{:?}",
+        common::codes(&sheet)
+    );
+}
+
+#[test]
+fn a_check_failing_only_in_a_load_case_fails_the_sheet_everywhere() {
+    // A spreader's lower sling: V_2 = m (g0 + a) / 2 / cos(θ). As written
+    // (a = 0.3 m/s²) it holds even at 1648 kg (8.86 kN); in the jerk case
+    // (a = 1.2 m/s²) it holds at 1600 kg (9.37 kN) and fails only at the
+    // worst tolerance, 1648 kg (9.65 kN > 9.4 kN).
+    let source = "+++\ntitle = \"Spreader lower slings\"\n+++\n\
+                  m = 1600 kg ± 3 %\na = 0.3 m/s^2\nθ = 20 deg\n\
+                  V_2 [kN] = m * (g0 + a) / 2 / cos(θ)\nWLL_lower = 9.4 kN\n\
+                  check V_2 <= WLL_lower \"lower sling\"\n\
+                  case jerk \"snatch on lifting\":\n  a = 1.2 m/s^2\nend\n";
+    let sheet = heftsheet::pipeline::run(source);
+    use heftsheet::eval::{CheckStatus, Place};
+    assert_eq!(sheet.checks[0].as_written_status(), CheckStatus::Passed);
+    assert_eq!(sheet.checks[0].status, CheckStatus::Failed);
+    assert_eq!(sheet.checks[0].fails, vec![Place::CaseWorstCase(0)]);
+    assert_eq!(sheet.checks[0].passed(), Some(false));
+    let summary = sheet.summary();
+    assert_eq!((summary.passed, summary.failed), (0, 1));
+    assert!(
+        summary.line().ends_with("1 check: 0 passed, 1 failed"),
+        "{}",
+        summary.line()
+    );
+    let report = heftsheet::report::render(&sheet, heftsheet::report::Format::Markdown);
+    assert!(
+        report.contains("FAIL (in case \\`jerk\\` at the worst case of its tolerances)"),
+        "{report}"
+    );
+    let mut live = heftsheet::eval::LiveSheet::open(source);
+    let revision = live.revision();
+    live.set_lints(revision, source, &heftsheet::audit::lint(&sheet));
+    assert_eq!(live.summary().failed, 1);
 }

@@ -158,7 +158,47 @@ fn a_stale_signoff_names_changed_added_removed_and_affected_cells() {
     let SignOffState::Stale(changes) = &review.signoff().expect("sign-off").state else {
         panic!("removing a check must make the sign-off stale");
     };
-    assert!(changes.only_other_text());
+    assert_eq!(changes.removed, ["check/1"]);
+    assert!(!changes.only_other_text());
+    assert_eq!(heftsheet::report::stale_summary(changes), "removed check 1");
+}
+
+#[test]
+fn a_stale_signoff_names_an_edited_load_case() {
+    let sheet = format!("{SHEET}case heavy \"heavier plate\":\n  m_plate = 150 kg\nend\n");
+    let evaluated = common::run_clean(&sheet);
+    let line = review::signoff_line(&evaluated, "K. Brandt", "2026-12-04");
+    assert!(line.contains(" case/heavy:"), "{line}");
+    let revised = format!("{sheet}{line}\n").replace("m_plate = 150 kg", "m_plate = 160 kg");
+    let review = Review::of(&evaluate_source(&revised));
+    let SignOffState::Stale(changes) = &review.signoff().expect("sign-off").state else {
+        panic!("editing a case must make the sign-off stale");
+    };
+    assert_eq!(changes.changed, ["case/heavy"]);
+    assert_eq!(
+        heftsheet::report::stale_summary(changes),
+        "changed case heavy"
+    );
+}
+
+#[test]
+fn an_older_signoff_with_cell_digests_only_names_no_case_or_check() {
+    // A sign-off line written before cases and checks had digests: its
+    // cells alone are compared, so the checks are not "added".
+    let evaluated = common::run_clean(SHEET);
+    let line = review::signoff_line(&evaluated, "K. Brandt", "2026-12-04");
+    let cells_only: String = line
+        .split(' ')
+        .filter(|word| !word.starts_with("case/") && !word.starts_with("check/"))
+        .collect::<Vec<_>>()
+        .join(" ");
+    let revised = format!("{SHEET}{cells_only}\n").replace("a = 0.4 m/s^2", "a = 0.6 m/s^2");
+    let review = Review::of(&evaluate_source(&revised));
+    let SignOffState::Stale(changes) = &review.signoff().expect("sign-off").state else {
+        panic!("the sign-off should be stale");
+    };
+    assert_eq!(changes.changed, ["a"]);
+    assert!(changes.added.is_empty(), "{:?}", changes.added);
 }
 
 #[test]

@@ -169,6 +169,38 @@ fn signoff_refuses_a_sheet_with_errors_and_bad_arguments() {
 }
 
 #[test]
+fn signoff_refuses_while_a_required_change_or_question_is_open() {
+    let sheet = scratch("open_marks.heft");
+    std::fs::write(
+        &sheet,
+        "m = 120 kg\nT [kN] = m * g0\ncheck T <= 5 kN\n\
+         review change \"Use the weighed mass, 126 kg\" by \"K. Brandt\" on 2026-12-02\n\
+         review question \"Which sling?\" by \"K. Brandt\" on 2026-12-02\n",
+    )
+    .expect("scratch sheet");
+    let path = sheet.to_string_lossy().to_string();
+    let (code, out, stderr) = heft(&["signoff", &path, "--by", "K. Brandt", "--on", "2026-12-04"]);
+    assert_eq!(code, 1, "{stderr}");
+    assert!(out.is_empty(), "no sign-off line is printed: {out}");
+    assert!(stderr.contains("2 open review marks"), "{stderr}");
+    assert!(
+        stderr.contains("line 4: change on check T <= 5 kN: Use the weighed mass, 126 kg"),
+        "{stderr}"
+    );
+    assert!(
+        stderr.contains("line 5: question on check T <= 5 kN: Which sling?"),
+        "{stderr}"
+    );
+    // Answered, the sheet can be signed.
+    let answered = std::fs::read_to_string(&sheet).expect("sheet")
+        + "review resolved \"Weighed mass used\" by \"K. Brandt\" on 2026-12-03\n";
+    std::fs::write(&sheet, answered).expect("scratch sheet");
+    let (code, out, stderr) = heft(&["signoff", &path, "--by", "K. Brandt", "--on", "2026-12-04"]);
+    assert_eq!(code, 0, "{stderr}");
+    assert!(out.starts_with("signoff by"), "{out}");
+}
+
+#[test]
 fn check_json_carries_the_review_record() {
     let (_, out, _) = heft(&["check", "--json", "sheets/skid_lift.heft"]);
     let json: serde_json::Value = serde_json::from_str(&out).expect("valid JSON");

@@ -40,6 +40,17 @@ pub(super) fn run(context: &Context<'_>) -> Vec<Diagnostic> {
     {
         used[id] = true;
     }
+    // A cell used only by a load case's replacement formula is used.
+    for &statement in &context.sheet.cases {
+        let Some(case) = context.sheet.case_block(statement) else {
+            continue;
+        };
+        for replacement in &case.overrides {
+            for id in crate::sheet::override_uses(replacement) {
+                used[id] = true;
+            }
+        }
+    }
     for (id, is_used) in used.into_iter().enumerate() {
         gravity.visit_cell(context, id);
         findings.extend(mass_weight_mixup_of(context, id, &hand_factors));

@@ -97,6 +97,11 @@ impl<T: Number> Number for Dual<T> {
         }
     }
 
+    fn sign(self) -> Self {
+        // Constant wherever it is defined: no derivative.
+        Dual::fixed(self.value.sign())
+    }
+
     fn powi(self, power: i32) -> Self {
         if power == 0 {
             return Dual::constant(1.0);
@@ -123,7 +128,7 @@ impl<T: Number> Number for Dual<T> {
         let value = x.apply(function);
         let slope = match function {
             Unary::Sqrt => one.div(T::constant(2.0).mul(value)),
-            Unary::Abs => x.div(value),
+            Unary::Abs => x.sign(),
             Unary::Sin => x.apply(Unary::Cos),
             Unary::Cos => x.apply(Unary::Sin).neg(),
             Unary::Tan => one.add(value.mul(value)),
@@ -143,17 +148,23 @@ impl<T: Number> Number for Dual<T> {
             // The derivative of the argument taken; where either may be
             // taken (ties, overlapping intervals), what covers both.
             Binary::Min | Binary::Max => {
-                let (smaller, larger) = if function == Binary::Min {
-                    (self, other)
+                // The argument the function takes where one is surely below
+                // the other: min takes the lower, max the higher.
+                let (lower, higher) = if self.value.certainly_less(other.value) {
+                    (Some(self), Some(other))
+                } else if other.value.certainly_less(self.value) {
+                    (Some(other), Some(self))
                 } else {
-                    (other, self)
+                    (None, None)
                 };
-                if smaller.value.certainly_less(larger.value) {
-                    smaller.derivative
-                } else if larger.value.certainly_less(smaller.value) {
-                    larger.derivative
+                let taken = if function == Binary::Min {
+                    lower
                 } else {
-                    self.derivative.either(other.derivative)
+                    higher
+                };
+                match taken {
+                    Some(taken) => taken.derivative,
+                    None => self.derivative.either(other.derivative),
                 }
             }
             Binary::Hypot => self

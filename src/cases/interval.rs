@@ -91,6 +91,20 @@ impl Interval {
         }
     }
 
+    /// `[lo^p, hi^p]` (p ≥ 1) widened by what `f64::powi` may err: repeated
+    /// squaring compounds a rounding per multiplication, so x^p carries a
+    /// relative error of up to about (p − 1) units of rounding (45 ulps seen
+    /// at high powers); the bounds are widened by p + 1 ulps each way.
+    fn widened_power(lo: f64, hi: f64, power: i32) -> Interval {
+        let (lo, hi) = (lo.powi(power), hi.powi(power));
+        if lo.is_nan() || hi.is_nan() {
+            return Interval::outward(lo, hi);
+        }
+        let relative = f64::from(power.unsigned_abs() + 1) * f64::EPSILON;
+        let widen = |value: f64, outward: f64| value + outward * value.abs() * relative;
+        Interval::outward(widen(lo, -1.0), widen(hi, 1.0))
+    }
+
     fn from_corners(values: [f64; 4]) -> Interval {
         let lo = values.iter().copied().fold(f64::INFINITY, f64::min);
         let hi = values.iter().copied().fold(f64::NEG_INFINITY, f64::max);
@@ -239,15 +253,22 @@ impl Number for Interval {
         self.hull(other)
     }
 
+    fn sign(self) -> Self {
+        Interval::new(
+            <f64 as Number>::sign(self.lo),
+            <f64 as Number>::sign(self.hi),
+        )
+    }
+
     fn powi(self, power: i32) -> Self {
         match power {
             0 => Interval::point(1.0),
             p if p < 0 => Interval::point(1.0).div(self.powi(-p)),
             p if p % 2 == 0 => {
                 let magnitude = self.abs();
-                Interval::outward(magnitude.lo.powi(p), magnitude.hi.powi(p))
+                Interval::widened_power(magnitude.lo, magnitude.hi, p)
             }
-            p => Interval::outward(self.lo.powi(p), self.hi.powi(p)),
+            p => Interval::widened_power(self.lo, self.hi, p),
         }
     }
 

@@ -9,12 +9,12 @@ use serde::Serialize;
 
 use super::check::{BOLD, DIM, FAIL, PASS, Painter, wrap};
 use super::json::{JsonDiagnostic, diagnostic};
-use super::{EXIT_CLEAN, EXIT_FINDINGS, print, read_sheet};
+use super::{EXIT_CLEAN, EXIT_FINDINGS, load_sheet, print};
 use crate::audit::{
     ConversionAudit, ConversionEntry, ConversionKind, Exactness, conversion_audit, format_relative,
 };
 use crate::diag::{Severity, render::render};
-use crate::eval::Evaluated;
+use crate::eval::{Evaluated, count};
 use crate::units::format_significant;
 
 /// The version of the audit's JSON schema; bumped only for incompatible changes.
@@ -22,11 +22,7 @@ pub const SCHEMA: &str = "heft-audit/1";
 
 /// Runs `heft audit FILE`.
 pub fn run(path: &Path, as_json: bool, colour: bool) -> io::Result<u8> {
-    let (source, encoding_problem) = read_sheet(path)?;
-    let mut evaluated = crate::audit::check_source(&source);
-    if let Some(diagnostic) = encoding_problem {
-        evaluated.diagnostics.insert(0, diagnostic);
-    }
+    let evaluated = load_sheet(path)?;
     let audit = conversion_audit(&evaluated);
     let file_name = path.display().to_string();
     let text = if as_json {
@@ -261,21 +257,15 @@ fn exactness_text(entry: &ConversionEntry) -> String {
 }
 
 fn summary_line(evaluated: &Evaluated, audit: &ConversionAudit) -> String {
-    let plural = |n: usize, word: &str| format!("{n} {word}{}", if n == 1 { "" } else { "s" });
-    let n_infos = evaluated.count(Severity::Info);
+    let summary = evaluated.summary();
     format!(
-        "Summary: {} ({} exact by definition, {} rounded); {}; {}, {}, {}",
-        plural(audit.conversions.len(), "conversion"),
+        "Summary: {} ({} exact by definition, {} rounded); {}; {}; {}",
+        count(audit.conversions.len(), "conversion"),
         audit.n_exact(),
         audit.n_rounded(),
-        plural(audit.n_gravity_values(), "gravity value"),
-        plural(evaluated.count(Severity::Error), "error"),
-        plural(evaluated.count(Severity::Warning), "warning"),
-        if n_infos == 1 {
-            "1 info".to_string()
-        } else {
-            format!("{n_infos} infos")
-        },
+        count(audit.n_gravity_values(), "gravity value"),
+        summary.line(),
+        count(summary.infos, "note"),
     )
 }
 
@@ -344,12 +334,17 @@ struct JsonSummary {
     errors: usize,
     warnings: usize,
     infos: usize,
+    checks: usize,
+    passed: usize,
+    failed: usize,
+    unknown: usize,
 }
 
 fn json_report(file_name: &str, evaluated: &Evaluated, audit: &ConversionAudit) -> String {
     let header = evaluated.header();
     let (lines, source) = (&evaluated.lines, evaluated.source());
     let at = |offset: usize| lines.line_column(source, offset);
+    let summary = evaluated.summary();
     let report = Report {
         schema: SCHEMA,
         file: file_name,
@@ -420,9 +415,13 @@ fn json_report(file_name: &str, evaluated: &Evaluated, audit: &ConversionAudit) 
             exact: audit.n_exact(),
             rounded: audit.n_rounded(),
             gravity_values: audit.n_gravity_values(),
-            errors: evaluated.count(Severity::Error),
-            warnings: evaluated.count(Severity::Warning),
-            infos: evaluated.count(Severity::Info),
+            errors: summary.errors,
+            warnings: summary.warnings,
+            infos: summary.infos,
+            checks: summary.checks,
+            passed: summary.passed,
+            failed: summary.failed,
+            unknown: summary.unknown,
         },
     };
     let mut text = serde_json::to_string_pretty(&report)

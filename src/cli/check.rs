@@ -7,9 +7,11 @@ use std::path::Path;
 
 use anstyle::{AnsiColor, Style};
 
-use super::{EXIT_CLEAN, EXIT_FINDINGS, EXIT_USAGE, json, print, read_sheet, runs};
+use super::{EXIT_CLEAN, EXIT_FINDINGS, EXIT_USAGE, json, load_sheet, print, runs};
 use crate::diag::{Severity, render::render};
-use crate::eval::{CellStatus, CheckStatus, Evaluated, OutlineItem, SolveStatus, format_value};
+use crate::eval::{
+    CellStatus, CheckStatus, Evaluated, OutlineItem, RangeMethod, SolveStatus, format_value,
+};
 use crate::units::Value;
 use crate::units::format_significant;
 
@@ -34,15 +36,12 @@ pub enum Output {
 
 /// Runs `heft check FILE`.
 pub fn run(path: &Path, output: Output, deny_warnings: bool, colour: bool) -> io::Result<u8> {
-    let (source, encoding_problem) = read_sheet(path)?;
-    let mut evaluated = crate::audit::check_source(&source);
-    if let Some(diagnostic) = encoding_problem {
-        evaluated.diagnostics.insert(0, diagnostic);
-    }
+    let evaluated = load_sheet(path)?;
+    let source = evaluated.source();
     let file_name = path.display().to_string();
     let text = match output {
-        Output::Json => json::check_report(&file_name, &source, &evaluated),
-        Output::Text => text_report(&file_name, &source, &evaluated, colour),
+        Output::Json => json::check_report(&file_name, source, &evaluated),
+        Output::Text => text_report(&file_name, source, &evaluated, colour),
         Output::Csv { run } | Output::Svg { run } => {
             // The data goes to standard output; findings go to standard error.
             let mut stderr = io::stderr();
@@ -50,7 +49,7 @@ pub fn run(path: &Path, output: Output, deny_warnings: bool, colour: bool) -> io
                 let _ = write!(
                     stderr,
                     "{}",
-                    render(&evaluated.diagnostics, &file_name, &source, colour)
+                    render(&evaluated.diagnostics, &file_name, source, colour)
                 );
             }
             let index = match runs::pick_run(&evaluated, run) {
@@ -193,11 +192,18 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
             (CellStatus::Ok, Some(value)) => {
                 let shown = format_value(value, cell.display, sig_figs);
                 match range {
-                    Some(range) if range.high > range.low => format!(
-                        "{shown} [{} … {}]",
-                        format_significant(cell.display.value_of(range.low), sig_figs),
-                        format_significant(cell.display.value_of(range.high), sig_figs)
-                    ),
+                    Some(range) if range.high > range.low => {
+                        let (low, high) = range.shown_bounds();
+                        let found = match range.method {
+                            RangeMethod::Corners(_) => ", at corners",
+                            _ => "",
+                        };
+                        format!(
+                            "{shown} [{} … {}{found}]",
+                            format_significant(cell.display.value_of(low), sig_figs),
+                            format_significant(cell.display.value_of(high), sig_figs)
+                        )
+                    }
                     _ => shown,
                 }
             }
@@ -234,8 +240,18 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
     if !evaluated.checks.is_empty() {
         let _ = writeln!(out, "\n{}", painter.paint(BOLD, "Checks"));
         for check in &evaluated.checks {
-            let (mark, detail) = match (check.status, check.lhs, check.rhs) {
-                (CheckStatus::Passed | CheckStatus::Failed, Some(lhs), Some(rhs)) => {
+            let mark = match check.status {
+                CheckStatus::Passed => painter.paint(PASS, "   pass"),
+                CheckStatus::Failed => painter.paint(FAIL, "   FAIL"),
+                CheckStatus::Unknown => painter.paint(FAIL, "UNKNOWN"),
+                CheckStatus::Blocked { .. } => "     --".to_string(),
+                CheckStatus::Error => painter.paint(FAIL, "    err"),
+            };
+            let detail = match (check.status, check.lhs, check.rhs) {
+                (CheckStatus::Blocked { by }, _, _) => {
+                    format!("blocked by {}", evaluated.cell_at(by).name)
+                }
+                (_, Some(lhs), Some(rhs)) => {
                     let show = |si: f64| {
                         let number = format_significant(si / check.display.si_factor, sig_figs);
                         if check.display.text.is_empty() {
@@ -251,38 +267,32 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
                     let worst = check
                         .worst
                         .as_ref()
-                        .and_then(|w| w.worst_utilization)
-                        .map(|u| {
+                        .and_then(|w| w.worst_utilization.map(|u| (u, w.method)))
+                        .map(|(u, method)| {
+                            let found = match method {
+                                RangeMethod::Corners(_) => " (found at its corners)",
+                                _ => "",
+                            };
                             format!(
-                                ", {} % at the worst case of the tolerances",
+                                ", {} % at the worst case of the tolerances{found}",
                                 format_significant(u * 100.0, 3)
                             )
                         })
                         .unwrap_or_default();
-                    let utilization = format!("{utilization}{worst}");
-                    let mark = if check.status == CheckStatus::Passed {
-                        painter.paint(PASS, "pass")
-                    } else {
-                        painter.paint(FAIL, "FAIL")
-                    };
-                    (
-                        mark,
-                        format!(
-                            "{} {} {}{utilization}",
-                            show(lhs.si),
-                            check.comparison.symbol(),
-                            show(rhs.si)
-                        ),
+                    format!(
+                        "{} {} {}{utilization}{worst}",
+                        show(lhs.si),
+                        check.comparison.symbol(),
+                        show(rhs.si)
                     )
                 }
-                (CheckStatus::Blocked { by }, _, _) => (
-                    "  --".to_string(),
-                    format!("blocked by {}", evaluated.cell_at(by).name),
-                ),
-                _ => (
-                    painter.paint(FAIL, " err"),
-                    "could not be evaluated".to_string(),
-                ),
+                _ => "could not be evaluated".to_string(),
+            };
+            let verdict = check.verdict_text(&evaluated.cases);
+            let verdict = if verdict.is_empty() || check.status == CheckStatus::Error {
+                String::new()
+            } else {
+                format!("; {}", painter.paint(FAIL, &verdict))
             };
             let label = check
                 .label
@@ -291,10 +301,8 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
                 .unwrap_or_default();
             let _ = writeln!(
                 out,
-                "  {mark}  {} {} {}:  {detail}{label}",
-                check.lhs_text,
-                check.comparison.symbol(),
-                check.rhs_text
+                "  {mark}  {}:  {detail}{verdict}{label}",
+                check.statement()
             );
         }
     }
@@ -308,24 +316,24 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
         out.push_str(&render(&evaluated.diagnostics, file_name, source, colour));
     }
 
-    let n_errors = evaluated.count(Severity::Error);
-    let n_warnings = evaluated.count(Severity::Warning);
-    let n_passed = evaluated
-        .checks
-        .iter()
-        .filter(|c| c.status == CheckStatus::Passed)
-        .count();
-    let plural = |n: usize, word: &str| format!("{n} {word}{}", if n == 1 { "" } else { "s" });
-    let summary = format!(
-        "{} cells, {}, {}; {} of {} passed",
-        evaluated.n_cells(),
-        plural(n_errors, "error"),
-        plural(n_warnings, "warning"),
-        plural(n_passed, "check"),
-        evaluated.checks.len()
-    );
-    let style = if evaluated.is_clean() { PASS } else { FAIL };
-    let _ = writeln!(out, "\n{}", painter.paint(style, &summary));
+    let summary = evaluated.summary();
+    let style = if summary.is_clean() { PASS } else { FAIL };
+    let _ = writeln!(out, "\n{}", painter.paint(style, &summary.line()));
+    for check in &evaluated.checks {
+        let verdict = check.verdict_text(&evaluated.cases);
+        let verdict = match check.status {
+            CheckStatus::Passed => continue,
+            CheckStatus::Error => "could not be evaluated".to_string(),
+            CheckStatus::Blocked { by } => format!("blocked by {}", evaluated.cell_at(by).name),
+            CheckStatus::Failed | CheckStatus::Unknown => verdict,
+        };
+        let _ = writeln!(
+            out,
+            "  {} {}: {verdict}",
+            painter.paint(FAIL, "-"),
+            check.statement()
+        );
+    }
     let _ = writeln!(out, "\n{}", painter.paint(DIM, &wrap(crate::CAUTION, 78)));
     out
 }
@@ -422,7 +430,7 @@ fn write_cases(out: &mut String, evaluated: &Evaluated, painter: &Painter) {
         row.push_str(&format!(
             "{:>width$}",
             cell(
-                check.status,
+                check.as_written_status(),
                 check.governing_utilization(),
                 governing.is_none()
             )
@@ -461,11 +469,7 @@ fn write_sensitivities(out: &mut String, evaluated: &Evaluated, painter: &Painte
         return;
     }
     let sig_figs = evaluated.header().sig_figs;
-    let _ = writeln!(
-        out,
-        "\n{}",
-        painter.paint(BOLD, "Tolerances and sensitivity")
-    );
+    let mut section = String::new();
     for &id in &evaluated.case_results {
         let Some(range) = evaluated
             .ranges
@@ -477,20 +481,19 @@ fn write_sensitivities(out: &mut String, evaluated: &Evaluated, painter: &Painte
         };
         let cell = evaluated.cell_at(id);
         let unit = |si: f64| format_significant(cell.display.value_of(si), sig_figs);
-        let how = if range.at_corners {
-            "exact: worst corners"
-        } else {
-            "guaranteed bounds"
-        };
+        let (low, high) = range.shown_bounds();
+        let first_order = range
+            .first_order
+            .map(|(low, high)| format!("; first order {} to {}", unit(low), unit(high)))
+            .unwrap_or_default();
         let _ = writeln!(
-            out,
-            "  {} from {} to {} {} ({how}); first order {} to {}",
+            section,
+            "  {} from {} to {} {} ({}){first_order}",
             cell.name,
-            unit(range.low),
-            unit(range.high),
+            unit(low),
+            unit(high),
             cell.display.text,
-            unit(range.first_order_low),
-            unit(range.first_order_high),
+            range.method.describe(),
         );
         for sensitivity in range.sensitivities.iter().filter(|s| s.share > 0.0) {
             let input = evaluated.cell_at(sensitivity.input);
@@ -506,15 +509,22 @@ fn write_sensitivities(out: &mut String, evaluated: &Evaluated, painter: &Painte
                 })
                 .unwrap_or_else(|| "—".to_string());
             let _ = writeln!(
-                out,
+                section,
                 "    {:<16} {:>5} % of the range   {normalized}",
                 input.name,
                 format_significant(sensitivity.share * 100.0, 3)
             );
         }
     }
+    if !section.is_empty() {
+        let _ = writeln!(
+            out,
+            "\n{}",
+            painter.paint(BOLD, "Tolerances and sensitivity")
+        );
+        out.push_str(&section);
+    }
 }
-
 /// Prints a solve block: its equations with their residuals, and how the
 /// solver did.
 fn write_solve_block(out: &mut String, evaluated: &Evaluated, index: usize, painter: &Painter) {

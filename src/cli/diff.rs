@@ -6,9 +6,8 @@ use std::path::Path;
 
 use serde::Serialize;
 
-use super::{EXIT_CLEAN, EXIT_FINDINGS, print, read_sheet};
+use super::{EXIT_CLEAN, EXIT_FINDINGS, load_sheet, print};
 use crate::diff::{self, CellChangeKind, DiffValue, Edit, RevisionDiff};
-use crate::eval;
 use crate::report::math;
 use crate::units::format_significant;
 
@@ -18,10 +17,8 @@ pub const SCHEMA: &str = "heft-diff/1";
 /// Runs `heft diff`: exit 0 when the revisions have the same content, 1 when
 /// they differ, 2 when a file cannot be read.
 pub fn run(old_path: &Path, new_path: &Path, as_json: bool) -> io::Result<u8> {
-    let (old_source, _) = read_sheet(old_path)?;
-    let (new_source, _) = read_sheet(new_path)?;
-    let old = eval::evaluate_source(&old_source);
-    let new = eval::evaluate_source(&new_source);
+    let old = load_sheet(old_path)?;
+    let new = load_sheet(new_path)?;
     let diff = diff::compare(&old, &new);
     let old_name = old_path.display().to_string();
     let new_name = new_path.display().to_string();

@@ -18,6 +18,7 @@ struct Report<'a> {
     display: &'static str,
     sig_figs: u32,
     clean: bool,
+    summary: JsonSummary,
     cells: Vec<Cell<'a>>,
     checks: Vec<Check<'a>>,
     solves: Vec<Solve<'a>>,
@@ -25,6 +26,31 @@ struct Report<'a> {
     runs: Vec<super::runs::JsonRun<'a>>,
     diagnostics: Vec<JsonDiagnostic<'a>>,
     review: JsonReview,
+}
+
+/// The counts every presentation shows.
+#[derive(Serialize)]
+struct JsonSummary {
+    cells: usize,
+    errors: usize,
+    warnings: usize,
+    infos: usize,
+    checks: usize,
+    passed: usize,
+    failed: usize,
+    unknown: usize,
+}
+
+/// A place where a check was judged.
+#[derive(Serialize)]
+struct JsonPlace<'a> {
+    place: &'static str,
+    /// The load case's name (absent for the sheet as written).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    case: Option<&'a str>,
+    /// Why it could not be established (absent for a failure).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    reason: Option<&'a str>,
 }
 
 /// The checker's record: fingerprint, every review mark, the sign-off in force.
@@ -85,9 +111,12 @@ struct Cell<'a> {
 struct Range {
     low: f64,
     high: f64,
-    first_order_low: f64,
-    first_order_high: f64,
+    first_order_low: Option<f64>,
+    first_order_high: Option<f64>,
     exact: bool,
+    /// `guaranteed`, `worst-corners` or `corners` (found at the corners,
+    /// not guaranteed between them).
+    method: &'static str,
     sensitivities: Vec<JsonSensitivity>,
 }
 
@@ -121,6 +150,7 @@ struct JsonCaseValue<'a> {
 #[derive(Serialize)]
 struct JsonCaseCheck {
     line: usize,
+    status: &'static str,
     passed: Option<bool>,
     utilization: Option<f64>,
     worst_utilization: Option<f64>,
@@ -149,7 +179,13 @@ struct Check<'a> {
     line: usize,
     label: Option<&'a str>,
     expression: String,
+    /// The verdict over the sheet as written, its tolerances and its cases.
+    status: &'static str,
     passed: Option<bool>,
+    /// Everywhere the check fails.
+    fails: Vec<JsonPlace<'a>>,
+    /// Everywhere it could not be established, with the reason.
+    unknown: Vec<JsonPlace<'a>>,
     utilization: Option<f64>,
     /// At the worst case of the tolerances (absent without tolerances).
     #[serde(skip_serializing_if = "Option::is_none")]
@@ -211,9 +247,18 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
                     .map(|range| Range {
                         low: cell.display.value_of(range.low),
                         high: cell.display.value_of(range.high),
-                        first_order_low: cell.display.value_of(range.first_order_low),
-                        first_order_high: cell.display.value_of(range.first_order_high),
-                        exact: range.at_corners,
+                        first_order_low: range
+                            .first_order
+                            .map(|(low, _)| cell.display.value_of(low)),
+                        first_order_high: range
+                            .first_order
+                            .map(|(_, high)| cell.display.value_of(high)),
+                        exact: range.method == crate::eval::RangeMethod::WorstCorners,
+                        method: match range.method {
+                            crate::eval::RangeMethod::Guaranteed => "guaranteed",
+                            crate::eval::RangeMethod::WorstCorners => "worst-corners",
+                            crate::eval::RangeMethod::Corners(_) => "corners",
+                        },
                         sensitivities: range
                             .sensitivities
                             .iter()
@@ -240,13 +285,19 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
         .map(|(index, check)| Check {
             line: lines.line_of(check.span.start()) + 1,
             label: check.label.as_deref(),
-            expression: format!(
-                "{} {} {}",
-                check.lhs_text,
-                check.comparison.symbol(),
-                check.rhs_text
-            ),
+            expression: check.statement(),
+            status: check.status.as_str(),
             passed: check.passed(),
+            fails: check
+                .fails
+                .iter()
+                .map(|&place| json_place(evaluated, place, None))
+                .collect(),
+            unknown: check
+                .unknowns
+                .iter()
+                .map(|u| json_place(evaluated, u.place, Some(&u.reason)))
+                .collect(),
             utilization: check.utilization,
             worst_utilization: check.worst.as_ref().and_then(|w| w.worst_utilization),
             governing_case: (!evaluated.cases.is_empty()).then(|| {
@@ -291,6 +342,7 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
                 .zip(&case.checks)
                 .map(|(check, case_check)| JsonCaseCheck {
                     line: lines.line_of(check.span.start()) + 1,
+                    status: case_check.status.as_str(),
                     passed: match case_check.status {
                         crate::eval::CheckStatus::Passed => Some(true),
                         crate::eval::CheckStatus::Failed => Some(false),
@@ -331,6 +383,7 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
                 .collect(),
         })
         .collect();
+    let summary = evaluated.summary();
     let report = Report {
         schema: SCHEMA,
         file: file_name,
@@ -338,7 +391,17 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
         revision: evaluated.header().revision.as_deref(),
         display: evaluated.header().display.label(),
         sig_figs: evaluated.header().sig_figs,
-        clean: evaluated.is_clean(),
+        clean: summary.is_clean(),
+        summary: JsonSummary {
+            cells: summary.cells,
+            errors: summary.errors,
+            warnings: summary.warnings,
+            infos: summary.infos,
+            checks: summary.checks,
+            passed: summary.passed,
+            failed: summary.failed,
+            unknown: summary.unknown,
+        },
         cells,
         checks,
         solves,
@@ -355,6 +418,22 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
         .unwrap_or_else(|error| format!("{{\"error\": \"{error}\"}}"));
     text.push('\n');
     text
+}
+
+/// A place where a check fails or could not be established.
+fn json_place<'a>(
+    evaluated: &'a Evaluated,
+    place: crate::eval::Place,
+    reason: Option<&'a str>,
+) -> JsonPlace<'a> {
+    let (kind, case) = place.kind();
+    JsonPlace {
+        place: kind,
+        case: case
+            .and_then(|index| evaluated.cases.get(index))
+            .map(|c| c.name.as_str()),
+        reason,
+    }
 }
 
 /// A diagnostic with its line and column.
@@ -381,7 +460,7 @@ fn review(evaluated: &Evaluated) -> JsonReview {
         .iter()
         .map(|mark| JsonMark {
             kind: mark.kind.keyword(),
-            open: mark.kind.is_open(),
+            open: mark.open,
             line: mark.line,
             about: super::review::target_text(evaluated, mark.target),
             text: mark.text.clone(),

@@ -196,8 +196,9 @@ pub fn run(args: Args) -> ExitCode {
     }
 }
 
-/// Reads a sheet, turning a missing or unreadable file into a message.
-fn read_sheet(path: &Path) -> io::Result<(String, Option<crate::diag::Diagnostic>)> {
+/// Reads a sheet and runs it through the pipeline, turning a missing or
+/// unreadable file into a message.
+fn load_sheet(path: &Path) -> io::Result<crate::eval::Evaluated> {
     let bytes = std::fs::read(path).map_err(|error| {
         io::Error::new(
             error.kind(),
@@ -210,7 +211,7 @@ fn read_sheet(path: &Path) -> io::Result<(String, Option<crate::diag::Diagnostic
             format!("{} is larger than 4 GiB", path.display()),
         ));
     }
-    Ok(crate::decode_source(&bytes))
+    Ok(crate::pipeline::run_bytes(&bytes))
 }
 
 /// Writes `text` to standard output.

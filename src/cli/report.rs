@@ -3,8 +3,7 @@
 use std::io;
 use std::path::Path;
 
-use super::{EXIT_CLEAN, EXIT_FINDINGS, read_sheet};
-use crate::eval;
+use super::{EXIT_CLEAN, EXIT_FINDINGS, load_sheet};
 use crate::report::{self, Format};
 
 /// Runs `heft report`.
@@ -19,11 +18,7 @@ pub fn run(path: &Path, output: &Path) -> io::Result<u8> {
             ),
         ));
     }
-    let (source, encoding_problem) = read_sheet(path)?;
-    let mut evaluated = eval::evaluate_source(&source);
-    if let Some(diagnostic) = encoding_problem {
-        evaluated.diagnostics.insert(0, diagnostic);
-    }
+    let evaluated = load_sheet(path)?;
     let text = report::render(&evaluated, format);
     std::fs::write(output, text).map_err(|error| {
         io::Error::new(

@@ -6,8 +6,8 @@ use std::fmt::Write as _;
 use std::io;
 use std::path::Path;
 
-use super::{EXIT_CLEAN, EXIT_FINDINGS, print, read_sheet};
-use crate::eval::{self, Evaluated, OutlineItem};
+use super::{EXIT_CLEAN, EXIT_FINDINGS, load_sheet, print};
+use crate::eval::{Evaluated, OutlineItem};
 use crate::review::{self, MarkTarget, Review, SignOffState};
 
 /// Runs `heft signoff FILE --by NAME --on DATE`: prints the line to add to
@@ -29,9 +29,39 @@ pub fn run_signoff(path: &Path, by: &str, on: &str) -> io::Result<u8> {
             "--on {on} is not a date: write YYYY-MM-DD"
         )));
     }
-    let (source, encoding_problem) = read_sheet(path)?;
-    let evaluated = eval::evaluate_source(&source);
-    if encoding_problem.is_some() || !evaluated.is_clean() {
+    let evaluated = load_sheet(path)?;
+    let review = Review::of(&evaluated);
+    let open: Vec<String> = review
+        .open_marks()
+        .map(|mark| {
+            let text = mark
+                .text
+                .as_deref()
+                .map(|t| format!(": {t}"))
+                .unwrap_or_default();
+            format!(
+                "  line {}: {} on {}{text}",
+                mark.line,
+                mark.kind.keyword(),
+                target_text(&evaluated, mark.target)
+            )
+        })
+        .collect();
+    if !open.is_empty() {
+        let _ = io::Write::write_all(
+            &mut io::stderr(),
+            format!(
+                "heft: {} has {} open review mark{} (a required change or a question); a sheet is signed off only when every one is answered:\n{}\n",
+                path.display(),
+                open.len(),
+                if open.len() == 1 { "" } else { "s" },
+                open.join("\n")
+            )
+            .as_bytes(),
+        );
+        return Ok(EXIT_FINDINGS);
+    }
+    if !evaluated.is_clean() {
         let _ = io::Write::write_all(
             &mut io::stderr(),
             format!(

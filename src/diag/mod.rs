@@ -66,6 +66,9 @@ pub enum Code {
     OutOfDomain,
     /// A `check` whose comparison does not hold.
     CheckFailed,
+    /// A `check` heft could not establish somewhere it must hold (the worst
+    /// case of the tolerances, a load case): not passed, with the reason.
+    CheckUnknown,
     /// A force on a `body` that is not a force vector.
     BadForce,
     /// A solve block with fewer equations than unknowns.
@@ -134,6 +137,7 @@ impl Code {
             Code::NotFinite => "not-finite",
             Code::OutOfDomain => "out-of-domain",
             Code::CheckFailed => "check-failed",
+            Code::CheckUnknown => "check-unknown",
             Code::BadForce => "bad-force",
             Code::Underdetermined => "underdetermined",
             Code::Overdetermined => "overdetermined",
@@ -157,7 +161,7 @@ impl Code {
     }
 
     /// Every code, for documentation and tests.
-    pub const ALL: [Code; 35] = [
+    pub const ALL: [Code; 36] = [
         Code::ParseError,
         Code::EncodingError,
         Code::HeaderError,
@@ -174,6 +178,7 @@ impl Code {
         Code::NotFinite,
         Code::OutOfDomain,
         Code::CheckFailed,
+        Code::CheckUnknown,
         Code::BadForce,
         Code::Underdetermined,
         Code::Overdetermined,

@@ -327,11 +327,12 @@ fn expression(check: &CheckResult) -> String {
     text.split_whitespace().collect::<Vec<_>>().join(" ")
 }
 
-/// `pass`, `FAIL`, `error` or `blocked`.
+/// `pass`, `FAIL`, `UNKNOWN`, `error` or `blocked`.
 pub fn status(check: &CheckResult) -> &'static str {
     match check.status {
         CheckStatus::Passed => "pass",
         CheckStatus::Failed => "FAIL",
+        CheckStatus::Unknown => "UNKNOWN",
         CheckStatus::Error => "error",
         CheckStatus::Blocked { .. } => "blocked",
     }

@@ -4,13 +4,24 @@
 
 use rustc_hash::FxHashMap;
 
-use super::model::{CaseCheck, CaseOutcome, CaseValue, CellRange, CheckResult, CheckStatus};
+use super::corners::{CornerInput, CornerRange, MAX_CORNER_INPUTS};
+use super::model::{
+    CaseCheck, CaseOutcome, CaseValue, CellRange, CheckRange, CheckResult, CheckStatus, RangeMethod,
+};
 use super::ranges::RangeOf;
-use super::{CellStatus, Evaluator};
+use super::{CellStatus, Evaluator, SheetJudgement};
 use crate::diag::{Code, Diagnostic};
-use crate::sheet::{CellId, Sheet};
+use crate::sheet::{CellId, NodeId, Sheet};
 use crate::syntax::ast::{ExprKind, NameRef, Target};
 use crate::units;
+
+/// Ranges over the tolerances: of scalar cells by id (empty when no cell
+/// has a tolerance), and of vector cells by component.
+#[derive(Default)]
+pub(super) struct CellRanges {
+    scalars: Vec<Option<CellRange>>,
+    vectors: Vec<(CellId, Vec<(f64, f64)>)>,
+}
 
 /// The cells tabulated per case: the header's `case_results`, or else every
 /// cell a check names directly.
@@ -53,93 +64,310 @@ pub(super) fn case_results(sheet: &Sheet, diagnostics: &mut Vec<Diagnostic>) -> 
 
 impl Evaluator<'_> {
     /// Ranges of every cell, the chosen ones refined to their corners, and
-    /// every check judged at its worst case (a check that fails there fails).
+    /// every check judged at its worst case (a check that fails there
+    /// fails). Where the interval engine cannot follow a result (solve and
+    /// simulate blocks, vectors), the sheet is evaluated at the corners of
+    /// the inputs that reach it; where that cannot be done either, the
+    /// check's worst case is unknown and says why.
     pub(super) fn apply_tolerances(
         &mut self,
         checks: &mut [CheckResult],
         chosen: &[CellId],
         case: Option<&str>,
-    ) -> Vec<Option<CellRange>> {
+    ) -> CellRanges {
         let Some(ranges) = self.ranges() else {
-            return Vec::new();
+            return CellRanges::default();
         };
-        let mut cell_ranges: Vec<Option<CellRange>> = (0..self.sheet.cells.len())
+        let n_cells = self.sheet.cells.len();
+        let mut cell_ranges: Vec<Option<CellRange>> = (0..n_cells)
             .map(|id| self.range_of(&ranges, RangeOf::Cell(id), chosen.contains(&id)))
             .collect();
+        let inputs = self.corner_inputs();
+        let reached = self.reached_by(&inputs);
+        let mut corner_checks = Vec::new();
         for (index, result) in checks.iter_mut().enumerate() {
-            let (Some(lhs), Some(rhs)) = (result.lhs, result.rhs) else {
+            if result.holds.is_none() || !self.sheet.check_uses[index].iter().any(|&id| reached[id])
+            {
                 continue;
-            };
-            let check = self.sheet.check(index);
-            let compile = |expr| {
-                self.compile(expr, &|name| self.input_for(name))
-                    .ok()
-                    .filter(|p| ranges.supports(p))
-            };
-            let (Some(left), Some(right)) = (compile(&check.lhs), compile(&check.rhs)) else {
-                continue;
-            };
-            let sides = (
-                self.range_of(&ranges, RangeOf::Program(&left, lhs.si), true),
-                self.range_of(&ranges, RangeOf::Program(&right, rhs.si), true),
+            }
+            match self.interval_worst_case(&ranges, index, result, &reached) {
+                Some(worst) => result.worst = Some(worst),
+                None => corner_checks.push(index),
+            }
+        }
+        // Results the tolerances reach that the interval engine cannot follow.
+        let corner_cells: Vec<CellId> = (0..n_cells)
+            .filter(|&id| {
+                reached[id]
+                    && cell_ranges[id].is_none()
+                    && self.statuses[id] == CellStatus::Ok
+                    && self.values[id].is_some()
+            })
+            .collect();
+        let mut vector_ranges = Vec::new();
+        if !corner_checks.is_empty() || !corner_cells.is_empty() {
+            vector_ranges = self.corner_worst_cases(
+                &inputs,
+                &corner_cells,
+                &corner_checks,
+                checks,
+                &mut cell_ranges,
             );
-            let (Some(lhs_range), Some(rhs_range)) = sides else {
+        }
+        // A result no toleranced input reaches has no range.
+        for (id, range) in cell_ranges.iter_mut().enumerate() {
+            if !reached[id] {
+                *range = None;
+            }
+        }
+        for (index, result) in checks.iter_mut().enumerate() {
+            let Some(worst) = &result.worst else {
                 continue;
             };
-            let worst = self.worst_case(check.comparison, lhs_range, rhs_range);
             if !worst.passes && result.status == CheckStatus::Passed {
                 result.status = CheckStatus::Failed;
-                let label = result
-                    .label
-                    .as_deref()
-                    .map(|l| format!(": {l}"))
-                    .unwrap_or_default();
-                let in_case = case
-                    .map(|name| format!(" in case `{name}`"))
-                    .unwrap_or_default();
-                let utilization = worst
-                    .worst_utilization
-                    .map(|u| {
-                        format!(
-                            " (utilization {} %)",
-                            units::format_significant(u * 100.0, 4)
-                        )
-                    })
-                    .unwrap_or_default();
+                let message = self.worst_case_failure(index, result, case);
                 self.diagnostics.push(
-                    Diagnostic::error(
-                        Code::CheckFailed,
-                        result.span,
-                        format!(
-                            "check fails at the worst case of the tolerances{in_case}{label}: {} {} {} does not hold when {} reaches {} and {} reaches {}{utilization}",
-                            result.lhs_text,
-                            check.comparison.symbol(),
-                            result.rhs_text,
-                            result.lhs_text,
-                            self.style.show_in(worst_side(check.comparison, &worst).0, &result.display.text, result.display.si_factor),
-                            result.rhs_text,
-                            self.style.show_in(worst_side(check.comparison, &worst).1, &result.display.text, result.display.si_factor),
-                        ),
-                    )
-                    .with_help("it passes at the nominal values only; tighten the tolerances or change the design"),
+                    Diagnostic::error(Code::CheckFailed, result.span, message)
+                        .with_help("it passes at the nominal values only; tighten the tolerances or change the design"),
                 );
             }
-            result.worst = Some(worst);
         }
         // Check sides that are plain cells keep their refined ranges.
         for &id in chosen {
-            if cell_ranges[id].as_ref().is_some_and(|r| !r.at_corners) {
+            if cell_ranges[id]
+                .as_ref()
+                .is_some_and(|r| r.method == RangeMethod::Guaranteed)
+            {
                 cell_ranges[id] = self.range_of(&ranges, RangeOf::Cell(id), true);
             }
         }
-        cell_ranges
+        CellRanges {
+            scalars: cell_ranges,
+            vectors: vector_ranges,
+        }
     }
 
-    /// Runs every node of the sheet.
-    pub(super) fn run_nodes(&mut self) {
-        for &node in &self.sheet.order.order {
-            self.run_node(node);
+    /// Every toleranced input that evaluated, with its nominal value and
+    /// spread.
+    fn corner_inputs(&self) -> Vec<CornerInput> {
+        (0..self.sheet.cells.len())
+            .filter_map(|cell| {
+                let spread = self.spreads[cell]?;
+                let nominal = self.values[cell]?.scalar()?.si;
+                (self.statuses[cell] == CellStatus::Ok).then_some(CornerInput {
+                    cell,
+                    nominal,
+                    below: spread.below,
+                    above: spread.above,
+                })
+            })
+            .collect()
+    }
+
+    /// Which cells depend on a toleranced input, through any node.
+    fn reached_by(&self, inputs: &[CornerInput]) -> Vec<bool> {
+        let mut reached = vec![false; self.sheet.cells.len()];
+        for input in inputs {
+            reached[input.cell] = true;
         }
+        for &node in self.node_order() {
+            let cells = self.sheet.nodes[node].cells();
+            let hit = cells
+                .iter()
+                .any(|&id| reached[id] || self.uses_of(id).iter().any(|&used| reached[used]));
+            if hit {
+                for &id in cells {
+                    reached[id] = true;
+                }
+            }
+        }
+        reached
+    }
+
+    /// A check's worst case from the interval engine, if it can follow both
+    /// sides.
+    fn interval_worst_case(
+        &self,
+        ranges: &super::ranges::Ranges,
+        index: usize,
+        result: &CheckResult,
+        reached: &[bool],
+    ) -> Option<CheckRange> {
+        let (lhs, rhs) = (result.lhs?, result.rhs?);
+        let check = self.sheet.check(index);
+        let compile = |expr| {
+            self.compile(expr, &|name| self.input_for(name))
+                .ok()
+                .filter(|p| ranges.supports(p))
+        };
+        let (left, right) = (compile(&check.lhs)?, compile(&check.rhs)?);
+        // A cell the tolerances reach that a side folded to a constant (a
+        // vector, which is no program input) would freeze the worst case at
+        // the nominal value: leave such a check to the corners.
+        let inputs: Vec<u32> = left.inputs().chain(right.inputs()).collect();
+        let folded = self.sheet.check_uses[index]
+            .iter()
+            .any(|&id| reached[id] && !inputs.contains(&(id as u32)));
+        if folded {
+            return None;
+        }
+        let lhs_range = self.range_of(ranges, RangeOf::Program(&left, lhs.si), true)?;
+        let rhs_range = self.range_of(ranges, RangeOf::Program(&right, rhs.si), true)?;
+        Some(self.worst_case(check.comparison, lhs_range, rhs_range))
+    }
+
+    /// Worst cases found by evaluating the sheet at the corners of the
+    /// toleranced inputs; a check whose corners are too many, or that
+    /// cannot be evaluated at one, gets the reason instead.
+    fn corner_worst_cases(
+        &self,
+        inputs: &[CornerInput],
+        cells: &[CellId],
+        corner_checks: &[usize],
+        checks: &mut [CheckResult],
+        cell_ranges: &mut [Option<CellRange>],
+    ) -> Vec<(CellId, Vec<(f64, f64)>)> {
+        let reaching = self.inputs_reaching(inputs, cells, corner_checks);
+        let mut vectors = Vec::new();
+        if reaching.len() <= MAX_CORNER_INPUTS {
+            let found = self.corner_ranges(&reaching, cells, corner_checks, checks);
+            for (id, range) in found.cells {
+                match range {
+                    CornerRange::Scalar(range) => cell_ranges[id] = Some(range),
+                    CornerRange::Vector(components) => vectors.push((id, components)),
+                    CornerRange::Unknown => {}
+                }
+            }
+            for (index, outcome) in found.checks {
+                match outcome {
+                    Ok(corner) => {
+                        checks[index].worst_corner = Some(corner.worst_corner);
+                        checks[index].worst = Some(corner.worst);
+                    }
+                    Err(reason) => checks[index].worst_unknown = Some(reason),
+                }
+            }
+            return vectors;
+        }
+        // Too many together: each check on its own, if its own are few enough.
+        for &index in corner_checks {
+            let own = self.inputs_reaching(inputs, &[], &[index]);
+            if own.len() > MAX_CORNER_INPUTS {
+                checks[index].worst_unknown = Some(format!(
+                    "{} toleranced inputs reach it through results the interval bounds cannot follow (solve or simulate blocks, vectors), and evaluating the sheet at their 2^{} corners is beyond heft's limit of {} inputs ({} corners)",
+                    own.len(),
+                    own.len(),
+                    MAX_CORNER_INPUTS,
+                    1u64 << MAX_CORNER_INPUTS
+                ));
+                continue;
+            }
+            let found = self.corner_ranges(&own, &[], &[index], checks);
+            for (index, outcome) in found.checks {
+                match outcome {
+                    Ok(corner) => {
+                        checks[index].worst_corner = Some(corner.worst_corner);
+                        checks[index].worst = Some(corner.worst);
+                    }
+                    Err(reason) => checks[index].worst_unknown = Some(reason),
+                }
+            }
+        }
+        vectors
+    }
+
+    /// The message of a check that fails at the worst case: at which
+    /// corner, or by how much its bounds (a conservative bound where the
+    /// range is not exact) cross.
+    fn worst_case_failure(&self, index: usize, result: &CheckResult, case: Option<&str>) -> String {
+        let check = self.sheet.check(index);
+        let label = result
+            .label
+            .as_deref()
+            .map(|l| format!(": {l}"))
+            .unwrap_or_default();
+        let in_case = case
+            .map(|name| format!(" in case `{name}`"))
+            .unwrap_or_default();
+        let Some(worst) = &result.worst else {
+            return String::new();
+        };
+        let utilization = worst
+            .worst_utilization
+            .map(|u| {
+                format!(
+                    " (utilization {} %)",
+                    units::format_significant(u * 100.0, 4)
+                )
+            })
+            .unwrap_or_default();
+        let statement = format!(
+            "{} {} {}",
+            result.lhs_text,
+            check.comparison.symbol(),
+            result.rhs_text
+        );
+        let show = |si: f64| {
+            self.style
+                .show_in(si, &result.display.text, result.display.si_factor)
+        };
+        let (lhs_at, rhs_at) = worst_side(check.comparison, worst);
+        match (&result.worst_corner, worst.method) {
+            (Some(corner), _) => format!(
+                "check fails at the worst case of the tolerances{in_case}{label}: {statement} does not hold at the corner where {}{utilization}",
+                self.describe_values(corner)
+            ),
+            (None, RangeMethod::WorstCorners) => format!(
+                "check fails at the worst case of the tolerances{in_case}{label}: {statement} does not hold when {} reaches {} and {} reaches {}{utilization}",
+                result.lhs_text,
+                show(lhs_at),
+                result.rhs_text,
+                show(rhs_at),
+            ),
+            (None, _) => format!(
+                "check not shown to hold over the tolerances{in_case}{label}: the guaranteed bounds of {statement} cross: {} up to {} against {} down to {} (bounds: the true worst case may be less severe, but heft cannot show that it holds){utilization}",
+                result.lhs_text,
+                show(lhs_at),
+                result.rhs_text,
+                show(rhs_at),
+            ),
+        }
+    }
+    /// The steps after the nodes and checks, shared by a whole evaluation
+    /// and the notebook: tolerances, load cases, then every check's verdict.
+    pub(super) fn judge_sheet(&mut self, checks: &mut [CheckResult]) -> SheetJudgement {
+        let case_results = case_results(self.sheet, &mut self.diagnostics);
+        let CellRanges {
+            scalars: ranges,
+            vectors: vector_ranges,
+        } = self.apply_tolerances(checks, &case_results, None);
+        let (cases, case_diagnostics) = evaluate_cases(self.sheet, self.source, &case_results);
+        self.diagnostics.extend(case_diagnostics);
+        super::verdict::judge(self.sheet, checks, &cases, &mut self.diagnostics);
+        let governing = governing(checks, &cases);
+        SheetJudgement {
+            ranges,
+            vector_ranges,
+            cases,
+            case_results,
+            governing,
+        }
+    }
+
+    /// Runs every node of the sheet, in the order of the load case being
+    /// evaluated (if any).
+    pub(super) fn run_nodes(&mut self) {
+        for position in 0..self.node_order().len() {
+            self.run_node(self.node_order()[position]);
+        }
+    }
+
+    /// The order nodes are evaluated in: the load case's, or the sheet's.
+    pub(super) fn node_order(&self) -> &[NodeId] {
+        self.case_order
+            .as_deref()
+            .unwrap_or(&self.sheet.order.order)
     }
 
     /// Runs one node: a cell, a solve block or a simulate block.
@@ -210,12 +438,19 @@ pub(super) fn evaluate_cases(
             outcomes.push(outcome);
             continue;
         }
+        let replaced: Vec<(CellId, Vec<CellId>)> = overrides
+            .iter()
+            .map(|(&id, replacement)| (id, crate::sheet::override_uses(replacement)))
+            .collect();
+        evaluator.case_order = Some(sheet.order_with_replaced_uses(&replaced));
         evaluator.overrides = overrides;
         evaluator.run_nodes();
         let mut checks: Vec<CheckResult> = (0..sheet.checks.len())
             .map(|index| evaluator.evaluate_check(index))
             .collect();
-        let ranges = evaluator.apply_tolerances(&mut checks, chosen, Some(&case.name.text));
+        let ranges = evaluator
+            .apply_tolerances(&mut checks, chosen, Some(&case.name.text))
+            .scalars;
         // Keep what is new in this case: errors in its overrides and its
         // failed checks (named with the case); the rest repeats the sheet's.
         for mut diagnostic in evaluator.diagnostics.drain(known..) {
@@ -244,8 +479,10 @@ pub(super) fn evaluate_cases(
             .into_iter()
             .map(|check| CaseCheck {
                 status: check.status,
+                holds: check.holds,
                 utilization: check.utilization,
                 worst: check.worst,
+                worst_unknown: check.worst_unknown,
             })
             .collect();
         outcome.evaluated = true;
@@ -268,7 +505,7 @@ fn override_loop(
         }
     }
     for (&target, replacement) in overrides {
-        let uses = super::override_uses(replacement);
+        let uses = crate::sheet::override_uses(replacement);
         let mut seen = vec![false; sheet.cells.len()];
         let mut stack = vec![target];
         while let Some(cell) = stack.pop() {

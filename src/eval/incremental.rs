@@ -13,7 +13,7 @@
 //! evaluator, and `tests/live.rs` checks that an edited sheet always ends up
 //! exactly where evaluating its text from scratch does.
 
-use super::{CellResult, CellStatus, CheckResult, Evaluator, Spread, cases};
+use super::{CellResult, CellStatus, CheckResult, Evaluator, Spread};
 use crate::diag::{Code, Diagnostic, Severity};
 use crate::sheet::edit::{self, Document};
 use crate::sheet::{
@@ -108,6 +108,8 @@ pub struct LiveSheet {
     check_findings: Vec<Vec<Diagnostic>>,
     /// Findings of blocks, tolerances and load cases (placed by their spans).
     block_findings: Vec<Diagnostic>,
+    /// Ranges, load cases and governing cases of the last whole evaluation.
+    judgement: super::SheetJudgement,
     /// Whether every edit must evaluate the whole sheet: it has blocks,
     /// tolerances or load cases, whose results depend on the whole sheet.
     whole_sheet_only: bool,
@@ -187,6 +189,7 @@ impl LiveSheet {
             checks: Vec::new(),
             check_findings: Vec::new(),
             block_findings: Vec::new(),
+            judgement: super::SheetJudgement::default(),
             whole_sheet_only: false,
             dependents: Vec::new(),
             check_dependents: Vec::new(),
@@ -588,6 +591,25 @@ impl LiveSheet {
     /// Number of findings in the whole sheet.
     pub fn n_findings(&self) -> usize {
         self.all_diagnostics().count() + self.lints.len()
+    }
+
+    /// The counts the status line shows, from the same function as every
+    /// other presentation.
+    pub fn summary(&self) -> super::Summary {
+        super::Summary::of(
+            self.sheet.cells.len(),
+            &self.checks,
+            self.all_diagnostics()
+                .map(|d| d.severity)
+                .chain(self.lints.iter().map(|f| f.severity)),
+        )
+    }
+
+    /// Ranges over the tolerances, load cases and governing cases, as the
+    /// whole-sheet evaluation gives them (empty for a sheet with neither
+    /// tolerances nor cases).
+    pub fn judgement(&self) -> &super::SheetJudgement {
+        &self.judgement
     }
 
     /// Number of findings of `severity` in the whole sheet.
@@ -1072,11 +1094,13 @@ impl LiveSheet {
             })
             .collect();
         if self.whole_sheet_only {
-            let chosen = cases::case_results(&self.sheet, &mut self.block_findings);
-            evaluator.apply_tolerances(&mut checks, &chosen, None);
-            let (_, case_findings) = cases::evaluate_cases(&self.sheet, arena, &chosen);
+            self.judgement = evaluator.judge_sheet(&mut checks);
             self.block_findings.append(&mut evaluator.diagnostics);
-            self.block_findings.extend(case_findings);
+        } else {
+            self.judgement = super::SheetJudgement::default();
+            for (index, check) in checks.iter_mut().enumerate() {
+                super::verdict::judge_check(&self.sheet, index, check, &[]);
+            }
         }
         self.checks = checks;
         (self.displays, self.inputs) = evaluator.display_units();
@@ -1135,7 +1159,9 @@ impl LiveSheet {
             self.inputs[id] = is_input;
         }
         for &check in &affected_checks {
-            self.checks[check] = evaluator.evaluate_check(check);
+            let mut result = evaluator.evaluate_check(check);
+            super::verdict::judge_check(&self.sheet, check, &mut result, &[]);
+            self.checks[check] = result;
             self.check_findings[check] = std::mem::take(&mut evaluator.diagnostics);
         }
         self.values = evaluator.values;

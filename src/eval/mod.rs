@@ -4,6 +4,7 @@
 //! presentation reads.
 
 mod cases;
+mod corners;
 mod explain;
 mod expr;
 pub mod formula;
@@ -16,16 +17,18 @@ mod run_model;
 mod simulate;
 mod solve;
 mod vectors;
+mod verdict;
 
 pub use explain::format_value;
 pub use incremental::{CellField, EditError, FieldEditor, Finding, LiveSheet, Row};
 pub use model::{
     CaseCheck, CaseOutcome, CaseValue, CellRange, CellResult, CellStatus, CheckRange, CheckResult,
-    CheckStatus, EquationReport, Evaluated, FreeBody, OutlineItem, Sensitivity, SolveReport,
-    SolveStatus, Spread,
+    CheckStatus, EquationReport, Evaluated, FreeBody, OutlineItem, Place, RangeMethod, Sensitivity,
+    SolveReport, SolveStatus, Spread, Unsettled,
 };
 pub use run_model::{PlotSeries, RunColumn, RunEvent, RunReport, RunRow, RunStatus, StateSlots};
 pub use simulate::{DEFAULT_RELATIVE_TOLERANCE, MAX_STEPS};
+pub use verdict::{Summary, count};
 
 use std::cell::{Cell, RefCell};
 use std::sync::Arc;
@@ -35,7 +38,7 @@ use rustc_hash::FxHashMap;
 use explain::{DeclaredMismatch, Operand, Style, declared_mismatch, mismatch};
 
 use crate::diag::{Code, Diagnostic};
-use crate::sheet::{CellId, Item, Sheet};
+use crate::sheet::{CellId, Item, NodeId, Sheet};
 use crate::syntax::LineIndex;
 use crate::syntax::ast::{
     Comparison, Expr, ExprKind, NameRef, Override, StatementKind, Target, Tolerance, UnitExpr,
@@ -49,24 +52,40 @@ pub fn evaluate_source(source: &str) -> Evaluated {
     evaluate(Arc::new(Sheet::parse(source)), Arc::from(source))
 }
 
-/// Evaluates every cell, solve block and check of a linked sheet.
+/// Evaluates every cell, solve block and check of a linked sheet, then
+/// judges every check as written, at the worst case of its tolerances and
+/// in every load case.
 pub fn evaluate(sheet: Arc<Sheet>, source: Arc<str>) -> Evaluated {
     let mut evaluator = Evaluator::new(&sheet, &source);
     evaluator.run_nodes();
     let mut checks: Vec<CheckResult> = (0..sheet.checks.len())
         .map(|index| evaluator.evaluate_check(index))
         .collect();
-    let chosen = cases::case_results(&sheet, &mut evaluator.diagnostics);
-    let ranges = evaluator.apply_tolerances(&mut checks, &chosen, None);
-    let (case_outcomes, case_diagnostics) = cases::evaluate_cases(&sheet, &source, &chosen);
-    evaluator.diagnostics.extend(case_diagnostics);
-    let governing = cases::governing(&checks, &case_outcomes);
+    let judged = evaluator.judge_sheet(&mut checks);
     let mut evaluated = evaluator.finish(checks, &sheet, &source);
-    evaluated.ranges = ranges;
-    evaluated.cases = case_outcomes;
-    evaluated.case_results = chosen;
-    evaluated.governing = governing;
+    evaluated.ranges = judged.ranges;
+    evaluated.vector_ranges = judged.vector_ranges;
+    evaluated.cases = judged.cases;
+    evaluated.case_results = judged.case_results;
+    evaluated.governing = judged.governing;
     evaluated
+}
+
+/// What the sheet gives as a whole, beyond each cell: ranges over the
+/// tolerances, the load cases, and which case governs each check.
+#[derive(Clone, Debug, Default)]
+pub struct SheetJudgement {
+    /// Each cell's range over the tolerances (empty when no cell has one).
+    pub ranges: Vec<Option<CellRange>>,
+    /// Each vector cell's range by component (SI lowest and highest),
+    /// found at the corners of the tolerances, by cell id.
+    pub vector_ranges: Vec<(CellId, Vec<(f64, f64)>)>,
+    /// The load cases, in file order.
+    pub cases: Vec<CaseOutcome>,
+    /// The cells tabulated for every case.
+    pub case_results: Vec<CellId>,
+    /// For each check, the case that governs it.
+    pub governing: Vec<Option<usize>>,
 }
 
 /// Evaluates one expression on its own, with the built-in constants but no
@@ -98,25 +117,6 @@ pub fn evaluate_unit(text: &str) -> Result<(UnitExpr, ResolvedUnit), Diagnostic>
     Ok((unit, resolved))
 }
 
-/// The cells an override's formula and tolerance use.
-fn override_uses(replacement: &Override) -> Vec<CellId> {
-    let mut uses = Vec::new();
-    let tolerance = replacement.tolerance.as_deref().map(Tolerance::expr);
-    for expr in std::iter::once(&replacement.expr).chain(tolerance) {
-        expr.walk(&mut |node| {
-            if let ExprKind::Name(NameRef {
-                target: Target::Cell(id),
-                ..
-            }) = &node.kind
-                && !uses.contains(id)
-            {
-                uses.push(*id);
-            }
-        });
-    }
-    uses
-}
-
 /// The evaluation in progress: values and statuses by cell.
 struct Evaluator<'a> {
     sheet: &'a Sheet,
@@ -133,6 +133,12 @@ struct Evaluator<'a> {
     spreads: Vec<Option<Spread>>,
     /// Formulas replaced by the load case being evaluated.
     overrides: FxHashMap<CellId, &'a Override>,
+    /// The node order of the load case being evaluated, whose overrides may
+    /// use cells the sheet's own order puts later; `None`: the sheet's.
+    case_order: Option<Vec<NodeId>>,
+    /// Toleranced inputs held at one value (SI) while the sheet is evaluated
+    /// at a corner of the tolerances.
+    pins: FxHashMap<CellId, f64>,
     solves: Vec<SolveReport>,
     diagnostics: Vec<Diagnostic>,
     /// Simulate blocks' runs, in evaluation order.
@@ -181,6 +187,8 @@ impl<'a> Evaluator<'a> {
             statuses,
             spreads,
             overrides: FxHashMap::default(),
+            case_order: None,
+            pins: FxHashMap::default(),
             solves: Vec::new(),
             diagnostics: Vec::new(),
             runs: Vec::new(),
@@ -195,7 +203,7 @@ impl<'a> Evaluator<'a> {
             return;
         }
         let blocker = match self.overrides.get(&id) {
-            Some(replacement) => self.blocker(&override_uses(replacement)),
+            Some(replacement) => self.blocker(&crate::sheet::override_uses(replacement)),
             None => self.blocker(&self.sheet.uses[id]),
         };
         if let Some(blocker) = blocker {
@@ -244,6 +252,9 @@ impl<'a> Evaluator<'a> {
             let (nominal, spread) = self.apply_tolerance(value, tolerance)?;
             value = Value::Scalar(nominal);
             self.spreads[id] = Some(spread);
+            if let Some(&pinned) = self.pins.get(&id) {
+                value = Value::Scalar(Quantity::new(pinned, nominal.dimension));
+            }
         }
         if let Some(unit) = cell.unit {
             self.check_declared(cell.name.text.as_str(), unit, expr, value)?;
@@ -409,7 +420,12 @@ impl<'a> Evaluator<'a> {
             display: DisplayUnit::none(),
             utilization: None,
             status: CheckStatus::Error,
+            holds: None,
             worst: None,
+            worst_unknown: None,
+            worst_corner: None,
+            fails: Vec::new(),
+            unknowns: Vec::new(),
         };
         if self.sheet.broken_checks[index] {
             return result;
@@ -466,11 +482,13 @@ impl<'a> Evaluator<'a> {
             Comparison::AtMost | Comparison::Below => (a, b),
             Comparison::AtLeast | Comparison::Above => (b, a),
         };
-        result.utilization = (denominator != 0.0)
+        // A ratio to or of zero (`a > 0 m/s^2`) is no utilization.
+        result.utilization = (denominator != 0.0 && numerator != 0.0)
             .then(|| numerator / denominator)
             .filter(|u| u.is_finite());
         result.lhs = Some(lhs);
         result.rhs = Some(rhs);
+        result.holds = Some(passed);
         result.status = if passed {
             CheckStatus::Passed
         } else {
@@ -599,6 +617,7 @@ impl<'a> Evaluator<'a> {
             checks,
             solves: std::mem::take(&mut self.solves),
             ranges: Vec::new(),
+            vector_ranges: Vec::new(),
             cases: Vec::new(),
             case_results: Vec::new(),
             governing: Vec::new(),

@@ -41,15 +41,63 @@ pub struct CellRange {
     pub low: f64,
     /// Guaranteed upper bound.
     pub high: f64,
-    /// First-order (linearised) estimate of the lower bound.
-    pub first_order_low: f64,
-    /// First-order estimate of the upper bound.
-    pub first_order_high: f64,
-    /// Whether the bounds are the result's values at its worst corners (the
-    /// result is monotone in every input over the box), hence exact.
-    pub at_corners: bool,
+    /// The first-order (linearised) estimate of the lower and upper bounds,
+    /// where exact derivatives are known.
+    pub first_order: Option<(f64, f64)>,
+    /// How the bounds were found, which says what they promise.
+    pub method: RangeMethod,
     /// The inputs ranked by their share of the range, largest first.
     pub sensitivities: Vec<Sensitivity>,
+}
+
+/// How a range over the tolerances was found, which says what it promises.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum RangeMethod {
+    /// Interval arithmetic with outward rounding: the true range lies
+    /// inside (the bounds may be wider than it).
+    Guaranteed,
+    /// Proven monotone in every input over the box, so the bounds are the
+    /// formula's values at its two worst corners: exact up to rounding.
+    WorstCorners,
+    /// The sheet evaluated at every corner of the toleranced inputs (this
+    /// many); the extremes found there, not a guarantee: a result that is
+    /// not monotone may go further between the corners.
+    Corners(usize),
+}
+
+impl RangeMethod {
+    /// Words for people: what the range promises.
+    pub fn describe(self) -> String {
+        match self {
+            RangeMethod::Guaranteed => "guaranteed bounds".to_string(),
+            RangeMethod::WorstCorners => "exact: worst corners".to_string(),
+            RangeMethod::Corners(n) => {
+                format!("found at the {n} corners, not guaranteed between them")
+            }
+        }
+    }
+
+    /// Whether the range is proven to hold the true range.
+    pub fn is_guaranteed(self) -> bool {
+        !matches!(self, RangeMethod::Corners(_))
+    }
+}
+
+impl CellRange {
+    /// The bounds to show: a bound that is only rounding away from zero
+    /// against the other (outward rounding of `0 .. 3` gives −5e−324) is
+    /// shown as zero.
+    pub fn shown_bounds(&self) -> (f64, f64) {
+        let scale = self.low.abs().max(self.high.abs());
+        let snap = |bound: f64| {
+            if bound.abs() <= 1e-12 * scale {
+                0.0
+            } else {
+                bound
+            }
+        };
+        (snap(self.low), snap(self.high))
+    }
 }
 
 /// How much one toleranced input moves a result.
@@ -68,6 +116,8 @@ pub struct Sensitivity {
 /// A check at the worst case of the tolerances.
 #[derive(Clone, Debug, PartialEq)]
 pub struct CheckRange {
+    /// How the worst case was found (the less certain of its sides').
+    pub method: RangeMethod,
     /// The left side's range.
     pub lhs: CellRange,
     /// The right side's range.
@@ -107,13 +157,18 @@ pub struct CaseValue {
 /// One check in one case.
 #[derive(Clone, Debug)]
 pub struct CaseCheck {
-    /// Passed, failed, error or blocked (at the worst case where there are
-    /// tolerances).
+    /// Passed, failed, unknown, error or blocked in this case (at the worst
+    /// case where there are tolerances).
     pub status: CheckStatus,
+    /// Whether the comparison holds at the nominal values of this case.
+    pub holds: Option<bool>,
     /// Utilization at the nominal values.
     pub utilization: Option<f64>,
     /// The worst case, where there are tolerances.
     pub worst: Option<CheckRange>,
+    /// Why the worst case could not be established, where tolerances reach
+    /// the check but no range could be found.
+    pub worst_unknown: Option<String>,
 }
 
 impl CaseCheck {
@@ -243,10 +298,15 @@ pub struct FreeBody<'a> {
 /// The state of a check after evaluation.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub enum CheckStatus {
-    /// The comparison holds.
+    /// The comparison holds everywhere it was judged: as written, at the
+    /// worst case of the tolerances and in every load case.
     Passed,
-    /// The comparison does not hold.
+    /// The comparison does not hold somewhere it was judged.
     Failed,
+    /// It holds wherever it could be judged, but somewhere (the worst case
+    /// of the tolerances, a load case) it could not be established. Never
+    /// a pass: [`CheckResult::unknowns`] says where and why.
+    Unknown,
     /// A side could not be evaluated; a diagnostic says why.
     Error,
     /// A side uses a failed cell.
@@ -254,6 +314,32 @@ pub enum CheckStatus {
         /// The failed cell.
         by: CellId,
     },
+}
+
+impl CheckStatus {
+    /// `passed`, `failed`, `unknown`, `error` or `blocked`, as in the JSON.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            CheckStatus::Passed => "passed",
+            CheckStatus::Failed => "failed",
+            CheckStatus::Unknown => "unknown",
+            CheckStatus::Error => "error",
+            CheckStatus::Blocked { .. } => "blocked",
+        }
+    }
+}
+
+impl Place {
+    /// `as-written`, `worst-case`, `case` or `case-worst-case`, as in the
+    /// JSON, with the case's index where there is one.
+    pub fn kind(self) -> (&'static str, Option<usize>) {
+        match self {
+            Place::AsWritten => ("as-written", None),
+            Place::WorstCase => ("worst-case", None),
+            Place::Case(index) => ("case", Some(index)),
+            Place::CaseWorstCase(index) => ("case-worst-case", Some(index)),
+        }
+    }
 }
 
 /// One evaluated check.
@@ -277,13 +363,58 @@ pub struct CheckResult {
     pub display: DisplayUnit,
     /// A/B for `<` and `<=`, B/A for `>` and `>=`.
     pub utilization: Option<f64>,
-    /// Passed, failed, error or blocked.
+    /// The verdict over everything judged: passed, failed, unknown, error
+    /// or blocked (as written). Set once the load cases are in.
     pub status: CheckStatus,
+    /// Whether the comparison holds at the nominal values as written.
+    pub holds: Option<bool>,
     /// The check at the worst case of the tolerances, if any input has one.
     pub worst: Option<CheckRange>,
+    /// Why the worst case could not be established, where tolerances reach
+    /// the check but no range could be found.
+    pub worst_unknown: Option<String>,
+    /// Where the worst case was found by evaluating the sheet at the
+    /// corners of the tolerances: each input's value there (SI).
+    pub worst_corner: Option<Vec<(CellId, f64)>>,
+    /// Everywhere the check fails.
+    pub fails: Vec<Place>,
+    /// Everywhere the check could not be established, with the reason.
+    pub unknowns: Vec<Unsettled>,
+}
+
+/// Where a check was judged.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Place {
+    /// The sheet as written, at the nominal values.
+    AsWritten,
+    /// The sheet as written, at the worst case of the tolerances.
+    WorstCase,
+    /// A load case (index into [`Evaluated::cases`]), at its nominal values.
+    Case(usize),
+    /// A load case at the worst case of its tolerances.
+    CaseWorstCase(usize),
+}
+
+/// A place where a check could not be established, and why.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Unsettled {
+    /// Where.
+    pub place: Place,
+    /// Why, in words.
+    pub reason: String,
 }
 
 impl CheckResult {
+    /// The comparison as written: `T_up <= WLL`.
+    pub fn statement(&self) -> String {
+        format!(
+            "{} {} {}",
+            self.lhs_text,
+            self.comparison.symbol(),
+            self.rhs_text
+        )
+    }
+
     /// The utilization that counts: at the worst case if there is one.
     pub fn governing_utilization(&self) -> Option<f64> {
         self.worst
@@ -293,12 +424,12 @@ impl CheckResult {
     }
 
     /// `Some(true)` if passed, `Some(false)` if failed, `None` if it could
-    /// not be evaluated.
+    /// not be established (unknown, error or blocked).
     pub fn passed(&self) -> Option<bool> {
         match self.status {
             CheckStatus::Passed => Some(true),
             CheckStatus::Failed => Some(false),
-            CheckStatus::Error | CheckStatus::Blocked { .. } => None,
+            CheckStatus::Unknown | CheckStatus::Error | CheckStatus::Blocked { .. } => None,
         }
     }
 }
@@ -362,6 +493,9 @@ pub struct Evaluated {
     pub solves: Vec<SolveReport>,
     /// Each cell's range over the tolerances (empty when no cell has one).
     pub ranges: Vec<Option<CellRange>>,
+    /// Each vector cell's range by component (SI lowest and highest), found
+    /// at the corners of the tolerances, by cell id.
+    pub vector_ranges: Vec<(CellId, Vec<(f64, f64)>)>,
     /// The load cases, in file order.
     pub cases: Vec<CaseOutcome>,
     /// The cells tabulated for every case.
@@ -488,10 +622,20 @@ impl Evaluated {
             .count()
     }
 
-    /// Whether the sheet has no errors and every check passed.
+    /// The counts every presentation shows: cells, findings, and checks
+    /// passed, failed and unknown.
+    pub fn summary(&self) -> super::Summary {
+        super::Summary::of(
+            self.n_cells(),
+            &self.checks,
+            self.diagnostics.iter().map(|d| d.severity),
+        )
+    }
+
+    /// Whether the sheet has no errors and every check passed everywhere it
+    /// was judged.
     pub fn is_clean(&self) -> bool {
-        self.count(Severity::Error) == 0
-            && self.checks.iter().all(|check| check.passed() == Some(true))
+        self.summary().is_clean()
     }
 }
 

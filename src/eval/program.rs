@@ -35,6 +35,9 @@ pub trait Number: Copy + std::fmt::Debug {
     fn certainly_less(self, other: Self) -> bool;
     /// A value that may be either (for intervals: their hull).
     fn either(self, other: Self) -> Self;
+    /// −1, 0 or 1 by the sign of `self` (for intervals: every sign it
+    /// holds); the slope of |x|, taken as 0 at 0.
+    fn sign(self) -> Self;
     /// `self` to an integer power.
     fn powi(self, power: i32) -> Self;
     /// `self` to a real power.
@@ -201,6 +204,15 @@ impl Number for f64 {
     }
     fn either(self, _other: Self) -> Self {
         self
+    }
+    fn sign(self) -> Self {
+        if self > 0.0 {
+            1.0
+        } else if self < 0.0 {
+            -1.0
+        } else {
+            self * 0.0
+        }
     }
     fn powi(self, power: i32) -> Self {
         f64::powi(self, power)

@@ -10,7 +10,7 @@
 //! sides and the chosen case results.
 
 use super::Evaluator;
-use super::model::{CellRange, CheckRange, Sensitivity};
+use super::model::{CellRange, CheckRange, RangeMethod, Sensitivity};
 use super::program::{Input, Number, Program};
 use crate::cases::{Dual, Interval};
 use crate::sheet::{CellId, Node};
@@ -75,7 +75,7 @@ impl Evaluator<'_> {
         }
         let programs: Vec<Option<Program>> = (0..n_cells).map(|id| self.compile_cell(id)).collect();
         let mut supported = vec![false; n_cells];
-        for &node in &self.sheet.order.order {
+        for &node in self.node_order() {
             if let Node::Cell(id) = &self.sheet.nodes[node] {
                 let uses_supported = self.uses_of(*id).iter().all(|&used| supported[used]);
                 supported[*id] = programs[*id].is_some() && uses_supported;
@@ -131,9 +131,7 @@ impl Evaluator<'_> {
 
     /// Formula cells in evaluation order.
     fn formula_order(&self) -> Vec<CellId> {
-        self.sheet
-            .order
-            .order
+        self.node_order()
             .iter()
             .filter_map(|&node| match &self.sheet.nodes[node] {
                 Node::Cell(id) => Some(*id),
@@ -143,9 +141,9 @@ impl Evaluator<'_> {
     }
 
     /// The cells a cell's formula (or its case's replacement) uses.
-    fn uses_of(&self, id: CellId) -> Vec<CellId> {
+    pub(super) fn uses_of(&self, id: CellId) -> Vec<CellId> {
         match self.overrides.get(&id) {
-            Some(replacement) => super::override_uses(replacement),
+            Some(replacement) => crate::sheet::override_uses(replacement),
             None => self.sheet.uses[id].clone(),
         }
     }
@@ -411,7 +409,7 @@ impl Evaluator<'_> {
         }
         sensitivities.sort_by(|a, b| b.share.total_cmp(&a.share));
         let mut bounds = boxed.intersect(mean_value);
-        let mut at_corners = false;
+        let mut method = RangeMethod::Guaranteed;
         if refine && monotone {
             let high_corner: Vec<bool> = signs.clone();
             let low_corner: Vec<bool> = signs.iter().map(|s| !s).collect();
@@ -420,15 +418,14 @@ impl Evaluator<'_> {
             let low = value_in(&self.interval_pass(ranges, cone, Setting::Corner, &low_corner));
             if !high.is_nan() && !low.is_nan() {
                 bounds = Interval::new(low.lo, high.hi).intersect(bounds);
-                at_corners = true;
+                method = RangeMethod::WorstCorners;
             }
         }
         Some(CellRange {
             low: bounds.lo,
             high: bounds.hi,
-            first_order_low: first_order.0,
-            first_order_high: first_order.1,
-            at_corners,
+            first_order: Some(first_order),
+            method,
             sensitivities,
         })
     }
@@ -467,8 +464,17 @@ impl Evaluator<'_> {
             Comparison::AtLeast => (rhs.high, lhs.low, lhs.low >= rhs.high),
             Comparison::Above => (rhs.high, lhs.low, lhs.low > rhs.high),
         };
+        let method =
+            if lhs.method == RangeMethod::WorstCorners && rhs.method == RangeMethod::WorstCorners {
+                RangeMethod::WorstCorners
+            } else {
+                RangeMethod::Guaranteed
+            };
         CheckRange {
-            worst_utilization: (b != 0.0).then(|| a / b).filter(|u| u.is_finite()),
+            method,
+            worst_utilization: (b != 0.0 && a != 0.0)
+                .then(|| a / b)
+                .filter(|u| u.is_finite()),
             passes,
             lhs,
             rhs,

@@ -10,7 +10,7 @@ use super::model::{
     TitleBlock, Tone,
 };
 use super::svg;
-use crate::diag::{Diagnostic, Severity};
+use crate::diag::Diagnostic;
 use crate::eval::{
     CellResult, CellStatus, CheckResult, CheckStatus, Evaluated, OutlineItem, SolveStatus,
 };
@@ -114,21 +114,7 @@ impl<'a> Builder<'a> {
     }
 
     fn summary_line(&self) -> String {
-        let evaluated = self.evaluated;
-        let n_passed = evaluated
-            .checks
-            .iter()
-            .filter(|check| check.status == CheckStatus::Passed)
-            .count();
-        let plural = |n: usize, word: &str| format!("{n} {word}{}", if n == 1 { "" } else { "s" });
-        format!(
-            "{}, {}, {}; {} of {} passed",
-            plural(evaluated.n_cells(), "cell"),
-            plural(evaluated.count(Severity::Error), "error"),
-            plural(evaluated.count(Severity::Warning), "warning"),
-            plural(n_passed, "check"),
-            evaluated.checks.len()
-        )
+        self.evaluated.summary().line()
     }
 
     /// Every check at a glance, before the calculation.
@@ -271,6 +257,7 @@ impl<'a> Builder<'a> {
                 let verdict = match status {
                     CheckStatus::Passed => "pass",
                     CheckStatus::Failed => "FAIL",
+                    CheckStatus::Unknown => "unknown",
                     _ => "not evaluated",
                 };
                 let text = format!(
@@ -294,7 +281,7 @@ impl<'a> Builder<'a> {
             let mut row = vec![
                 Rich::text(label),
                 entry(
-                    check.status,
+                    check.as_written_status(),
                     check.governing_utilization(),
                     governing.is_none(),
                 ),
@@ -374,18 +361,18 @@ impl<'a> Builder<'a> {
                 })
                 .collect::<Vec<_>>()
                 .join(", ");
+            let (low, high) = range.shown_bounds();
             rows.push(vec![
                 math::name(cell.name),
                 Rich::text(format!(
-                    "{} to {}{}",
-                    shown(range.low),
-                    shown(range.high),
-                    if range.at_corners { " (exact)" } else { "" }
+                    "{} to {} ({})",
+                    shown(low),
+                    shown(high),
+                    range.method.describe()
                 )),
-                Rich::text(format!(
-                    "{} to {}",
-                    shown(range.first_order_low),
-                    shown(range.first_order_high)
+                Rich::text(range.first_order.map_or_else(
+                    || "—".to_string(),
+                    |(low, high)| format!("{} to {}", shown(low), shown(high)),
                 )),
                 Rich::text(ranking),
             ]);
@@ -397,7 +384,7 @@ impl<'a> Builder<'a> {
             blocks: vec![Block::Table(Table {
                 columns: [
                     "Result",
-                    "Guaranteed range",
+                    "Range",
                     "First-order range",
                     "Share of the range by input",
                 ]
@@ -640,7 +627,10 @@ impl<'a> Builder<'a> {
         expression.extend(math::formula(&rhs, Names::AsWritten));
         let substituted = match (check.lhs, check.rhs) {
             (Some(left), Some(right))
-                if matches!(check.status, CheckStatus::Passed | CheckStatus::Failed) =>
+                if matches!(
+                    check.status,
+                    CheckStatus::Passed | CheckStatus::Failed | CheckStatus::Unknown
+                ) =>
             {
                 Some(Rich::text(format!(
                     "{} {} {}",
@@ -651,10 +641,10 @@ impl<'a> Builder<'a> {
             }
             _ => None,
         };
+        let label = check.verdict_label(&self.evaluated.cases);
         let (verdict, tone) = match check.status {
-            CheckStatus::Passed => ("PASS".to_string(), Tone::Good),
-            CheckStatus::Failed => ("FAIL".to_string(), Tone::Bad),
-            CheckStatus::Error => ("ERROR".to_string(), Tone::Bad),
+            CheckStatus::Passed => (label, Tone::Good),
+            CheckStatus::Failed | CheckStatus::Unknown | CheckStatus::Error => (label, Tone::Bad),
             CheckStatus::Blocked { by } => (
                 format!("BLOCKED by {}", self.evaluated.cell_at(by).name),
                 Tone::Warning,
@@ -752,7 +742,7 @@ impl<'a> Builder<'a> {
                         self.target_text(mark.target),
                         Rich(vec![Piece::Strong(mark_kind_text(
                             mark.kind.keyword(),
-                            mark.kind.is_open(),
+                            mark.open,
                         ))]),
                         Rich::text(mark.text.clone().unwrap_or_default()),
                         Rich::text(format!("{}, {}", mark.by, mark.on)),
@@ -932,7 +922,7 @@ fn finding_text(diagnostic: &Diagnostic) -> String {
 fn mark_line(mark: &Mark) -> MarkLine {
     MarkLine {
         kind: mark.kind.keyword().to_string(),
-        open: mark.kind.is_open(),
+        open: mark.open,
         text: mark.text.clone(),
         by: mark.by.clone(),
         on: mark.on.clone(),
@@ -959,11 +949,17 @@ pub fn stale_summary(changes: &Changes) -> String {
         return "the sign-off records no cell digests, so the changed cells cannot be named; compare the signed revision with `heft diff`".to_string();
     }
     if changes.only_other_text() {
-        return "no cell changed; the header, a heading, a note, a check or a comment did"
+        return "no cell, load case or check changed; the header, a heading, a note or a comment did"
             .to_string();
     }
     let mut parts = Vec::new();
-    let list = |names: &[String]| names.join(", ");
+    let list = |names: &[String]| {
+        names
+            .iter()
+            .map(|name| crate::review::digest_key_text(name))
+            .collect::<Vec<_>>()
+            .join(", ")
+    };
     if !changes.changed.is_empty() {
         parts.push(format!("changed {}", list(&changes.changed)));
     }

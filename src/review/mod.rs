@@ -53,6 +53,9 @@ pub struct Mark {
     pub line: usize,
     /// What it is about.
     pub target: MarkTarget,
+    /// Whether it is still open: a question or a required change with no
+    /// `accepted` or `resolved` mark on the same target after it.
+    pub open: bool,
 }
 
 /// Whether a sign-off still covers the sheet.
@@ -80,10 +83,19 @@ pub struct Changes {
 }
 
 impl Changes {
-    /// Whether no cell changed (so the header, a heading, a note, a check
-    /// or a comment did).
+    /// Whether no cell, load case or check changed (so the header, a
+    /// heading, a note or a comment did).
     pub fn only_other_text(&self) -> bool {
         self.changed.is_empty() && self.added.is_empty() && self.removed.is_empty()
+    }
+}
+
+/// A digest key as people read it: `m_skid`, `case estop`, `check 2`.
+pub fn digest_key_text(key: &str) -> String {
+    match key.split_once('/') {
+        Some(("case", name)) => format!("case {name}"),
+        Some(("check", number)) => format!("check {number}"),
+        _ => key.to_string(),
     }
 }
 
@@ -137,6 +149,7 @@ impl Review {
                         on: mark.on.text.to_string(),
                         line,
                         target,
+                        open: mark.kind.is_open(),
                     });
                     continue;
                 }
@@ -145,7 +158,7 @@ impl Review {
                     let state = if signed == fingerprint {
                         SignOffState::Current
                     } else {
-                        let now = digests_now.get_or_insert_with(|| cell_digests(evaluated));
+                        let now = digests_now.get_or_insert_with(|| sheet_digests(evaluated));
                         SignOffState::Stale(changes_since(
                             evaluated,
                             now,
@@ -198,6 +211,16 @@ impl Review {
             }
             outline_index += 1;
         }
+        // An `accepted` or `resolved` mark answers the open marks before it
+        // on the same target.
+        let mut answered: HashSet<MarkTarget> = HashSet::new();
+        for mark in marks.iter_mut().rev() {
+            if mark.kind.is_open() {
+                mark.open = !answered.contains(&mark.target);
+            } else {
+                answered.insert(mark.target);
+            }
+        }
         Review {
             fingerprint,
             marks,
@@ -207,7 +230,7 @@ impl Review {
 
     /// The marks still open (questions and required changes).
     pub fn open_marks(&self) -> impl Iterator<Item = &Mark> {
-        self.marks.iter().filter(|mark| mark.kind.is_open())
+        self.marks.iter().filter(|mark| mark.open)
     }
 
     /// The sign-off in force: the last one in the file.
@@ -216,17 +239,32 @@ impl Review {
     }
 }
 
-/// Each cell's name and current digest, in file order.
-pub fn cell_digests(evaluated: &Evaluated) -> Vec<(String, String)> {
-    evaluated
-        .cells()
-        .map(|cell| {
-            (
-                cell.name.to_string(),
-                statement_digest(cell.span.text(evaluated.source())),
-            )
-        })
-        .collect()
+/// Each cell's name and current digest, in file order, then each load
+/// case's (`case/NAME`) and each check's (`check/N`, its place among the
+/// checks from 1), so a stale sign-off can say which of them changed.
+pub fn sheet_digests(evaluated: &Evaluated) -> Vec<(String, String)> {
+    let sheet = evaluated.sheet();
+    let source = evaluated.source();
+    let cells = evaluated.cells().map(|cell| {
+        (
+            cell.name.to_string(),
+            statement_digest(cell.span.text(source)),
+        )
+    });
+    let cases = sheet.cases.iter().filter_map(|&statement| {
+        let case = sheet.case_block(statement)?;
+        Some((
+            format!("case/{}", case.name.text),
+            statement_digest(sheet.statements[statement].span.text(source)),
+        ))
+    });
+    let checks = (0..sheet.checks.len()).map(|index| {
+        (
+            format!("check/{}", index + 1),
+            statement_digest(sheet.check_span(index).text(source)),
+        )
+    });
+    cells.chain(cases).chain(checks).collect()
 }
 
 /// What changed between the signed digests and the sheet now.
@@ -245,8 +283,14 @@ fn changes_since<'a>(
     if !changes.digests_recorded {
         return changes;
     }
+    // A sign-off written before load cases and checks had digests names
+    // cells only; those others are then not "added".
+    let others_recorded = signed.keys().any(|key| key.contains('/'));
     let mut touched = vec![false; now.len()];
     for (id, (name, digest)) in now.iter().enumerate() {
+        if !others_recorded && name.contains('/') {
+            continue;
+        }
         match signed.get(name.as_str()) {
             Some(old) if old == digest => {}
             Some(_) => {
@@ -291,7 +335,7 @@ pub fn signoff_line(evaluated: &Evaluated, by: &str, on: &str) -> String {
         quoted(by),
         fingerprint(evaluated.source(), evaluated.sheet())
     );
-    let digests = cell_digests(evaluated);
+    let digests = sheet_digests(evaluated);
     if !digests.is_empty() {
         line.push_str(" cells");
         for (name, digest) in digests {

@@ -13,8 +13,8 @@ pub use names::NameTable;
 
 use crate::diag::{Code, Diagnostic};
 use crate::syntax::ast::{
-    BodyDef, CaseBlock, CellDef, CheckDef, Description, Expr, ExprKind, Ident, SimulateBlock,
-    SolveBlock, Statement, StatementKind, Target, Tolerance, UnitExpr,
+    BodyDef, CaseBlock, CellDef, CheckDef, Description, Expr, ExprKind, Ident, Override,
+    SimulateBlock, SolveBlock, Statement, StatementKind, Target, Tolerance, UnitExpr,
 };
 use crate::syntax::{self, ParsedSheet, Span};
 use crate::units;
@@ -662,6 +662,45 @@ impl Sheet {
             .iter()
             .flat_map(|&node| self.nodes[node].cells().iter().copied())
     }
+
+    /// The node order when some cells' formulas are replaced (a load case):
+    /// `replaced` gives each replaced cell's new uses. A replacement may use
+    /// a cell the sheet's own order puts after it, so the order is found
+    /// again; file order never matters.
+    pub fn order_with_replaced_uses(&self, replaced: &[(CellId, Vec<CellId>)]) -> Vec<NodeId> {
+        let node_uses = |node: NodeId| {
+            let first = self.nodes[node].cells().first().copied();
+            let uses = match (&self.nodes[node], first) {
+                (Node::Cell(id), _) => replaced
+                    .iter()
+                    .find(|(replaced, _)| replaced == id)
+                    .map_or(self.uses[*id].as_slice(), |(_, uses)| uses.as_slice()),
+                (_, Some(first)) => self.uses[first].as_slice(),
+                (_, None) => &[],
+            };
+            uses.iter().map(|&cell| self.node_of_cell[cell])
+        };
+        evaluation_order(self.nodes.len(), node_uses).order
+    }
+}
+
+/// The cells a load case's replacement formula and its tolerance use.
+pub fn override_uses(replacement: &Override) -> Vec<CellId> {
+    let mut uses = Vec::new();
+    let tolerance = replacement.tolerance.as_deref().map(Tolerance::expr);
+    for expr in std::iter::once(&replacement.expr).chain(tolerance) {
+        expr.walk(&mut |node| {
+            if let ExprKind::Name(crate::syntax::ast::NameRef {
+                target: Target::Cell(id),
+                ..
+            }) = &node.kind
+                && !uses.contains(id)
+            {
+                uses.push(*id);
+            }
+        });
+    }
+    uses
 }
 
 /// The declaration of the cell at `origin`.

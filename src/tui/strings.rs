@@ -32,6 +32,10 @@ pub const MARK_BLOCKED: &str = "block";
 pub const MARK_PASS: &str = "pass";
 /// A check that does not hold.
 pub const MARK_FAIL: &str = "FAIL";
+/// A check heft could not establish everywhere it must hold.
+pub const MARK_UNKNOWN: &str = "unkn";
+/// Checks not established, in the status line.
+pub const UNKNOWN: &str = "unknown";
 /// A note line.
 pub const MARK_NOTE: &str = "note";
 
@@ -72,6 +76,14 @@ pub const LABEL_COMPARES: &str = "compares";
 pub const LABEL_UTILIZATION: &str = "utilization";
 /// The line as written.
 pub const LABEL_LINE: &str = "line";
+/// Detail label: the range over the tolerances.
+pub const LABEL_RANGE: &str = "range";
+/// Detail label: the value or utilization in each load case.
+pub const LABEL_CASES: &str = "load cases";
+/// Detail label: a check's verdict and where it comes from.
+pub const LABEL_VERDICT: &str = "verdict";
+/// Detail label: a check at the worst case of the tolerances.
+pub const LABEL_WORST: &str = "worst case";
 /// Nothing to list.
 pub const NONE: &str = "none";
 /// The cell's input marker.

@@ -128,7 +128,7 @@ fn mark_style(theme: Theme, mark: &str) -> Style {
     match mark {
         text::MARK_OK | text::MARK_PASS => theme.good(),
         text::MARK_WARNING => theme.warning(),
-        text::MARK_ERROR | text::MARK_FAIL => theme.bad(),
+        text::MARK_ERROR | text::MARK_FAIL | text::MARK_UNKNOWN => theme.bad(),
         text::MARK_BLOCKED => theme.blocked(),
         _ => Style::default(),
     }
@@ -146,6 +146,7 @@ fn mark_of(live: &LiveSheet, index: usize, row: &Row<'_>) -> &'static str {
         Row::Check(_, check) => match check.status {
             CheckStatus::Passed => text::MARK_PASS,
             CheckStatus::Failed => text::MARK_FAIL,
+            CheckStatus::Unknown => text::MARK_UNKNOWN,
             CheckStatus::Error => text::MARK_ERROR,
             CheckStatus::Blocked { .. } => text::MARK_BLOCKED,
         },
@@ -533,6 +534,68 @@ fn detail(app: &App, inner: Rect) -> Detail {
                 (None, _) => text::NO_VALUE.to_string(),
             };
             detail.labelled(theme, text::LABEL_RESULT, result, theme.label(), width);
+            let judgement = live.judgement();
+            let unit = live.display_unit(cell.id, app.units().system());
+            if let Some(range) = judgement.ranges.get(cell.id).and_then(Option::as_ref) {
+                let (low, high) = range.shown_bounds();
+                detail.labelled(
+                    theme,
+                    text::LABEL_RANGE,
+                    format!(
+                        "{} … {} ({})",
+                        shown(low, &unit, app.sig_figs()),
+                        shown(high, &unit, app.sig_figs()),
+                        range.method.describe()
+                    ),
+                    Style::default(),
+                    width,
+                );
+            } else if let Some((_, components)) = judgement
+                .vector_ranges
+                .iter()
+                .find(|(id, _)| *id == cell.id)
+            {
+                let parts: Vec<String> = components
+                    .iter()
+                    .zip(["x", "y", "z"])
+                    .map(|(&(low, high), axis)| {
+                        format!(
+                            "{axis} {} … {}",
+                            shown(low, &unit, app.sig_figs()),
+                            shown(high, &unit, app.sig_figs())
+                        )
+                    })
+                    .collect();
+                detail.labelled(
+                    theme,
+                    text::LABEL_RANGE,
+                    format!("{} (found at the corners)", parts.join(", ")),
+                    Style::default(),
+                    width,
+                );
+            }
+            if let Some(position) = judgement.case_results.iter().position(|&id| id == cell.id) {
+                let values: Vec<String> = judgement
+                    .cases
+                    .iter()
+                    .map(|case| {
+                        let value = case.results.get(position).and_then(|r| r.value);
+                        let shown = value.map_or(text::NO_VALUE.to_string(), |v| {
+                            format_value(v, &unit, app.sig_figs())
+                        });
+                        format!("{} {shown}", case.name)
+                    })
+                    .collect();
+                if !values.is_empty() {
+                    detail.labelled(
+                        theme,
+                        text::LABEL_CASES,
+                        values.join(", "),
+                        Style::default(),
+                        width,
+                    );
+                }
+            }
             detail.links(app, inner, text::LABEL_USES, &uses);
             detail.links(app, inner, text::LABEL_USED_BY, &used_by);
         }
@@ -577,6 +640,58 @@ fn detail(app: &App, inner: Rect) -> Detail {
                 theme,
                 text::LABEL_UTILIZATION,
                 format!("{}   {mark}", utilization_text(check)),
+                mark_style(theme, mark),
+                width,
+            );
+            let judgement = live.judgement();
+            if let Some(worst) = &check.worst {
+                let utilization = worst
+                    .worst_utilization
+                    .map_or(text::NO_VALUE.to_string(), |u| {
+                        format!("{} %", format_significant(u * 100.0, 3))
+                    });
+                detail.labelled(
+                    theme,
+                    text::LABEL_WORST,
+                    format!("{utilization} ({})", worst.method.describe()),
+                    Style::default(),
+                    width,
+                );
+            }
+            let per_case: Vec<String> = judgement
+                .cases
+                .iter()
+                .enumerate()
+                .filter_map(|(case_index, case)| {
+                    let in_case = case.checks.get(index)?;
+                    let utilization = in_case
+                        .governing_utilization()
+                        .map_or(text::NO_VALUE.to_string(), |u| {
+                            format!("{} %", format_significant(u * 100.0, 3))
+                        });
+                    let governs =
+                        judgement.governing.get(index).copied().flatten() == Some(case_index);
+                    Some(format!(
+                        "{}{} {utilization} {}",
+                        if governs { "*" } else { "" },
+                        case.name,
+                        in_case.status.as_str()
+                    ))
+                })
+                .collect();
+            if !per_case.is_empty() {
+                detail.labelled(
+                    theme,
+                    text::LABEL_CASES,
+                    per_case.join(", "),
+                    Style::default(),
+                    width,
+                );
+            }
+            detail.labelled(
+                theme,
+                text::LABEL_VERDICT,
+                check.verdict_label(&judgement.cases),
                 mark_style(theme, mark),
                 width,
             );
@@ -652,7 +767,7 @@ fn detail(app: &App, inner: Rect) -> Detail {
             let key = |index: usize| {
                 let check = live.check(index);
                 (
-                    check.status != CheckStatus::Failed,
+                    check.passed() != Some(false),
                     -check.utilization.unwrap_or(0.0),
                 )
             };
@@ -714,16 +829,9 @@ fn draw_detail(app: &App, frame: &mut Frame, area: Rect) {
 fn draw_status(app: &App, frame: &mut Frame, area: Rect) {
     let live = app.live();
     let theme = app.theme();
-    let errors = live.count(Severity::Error);
-    let warnings = live.count(Severity::Warning);
-    let (mut passed, mut failed) = (0, 0);
-    for index in 0..live.n_checks() {
-        match live.check(index).status {
-            CheckStatus::Passed => passed += 1,
-            CheckStatus::Failed => failed += 1,
-            _ => {}
-        }
-    }
+    let summary = live.summary();
+    let (errors, warnings) = (summary.errors, summary.warnings);
+    let (passed, failed, unknown) = (summary.passed, summary.failed, summary.unknown);
     let mut spans = vec![
         Span::styled(
             text::count(errors, "error"),
@@ -759,6 +867,14 @@ fn draw_status(app: &App, frame: &mut Frame, area: Rect) {
             } else {
                 Style::default()
             },
+        ),
+        Span::styled(
+            if unknown > 0 {
+                format!(" {unknown} {}", text::UNKNOWN)
+            } else {
+                String::new()
+            },
+            theme.bad(),
         ),
         Span::raw(format!(
             " · {} · {} {}",

@@ -1,0 +1,361 @@
+//! Worst cases the interval engine cannot reach: results of solve and
+//! simulate blocks, vectors, and whatever uses them. The sheet is evaluated
+//! again at every corner of the toleranced inputs that reach them (each
+//! input at its lower or its upper end), with the ordinary evaluator, so a
+//! solve block is solved and a run integrated at each corner. The extremes
+//! found there are what heft reports, labelled as found at the corners: a
+//! result that is not monotone in its inputs may go further between them,
+//! which is said wherever such a range is shown.
+
+use super::model::{CellRange, CheckRange, CheckResult, RangeMethod};
+use super::{CellStatus, Evaluator};
+use crate::diag::Severity;
+use crate::sheet::{CellId, Node};
+use crate::units::Value;
+
+/// The most toleranced inputs whose corners are enumerated: 2¹⁰ = 1024
+/// evaluations of the part of the sheet they reach.
+pub(super) const MAX_CORNER_INPUTS: usize = 10;
+
+/// A toleranced input as the corners see it: its nominal value and how far
+/// below and above it may lie (SI).
+#[derive(Clone, Copy, Debug)]
+pub(super) struct CornerInput {
+    pub cell: CellId,
+    pub nominal: f64,
+    pub below: f64,
+    pub above: f64,
+}
+
+/// What the corners gave.
+pub(super) struct CornerRanges {
+    /// Per requested cell: its range (scalars), or per component (vectors).
+    pub cells: Vec<(CellId, CornerRange)>,
+    /// Per requested check: its worst case, or why there is none.
+    pub checks: Vec<(usize, Result<CornerCheck, String>)>,
+}
+
+/// The extremes of one cell over the corners.
+pub(super) enum CornerRange {
+    /// A scalar's lowest and highest value.
+    Scalar(CellRange),
+    /// Each component's lowest and highest value.
+    Vector(Vec<(f64, f64)>),
+    /// It could not be evaluated at some corner.
+    Unknown,
+}
+
+/// A check over the corners.
+pub(super) struct CornerCheck {
+    /// The check's worst case.
+    pub worst: CheckRange,
+    /// The corner where the utilization is highest (input cell, SI value).
+    pub worst_corner: Vec<(CellId, f64)>,
+}
+
+/// The lowest and highest value seen.
+#[derive(Clone, Copy)]
+struct Extremes {
+    low: f64,
+    high: f64,
+}
+
+impl Extremes {
+    const EMPTY: Extremes = Extremes {
+        low: f64::INFINITY,
+        high: f64::NEG_INFINITY,
+    };
+
+    fn add(&mut self, value: f64) {
+        self.low = self.low.min(value);
+        self.high = self.high.max(value);
+    }
+
+    fn range(self, method: RangeMethod) -> CellRange {
+        CellRange {
+            low: self.low,
+            high: self.high,
+            first_order: None,
+            method,
+            sensitivities: Vec::new(),
+        }
+    }
+}
+
+/// A check's sides and verdict over the corners so far.
+struct CheckSoFar {
+    lhs: Extremes,
+    rhs: Extremes,
+    /// Highest utilization seen, and at which corner.
+    worst: Option<(f64, u64)>,
+    /// Whether it held at every corner so far.
+    holds: bool,
+    /// The first corner where it failed.
+    failed_at: Option<u64>,
+    problem: Option<String>,
+}
+
+impl Evaluator<'_> {
+    /// The toleranced inputs that reach `cells` or the checks `checks`,
+    /// through any node (solve and simulate blocks included).
+    pub(super) fn inputs_reaching(
+        &self,
+        inputs: &[CornerInput],
+        cells: &[CellId],
+        checks: &[usize],
+    ) -> Vec<CornerInput> {
+        let n_cells = self.sheet.cells.len();
+        let mut seen = vec![false; n_cells];
+        let mut stack: Vec<CellId> = cells.to_vec();
+        for &check in checks {
+            stack.extend_from_slice(&self.sheet.check_uses[check]);
+        }
+        while let Some(id) = stack.pop() {
+            if seen[id] {
+                continue;
+            }
+            seen[id] = true;
+            stack.extend(self.uses_of(id));
+        }
+        inputs
+            .iter()
+            .filter(|input| seen[input.cell])
+            .copied()
+            .collect()
+    }
+
+    /// Evaluates the part of the sheet `inputs` reach at each of their
+    /// corners and gathers the extremes of `cells` and the worst case of
+    /// `checks`. At most [`MAX_CORNER_INPUTS`] inputs.
+    pub(super) fn corner_ranges(
+        &self,
+        inputs: &[CornerInput],
+        cells: &[CellId],
+        checks: &[usize],
+        base: &[CheckResult],
+    ) -> CornerRanges {
+        let n_corners = 1u64 << inputs.len();
+        let method = RangeMethod::Corners(n_corners as usize);
+        let nodes = self.nodes_downstream_of(inputs);
+        let mut cell_extremes: Vec<Vec<Extremes>> = vec![Vec::new(); cells.len()];
+        let mut cell_problems: Vec<Option<String>> = vec![None; cells.len()];
+        let mut so_far: Vec<CheckSoFar> = checks
+            .iter()
+            .map(|_| CheckSoFar {
+                lhs: Extremes::EMPTY,
+                rhs: Extremes::EMPTY,
+                worst: None,
+                holds: true,
+                failed_at: None,
+                problem: None,
+            })
+            .collect();
+        for corner in 0..n_corners {
+            let mut evaluator = Evaluator::resume(
+                self.sheet,
+                self.source,
+                self.values.clone(),
+                self.statuses.clone(),
+                self.spreads.clone(),
+            );
+            evaluator.overrides = self.overrides.clone();
+            evaluator.case_order = self.case_order.clone();
+            evaluator.pins = inputs
+                .iter()
+                .enumerate()
+                .map(|(bit, input)| (input.cell, corner_value(input, corner, bit)))
+                .collect();
+            for &node in &nodes {
+                for &id in self.sheet.nodes[node].cells() {
+                    evaluator.values[id] = None;
+                }
+                evaluator.run_node(node);
+            }
+            let failure = evaluator
+                .diagnostics
+                .iter()
+                .find(|d| d.severity == Severity::Error)
+                .map(|d| d.message.clone());
+            let at_corner = |reason: &str| {
+                format!(
+                    "at the corner where {}: {reason}",
+                    self.describe_corner(inputs, corner)
+                )
+            };
+            for (k, &id) in cells.iter().enumerate() {
+                if cell_problems[k].is_some() {
+                    continue;
+                }
+                match (evaluator.statuses[id], evaluator.values[id]) {
+                    (CellStatus::Ok, Some(value)) => {
+                        let components = match value {
+                            Value::Scalar(q) => vec![q.si],
+                            Value::Vector(v) => v.components().to_vec(),
+                        };
+                        let extremes = &mut cell_extremes[k];
+                        extremes.resize(components.len(), Extremes::EMPTY);
+                        for (extreme, component) in extremes.iter_mut().zip(components) {
+                            extreme.add(component);
+                        }
+                    }
+                    _ => {
+                        cell_problems[k] = Some(at_corner(
+                            failure.as_deref().unwrap_or("it could not be evaluated"),
+                        ));
+                    }
+                }
+            }
+            for (k, &index) in checks.iter().enumerate() {
+                let state = &mut so_far[k];
+                if state.problem.is_some() {
+                    continue;
+                }
+                evaluator.diagnostics.clear();
+                let result = evaluator.evaluate_check(index);
+                match (result.holds, result.lhs, result.rhs) {
+                    (Some(holds), Some(lhs), Some(rhs)) => {
+                        state.lhs.add(lhs.si);
+                        state.rhs.add(rhs.si);
+                        if !holds {
+                            state.holds = false;
+                            state.failed_at.get_or_insert(corner);
+                        }
+                        if let Some(u) = result.utilization
+                            && state.worst.is_none_or(|(worst, _)| u > worst)
+                        {
+                            state.worst = Some((u, corner));
+                        }
+                    }
+                    _ => {
+                        state.problem = Some(at_corner(
+                            failure
+                                .as_deref()
+                                .unwrap_or("the check could not be evaluated"),
+                        ));
+                    }
+                }
+            }
+        }
+        let cells = cells
+            .iter()
+            .zip(cell_extremes.into_iter().zip(cell_problems))
+            .map(|(&id, (extremes, problem))| {
+                let range = match (problem, self.values[id]) {
+                    (Some(_), _) => CornerRange::Unknown,
+                    (None, Some(Value::Vector(_))) => {
+                        CornerRange::Vector(extremes.iter().map(|e| (e.low, e.high)).collect())
+                    }
+                    (None, _) => match extremes.first() {
+                        Some(extremes) => CornerRange::Scalar(extremes.range(method)),
+                        None => CornerRange::Unknown,
+                    },
+                };
+                (id, range)
+            })
+            .collect();
+        let checks = checks
+            .iter()
+            .zip(so_far)
+            .map(|(&index, state)| {
+                // The inputs that reach this check, to name its corner.
+                let own = self.inputs_reaching(inputs, &[], &[index]);
+                let outcome = match state.problem {
+                    Some(problem) => Err(problem),
+                    None => {
+                        let corner = state
+                            .failed_at
+                            .or(state.worst.map(|(_, corner)| corner))
+                            .unwrap_or(0);
+                        let worst_utilization = state
+                            .worst
+                            .map(|(u, _)| u)
+                            .or_else(|| base.get(index).and_then(|check| check.utilization));
+                        Ok(CornerCheck {
+                            worst: CheckRange {
+                                method,
+                                lhs: state.lhs.range(method),
+                                rhs: state.rhs.range(method),
+                                worst_utilization,
+                                passes: state.holds,
+                            },
+                            worst_corner: inputs
+                                .iter()
+                                .enumerate()
+                                .filter(|(_, input)| own.iter().any(|o| o.cell == input.cell))
+                                .map(|(bit, input)| (input.cell, corner_value(input, corner, bit)))
+                                .collect(),
+                        })
+                    }
+                };
+                (index, outcome)
+            })
+            .collect();
+        CornerRanges { cells, checks }
+    }
+
+    /// The nodes, in evaluation order, that use one of `inputs` (directly or
+    /// through other nodes), the inputs' own nodes included.
+    fn nodes_downstream_of(&self, inputs: &[CornerInput]) -> Vec<crate::sheet::NodeId> {
+        let mut reached = vec![false; self.sheet.cells.len()];
+        for input in inputs {
+            reached[input.cell] = true;
+        }
+        let mut nodes = Vec::new();
+        for &node in self.node_order() {
+            let cells = self.sheet.nodes[node].cells();
+            let hit = cells.iter().any(|&id| {
+                reached[id]
+                    || match &self.sheet.nodes[node] {
+                        Node::Cell(_) => self.uses_of(id).iter().any(|&used| reached[used]),
+                        Node::Solve { .. } | Node::Simulate { .. } => {
+                            self.sheet.uses[id].iter().any(|&used| reached[used])
+                        }
+                    }
+            });
+            if hit {
+                for &id in cells {
+                    reached[id] = true;
+                }
+                nodes.push(node);
+            }
+        }
+        nodes
+    }
+
+    /// `m = 110 kg, a = 0.3 m/s²`: each input's value at a corner.
+    pub(super) fn describe_corner(&self, inputs: &[CornerInput], corner: u64) -> String {
+        self.describe_values(
+            &inputs
+                .iter()
+                .enumerate()
+                .map(|(bit, input)| (input.cell, corner_value(input, corner, bit)))
+                .collect::<Vec<_>>(),
+        )
+    }
+
+    /// `m = 110 kg, a = 0.3 m/s²`: cells at given SI values, each shown in
+    /// its own display unit.
+    pub(super) fn describe_values(&self, values: &[(CellId, f64)]) -> String {
+        values
+            .iter()
+            .map(|&(id, si)| {
+                let (display, _) = self.display_unit(id, self.values[id]);
+                format!(
+                    "{} = {}",
+                    self.sheet.cell(id).name.text,
+                    self.style.show_in(si, &display.text, display.si_factor)
+                )
+            })
+            .collect::<Vec<_>>()
+            .join(", ")
+    }
+}
+
+/// An input's value at a corner: bit `bit` of `corner` set is the upper end.
+fn corner_value(input: &CornerInput, corner: u64, bit: usize) -> f64 {
+    if corner >> bit & 1 == 1 {
+        input.nominal + input.above
+    } else {
+        input.nominal - input.below
+    }
+}
