@@ -135,8 +135,9 @@ fn edit_an_input_watch_the_result_change_and_save_one_line() {
     heft.send("0.5 m/s^2");
     heft.send(ENTER);
     // With a_up = 0.5 m/s²: 1892 kg × 10.30665 m/s² = 19.50 kN (shown to 4
-    // significant figures as 19.5 kN), and the file is marked modified.
-    heft.wait_for("19.5 kN");
+    // significant figures, its trailing zero kept), and the file is marked
+    // modified.
+    heft.wait_for("19.50 kN");
     heft.wait_for("modified");
     assert!(!heft.contents().contains("19.22 kN"));
 

@@ -206,3 +206,30 @@ fn common_practice_gravities_agree_to_half_a_tenth_of_a_percent() {
     assert!(spread > 0.0 && spread < 0.0005, "{spread}");
     assert_close(spread, 0.0004648, 1e-3);
 }
+
+#[test]
+fn results_keep_their_trailing_figures_and_json_reads_back_as_written() {
+    use heftsheet::units::{correctly_rounded, format_figures, format_significant};
+    // A result at 5 significant figures shows all five; an input as written
+    // drops the zeros it was not written with.
+    assert_eq!(format_figures(1.6, 5), "1.6000");
+    assert_eq!(format_significant(1.6, 5), "1.6");
+    assert_eq!(format_figures(19.5, 4), "19.50");
+    assert_eq!(format_figures(3590.0, 4), "3590");
+    assert_eq!(format_figures(1.5e-10, 4), "1.500e-10");
+    assert_eq!(format_figures(0.0, 4), "0");
+    // 24 in = 0.6096 m exactly (1959 agreement: 1 in = 25.4 mm); in f64
+    // arithmetic 24 × 0.0254 / 0.0254 is 23.999999999999996, which JSON must
+    // not print.
+    let round_trip = 24.0 * 0.0254 / 0.0254;
+    assert_ne!(round_trip, 24.0);
+    assert_eq!(correctly_rounded(round_trip), 24.0);
+    let sheet = std::env::temp_dir().join(format!("heft-24in-{}.heft", std::process::id()));
+    std::fs::write(&sheet, "L = 24 in\nh [in] = L * 1\n").expect("scratch sheet");
+    let (code, out, _) = common::heft(&["check", "--json", &sheet.to_string_lossy()]);
+    assert_eq!(code, 0, "{out}");
+    let json: serde_json::Value = serde_json::from_str(&out).expect("JSON");
+    for cell in json["cells"].as_array().expect("cells") {
+        assert_eq!(cell["value"].as_f64(), Some(24.0), "{cell}");
+    }
+}

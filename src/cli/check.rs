@@ -10,7 +10,8 @@ use anstyle::{AnsiColor, Style};
 use super::{EXIT_CLEAN, EXIT_FINDINGS, EXIT_USAGE, json, load_sheet, print, runs};
 use crate::diag::{Severity, render::render};
 use crate::eval::{
-    CellStatus, CheckStatus, Evaluated, OutlineItem, RangeMethod, SolveStatus, format_value,
+    CellStatus, CheckStatus, Evaluated, OutlineItem, RangeMethod, SolveStatus, format_result,
+    format_value,
 };
 use crate::units::Value;
 use crate::units::format_significant;
@@ -190,7 +191,11 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
         }
         let value = match (cell.status, cell.any_value()) {
             (CellStatus::Ok, Some(value)) => {
-                let shown = format_value(value, cell.display, sig_figs);
+                let shown = if cell.is_input {
+                    format_value(value, cell.display, sig_figs)
+                } else {
+                    format_result(value, cell.display, sig_figs)
+                };
                 match range {
                     Some(range) if range.high > range.low => {
                         let (low, high) = range.shown_bounds();
@@ -384,7 +389,8 @@ fn write_cases(out: &mut String, evaluated: &Evaluated, painter: &Painter) {
         };
         let mut row = format!("  {:<row_label_width$}", format!("{}{unit}", cell.name));
         let shown = |value: Option<crate::units::Value>| match value.and_then(|v| v.scalar()) {
-            Some(q) => format_significant(cell.display.value_of(q.si), sig_figs),
+            Some(q) if cell.is_input => format_significant(cell.display.value_of(q.si), sig_figs),
+            Some(q) => crate::units::format_figures(cell.display.value_of(q.si), sig_figs),
             None => "—".to_string(),
         };
         row.push_str(&format!("{:>width$}", shown(cell.any_value())));

@@ -227,7 +227,7 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
                 formula: cell.formula,
                 description: cell.description,
                 unit: &cell.display.text,
-                value: value.map(|v| cell.display.value_of(v.si)),
+                value: value.map(|v| cell.display.rounded_value_of(v.si)),
                 si: value.map(|v| v.si),
                 dimension: dimension
                     .nonzero_exponents()
@@ -236,7 +236,7 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
                 vector: vector.map(|v| {
                     v.components()
                         .iter()
-                        .map(|&c| cell.display.value_of(c))
+                        .map(|&c| cell.display.rounded_value_of(c))
                         .collect()
                 }),
                 si_vector: vector.map(|v| v.components().to_vec()),
@@ -245,14 +245,14 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
                     .get(cell.id)
                     .and_then(Option::as_ref)
                     .map(|range| Range {
-                        low: cell.display.value_of(range.low),
-                        high: cell.display.value_of(range.high),
+                        low: cell.display.rounded_value_of(range.low),
+                        high: cell.display.rounded_value_of(range.high),
                         first_order_low: range
                             .first_order
-                            .map(|(low, _)| cell.display.value_of(low)),
+                            .map(|(low, _)| cell.display.rounded_value_of(low)),
                         first_order_high: range
                             .first_order
-                            .map(|(_, high)| cell.display.value_of(high)),
+                            .map(|(_, high)| cell.display.rounded_value_of(high)),
                         exact: range.method == crate::eval::RangeMethod::WorstCorners,
                         method: match range.method {
                             crate::eval::RangeMethod::Guaranteed => "guaranteed",
@@ -330,9 +330,15 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
                         value: result
                             .value
                             .and_then(|v| v.scalar())
-                            .map(|q| cell.display.value_of(q.si)),
-                        low: result.range.as_ref().map(|r| cell.display.value_of(r.low)),
-                        high: result.range.as_ref().map(|r| cell.display.value_of(r.high)),
+                            .map(|q| cell.display.rounded_value_of(q.si)),
+                        low: result
+                            .range
+                            .as_ref()
+                            .map(|r| cell.display.rounded_value_of(r.low)),
+                        high: result
+                            .range
+                            .as_ref()
+                            .map(|r| cell.display.rounded_value_of(r.high)),
                     }
                 })
                 .collect(),

@@ -267,19 +267,19 @@ pub fn json_runs<'a>(evaluated: &'a Evaluated, lines: &LineIndex) -> Vec<JsonRun
                     .rows
                     .iter()
                     .map(|row| JsonRow {
-                        time: run.time_display.value_of(row.time),
+                        time: run.time_display.rounded_value_of(row.time),
                         values: row
                             .values
                             .iter()
                             .zip(&run.columns)
                             .map(|(value, column)| match value {
                                 Some(Value::Scalar(q)) => {
-                                    serde_json::Value::from(column.display.value_of(q.si))
+                                    serde_json::Value::from(column.display.rounded_value_of(q.si))
                                 }
                                 Some(Value::Vector(v)) => serde_json::Value::from(
                                     v.components()
                                         .iter()
-                                        .map(|&c| column.display.value_of(c))
+                                        .map(|&c| column.display.rounded_value_of(c))
                                         .collect::<Vec<_>>(),
                                 ),
                                 None => serde_json::Value::Null,

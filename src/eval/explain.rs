@@ -45,19 +45,28 @@ fn with_unit(number: String, unit: &str) -> String {
     }
 }
 
-/// A value in a given display unit, rounded to `sig_figs`: `19.22 kN`,
-/// `(120, -40) N`.
+/// A value in a given display unit, rounded to `sig_figs` without trailing
+/// zeros: `19.22 kN`, `(120, -40) N` (a value as written, or in a message).
 pub fn format_value(value: Value, unit: &DisplayUnit, sig_figs: u32) -> String {
+    value_with(value, unit, &|number| format_significant(number, sig_figs))
+}
+
+/// A computed result in a display unit with all `sig_figs` figures shown:
+/// `1.600 kN`, `(120.0, -40.00) N`.
+pub fn format_result(value: Value, unit: &DisplayUnit, sig_figs: u32) -> String {
+    value_with(value, unit, &|number| {
+        crate::units::format_figures(number, sig_figs)
+    })
+}
+
+fn value_with(value: Value, unit: &DisplayUnit, number: &dyn Fn(f64) -> String) -> String {
     match value {
-        Value::Scalar(q) => with_unit(
-            format_significant(unit.value_of(q.si), sig_figs),
-            &unit.text,
-        ),
+        Value::Scalar(q) => with_unit(number(unit.value_of(q.si)), &unit.text),
         Value::Vector(v) => {
             let components: Vec<String> = v
                 .components()
                 .iter()
-                .map(|&c| format_significant(unit.value_of(c), sig_figs))
+                .map(|&c| number(unit.value_of(c)))
                 .collect();
             with_unit(format!("({})", components.join(", ")), &unit.text)
         }

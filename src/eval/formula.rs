@@ -86,7 +86,16 @@ impl Evaluated {
     pub fn shown_value(&self, id: CellId) -> Option<ShownValue> {
         let value = self.values[id].filter(|_| self.statuses[id] == CellStatus::Ok)?;
         let display = &self.displays[id];
-        let number = |si: f64| format_significant(display.value_of(si), self.sheet.header.sig_figs);
+        // An input reads as written; a computed result with all its figures.
+        let sig_figs = self.sheet.header.sig_figs;
+        let is_input = self.inputs[id];
+        let number = |si: f64| {
+            if is_input {
+                format_significant(display.value_of(si), sig_figs)
+            } else {
+                crate::units::format_figures(display.value_of(si), sig_figs)
+            }
+        };
         Some(ShownValue {
             number: match value {
                 crate::units::Value::Scalar(q) => number(q.si),

@@ -19,7 +19,7 @@ mod solve;
 mod vectors;
 mod verdict;
 
-pub use explain::format_value;
+pub use explain::{format_result, format_value};
 pub use incremental::{CellField, EditError, FieldEditor, Finding, LiveSheet, Row};
 pub use model::{
     CaseCheck, CaseOutcome, CaseValue, CellRange, CellResult, CellStatus, CheckRange, CheckResult,

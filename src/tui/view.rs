@@ -16,7 +16,8 @@ use super::strings as text;
 use super::theme::Theme;
 use crate::diag::Severity;
 use crate::eval::{
-    CellResult, CellStatus, CheckResult, CheckStatus, Finding, LiveSheet, Row, format_value,
+    CellResult, CellStatus, CheckResult, CheckStatus, Finding, LiveSheet, Row, format_result,
+    format_value,
 };
 use crate::units::{DisplaySystem, format_significant, pick_unit};
 
@@ -114,8 +115,11 @@ fn shown(si: f64, unit: &crate::units::DisplayUnit, sig_figs: u32) -> String {
 /// A cell's value as the table and detail show it.
 fn cell_value(live: &LiveSheet, cell: &CellResult<'_>, units: UnitsView, sig_figs: u32) -> String {
     match (cell.any_value(), cell.status) {
-        (Some(value), _) => {
+        (Some(value), _) if cell.is_input => {
             format_value(value, &live.display_unit(cell.id, units.system()), sig_figs)
+        }
+        (Some(value), _) => {
+            format_result(value, &live.display_unit(cell.id, units.system()), sig_figs)
         }
         (None, CellStatus::Blocked { by }) => {
             format!("{} ({})", text::NO_VALUE, live.cell(by).name)

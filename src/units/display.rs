@@ -60,6 +60,11 @@ impl DisplayUnit {
     pub fn value_of(&self, si: f64) -> f64 {
         si / self.si_factor
     }
+
+    /// `si` in this unit, [`correctly_rounded`]: what JSON prints.
+    pub fn rounded_value_of(&self, si: f64) -> f64 {
+        correctly_rounded(self.value_of(si))
+    }
 }
 
 /// Units for a dimension, smallest first, each with the magnitude (in that
@@ -223,8 +228,30 @@ fn fps_base_units(dimension: Dimension) -> DisplayUnit {
 }
 
 /// `value` rounded to `sig_figs` significant digits, without trailing zeros
-/// after the decimal point; scientific notation outside 1e-4 ≤ |v| < 1e9.
+/// after the decimal point (a value as the user wrote it, or in a message);
+/// scientific notation outside 1e-4 ≤ |v| < 1e9.
 pub fn format_significant(value: f64, sig_figs: u32) -> String {
+    let figures = format_figures(value, sig_figs);
+    let (number, exponent) = match figures.split_once('e') {
+        Some((mantissa, exponent)) => (mantissa, Some(exponent)),
+        None => (figures.as_str(), None),
+    };
+    let trimmed = if number.contains('.') {
+        number.trim_end_matches('0').trim_end_matches('.')
+    } else {
+        number
+    };
+    match exponent {
+        Some(exponent) => format!("{trimmed}e{exponent}"),
+        None => trimmed.to_string(),
+    }
+}
+
+/// `value` rounded to `sig_figs` significant digits, every one of them
+/// shown (`1.600` at 4: a trailing zero is a figure the result has): how a
+/// computed result is shown. Scientific notation outside 1e-4 ≤ |v| < 1e9;
+/// zero is `0`.
+pub fn format_figures(value: f64, sig_figs: u32) -> String {
     if !value.is_finite() {
         return value.to_string();
     }
@@ -236,23 +263,28 @@ pub fn format_significant(value: f64, sig_figs: u32) -> String {
     let (mantissa, exponent) = scientific.split_once('e').unwrap_or((&scientific, "0"));
     let exponent: i32 = exponent.parse().unwrap_or(0);
     if !(-4..9).contains(&exponent) {
-        return format!("{}e{exponent}", trim_zeros(mantissa));
+        return format!("{mantissa}e{exponent}");
     }
     let rounded: f64 = scientific.parse().unwrap_or(value);
     let n_decimals = (digits as i32 - 1 - exponent).max(0) as usize;
     let fixed = format!("{rounded:.n_decimals$}");
-    let trimmed = trim_zeros(&fixed);
-    if trimmed == "-0" {
+    if fixed
+        .trim_start_matches('-')
+        .chars()
+        .all(|c| c == '0' || c == '.')
+    {
         "0".to_string()
     } else {
-        trimmed.to_string()
+        fixed
     }
 }
 
-fn trim_zeros(text: &str) -> &str {
-    if text.contains('.') {
-        text.trim_end_matches('0').trim_end_matches('.')
-    } else {
-        text
+/// A value in a unit rounded to the 15 significant digits an `f64` always
+/// carries, so a quantity written as `24 in` reads back as 24, not as the
+/// 23.999999999999996 that dividing its SI value by the factor gives.
+pub fn correctly_rounded(value: f64) -> f64 {
+    if !value.is_finite() || value == 0.0 {
+        return value;
     }
+    format!("{value:.14e}").parse().unwrap_or(value)
 }
