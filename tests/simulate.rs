@@ -486,3 +486,154 @@ mod hostile {
         }
     }
 }
+
+/// A part thrown straight up at `v0` from y = 0 under g0 alone, with the
+/// block's other lines in `extra`.
+fn throw_sheet(v0: &str, y0: &str, tolerance: &str, extra: &str) -> String {
+    format!(
+        "v0 = {v0}\n\
+         simulate t from 0 s to 5 s:\n  y' = v\n  v' = -g0\n  y(0) = {y0}\n  v(0) = v0\n  tolerance {tolerance}\n{extra}end\n"
+    )
+}
+
+#[test]
+fn a_strict_stop_equal_at_the_start_waits_until_it_is_strictly_true() {
+    // Uniformly accelerated motion: y = v0 t − g t²/2 is back at 0, and
+    // below it just after, at t = 2 v0 / g (closed form).
+    let source = throw_sheet(
+        "6 m/s",
+        "0 m",
+        "1e-9",
+        "  stop when y < 0 m \"back below the start\"\n",
+    ) + "t_back [s] = t at stop\nv_back [m/s] = v at stop\n";
+    let evaluated = evaluate_clean(&source);
+    assert_eq!(evaluated.runs[0].status, RunStatus::Stopped);
+    let t_back = 2.0 * 6.0 / G0;
+    // Located to the tolerance times the run's length (5 s).
+    let error = (si(&evaluated, "t_back") - t_back).abs();
+    assert!(error <= 1e-9 * 5.0, "stop at {}", si(&evaluated, "t_back"));
+    assert_relative(si(&evaluated, "v_back"), -6.0, 1e-9, "speed coming back");
+}
+
+#[test]
+fn a_strict_event_equal_at_the_start_is_not_recorded_there() {
+    // `y < 0 m` is false at the start (y = 0 m exactly) and becomes true at
+    // 2 v0 / g; `y <= 0 m` holds at the start and becomes true again then.
+    let source = throw_sheet(
+        "6 m/s",
+        "0 m",
+        "1e-9",
+        "  event below when y < 0 m\n  event back when y <= 0 m\n",
+    );
+    let evaluated = evaluate_clean(&source);
+    let t_back = 2.0 * 6.0 / G0;
+    let below = &evaluated.runs[0].events[0].times;
+    assert_eq!(below.len(), 1, "{below:?}");
+    assert!((below[0] - t_back).abs() <= 1e-9 * 5.0, "{below:?}");
+    let back = &evaluated.runs[0].events[1].times;
+    assert_eq!(back.len(), 2, "{back:?}");
+    assert_eq!(back[0], 0.0);
+    assert!((back[1] - t_back).abs() <= 1e-9 * 5.0, "{back:?}");
+}
+
+#[test]
+fn a_condition_that_becomes_strictly_true_at_once_happens_at_the_start() {
+    // Thrown down from y = 0: y < 0 is false at t = 0 and true at every
+    // moment after, so it becomes true at the start itself.
+    let source = throw_sheet("-2 m/s", "0 m", "1e-6", "  event below when y < 0 m\n");
+    let evaluated = evaluate_clean(&source);
+    assert_eq!(evaluated.runs[0].events[0].times, vec![0.0]);
+    // As a stop, the run would be empty: refused, and the message says it is
+    // equal at the start rather than already true.
+    let source = throw_sheet("-2 m/s", "0 m", "1e-6", "  stop when y < 0 m\n");
+    let evaluated = evaluate_source(&source);
+    let codes: Vec<Code> = evaluated.diagnostics.iter().map(|d| d.code).collect();
+    assert_eq!(codes, vec![Code::BadSimulation]);
+    let message = &evaluated.diagnostics[0].message;
+    assert!(message.contains("equal at the start"), "{message}");
+    assert!(message.contains("as soon as the run starts"), "{message}");
+    assert_eq!(evaluated.runs[0].status, RunStatus::NotRun);
+    // Non-strict and equal at the start: it holds there, as before.
+    let source = throw_sheet("6 m/s", "0 m", "1e-6", "  stop when y <= 0 m\n");
+    let evaluated = evaluate_source(&source);
+    let message = &evaluated.diagnostics[0].message;
+    assert!(message.contains("already holds at the start"), "{message}");
+}
+
+#[test]
+fn a_condition_that_touches_its_threshold_without_crossing_follows_its_strictness() {
+    // The left side is t − 1 s before 1 s, exactly 0 s from 1 s to 2 s, and
+    // 2 s − t after: it touches zero and turns back without ever being
+    // positive. `>= 0 s` holds from 1 s to 2 s (one event, at 1 s); `> 0 s`
+    // never holds.
+    let source = "simulate t from 0 s to 3 s:\n  x' = 1 m/s\n  x(0) = 0 m\n\
+        event touch when min(t - 1 s, 0 s) + min(2 s - t, 0 s) >= 0 s\n\
+        event over when min(t - 1 s, 0 s) + min(2 s - t, 0 s) > 0 s\nend\n";
+    let evaluated = evaluate_clean(source);
+    let touch = &evaluated.runs[0].events[0].times;
+    assert_eq!(touch.len(), 1, "{touch:?}");
+    assert!((touch[0] - 1.0).abs() <= 1e-12, "{touch:?}");
+    assert_eq!(evaluated.runs[0].events[1].times, Vec::<f64>::new());
+}
+
+#[test]
+fn the_apex_of_a_throw_is_located_to_the_tolerance() {
+    // Uniformly accelerated motion: the apex is at t = v0 / g with height
+    // v0² / 2g (closed form). Times are located to the tolerance times the
+    // run's length (5 s).
+    for tolerance in [1e-6, 1e-9, 1e-12] {
+        let source = throw_sheet("6 m/s", "0 m", &format!("{tolerance:e}"), "")
+            + "t_top [s] = t at max of y\nh_top [m] = max of y\nv_top [m/s] = v at max of y\n";
+        let evaluated = evaluate_clean(&source);
+        let error = (si(&evaluated, "t_top") - 6.0 / G0).abs();
+        assert!(
+            error <= tolerance * 5.0,
+            "apex time at {tolerance:e}: error {error:e} s"
+        );
+        assert_relative(
+            si(&evaluated, "h_top"),
+            36.0 / (2.0 * G0),
+            tolerance,
+            "apex height",
+        );
+        // The speed at the apex is zero, to the tolerance times the speed's scale (6 m/s).
+        let v_top = si(&evaluated, "v_top").abs();
+        assert!(
+            v_top <= tolerance * 6.0,
+            "speed at the apex at {tolerance:e}: {v_top:e}"
+        );
+    }
+}
+
+#[test]
+fn the_first_peak_of_a_damped_oscillation_is_located_to_the_tolerance() {
+    // Damped free vibration (standard result): with σ = ζω = c/2m = 6 s⁻¹,
+    // ω_d = √(k/m − σ²), B = (v0 + σ x0)/ω_d, the speed is
+    // e^−σt (v0 cos ω_d t − (σB + x0 ω_d) sin ω_d t), so the first peak is at
+    // t_p = atan2(v0, σB + x0 ω_d)/ω_d; it is the largest x of the run.
+    let (m, k, c, x0, v0) = (4.0_f64, 1600.0_f64, 48.0, 0.02, 0.5);
+    let sigma = c / (2.0 * m);
+    let omega_d = (k / m - sigma * sigma).sqrt();
+    let b = (v0 + sigma * x0) / omega_d;
+    let t_peak = v0.atan2(sigma * b + x0 * omega_d) / omega_d;
+    let x_peak =
+        (-sigma * t_peak).exp() * (x0 * (omega_d * t_peak).cos() + b * (omega_d * t_peak).sin());
+    let length = 2.0 * std::f64::consts::PI / 10.0;
+    for tolerance in [1e-6, 1e-9, 1e-12] {
+        let source = spring_sheet(c, 2.0, &format!("{tolerance:e}"), "")
+            + "t_p [s] = t at max of x\nx_p [m] = max of x\nk_p [N] = k * x at max of x\n";
+        let evaluated = evaluate_clean(&source);
+        let error = (si(&evaluated, "t_p") - t_peak).abs();
+        assert!(
+            error <= tolerance * length,
+            "peak time at {tolerance:e}: error {error:e} s"
+        );
+        assert_relative(si(&evaluated, "x_p"), x_peak, tolerance, "peak");
+        assert_relative(
+            si(&evaluated, "k_p"),
+            k * x_peak,
+            tolerance,
+            "spring force at the peak",
+        );
+    }
+}

@@ -19,7 +19,7 @@ use super::{CellStatus, Evaluation, Evaluator};
 use crate::diag::{Code, Diagnostic};
 use crate::sheet::CellId;
 use crate::simulate::{
-    self, ErrorControl, EventKind, Failure, Outcome, Settings, Stats, System, Trajectory,
+    self, Condition, ErrorControl, EventKind, Failure, Outcome, Settings, Stats, System, Trajectory,
 };
 use crate::syntax::Span;
 use crate::syntax::ast::{
@@ -485,12 +485,13 @@ impl<'a> Evaluator<'a> {
             events: block
                 .events
                 .iter()
-                .map(|event| {
-                    if event.stops {
+                .map(|event| Condition {
+                    kind: if event.stops {
                         EventKind::Stop
                     } else {
                         EventKind::Record
-                    }
+                    },
+                    strict: event.comparison.is_strict(),
                 })
                 .collect(),
         };
@@ -1041,25 +1042,48 @@ impl<'a> Evaluator<'a> {
         }
     }
 
+    /// The error for a stop that ends the run at its start: its condition
+    /// holds there, or (strict and equal there) becomes true at once.
     fn stop_at_start(&self, block: &SimulateBlock, event: usize) -> Diagnostic {
         let condition = &block.events[event];
-        let show = |expr: &Expr| {
-            self.eval(expr)
-                .map(|value| self.style.show_value(value))
+        let sides = (self.eval(&condition.lhs), self.eval(&condition.rhs));
+        let show = |side: &Evaluation| {
+            side.as_ref()
+                .map(|value| self.style.show_value(*value))
                 .unwrap_or_default()
         };
+        let values = format!(
+            "`{}` = {}, `{}` = {}",
+            condition.lhs.span.text(self.source),
+            show(&sides.0),
+            condition.rhs.span.text(self.source),
+            show(&sides.1)
+        );
+        let holds_at_start = match &sides {
+            (Ok(Value::Scalar(a)), Ok(Value::Scalar(b))) => {
+                super::comparison_holds(condition.comparison, a.si, b.si)
+            }
+            _ => true,
+        };
+        if holds_at_start {
+            return Diagnostic::error(
+                Code::BadSimulation,
+                condition.span,
+                format!(
+                    "this stop condition already holds at the start ({values}), so the run would be empty"
+                ),
+            )
+            .with_help("a stop happens when its condition becomes true; check the comparison's direction and the starting values");
+        }
+        let symbol = condition.comparison.symbol();
         Diagnostic::error(
             Code::BadSimulation,
             condition.span,
             format!(
-                "this stop condition already holds at the start (`{}` = {}, `{}` = {}), so the run would be empty",
-                condition.lhs.span.text(self.source),
-                show(&condition.lhs),
-                condition.rhs.span.text(self.source),
-                show(&condition.rhs)
+                "the two sides are equal at the start ({values}); `{symbol}` does not hold at equality, but it holds as soon as the run starts, so the run would be empty"
             ),
         )
-        .with_help("a stop happens when its condition becomes true; check the comparison's direction and the starting values")
+        .with_help("the motion starts on the side where the condition is true: check the comparison's direction, or start the run away from the threshold")
     }
 
     fn failure_diagnostic(

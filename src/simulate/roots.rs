@@ -5,25 +5,32 @@
 /// fraction at worst, so this is far beyond what `f64` can resolve.
 const MAX_ITERATIONS: usize = 200;
 
-/// Finds where `f` turns from negative to zero or positive between `a` and
-/// `b`, given `f(a) = fa < 0 <= fb = f(b)`: the Illinois variant of regula
-/// falsi (a secant step that halves the stale end's value when the same end
-/// is kept twice), with bisection whenever the secant step stalls.
+/// Finds where the condition "`f` is positive" (or, unless `strict`, "zero
+/// or positive") starts to hold between `a` and `b`, given that it does not
+/// hold at `a` (`fa = f(a)`) and does at `b` (`fb = f(b)`): the Illinois
+/// variant of regula falsi (a secant step that halves the stale end's value
+/// when the same end is kept twice), with bisection whenever the secant step
+/// stalls. Each point is put on the side its own value says, with the same
+/// strictness as the caller's test, so a stretch where `f` is exactly zero
+/// counts as holding for `>= 0` and not for `> 0`.
 ///
 /// Returns the right end of the final bracket, so the condition holds at the
-/// point returned; the bracket is at most a few units in the last place of
-/// `b` wide.
+/// point returned; the bracket is at most `resolution` wide, or a few units
+/// in the last place of `b` where that is wider.
 pub fn find_crossing(
     mut f: impl FnMut(f64) -> f64,
-    mut a: f64,
-    mut fa: f64,
-    mut b: f64,
-    mut fb: f64,
+    (mut a, mut fa): (f64, f64),
+    (mut b, mut fb): (f64, f64),
+    strict: bool,
+    resolution: f64,
 ) -> f64 {
+    // NaN cannot tell the side: it counts as holding, which moves the right
+    // end towards the known change.
+    let holds = |value: f64| value.is_nan() || if strict { value > 0.0 } else { value >= 0.0 };
     let mut kept = 0i8; // +1 when b was kept last time, -1 when a was
     for _ in 0..MAX_ITERATIONS {
         let width = b - a;
-        if width <= 4.0 * f64::EPSILON * a.abs().max(b.abs()) + f64::MIN_POSITIVE {
+        if width <= resolution.max(4.0 * f64::EPSILON * a.abs().max(b.abs()) + f64::MIN_POSITIVE) {
             break;
         }
         let secant = b - fb * width / (fb - fa);
@@ -36,15 +43,12 @@ pub fn find_crossing(
             break; // no representable point left inside the bracket
         }
         let fc = f(c);
-        if fc.is_nan() {
-            // Cannot tell the side: halve towards the known crossing.
+        if holds(fc) {
             b = c;
-            fb = 0.0;
-            continue;
-        }
-        if fc >= 0.0 {
-            b = c;
-            fb = fc;
+            // A NaN end keeps the old value, so the secant stays finite.
+            if !fc.is_nan() {
+                fb = fc;
+            }
             if kept == -1 {
                 fa *= 0.5;
             }
@@ -61,9 +65,11 @@ pub fn find_crossing(
         if b - a > 0.5 * width {
             let mid = a + 0.5 * (b - a);
             let fm = f(mid);
-            if fm >= 0.0 || fm.is_nan() {
+            if holds(fm) {
                 b = mid;
-                fb = if fm.is_nan() { 0.0 } else { fm };
+                if !fm.is_nan() {
+                    fb = fm;
+                }
             } else {
                 a = mid;
                 fa = fm;
@@ -135,7 +141,13 @@ mod tests {
     #[test]
     fn a_crossing_is_found_to_the_last_digits() {
         // 0.5 - cos t turns non-negative at acos(0.5) = π/3 (closed form).
-        let root = find_crossing(|t: f64| 0.5 - t.cos(), 0.0, -0.5, 2.0, 0.5 - 2f64.cos());
+        let root = find_crossing(
+            |t: f64| 0.5 - t.cos(),
+            (0.0, -0.5),
+            (2.0, 0.5 - 2f64.cos()),
+            false,
+            0.0,
+        );
         assert!((root - std::f64::consts::FRAC_PI_3).abs() < 1e-14, "{root}");
         assert!(
             0.5 - root.cos() >= 0.0,
@@ -148,8 +160,22 @@ mod tests {
         // Regula falsi alone stalls on this shape; the Illinois halving and
         // the bisection guard must not.
         let f = |x: f64| x.powi(9) - 1e-9;
-        let root = find_crossing(f, 0.0, f(0.0), 1.0, f(1.0));
+        let root = find_crossing(f, (0.0, f(0.0)), (1.0, f(1.0)), false, 0.0);
         assert!((root - 0.1).abs() < 1e-14, "{root}");
+    }
+
+    #[test]
+    fn a_strict_condition_starts_to_hold_where_the_function_leaves_zero() {
+        // max(x − 0.5, 0) is zero up to 0.5 and positive after: "> 0" starts
+        // to hold at 0.5, and the point returned is past it; "≥ 0" would
+        // hold everywhere, so the same bracket is not a change for it.
+        let f = |x: f64| (x - 0.5).max(0.0);
+        let root = find_crossing(f, (0.0, f(0.0)), (1.0, f(1.0)), true, 0.0);
+        assert!(f(root) > 0.0, "the strict condition holds at {root}");
+        assert!((root - 0.5).abs() < 1e-14, "{root}");
+        // A resolution stops the search early, still on the holding side.
+        let rough = find_crossing(f, (0.0, f(0.0)), (1.0, f(1.0)), true, 1e-3);
+        assert!(f(rough) > 0.0 && rough - 0.5 <= 1e-3, "{rough}");
     }
 
     #[test]
