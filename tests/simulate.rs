@@ -603,6 +603,25 @@ fn the_apex_of_a_throw_is_located_to_the_tolerance() {
             "speed at the apex at {tolerance:e}: {v_top:e}"
         );
     }
+    // The same throw with vector states (interpreted: no exact slope, so the
+    // slope comes from differences), drifting sideways at 2 m/s. The speed
+    // √(2² + v_y²) is least at the apex too.
+    for tolerance in [1e-6, 1e-9, 1e-12] {
+        let source = format!(
+            "v0 = vec(2 m/s, 6 m/s)\n\
+             simulate t from 0 s to 5 s:\n  r' = v\n  v' = vec(0 m/s^2, -g0)\n  r(0) = vec(0 m, 0 m)\n  v(0) = v0\n  tolerance {tolerance:e}\nend\n\
+             t_top [s] = t at max of r.y\nt_slow [s] = t at min of mag(v)\n"
+        );
+        let evaluated = evaluate_clean(&source);
+        assert!(!evaluated.runs[0].compiled);
+        for name in ["t_top", "t_slow"] {
+            let error = (si(&evaluated, name) - 6.0 / G0).abs();
+            assert!(
+                error <= tolerance * 5.0,
+                "{name} with vector states at {tolerance:e}: error {error:e} s"
+            );
+        }
+    }
 }
 
 #[test]

@@ -4,6 +4,7 @@
 //! presentation reads.
 
 mod cases;
+mod dual;
 mod explain;
 mod expr;
 pub mod formula;

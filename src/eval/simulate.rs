@@ -12,6 +12,7 @@
 
 use std::sync::Arc;
 
+use super::dual::Dual;
 use super::explain::{Operand, mismatch};
 use super::program::{CompileError, Input, Op, Program};
 use super::run_model::{PlotSeries, RunColumn, RunEvent, RunReport, RunRow, RunStatus, StateSlots};
@@ -19,7 +20,8 @@ use super::{CellStatus, Evaluation, Evaluator};
 use crate::diag::{Code, Diagnostic};
 use crate::sheet::CellId;
 use crate::simulate::{
-    self, Condition, ErrorControl, EventKind, Failure, Outcome, Settings, Stats, System, Trajectory,
+    self, Condition, ErrorControl, EventKind, Failure, Objective, Outcome, Settings, Stats, System,
+    Trajectory,
 };
 use crate::syntax::Span;
 use crate::syntax::ast::{
@@ -1513,9 +1515,12 @@ impl<'a> Evaluator<'a> {
                 }
                 t.clamp(first, last)
             }
-            RunPoint::Extremum { maximum, of } => {
-                self.extremum_time(of, *maximum, &layout, trajectory)?
-            }
+            RunPoint::Extremum { maximum, of } => self.extremum_time(
+                of,
+                *maximum,
+                &layout,
+                (trajectory, report.relative_tolerance),
+            )?,
         };
         let mut state = vec![0.0; layout.n_slots];
         trajectory.state_at(t, &mut state);
@@ -1528,7 +1533,7 @@ impl<'a> Evaluator<'a> {
         of: &Expr,
         maximum: bool,
         layout: &Layout,
-        trajectory: &Trajectory,
+        (trajectory, relative_tolerance): (&Trajectory, f64),
     ) -> Result<f64, Box<Diagnostic>> {
         // Check the expression once at the start, with the usual messages.
         let first = self.at_point(
@@ -1548,24 +1553,69 @@ impl<'a> Evaluator<'a> {
             ));
         }
         let program = self.compile_over_run(of, layout)?;
-        let (mut inputs, mut stack) = (Vec::new(), Vec::new());
-        let (t, _) = trajectory.extremum(
-            |t, y| match &program {
-                Some(program) => {
-                    inputs.clear();
-                    inputs.push(t);
-                    inputs.extend_from_slice(y);
-                    program.run_with(&inputs, &mut stack)
-                }
-                None => self
-                    .at_point(layout, t, y, |evaluator| evaluator.eval(of))
-                    .ok()
-                    .and_then(|value| value.scalar())
-                    .map_or(f64::NAN, |q| q.si),
-            },
-            maximum,
-        );
+        let mut objective = QueryObjective {
+            evaluator: self,
+            layout,
+            of,
+            program,
+            inputs: Vec::new(),
+            stack: Vec::new(),
+            dual_inputs: Vec::new(),
+            dual_stack: Vec::new(),
+        };
+        let time_tolerance = relative_tolerance * (trajectory.end() - trajectory.start());
+        let (t, _) = trajectory.extremum(&mut objective, maximum, time_tolerance);
         Ok(t)
+    }
+}
+
+/// The expression of `max of …` as the trajectory's search sees it: its
+/// value at a point of the run, and, when it compiles, its exact rate of
+/// change along the run (the program run on dual numbers, with the time
+/// changing at one and each state at its rate).
+struct QueryObjective<'s, 'a> {
+    evaluator: &'s Evaluator<'a>,
+    layout: &'s Layout,
+    of: &'s Expr,
+    program: Option<Program>,
+    inputs: Vec<f64>,
+    stack: Vec<f64>,
+    dual_inputs: Vec<Dual>,
+    dual_stack: Vec<Dual>,
+}
+
+impl Objective for QueryObjective<'_, '_> {
+    fn value(&mut self, t: f64, y: &[f64]) -> f64 {
+        match &self.program {
+            Some(program) => {
+                self.inputs.clear();
+                self.inputs.push(t);
+                self.inputs.extend_from_slice(y);
+                program.run_with(&self.inputs, &mut self.stack)
+            }
+            None => self
+                .evaluator
+                .at_point(self.layout, t, y, |evaluator| evaluator.eval(self.of))
+                .ok()
+                .and_then(|value| value.scalar())
+                .map_or(f64::NAN, |q| q.si),
+        }
+    }
+
+    fn slope(&mut self, t: f64, y: &[f64], rates: &[f64]) -> Option<f64> {
+        let program = self.program.as_ref()?;
+        self.dual_inputs.clear();
+        self.dual_inputs.push(Dual::new(t, 1.0));
+        self.dual_inputs.extend(
+            y.iter()
+                .zip(rates)
+                .map(|(&value, &rate)| Dual::new(value, rate)),
+        );
+        Some(
+            program
+                .run_with(&self.dual_inputs, &mut self.dual_stack)
+                .slope,
+        )
     }
 }
 

@@ -830,11 +830,21 @@ mod tests {
             &settings(1e-10, 2, vec![]),
         );
         // x = sin 3t peaks at 1 when t = π/6 (closed form).
-        let (at, peak) = run.trajectory.extremum(|_, y| y[0], true);
+        let mut x = |_: f64, y: &[f64]| y[0];
+        let (at, peak) = run.trajectory.extremum(&mut x, true, 2e-10);
         assert!((peak - 1.0).abs() < 1e-9, "{peak}");
-        assert!((at - std::f64::consts::PI / 6.0).abs() < 1e-4, "{at}");
-        let (at, low) = run.trajectory.extremum(|_, y| y[0], false);
-        assert!((low + 1.0).abs() < 1e-9 && (at - std::f64::consts::PI / 2.0).abs() < 1e-4);
+        assert!((at - std::f64::consts::PI / 6.0).abs() < 1e-9, "{at}");
+        let (at, low) = run.trajectory.extremum(&mut x, false, 2e-10);
+        assert!((low + 1.0).abs() < 1e-9 && (at - std::f64::consts::PI / 2.0).abs() < 1e-9);
+        // The dense output's derivative is the rate: ẋ = 3 cos 3t.
+        let mut rates = [0.0; 2];
+        for t in [0.0, 0.3, 1.1, 2.0] {
+            run.trajectory.rate_at(t, &mut rates);
+            assert!(
+                (rates[0] - 3.0 * (3.0 * t).cos()).abs() < 1e-8,
+                "{t}: {rates:?}"
+            );
+        }
     }
 
     #[test]

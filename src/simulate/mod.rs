@@ -19,4 +19,4 @@ pub use integrator::{
     integrate,
 };
 pub use roots::{find_crossing, golden_section};
-pub use trajectory::Trajectory;
+pub use trajectory::{Objective, Trajectory};

@@ -83,8 +83,19 @@ pub fn find_crossing(
 /// The largest (or, with `maximize` false, smallest) value of a smooth
 /// function on `[a, b]`, found by golden-section search: returns where it
 /// is and its value. The bracket must hold a single peak (the caller brackets
-/// it between samples), and the ends count as candidates.
-pub fn golden_section(mut f: impl FnMut(f64) -> f64, a: f64, b: f64, maximize: bool) -> (f64, f64) {
+/// it between samples), and the ends count as candidates. The search stops
+/// once the bracket is `width` wide (or a few units in the last place).
+///
+/// Values alone place a smooth peak only to about √ε of its scale, since
+/// near the peak they differ by less than their rounding; callers that need
+/// more find where the function's slope changes sign instead.
+pub fn golden_section(
+    mut f: impl FnMut(f64) -> f64,
+    a: f64,
+    b: f64,
+    maximize: bool,
+    width: f64,
+) -> (f64, f64) {
     let sign = if maximize { 1.0 } else { -1.0 };
     let mut g = |x: f64| {
         let value = f(x);
@@ -109,7 +120,7 @@ pub fn golden_section(mut f: impl FnMut(f64) -> f64, a: f64, b: f64, maximize: b
     let mut x2 = lo + INVERSE_PHI * (hi - lo);
     let (mut f1, mut f2) = (g(x1), g(x2));
     for _ in 0..MAX_ITERATIONS {
-        if hi - lo <= 4.0 * f64::EPSILON * lo.abs().max(hi.abs()) + f64::MIN_POSITIVE {
+        if hi - lo <= width.max(4.0 * f64::EPSILON * lo.abs().max(hi.abs()) + f64::MIN_POSITIVE) {
             break;
         }
         if f1.0 >= f2.0 {
@@ -181,11 +192,26 @@ mod tests {
     #[test]
     fn a_peak_is_found_inside_its_bracket() {
         // sin t peaks at π/2 with value 1.
-        let (at, value) = golden_section(f64::sin, 1.0, 2.0, true);
+        let (at, value) = golden_section(f64::sin, 1.0, 2.0, true, 0.0);
         assert!((at - std::f64::consts::FRAC_PI_2).abs() < 1e-7, "{at}");
         assert!((value - 1.0).abs() < 1e-14);
         // On a monotone stretch the peak is the end.
-        let (at, value) = golden_section(|t| t * t, 1.0, 3.0, false);
+        let (at, value) = golden_section(|t| t * t, 1.0, 3.0, false, 0.0);
         assert_eq!((at, value), (1.0, 1.0));
+        // A width stops the search early: fewer evaluations, the peak
+        // still within that width.
+        let mut calls = 0;
+        let (at, _) = golden_section(
+            |t: f64| {
+                calls += 1;
+                t.sin()
+            },
+            1.0,
+            2.0,
+            true,
+            1e-3,
+        );
+        assert!((at - std::f64::consts::FRAC_PI_2).abs() <= 1e-3, "{at}");
+        assert!(calls < 20, "{calls} evaluations");
     }
 }
