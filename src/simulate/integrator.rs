@@ -551,7 +551,7 @@ fn locate_events<S: System>(
                     |theta| value_at(system, index, theta, &mut state),
                     (theta_before, value_before),
                     (theta, value),
-                    condition.strict,
+                    |value| condition.holds(value),
                     STEP_FRACTION_RESOLUTION,
                 );
                 let t_hit = t + theta_hit * h;

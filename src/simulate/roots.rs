@@ -5,14 +5,15 @@
 /// fraction at worst, so this is far beyond what `f64` can resolve.
 const MAX_ITERATIONS: usize = 200;
 
-/// Finds where the condition "`f` is positive" (or, unless `strict`, "zero
-/// or positive") starts to hold between `a` and `b`, given that it does not
-/// hold at `a` (`fa = f(a)`) and does at `b` (`fb = f(b)`): the Illinois
-/// variant of regula falsi (a secant step that halves the stale end's value
-/// when the same end is kept twice), with bisection whenever the secant step
-/// stalls. Each point is put on the side its own value says, with the same
-/// strictness as the caller's test, so a stretch where `f` is exactly zero
-/// counts as holding for `>= 0` and not for `> 0`.
+/// Finds where a condition on the value of `f` starts to hold between `a`
+/// and `b`, given that it does not hold at `a` (`fa = f(a)`) and does at `b`
+/// (`fb = f(b)`); `holds` is the condition, the caller's own test (for an
+/// event, [`super::Condition::holds`]: `> 0` when strict, `>= 0` otherwise),
+/// so the root-finder puts each point on the side that test says and a
+/// stretch where `f` is exactly zero counts as holding for `>= 0` and not
+/// for `> 0`. The Illinois variant of regula falsi (a secant step that
+/// halves the stale end's value when the same end is kept twice), with
+/// bisection whenever the secant step stalls.
 ///
 /// Returns the right end of the final bracket, so the condition holds at the
 /// point returned; the bracket is at most `resolution` wide, or a few units
@@ -21,12 +22,12 @@ pub fn find_crossing(
     mut f: impl FnMut(f64) -> f64,
     (mut a, mut fa): (f64, f64),
     (mut b, mut fb): (f64, f64),
-    strict: bool,
+    holds: impl Fn(f64) -> bool,
     resolution: f64,
 ) -> f64 {
     // NaN cannot tell the side: it counts as holding, which moves the right
     // end towards the known change.
-    let holds = |value: f64| value.is_nan() || if strict { value > 0.0 } else { value >= 0.0 };
+    let holds = |value: f64| value.is_nan() || holds(value);
     let mut kept = 0i8; // +1 when b was kept last time, -1 when a was
     for _ in 0..MAX_ITERATIONS {
         let width = b - a;
@@ -156,7 +157,7 @@ mod tests {
             |t: f64| 0.5 - t.cos(),
             (0.0, -0.5),
             (2.0, 0.5 - 2f64.cos()),
-            false,
+            |v| v >= 0.0,
             0.0,
         );
         assert!((root - std::f64::consts::FRAC_PI_3).abs() < 1e-14, "{root}");
@@ -171,7 +172,7 @@ mod tests {
         // Regula falsi alone stalls on this shape; the Illinois halving and
         // the bisection guard must not.
         let f = |x: f64| x.powi(9) - 1e-9;
-        let root = find_crossing(f, (0.0, f(0.0)), (1.0, f(1.0)), false, 0.0);
+        let root = find_crossing(f, (0.0, f(0.0)), (1.0, f(1.0)), |v| v >= 0.0, 0.0);
         assert!((root - 0.1).abs() < 1e-14, "{root}");
     }
 
@@ -181,11 +182,11 @@ mod tests {
         // to hold at 0.5, and the point returned is past it; "≥ 0" would
         // hold everywhere, so the same bracket is not a change for it.
         let f = |x: f64| (x - 0.5).max(0.0);
-        let root = find_crossing(f, (0.0, f(0.0)), (1.0, f(1.0)), true, 0.0);
+        let root = find_crossing(f, (0.0, f(0.0)), (1.0, f(1.0)), |v| v > 0.0, 0.0);
         assert!(f(root) > 0.0, "the strict condition holds at {root}");
         assert!((root - 0.5).abs() < 1e-14, "{root}");
         // A resolution stops the search early, still on the holding side.
-        let rough = find_crossing(f, (0.0, f(0.0)), (1.0, f(1.0)), true, 1e-3);
+        let rough = find_crossing(f, (0.0, f(0.0)), (1.0, f(1.0)), |v| v > 0.0, 1e-3);
         assert!(f(rough) > 0.0 && rough - 0.5 <= 1e-3, "{rough}");
     }
 

@@ -240,7 +240,13 @@ impl Trajectory {
         let mut turning = |t: f64| sign * self.slope_at(objective, t);
         let (at_left, at_right) = (turning(left), turning(right));
         if at_left < 0.0 && at_right >= 0.0 {
-            let at = find_crossing(&mut turning, (left, at_left), (right, at_right), false, 0.0);
+            let at = find_crossing(
+                &mut turning,
+                (left, at_left),
+                (right, at_right),
+                |slope| slope >= 0.0,
+                0.0,
+            );
             self.state_at(at, &mut state);
             let refined = objective.value(at, &state);
             // The values near a smooth peak differ only by their rounding,
