@@ -842,22 +842,15 @@ mod oracle {
             let Some(expr) = first.sheet().cell(cell.id).expr else {
                 continue;
             };
-            let queries = run_queries(expr);
-            if queries.len() == 1
-                && std::ptr::eq(
-                    queries[0],
-                    match &expr.kind {
-                        ExprKind::RunQuery(query) => &**query,
-                        _ => std::ptr::null(),
-                    },
-                )
-            {
-                let value_text = queries[0].value.span.text(first.source());
+            if let ExprKind::RunQuery(query) = &expr.kind {
+                // The whole formula is one query: its scale is the largest
+                // size of the value it reads.
+                let value_text = query.value.span.text(first.source());
                 let scale_name = format!("oracle_scale_{}", cell.id);
                 scaled.push_str(&format!("{scale_name} = max of abs({value_text})\n"));
-                scale_cells.push((cell.name.to_string(), Some(scale_name), queries[0].block));
-            } else if !queries.is_empty() {
-                scale_cells.push((cell.name.to_string(), None, queries[0].block));
+                scale_cells.push((cell.name.to_string(), Some(scale_name), query.block));
+            } else if let Some(query) = run_queries(expr).first() {
+                scale_cells.push((cell.name.to_string(), None, query.block));
             }
         }
         let coarse = evaluate_clean(&scaled);
