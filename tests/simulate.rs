@@ -486,3 +486,716 @@ mod hostile {
         }
     }
 }
+
+/// A part thrown straight up at `v0` from y = 0 under g0 alone, with the
+/// block's other lines in `extra`.
+fn throw_sheet(v0: &str, y0: &str, tolerance: &str, extra: &str) -> String {
+    format!(
+        "v0 = {v0}\n\
+         simulate t from 0 s to 5 s:\n  y' = v\n  v' = -g0\n  y(0) = {y0}\n  v(0) = v0\n  tolerance {tolerance}\n{extra}end\n"
+    )
+}
+
+#[test]
+fn a_strict_stop_equal_at_the_start_waits_until_it_is_strictly_true() {
+    // Uniformly accelerated motion: y = v0 t − g t²/2 is back at 0, and
+    // below it just after, at t = 2 v0 / g (closed form).
+    let source = throw_sheet(
+        "6 m/s",
+        "0 m",
+        "1e-9",
+        "  stop when y < 0 m \"back below the start\"\n",
+    ) + "t_back [s] = t at stop\nv_back [m/s] = v at stop\n";
+    let evaluated = evaluate_clean(&source);
+    assert_eq!(evaluated.runs[0].status, RunStatus::Stopped);
+    let t_back = 2.0 * 6.0 / G0;
+    // Located to the tolerance times the run's length (5 s).
+    let error = (si(&evaluated, "t_back") - t_back).abs();
+    assert!(error <= 1e-9 * 5.0, "stop at {}", si(&evaluated, "t_back"));
+    assert_relative(si(&evaluated, "v_back"), -6.0, 1e-9, "speed coming back");
+}
+
+#[test]
+fn a_strict_event_equal_at_the_start_is_not_recorded_there() {
+    // `y < 0 m` is false at the start (y = 0 m exactly) and becomes true at
+    // 2 v0 / g; `y <= 0 m` holds at the start and becomes true again then.
+    let source = throw_sheet(
+        "6 m/s",
+        "0 m",
+        "1e-9",
+        "  event below when y < 0 m\n  event back when y <= 0 m\n",
+    );
+    let evaluated = evaluate_clean(&source);
+    let t_back = 2.0 * 6.0 / G0;
+    let below = &evaluated.runs[0].events[0].times;
+    assert_eq!(below.len(), 1, "{below:?}");
+    assert!((below[0] - t_back).abs() <= 1e-9 * 5.0, "{below:?}");
+    let back = &evaluated.runs[0].events[1].times;
+    assert_eq!(back.len(), 2, "{back:?}");
+    assert_eq!(back[0], 0.0);
+    assert!((back[1] - t_back).abs() <= 1e-9 * 5.0, "{back:?}");
+}
+
+#[test]
+fn a_condition_that_becomes_strictly_true_at_once_happens_at_the_start() {
+    // Thrown down from y = 0: y < 0 is false at t = 0 and true at every
+    // moment after, so it becomes true at the start itself.
+    let source = throw_sheet("-2 m/s", "0 m", "1e-6", "  event below when y < 0 m\n");
+    let evaluated = evaluate_clean(&source);
+    assert_eq!(evaluated.runs[0].events[0].times, vec![0.0]);
+    // As a stop, the run would be empty: refused, and the message says it is
+    // equal at the start rather than already true.
+    let source = throw_sheet("-2 m/s", "0 m", "1e-6", "  stop when y < 0 m\n");
+    let evaluated = evaluate_source(&source);
+    let codes: Vec<Code> = evaluated.diagnostics.iter().map(|d| d.code).collect();
+    assert_eq!(codes, vec![Code::BadSimulation]);
+    let message = &evaluated.diagnostics[0].message;
+    assert!(message.contains("equal at the start"), "{message}");
+    assert!(message.contains("as soon as the run starts"), "{message}");
+    assert_eq!(evaluated.runs[0].status, RunStatus::NotRun);
+    // Non-strict and equal at the start: it holds there, as before.
+    let source = throw_sheet("6 m/s", "0 m", "1e-6", "  stop when y <= 0 m\n");
+    let evaluated = evaluate_source(&source);
+    let message = &evaluated.diagnostics[0].message;
+    assert!(message.contains("already holds at the start"), "{message}");
+}
+
+#[test]
+fn a_condition_that_touches_its_threshold_without_crossing_follows_its_strictness() {
+    // The left side is t − 1 s before 1 s, exactly 0 s from 1 s to 2 s, and
+    // 2 s − t after: it touches zero and turns back without ever being
+    // positive. `>= 0 s` holds from 1 s to 2 s (one event, at 1 s); `> 0 s`
+    // never holds.
+    let source = "simulate t from 0 s to 3 s:\n  x' = 1 m/s\n  x(0) = 0 m\n\
+        event touch when min(t - 1 s, 0 s) + min(2 s - t, 0 s) >= 0 s\n\
+        event over when min(t - 1 s, 0 s) + min(2 s - t, 0 s) > 0 s\nend\n";
+    let evaluated = evaluate_clean(source);
+    let touch = &evaluated.runs[0].events[0].times;
+    assert_eq!(touch.len(), 1, "{touch:?}");
+    assert!((touch[0] - 1.0).abs() <= 1e-12, "{touch:?}");
+    assert_eq!(evaluated.runs[0].events[1].times, Vec::<f64>::new());
+}
+
+#[test]
+fn the_apex_of_a_throw_is_located_to_the_tolerance() {
+    // Uniformly accelerated motion: the apex is at t = v0 / g with height
+    // v0² / 2g (closed form). Times are located to the tolerance times the
+    // run's length (5 s).
+    for tolerance in [1e-6, 1e-9, 1e-12] {
+        let source = throw_sheet("6 m/s", "0 m", &format!("{tolerance:e}"), "")
+            + "t_top [s] = t at max of y\nh_top [m] = max of y\nv_top [m/s] = v at max of y\n";
+        let evaluated = evaluate_clean(&source);
+        let error = (si(&evaluated, "t_top") - 6.0 / G0).abs();
+        assert!(
+            error <= tolerance * 5.0,
+            "apex time at {tolerance:e}: error {error:e} s"
+        );
+        assert_relative(
+            si(&evaluated, "h_top"),
+            36.0 / (2.0 * G0),
+            tolerance,
+            "apex height",
+        );
+        // The speed at the apex is zero, to the tolerance times the speed's scale (6 m/s).
+        let v_top = si(&evaluated, "v_top").abs();
+        assert!(
+            v_top <= tolerance * 6.0,
+            "speed at the apex at {tolerance:e}: {v_top:e}"
+        );
+    }
+    // The same throw with vector states (interpreted: no exact slope, so the
+    // slope comes from differences), drifting sideways at 2 m/s. The speed
+    // √(2² + v_y²) is least at the apex too.
+    for tolerance in [1e-6, 1e-9, 1e-12] {
+        let source = format!(
+            "v0 = vec(2 m/s, 6 m/s)\n\
+             simulate t from 0 s to 5 s:\n  r' = v\n  v' = vec(0 m/s^2, -g0)\n  r(0) = vec(0 m, 0 m)\n  v(0) = v0\n  tolerance {tolerance:e}\nend\n\
+             t_top [s] = t at max of r.y\nt_slow [s] = t at min of mag(v)\n"
+        );
+        let evaluated = evaluate_clean(&source);
+        assert!(!evaluated.runs[0].compiled);
+        for name in ["t_top", "t_slow"] {
+            let error = (si(&evaluated, name) - 6.0 / G0).abs();
+            assert!(
+                error <= tolerance * 5.0,
+                "{name} with vector states at {tolerance:e}: error {error:e} s"
+            );
+        }
+    }
+}
+
+#[test]
+fn the_first_peak_of_a_damped_oscillation_is_located_to_the_tolerance() {
+    // Damped free vibration (standard result): with σ = ζω = c/2m = 6 s⁻¹,
+    // ω_d = √(k/m − σ²), B = (v0 + σ x0)/ω_d, the speed is
+    // e^−σt (v0 cos ω_d t − (σB + x0 ω_d) sin ω_d t), so the first peak is at
+    // t_p = atan2(v0, σB + x0 ω_d)/ω_d; it is the largest x of the run.
+    let (m, k, c, x0, v0) = (4.0_f64, 1600.0_f64, 48.0, 0.02, 0.5);
+    let sigma = c / (2.0 * m);
+    let omega_d = (k / m - sigma * sigma).sqrt();
+    let b = (v0 + sigma * x0) / omega_d;
+    let t_peak = v0.atan2(sigma * b + x0 * omega_d) / omega_d;
+    let x_peak =
+        (-sigma * t_peak).exp() * (x0 * (omega_d * t_peak).cos() + b * (omega_d * t_peak).sin());
+    let length = 2.0 * std::f64::consts::PI / 10.0;
+    for tolerance in [1e-6, 1e-9, 1e-12] {
+        let source = spring_sheet(c, 2.0, &format!("{tolerance:e}"), "")
+            + "t_p [s] = t at max of x\nx_p [m] = max of x\nk_p [N] = k * x at max of x\n";
+        let evaluated = evaluate_clean(&source);
+        let error = (si(&evaluated, "t_p") - t_peak).abs();
+        assert!(
+            error <= tolerance * length,
+            "peak time at {tolerance:e}: error {error:e} s"
+        );
+        assert_relative(si(&evaluated, "x_p"), x_peak, tolerance, "peak");
+        assert_relative(
+            si(&evaluated, "k_p"),
+            k * x_peak,
+            tolerance,
+            "spring force at the peak",
+        );
+    }
+}
+
+/// Oracles: a run against itself at half the tolerance, and a condition's
+/// outcome against a direct evaluation of its truth.
+mod oracle {
+    use super::{evaluate_clean, spring_sheet, throw_sheet};
+    use heftsheet::diag::Code;
+    use heftsheet::eval::{Evaluated, RunReport, RunStatus, evaluate_source};
+    use heftsheet::syntax::ast::{Expr, ExprKind};
+    use heftsheet::units::{Dimension, Value};
+    use std::path::Path;
+
+    /// The repository's sheets with simulate blocks.
+    fn repository_sheets() -> Vec<(String, String)> {
+        let root = Path::new(env!("CARGO_MANIFEST_DIR"));
+        let mut sheets = Vec::new();
+        for folder in ["sheets", "tests/sheets/ok"] {
+            let mut paths: Vec<_> = std::fs::read_dir(root.join(folder))
+                .expect("a sheet folder")
+                .filter_map(|entry| entry.ok().map(|entry| entry.path()))
+                .filter(|path| path.extension().is_some_and(|e| e == "heft"))
+                .collect();
+            paths.sort();
+            for path in paths {
+                let text = std::fs::read_to_string(&path).expect("a sheet");
+                if text
+                    .lines()
+                    .any(|line| line.trim_start().starts_with("simulate "))
+                {
+                    sheets.push((path.display().to_string(), text));
+                }
+            }
+        }
+        sheets
+    }
+
+    /// Generated sheets: drag with a stop and an event, a damped spring's
+    /// extremes, a throw with a strict stop, a vector throw; each at two
+    /// tolerances (and one with the default tolerance).
+    fn generated_sheets() -> Vec<(String, String)> {
+        let mut sheets = Vec::new();
+        for (index, tolerance) in ["1e-6", "1e-9"].into_iter().enumerate() {
+            let mass = 4.0 + 3.0 * index as f64;
+            sheets.push((
+                format!("generated drop {tolerance}"),
+                format!(
+                    "m = {mass} kg\nc = 0.02 kg/m\nv_t = sqrt(m * g0 / c)\n\
+                     simulate t from 0 s to 30 s:\n  x' = v\n  v' = g0 - c / m * v * abs(v)\n  x(0) = 0 m\n  v(0) = 0 m/s\n  tolerance {tolerance}\n  stop when x >= 500 m\n  event near when v >= 0.9 * v_t\nend\n\
+                     t_floor = t at stop\nv_floor = v at stop\nt_near = t at near\nx_near = x at near\nv_mid = v at 3 s\n"
+                ),
+            ));
+            sheets.push((
+                format!("generated damped spring {tolerance}"),
+                spring_sheet(12.0 + 30.0 * index as f64, 4.0, tolerance, "  event back when x < 0 m\n")
+                    + "t_p = t at max of x\nx_p = max of x\nx_low = min of x\nt_low = t at min of x\nF_p = k * x at max of x\nE_end = (k * x^2 / 2 + m * v^2 / 2) at end\nt_back = t at back\n",
+            ));
+            sheets.push((
+                format!("generated throw {tolerance}"),
+                throw_sheet("7 m/s", "0 m", tolerance, "  stop when y < 0 m\n")
+                    + "t_back = t at stop\nt_top = t at max of y\nh_top = max of y\nv_end = v at end\n",
+            ));
+            sheets.push((
+                format!("generated vector throw {tolerance}"),
+                format!(
+                    "v0 = vec(3 m/s, 5 m/s)\n\
+                     simulate t from 0 s to 3 s:\n  r' = v\n  v' = vec(0 m/s^2, -g0)\n  r(0) = vec(0 m, 1 m)\n  v(0) = v0\n  tolerance {tolerance}\n  stop when r.y <= 0 m\nend\n\
+                     t_land = t at stop\nx_land = (r at stop).x\nt_top = t at max of r.y\n"
+                ),
+            ));
+        }
+        sheets.push((
+            "generated drop, default tolerance".to_string(),
+            "m = 5 kg\nc = 0.02 kg/m\n\
+             simulate t from 0 s to 10 s:\n  x' = v\n  v' = g0 - c / m * v * abs(v)\n  x(0) = 0 m\n  v(0) = 0 m/s\n  stop when x >= 100 m\nend\n\
+             t_floor = t at stop\nv_top = max of v\n"
+                .to_string(),
+        ));
+        sheets
+    }
+
+    /// The runs in file order (the order of their blocks in the text).
+    fn runs_in_file_order(evaluated: &Evaluated) -> Vec<&RunReport> {
+        let mut runs: Vec<&RunReport> = evaluated.runs.iter().collect();
+        runs.sort_by_key(|run| run.statement);
+        runs
+    }
+
+    /// The sheet with each block's relative tolerance halved: its
+    /// `tolerance` line replaced, or one added after the block's head.
+    fn with_halved_tolerances(source: &str, evaluated: &Evaluated) -> String {
+        let runs = runs_in_file_order(evaluated);
+        let mut out = String::new();
+        let mut block: Option<(usize, bool)> = None; // (run index, tolerance written)
+        let mut n_blocks = 0;
+        for line in source.lines() {
+            let trimmed = line.trim();
+            let head = trimmed.starts_with("simulate ");
+            if head {
+                block = Some((n_blocks, false));
+                n_blocks += 1;
+                out.push_str(line);
+                out.push('\n');
+                let run = runs[n_blocks - 1];
+                let written = source[run.span.start()..run.span.end()]
+                    .lines()
+                    .any(|l| relative_tolerance_line(l.trim(), run));
+                if !written {
+                    out.push_str(&format!("  tolerance {:e}\n", run.relative_tolerance / 2.0));
+                }
+                continue;
+            }
+            if let Some((index, _)) = block {
+                if trimmed == "end" || trimmed.starts_with("end ") {
+                    block = None;
+                } else if relative_tolerance_line(trimmed, runs[index]) {
+                    out.push_str(&format!(
+                        "  tolerance {:e}\n",
+                        runs[index].relative_tolerance / 2.0
+                    ));
+                    continue;
+                }
+            }
+            out.push_str(line);
+            out.push('\n');
+        }
+        out
+    }
+
+    /// `tolerance 1e-8` (not `tolerance x 1 mm`, which names a state).
+    fn relative_tolerance_line(line: &str, run: &RunReport) -> bool {
+        let Some(rest) = line.strip_prefix("tolerance ") else {
+            return false;
+        };
+        let first = rest.split_whitespace().next().unwrap_or("");
+        !run.states.iter().any(|state| state.column.label == first)
+    }
+
+    /// The run queries a cell's formula holds.
+    fn run_queries(expr: &Expr) -> Vec<&heftsheet::syntax::ast::RunQuery> {
+        let mut queries = Vec::new();
+        expr.walk(&mut |node| {
+            if let ExprKind::RunQuery(query) = &node.kind {
+                queries.push(&**query);
+            }
+        });
+        queries
+    }
+
+    /// The largest magnitude of a state's components over the run.
+    fn peak_of_state(run: &RunReport, state: usize) -> f64 {
+        let slots = &run.states[state];
+        let Some(trajectory) = &run.trajectory else {
+            return 0.0;
+        };
+        (0..=trajectory.n_steps())
+            .flat_map(|boundary| {
+                trajectory.state_at_boundary(boundary)
+                    [slots.first..slots.first + slots.n_components]
+                    .to_vec()
+            })
+            .fold(0.0, |peak: f64, v| peak.max(v.abs()))
+    }
+
+    fn components(value: Option<Value>) -> Vec<f64> {
+        match value {
+            Some(Value::Scalar(q)) => vec![q.si],
+            Some(Value::Vector(v)) => v.components().to_vec(),
+            None => Vec::new(),
+        }
+    }
+
+    /// Halving the tolerance moves every run-query result, every state's
+    /// end value, the end time and every event time by less than the
+    /// tolerance times its scale: for a time, the run's length; for a
+    /// state, the largest size it reaches; for a query `E at …` or `max of
+    /// E`, the largest size of E over the run; for a formula with a query
+    /// inside, its own size. Returns the number of results compared.
+    #[track_caller]
+    fn check_against_half_tolerance(name: &str, source: &str) -> usize {
+        // The scale of each whole-formula query: one extra cell per query.
+        let first = evaluate_clean(source);
+        let mut scaled = source.to_string();
+        let mut scale_cells = Vec::new();
+        for cell in first.cells() {
+            let Some(expr) = first.sheet().cell(cell.id).expr else {
+                continue;
+            };
+            if let ExprKind::RunQuery(query) = &expr.kind {
+                // The whole formula is one query: its scale is the largest
+                // size of the value it reads.
+                let value_text = query.value.span.text(first.source());
+                let scale_name = format!("oracle_scale_{}", cell.id);
+                scaled.push_str(&format!("{scale_name} = max of abs({value_text})\n"));
+                scale_cells.push((cell.name.to_string(), Some(scale_name), query.block));
+            } else if let Some(query) = run_queries(expr).first() {
+                scale_cells.push((cell.name.to_string(), None, query.block));
+            }
+        }
+        let coarse = evaluate_clean(&scaled);
+        let fine = evaluate_clean(&with_halved_tolerances(&scaled, &coarse));
+        let coarse_runs = runs_in_file_order(&coarse);
+        let fine_runs = runs_in_file_order(&fine);
+        assert_eq!(coarse_runs.len(), fine_runs.len(), "{name}");
+        let mut n_compared = 0;
+        let mut compare = |what: &str, a: f64, b: f64, bound: f64| {
+            assert!(
+                (a - b).abs() <= bound,
+                "{name}: {what} moved from {a} to {b} at half the tolerance, by {:e} > {bound:e}",
+                (a - b).abs()
+            );
+            n_compared += 1;
+        };
+        for (run, half) in coarse_runs.iter().zip(&fine_runs) {
+            assert_eq!(
+                half.relative_tolerance,
+                run.relative_tolerance / 2.0,
+                "{name}"
+            );
+            assert_eq!(run.status, half.status, "{name}: {}", run.title);
+            let tolerance = run.relative_tolerance;
+            let (start, end) = run.range.unwrap_or((0.0, 0.0));
+            let length = run.final_time().unwrap_or(end) - start;
+            let time = |evaluated: &Evaluated, id| {
+                evaluated
+                    .cells()
+                    .nth(id)
+                    .and_then(|cell| cell.value)
+                    .map_or(f64::NAN, |q| q.si)
+            };
+            compare(
+                &format!("{}: the end time", run.title),
+                time(&coarse, run.time),
+                time(&fine, half.time),
+                tolerance * length,
+            );
+            for (index, state) in run.states.iter().enumerate() {
+                let peak = peak_of_state(run, index);
+                let a = components(coarse.cells().nth(state.cell).and_then(|c| c.any_value()));
+                let b = components(
+                    fine.cells()
+                        .nth(half.states[index].cell)
+                        .and_then(|c| c.any_value()),
+                );
+                assert_eq!(a.len(), b.len(), "{name}");
+                for (a, b) in a.into_iter().zip(b) {
+                    compare(
+                        &format!("the end value of {}", state.column.label),
+                        a,
+                        b,
+                        tolerance * peak,
+                    );
+                }
+            }
+            for (event, half_event) in run.events.iter().zip(&half.events) {
+                assert_eq!(
+                    event.times.len(),
+                    half_event.times.len(),
+                    "{name}: {}",
+                    event.label()
+                );
+                for (a, b) in event.times.iter().zip(&half_event.times) {
+                    compare(
+                        &format!("the time of {}", event.label()),
+                        *a,
+                        *b,
+                        tolerance * length,
+                    );
+                }
+            }
+        }
+        for (cell_name, scale_name, block) in scale_cells {
+            let run = coarse_runs
+                .iter()
+                .find(|run| Some(run.statement) == block)
+                .unwrap_or_else(|| panic!("{name}: the run of {cell_name}"));
+            let tolerance = run.relative_tolerance;
+            let value = |evaluated: &Evaluated| {
+                evaluated
+                    .cell(&cell_name)
+                    .and_then(|c| c.value)
+                    .unwrap_or_else(|| panic!("{name}: {cell_name}"))
+            };
+            let (a, b) = (value(&coarse), value(&fine));
+            let (start, _) = run.range.unwrap_or((0.0, 0.0));
+            let length = run.final_time().unwrap_or(start) - start;
+            let scale = if a.dimension == Dimension::TIME {
+                length
+            } else if let Some(scale_name) = scale_name {
+                coarse
+                    .cell(&scale_name)
+                    .and_then(|c| c.value)
+                    .map_or(f64::NAN, |q| q.si)
+            } else {
+                a.si.abs().max(b.si.abs())
+            };
+            compare(&cell_name, a.si, b.si, tolerance * scale);
+        }
+        n_compared
+    }
+
+    #[test]
+    fn halving_the_tolerance_moves_every_result_by_less_than_the_tolerance() {
+        let repository = repository_sheets();
+        assert!(
+            repository.len() >= 3,
+            "the demo sheets have simulate blocks"
+        );
+        let generated = generated_sheets();
+        let mut n_results = 0;
+        for (name, source) in repository.iter().chain(&generated) {
+            n_results += check_against_half_tolerance(name, source);
+        }
+        println!(
+            "half-tolerance oracle: {} repository sheets, {} generated sheets, {n_results} results compared",
+            repository.len(),
+            generated.len()
+        );
+    }
+
+    /// What a condition should do in a run, from its direct truth.
+    #[derive(Clone, Copy, Debug)]
+    enum Outcome {
+        /// Happen at the start (a stop: refused, the run would be empty).
+        AtStart,
+        /// Happen at the start or by this time: it becomes true at once
+        /// after the start, and the computed states show it a little later.
+        AtStartOrBy(f64),
+        /// Happen at this time.
+        Later(f64),
+        /// Not happen in the run.
+        Never,
+    }
+
+    /// How a state moves in a boundary case: x' = u with u a constant
+    /// speed, or from rest at a constant acceleration.
+    #[derive(Clone, Copy, Debug)]
+    enum Motion {
+        Speed(f64),
+        Acceleration(f64),
+    }
+
+    impl Motion {
+        /// The block's rate lines and starting speed.
+        fn lines(self) -> String {
+            match self {
+                Motion::Speed(u) => format!("  x' = {u:?} m/s\n"),
+                Motion::Acceleration(a) => {
+                    format!("  x' = w\n  w' = {a:?} m/s^2\n  w(0) = 0 m/s\n")
+                }
+            }
+        }
+
+        /// Which way x goes first: +1, −1 or 0 (it stays).
+        fn direction(self) -> f64 {
+            let rate = match self {
+                Motion::Speed(u) => u,
+                Motion::Acceleration(a) => a,
+            };
+            if rate == 0.0 { 0.0 } else { rate.signum() }
+        }
+
+        /// When x has moved `distance` (≥ 0) its way: uniform motion,
+        /// x = u t, or uniformly accelerated from rest, x = a t²/2.
+        fn time_to_move(self, distance: f64) -> f64 {
+            match self {
+                Motion::Speed(u) => distance / u.abs(),
+                Motion::Acceleration(a) => (2.0 * distance / a.abs()).sqrt(),
+            }
+        }
+    }
+
+    /// `x CMP threshold` with x(0) at, just beside and away from the
+    /// threshold, each comparison, as a stop and as an event, for several
+    /// motions: what the run does must agree with the condition's truth
+    /// evaluated directly on the closed-form path x(t). The truth at the
+    /// start uses heft's own values of the two sides, compared here; the
+    /// first time it becomes true is where x reaches the threshold moving
+    /// towards the side where it holds (the start itself when x starts on
+    /// the threshold and a strict condition holds at once after; and, as
+    /// README says, a change sooner than the time resolution of the run
+    /// after its start counts as at the start).
+    #[test]
+    fn conditions_at_their_threshold_agree_with_their_direct_truth() {
+        let threshold = 1.5_f64;
+        let span = 2.0_f64;
+        let tolerance = 1e-9;
+        // The shortest time the run resolves (README: ten units in the last
+        // place of the run's length).
+        let resolution = 10.0 * f64::EPSILON * span;
+        let offsets = [
+            0.0,
+            f64::EPSILON * threshold,
+            -f64::EPSILON * threshold,
+            1e-9 * threshold,
+            -1e-9 * threshold,
+            1e-3 * threshold,
+            -1e-3 * threshold,
+            0.5,
+            -0.5,
+        ];
+        let motions = [
+            Motion::Speed(1.0),
+            Motion::Speed(-1.0),
+            Motion::Speed(0.0),
+            Motion::Acceleration(1.0),
+            Motion::Acceleration(-1.0),
+        ];
+        let comparisons = ["<", "<=", ">", ">="];
+        let (mut n_cases, mut n_at_start, mut n_at_once, mut n_later, mut n_never) =
+            (0, 0, 0, 0, 0);
+        for offset in offsets {
+            let x0 = threshold + offset;
+            for motion in motions {
+                for comparison in comparisons {
+                    for stops in [false, true] {
+                        let condition = if stops {
+                            format!("  stop when x {comparison} h\n")
+                        } else {
+                            format!("  event e when x {comparison} h\n")
+                        };
+                        let source = format!(
+                            "h = {threshold:?} m\nx_start = {x0:?} m\n\
+                             simulate t from 0 s to {span:?} s:\n{}  x(0) = {x0:?} m\n  tolerance {tolerance:e}\n{condition}end\n",
+                            motion.lines()
+                        );
+                        let evaluated = evaluate_source(&source);
+                        let value = |name: &str| {
+                            evaluated
+                                .cell(name)
+                                .and_then(|cell| cell.value)
+                                .map_or(f64::NAN, |q| q.si)
+                        };
+                        let (x_start, h) = (value("x_start"), value("h"));
+                        // The direct truth of the condition at x.
+                        let holds = |x: f64| match comparison {
+                            "<" => x < h,
+                            "<=" => x <= h,
+                            ">" => x > h,
+                            _ => x >= h,
+                        };
+                        // Which way x must go for it to hold.
+                        let true_side = if comparison.starts_with('<') {
+                            -1.0
+                        } else {
+                            1.0
+                        };
+                        let holds_at_start = holds(x_start);
+                        let direction = motion.direction();
+                        // The first time it becomes true after the start.
+                        let becomes_true = if holds_at_start {
+                            None
+                        } else if x_start == h {
+                            (direction == true_side).then_some(0.0)
+                        } else if (h - x_start).signum() == direction {
+                            Some(motion.time_to_move((h - x_start).abs()))
+                        } else {
+                            None
+                        }
+                        .filter(|&t| t <= span)
+                        .map(|t| if t <= resolution { 0.0 } else { t });
+                        let what = format!("{source}\n(x(0) = {x_start:?}, h = {h:?})");
+                        // How sharply the change can be timed: to the
+                        // tolerance, and no sooner than the computed x has
+                        // moved by its last digits (from rest that takes a
+                        // while: README, "how a condition is decided").
+                        let digits = motion.time_to_move(8.0 * f64::EPSILON * h.abs());
+                        let window = tolerance * span + digits;
+                        let expected = match becomes_true {
+                            _ if holds_at_start => Outcome::AtStart,
+                            Some(t) if t + digits <= resolution => Outcome::AtStart,
+                            Some(t) if t <= window => Outcome::AtStartOrBy(t + window),
+                            Some(t) => Outcome::Later(t),
+                            None => Outcome::Never,
+                        };
+                        let run = &evaluated.runs[0];
+                        // What happened: at the start, later (when), never.
+                        let happened = if stops {
+                            match run.status {
+                                RunStatus::NotRun => {
+                                    let codes: Vec<Code> =
+                                        evaluated.diagnostics.iter().map(|d| d.code).collect();
+                                    assert_eq!(codes, vec![Code::BadSimulation], "{what}");
+                                    let message = &evaluated.diagnostics[0].message;
+                                    let reason = if holds_at_start {
+                                        "already holds at the start"
+                                    } else {
+                                        "as soon as the run starts"
+                                    };
+                                    assert!(message.contains(reason), "{what}\n{message}");
+                                    Some(0.0)
+                                }
+                                RunStatus::Stopped => run.final_time(),
+                                status => {
+                                    assert_eq!(status, RunStatus::Reached, "{what}");
+                                    None
+                                }
+                            }
+                        } else {
+                            assert!(
+                                evaluated.diagnostics.is_empty(),
+                                "{what}\n{:?}",
+                                evaluated.diagnostics
+                            );
+                            let times = &run.events[0].times;
+                            // x moves one way only, so the condition becomes
+                            // true at most once.
+                            assert!(times.len() <= 1, "{what}\nevent times {times:?}");
+                            times.first().copied()
+                        };
+                        match (expected, happened) {
+                            (Outcome::AtStart, Some(t)) => {
+                                assert_eq!(t, 0.0, "{what}");
+                                n_at_start += 1;
+                            }
+                            (Outcome::AtStartOrBy(latest), Some(t)) => {
+                                assert!(t <= latest, "{what}\nat {t:e} s, not by {latest:e} s");
+                                n_at_once += 1;
+                            }
+                            (Outcome::Later(expected), Some(t)) => {
+                                assert!(
+                                    t > 0.0 && (t - expected).abs() <= window,
+                                    "{what}\nat {t:e} s, the condition becomes true at {expected:e} s"
+                                );
+                                n_later += 1;
+                            }
+                            (Outcome::Never, None) => n_never += 1,
+                            (expected, happened) => {
+                                panic!("{what}\nexpected {expected:?}, the run gave {happened:?}")
+                            }
+                        }
+                        n_cases += 1;
+                    }
+                }
+            }
+        }
+        println!(
+            "boundary oracle: {n_cases} cases ({n_at_start} at the start, {n_at_once} at once after it, {n_later} later, {n_never} never)"
+        );
+        assert_eq!(
+            n_cases,
+            offsets.len() * motions.len() * comparisons.len() * 2
+        );
+    }
+}

@@ -117,6 +117,17 @@ pub fn evaluate_unit(text: &str) -> Result<(UnitExpr, ResolvedUnit), Diagnostic>
     Ok((unit, resolved))
 }
 
+/// Whether `a COMPARISON b` is true: the one reading of `<`, `<=`, `>=`
+/// and `>` for checks and for a simulate block's conditions at the start.
+pub(crate) fn comparison_holds(comparison: Comparison, a: f64, b: f64) -> bool {
+    match comparison {
+        Comparison::AtMost => a <= b,
+        Comparison::Below => a < b,
+        Comparison::AtLeast => a >= b,
+        Comparison::Above => a > b,
+    }
+}
+
 /// The evaluation in progress: values and statuses by cell.
 struct Evaluator<'a> {
     sheet: &'a Sheet,
@@ -472,12 +483,7 @@ impl<'a> Evaluator<'a> {
         }
         result.display = self.check_display_unit(&check.lhs, &check.rhs, lhs);
         let (a, b) = (lhs.si, rhs.si);
-        let passed = match check.comparison {
-            Comparison::AtMost => a <= b,
-            Comparison::Below => a < b,
-            Comparison::AtLeast => a >= b,
-            Comparison::Above => a > b,
-        };
+        let passed = comparison_holds(check.comparison, a, b);
         let (numerator, denominator) = match check.comparison {
             Comparison::AtMost | Comparison::Below => (a, b),
             Comparison::AtLeast | Comparison::Above => (b, a),

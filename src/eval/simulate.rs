@@ -16,10 +16,12 @@ use super::explain::{Operand, mismatch};
 use super::program::{CompileError, Input, Op, Program};
 use super::run_model::{PlotSeries, RunColumn, RunEvent, RunReport, RunRow, RunStatus, StateSlots};
 use super::{CellStatus, Evaluation, Evaluator};
+use crate::cases::Dual;
 use crate::diag::{Code, Diagnostic};
 use crate::sheet::CellId;
 use crate::simulate::{
-    self, ErrorControl, EventKind, Failure, Outcome, Settings, Stats, System, Trajectory,
+    self, Condition, ErrorControl, EventKind, Failure, Objective, Outcome, Settings, Stats, System,
+    Trajectory,
 };
 use crate::syntax::Span;
 use crate::syntax::ast::{
@@ -485,12 +487,13 @@ impl<'a> Evaluator<'a> {
             events: block
                 .events
                 .iter()
-                .map(|event| {
-                    if event.stops {
+                .map(|event| Condition {
+                    kind: if event.stops {
                         EventKind::Stop
                     } else {
                         EventKind::Record
-                    }
+                    },
+                    strict: event.comparison.is_strict(),
                 })
                 .collect(),
         };
@@ -1041,25 +1044,48 @@ impl<'a> Evaluator<'a> {
         }
     }
 
+    /// The error for a stop that ends the run at its start: its condition
+    /// holds there, or (strict and equal there) becomes true at once.
     fn stop_at_start(&self, block: &SimulateBlock, event: usize) -> Diagnostic {
         let condition = &block.events[event];
-        let show = |expr: &Expr| {
-            self.eval(expr)
-                .map(|value| self.style.show_value(value))
+        let sides = (self.eval(&condition.lhs), self.eval(&condition.rhs));
+        let show = |side: &Evaluation| {
+            side.as_ref()
+                .map(|value| self.style.show_value(*value))
                 .unwrap_or_default()
         };
+        let values = format!(
+            "`{}` = {}, `{}` = {}",
+            condition.lhs.span.text(self.source),
+            show(&sides.0),
+            condition.rhs.span.text(self.source),
+            show(&sides.1)
+        );
+        let holds_at_start = match &sides {
+            (Ok(Value::Scalar(a)), Ok(Value::Scalar(b))) => {
+                super::comparison_holds(condition.comparison, a.si, b.si)
+            }
+            _ => true,
+        };
+        if holds_at_start {
+            return Diagnostic::error(
+                Code::BadSimulation,
+                condition.span,
+                format!(
+                    "this stop condition already holds at the start ({values}), so the run would be empty"
+                ),
+            )
+            .with_help("a stop happens when its condition becomes true; check the comparison's direction and the starting values");
+        }
+        let symbol = condition.comparison.symbol();
         Diagnostic::error(
             Code::BadSimulation,
             condition.span,
             format!(
-                "this stop condition already holds at the start (`{}` = {}, `{}` = {}), so the run would be empty",
-                condition.lhs.span.text(self.source),
-                show(&condition.lhs),
-                condition.rhs.span.text(self.source),
-                show(&condition.rhs)
+                "the two sides are equal at the start ({values}); `{symbol}` does not hold at equality, but it holds as soon as the run starts, so the run would be empty"
             ),
         )
-        .with_help("a stop happens when its condition becomes true; check the comparison's direction and the starting values")
+        .with_help("the motion starts on the side where the condition is true: check the comparison's direction, or start the run away from the threshold")
     }
 
     fn failure_diagnostic(
@@ -1489,9 +1515,12 @@ impl<'a> Evaluator<'a> {
                 }
                 t.clamp(first, last)
             }
-            RunPoint::Extremum { maximum, of } => {
-                self.extremum_time(of, *maximum, &layout, trajectory)?
-            }
+            RunPoint::Extremum { maximum, of } => self.extremum_time(
+                of,
+                *maximum,
+                &layout,
+                (trajectory, report.relative_tolerance),
+            )?,
         };
         let mut state = vec![0.0; layout.n_slots];
         trajectory.state_at(t, &mut state);
@@ -1504,7 +1533,7 @@ impl<'a> Evaluator<'a> {
         of: &Expr,
         maximum: bool,
         layout: &Layout,
-        trajectory: &Trajectory,
+        (trajectory, relative_tolerance): (&Trajectory, f64),
     ) -> Result<f64, Box<Diagnostic>> {
         // Check the expression once at the start, with the usual messages.
         let first = self.at_point(
@@ -1524,24 +1553,69 @@ impl<'a> Evaluator<'a> {
             ));
         }
         let program = self.compile_over_run(of, layout)?;
-        let (mut inputs, mut stack) = (Vec::new(), Vec::new());
-        let (t, _) = trajectory.extremum(
-            |t, y| match &program {
-                Some(program) => {
-                    inputs.clear();
-                    inputs.push(t);
-                    inputs.extend_from_slice(y);
-                    program.run_with(&inputs, &mut stack)
-                }
-                None => self
-                    .at_point(layout, t, y, |evaluator| evaluator.eval(of))
-                    .ok()
-                    .and_then(|value| value.scalar())
-                    .map_or(f64::NAN, |q| q.si),
-            },
-            maximum,
-        );
+        let mut objective = QueryObjective {
+            evaluator: self,
+            layout,
+            of,
+            program,
+            inputs: Vec::new(),
+            stack: Vec::new(),
+            dual_inputs: Vec::new(),
+            dual_stack: Vec::new(),
+        };
+        let time_tolerance = relative_tolerance * (trajectory.end() - trajectory.start());
+        let (t, _) = trajectory.extremum(&mut objective, maximum, time_tolerance);
         Ok(t)
+    }
+}
+
+/// The expression of `max of …` as the trajectory's search sees it: its
+/// value at a point of the run, and, when it compiles, its exact rate of
+/// change along the run (the program run on dual numbers, with the time
+/// changing at one and each state at its rate).
+struct QueryObjective<'s, 'a> {
+    evaluator: &'s Evaluator<'a>,
+    layout: &'s Layout,
+    of: &'s Expr,
+    program: Option<Program>,
+    inputs: Vec<f64>,
+    stack: Vec<f64>,
+    dual_inputs: Vec<Dual<f64>>,
+    dual_stack: Vec<Dual<f64>>,
+}
+
+impl Objective for QueryObjective<'_, '_> {
+    fn value(&mut self, t: f64, y: &[f64]) -> f64 {
+        match &self.program {
+            Some(program) => {
+                self.inputs.clear();
+                self.inputs.push(t);
+                self.inputs.extend_from_slice(y);
+                program.run_with(&self.inputs, &mut self.stack)
+            }
+            None => self
+                .evaluator
+                .at_point(self.layout, t, y, |evaluator| evaluator.eval(self.of))
+                .ok()
+                .and_then(|value| value.scalar())
+                .map_or(f64::NAN, |q| q.si),
+        }
+    }
+
+    fn slope(&mut self, t: f64, y: &[f64], rates: &[f64]) -> Option<f64> {
+        let program = self.program.as_ref()?;
+        self.dual_inputs.clear();
+        self.dual_inputs.push(Dual::variable(t));
+        self.dual_inputs
+            .extend(y.iter().zip(rates).map(|(&value, &rate)| Dual {
+                value,
+                derivative: rate,
+            }));
+        Some(
+            program
+                .run_with(&self.dual_inputs, &mut self.dual_stack)
+                .derivative,
+        )
     }
 }
 

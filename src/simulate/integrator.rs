@@ -68,8 +68,9 @@ const STIFFNESS_CONFIRMATIONS: usize = 15;
 pub trait System {
     /// Writes f(t, y) into `rates`.
     fn rates(&mut self, t: f64, y: &[f64], rates: &mut [f64]);
-    /// Event function `index` at (t, y): its event happens where the value
-    /// turns from negative to zero or positive.
+    /// Event function `index` at (t, y): its condition holds where the value
+    /// is positive (or, unless the condition is strict, zero); see
+    /// [`Condition::holds`].
     fn event(&mut self, index: usize, t: f64, y: &[f64]) -> f64;
 }
 
@@ -80,6 +81,31 @@ pub enum EventKind {
     Stop,
     /// Is recorded; the run goes on.
     Record,
+}
+
+/// An event's condition as the integrator sees it: what happening does, and
+/// whether the event function must be strictly positive for it to hold.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct Condition {
+    /// Stop the run, or record and go on.
+    pub kind: EventKind,
+    /// Holds only where the event function is positive (`<`, `>`), not
+    /// where it is zero (`<=`, `>=`).
+    pub strict: bool,
+}
+
+impl Condition {
+    /// Whether the condition holds where its event function is `value`:
+    /// `value > 0` when strict, `value >= 0` otherwise; never for NaN. The
+    /// start test, the test for becoming true inside a step and the
+    /// root-finder all ask this one function.
+    pub fn holds(self, value: f64) -> bool {
+        if self.strict {
+            value > 0.0
+        } else {
+            value >= 0.0
+        }
+    }
 }
 
 /// What the tolerance bounds.
@@ -104,8 +130,8 @@ pub struct Settings {
     pub absolute_tolerance: Vec<f64>,
     /// Most accepted steps before giving up.
     pub max_steps: usize,
-    /// The events, in the order [`System::event`] numbers them.
-    pub events: Vec<EventKind>,
+    /// The events' conditions, in the order [`System::event`] numbers them.
+    pub events: Vec<Condition>,
     /// What the tolerances bound.
     pub error_control: ErrorControl,
 }
@@ -321,29 +347,32 @@ pub fn integrate<S: System>(
         return run;
     }
 
-    // Events: a condition that holds at the start happens at the start.
+    let span = t_end - t0;
+    // Events: a condition that holds at the start happens at the start (a
+    // strict one that is only equal there does not hold).
     let mut event_values: Vec<f64> = (0..settings.events.len())
         .map(|index| system.event(index, t, &y))
         .collect();
     for (index, &value) in event_values.iter().enumerate() {
-        if value >= 0.0 {
+        let condition = settings.events[index];
+        if condition.holds(value) {
             run.hits.push(EventHit {
                 event: index,
                 t,
                 y: y.clone(),
             });
-            if settings.events[index] == EventKind::Stop {
+            if condition.kind == EventKind::Stop {
                 run.outcome = Outcome::Stopped { event: index };
                 return run;
             }
         }
     }
 
-    let span = t_end - t0;
     if !(span.is_finite() && span > 0.0) {
         run.outcome = Outcome::Failed(Failure::StepTooSmall { t, step: span });
         return run;
     }
+    let resolution = time_resolution(t0, span);
     // The error estimate is O(h⁵); per unit time it is O(h⁴), and the step
     // controller's exponent follows.
     let per_unit_time = settings.error_control == ErrorControl::PerUnitTime;
@@ -363,7 +392,7 @@ pub fn integrate<S: System>(
         if last {
             h = t_end - t;
         }
-        if h.is_nan() || h <= 10.0 * f64::EPSILON * t.abs().max(span.abs()) {
+        if h.is_nan() || h <= time_resolution(t, span) {
             run.outcome = Outcome::Failed(Failure::StepTooSmall { t, step: h });
             return run;
         }
@@ -432,6 +461,7 @@ pub fn integrate<S: System>(
                     &coefficients,
                     n,
                     (t, h),
+                    (t0, resolution),
                     &stages.y_new,
                     &mut run.hits,
                 )
@@ -482,8 +512,11 @@ pub fn integrate<S: System>(
 /// and time) if there is one. Each event's function is sampled at a quarter,
 /// half, three quarters and the end of the step, so an event that happens
 /// and clears again within one step is still seen unless it is shorter
-/// than a quarter step; each change from negative to non-negative is then
-/// located by root-finding on the dense output.
+/// than a quarter step; each change from not holding to holding (with the
+/// condition's own strictness, [`Condition::holds`]) is then located by
+/// root-finding on the dense output. A condition that becomes true within
+/// `resolution` of the run's start `t0` (a strict one that was equal there
+/// and holds at once after) happens at the start itself.
 #[allow(clippy::too_many_arguments)]
 fn locate_events<S: System>(
     system: &mut S,
@@ -492,6 +525,7 @@ fn locate_events<S: System>(
     coefficients: &[f64],
     n: usize,
     (t, h): (f64, f64),
+    (t0, resolution): (f64, f64),
     y_end: &[f64],
     hits: &mut Vec<EventHit>,
 ) -> Option<(usize, f64)> {
@@ -506,21 +540,23 @@ fn locate_events<S: System>(
         }
     };
     for (index, previous) in event_values.iter_mut().enumerate() {
+        let condition = settings.events[index];
         let mut theta_before = 0.0;
         let mut value_before = *previous;
         for quarter in 1..=4 {
             let theta = f64::from(quarter) * 0.25;
             let value = value_at(system, index, theta, &mut state);
-            if value_before < 0.0 && value >= 0.0 {
+            if !value_before.is_nan() && !condition.holds(value_before) && condition.holds(value) {
                 let theta_hit = find_crossing(
                     |theta| value_at(system, index, theta, &mut state),
-                    theta_before,
-                    value_before,
-                    theta,
-                    value,
+                    (theta_before, value_before),
+                    (theta, value),
+                    |value| condition.holds(value),
+                    STEP_FRACTION_RESOLUTION,
                 );
-                found.push((t + theta_hit * h, index));
-                if settings.events[index] == EventKind::Stop {
+                let t_hit = t + theta_hit * h;
+                found.push((if t_hit - t0 <= resolution { t0 } else { t_hit }, index));
+                if condition.kind == EventKind::Stop {
                     break;
                 }
             }
@@ -538,11 +574,22 @@ fn locate_events<S: System>(
             t: t_hit,
             y: state.clone(),
         });
-        if settings.events[index] == EventKind::Stop {
+        if settings.events[index].kind == EventKind::Stop {
             return Some((index, t_hit));
         }
     }
     None
+}
+
+/// How finely an event is located inside its step, as a fraction of the
+/// step: a few units in the last place of the step's length.
+const STEP_FRACTION_RESOLUTION: f64 = 4.0 * f64::EPSILON;
+
+/// The shortest time the run can resolve near `t` in a run of length
+/// `span`: a step shorter than this fails (`StepTooSmall`), and an event
+/// found this close to the start happens at the start.
+fn time_resolution(t: f64, span: f64) -> f64 {
+    10.0 * f64::EPSILON * t.abs().max(span.abs())
 }
 
 /// A first step size from the rates at the start (Hairer's HINIT): small
@@ -634,7 +681,13 @@ mod tests {
             relative_tolerance: rtol,
             absolute_tolerance: vec![rtol * 1e-3; n],
             max_steps: 1_000_000,
-            events,
+            events: events
+                .into_iter()
+                .map(|kind| Condition {
+                    kind,
+                    strict: false,
+                })
+                .collect(),
             error_control: ErrorControl::PerStep,
         }
     }
@@ -721,6 +774,53 @@ mod tests {
     }
 
     #[test]
+    fn a_strict_condition_that_is_only_equal_at_the_start_does_not_hold_there() {
+        // x = sin 2t from x = 0 going up: −x is zero at the start, negative
+        // until π/2, then positive (closed form). "−x > 0" first holds after
+        // π/2; "−x ≥ 0" holds at the start too.
+        let hits = |strict: bool, kind: EventKind| {
+            let mut settings = settings(1e-10, 2, vec![]);
+            settings.events = vec![Condition { kind, strict }];
+            integrate(
+                &mut Oscillator { omega: 2.0 },
+                0.0,
+                2.0,
+                &[0.0, 2.0],
+                &settings,
+            )
+        };
+        let strict = hits(true, EventKind::Record);
+        let times: Vec<f64> = strict.hits.iter().map(|hit| hit.t).collect();
+        assert_eq!(times.len(), 1, "{times:?}");
+        assert!(
+            (times[0] - std::f64::consts::FRAC_PI_2).abs() < 1e-9,
+            "{times:?}"
+        );
+        let inclusive = hits(false, EventKind::Record);
+        let times: Vec<f64> = inclusive.hits.iter().map(|hit| hit.t).collect();
+        assert_eq!(times.len(), 2, "{times:?}");
+        assert_eq!(times[0], 0.0);
+        // As a stop: the strict one runs to π/2, the other stops at once.
+        let stopped = hits(true, EventKind::Stop);
+        assert!((stopped.trajectory.end() - std::f64::consts::FRAC_PI_2).abs() < 1e-9);
+        assert_eq!(hits(false, EventKind::Stop).trajectory.n_steps(), 0);
+    }
+
+    #[test]
+    fn a_strict_condition_that_holds_at_once_after_the_start_happens_at_the_start() {
+        // e^−t from 1: "1 − y > 0" is false at t = 0 and true at every t > 0.
+        let mut settings = settings(1e-8, 1, vec![]);
+        settings.events = vec![Condition {
+            kind: EventKind::Stop,
+            strict: true,
+        }];
+        let run = integrate(&mut Decay { level: 1.0 }, 0.0, 1.0, &[1.0], &settings);
+        assert_eq!(run.outcome, Outcome::Stopped { event: 0 });
+        assert_eq!(run.trajectory.n_steps(), 0);
+        assert_eq!(run.hits[0].t, 0.0);
+    }
+
+    #[test]
     fn the_peak_of_an_oscillation_is_found_between_steps() {
         let run = integrate(
             &mut Oscillator { omega: 3.0 },
@@ -730,11 +830,21 @@ mod tests {
             &settings(1e-10, 2, vec![]),
         );
         // x = sin 3t peaks at 1 when t = π/6 (closed form).
-        let (at, peak) = run.trajectory.extremum(|_, y| y[0], true);
+        let mut x = |_: f64, y: &[f64]| y[0];
+        let (at, peak) = run.trajectory.extremum(&mut x, true, 2e-10);
         assert!((peak - 1.0).abs() < 1e-9, "{peak}");
-        assert!((at - std::f64::consts::PI / 6.0).abs() < 1e-4, "{at}");
-        let (at, low) = run.trajectory.extremum(|_, y| y[0], false);
-        assert!((low + 1.0).abs() < 1e-9 && (at - std::f64::consts::PI / 2.0).abs() < 1e-4);
+        assert!((at - std::f64::consts::PI / 6.0).abs() < 1e-9, "{at}");
+        let (at, low) = run.trajectory.extremum(&mut x, false, 2e-10);
+        assert!((low + 1.0).abs() < 1e-9 && (at - std::f64::consts::PI / 2.0).abs() < 1e-9);
+        // The dense output's derivative is the rate: ẋ = 3 cos 3t.
+        let mut rates = [0.0; 2];
+        for t in [0.0, 0.3, 1.1, 2.0] {
+            run.trajectory.rate_at(t, &mut rates);
+            assert!(
+                (rates[0] - 3.0 * (3.0 * t).cos()).abs() < 1e-8,
+                "{t}: {rates:?}"
+            );
+        }
     }
 
     #[test]

@@ -15,7 +15,8 @@ mod roots;
 mod trajectory;
 
 pub use integrator::{
-    ErrorControl, EventHit, EventKind, Failure, Outcome, Run, Settings, Stats, System, integrate,
+    Condition, ErrorControl, EventHit, EventKind, Failure, Outcome, Run, Settings, Stats, System,
+    integrate,
 };
 pub use roots::{find_crossing, golden_section};
-pub use trajectory::Trajectory;
+pub use trajectory::{Objective, Trajectory};

@@ -298,6 +298,11 @@ impl Comparison {
             Comparison::Above => ">",
         }
     }
+
+    /// Whether equality fails it: `<` and `>` are strict, `<=` and `>=` are not.
+    pub fn is_strict(self) -> bool {
+        matches!(self, Comparison::Below | Comparison::Above)
+    }
 }
 
 /// An expression with its span.
