@@ -245,3 +245,55 @@ fn tiny_and_odd_terminal_sizes_draw_without_panicking() {
         }
     }
 }
+
+/// The frame's text, row by row.
+fn screen_text(app: &App) -> String {
+    let terminal = draw(app);
+    let buffer = terminal.backend().buffer();
+    let area = buffer.area;
+    (0..area.height)
+        .map(|y| {
+            (0..area.width)
+                .map(|x| buffer[(x, y)].symbol().to_string())
+                .collect::<String>()
+        })
+        .collect::<Vec<_>>()
+        .join("\n")
+}
+
+#[test]
+fn the_detail_shows_ranges_load_cases_and_verdicts() {
+    let gantry = include_str!("../sheets/gantry_cases.heft");
+    let mut app = app(gantry, 160, 48, false);
+    find(&mut app, "T_rope");
+    let screen = screen_text(&app);
+    // T_rope's range over the tolerances, as `heft check` gives it, and its
+    // value in each case.
+    let evaluated = heftsheet::pipeline::run(gantry);
+    let id = evaluated.cell("T_rope").map(|c| c.id).expect("T_rope");
+    let range = evaluated.ranges[id].clone().expect("a range");
+    let high = heftsheet::units::format_significant(range.high / 1000.0, 4);
+    assert!(screen.contains("range"), "{screen}");
+    assert!(
+        screen.contains(&format!("{high} kN")),
+        "{high} in\n{screen}"
+    );
+    assert!(screen.contains("exact: worst corners"), "{screen}");
+    assert!(
+        screen.contains("load cases") && screen.contains("estop"),
+        "{screen}"
+    );
+    // The row under F_beam is the rope check.
+    find(&mut app, "F_beam");
+    keys(&mut app, &[KeyCode::Down]);
+    let screen = screen_text(&app);
+    assert!(screen.contains("worst case"), "{screen}");
+    assert!(
+        screen.contains("*estop"),
+        "the governing case is marked\n{screen}"
+    );
+    assert!(
+        screen.contains("verdict") && screen.contains("PASS"),
+        "{screen}"
+    );
+}
