@@ -182,7 +182,7 @@ pub fn text(diff: &RevisionDiff, old_name: &str, new_name: &str) -> String {
     let n_status = diff.checks.iter().filter(|c| c.status_changed()).count();
     let _ = writeln!(
         out,
-        "\n{} added, {} removed, {} edited cells; {} results changed; {} unchanged; {} checks changed status",
+        "\ncells: {} added, {} removed, {} edited; results: {} changed, {} unchanged; {} changed status",
         diff.count(CellChangeKind::Added),
         diff.count(CellChangeKind::Removed),
         diff.count(CellChangeKind::Edited),
@@ -193,7 +193,7 @@ pub fn text(diff: &RevisionDiff, old_name: &str, new_name: &str) -> String {
                 && c.old_value != c.new_value)
             .count(),
         diff.n_unchanged,
-        n_status
+        crate::eval::count(n_status, "check")
     );
     out
 }

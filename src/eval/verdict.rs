@@ -282,3 +282,46 @@ impl Summary {
 pub fn count(n: usize, noun: &str) -> String {
     format!("{n} {noun}{}", if n == 1 { "" } else { "s" })
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn the_summary_line_counts_in_the_singular_and_the_plural() {
+        let one = Summary {
+            cells: 1,
+            errors: 1,
+            warnings: 1,
+            infos: 0,
+            checks: 1,
+            passed: 0,
+            failed: 0,
+            unknown: 1,
+        };
+        assert_eq!(
+            one.line(),
+            "1 cell, 1 error, 1 warning; 1 check: 0 passed, 1 unknown"
+        );
+        assert!(!one.is_clean());
+        let many = Summary {
+            cells: 3,
+            checks: 2,
+            passed: 2,
+            ..Summary::default()
+        };
+        assert_eq!(
+            many.line(),
+            "3 cells, 0 errors, 0 warnings; 2 checks: 2 passed"
+        );
+        assert!(many.is_clean());
+        assert_eq!(
+            Summary {
+                cells: 2,
+                ..Summary::default()
+            }
+            .line(),
+            "2 cells, 0 errors, 0 warnings; no checks"
+        );
+    }
+}

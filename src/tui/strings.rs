@@ -194,14 +194,8 @@ pub fn line_name(line: usize) -> String {
     format!("line {line}")
 }
 
-/// `1 error`, `3 warnings`.
-pub fn count(n: usize, word: &str) -> String {
-    if n == 1 {
-        format!("{n} {word}")
-    } else {
-        format!("{n} {word}s")
-    }
-}
+/// `1 error`, `3 warnings`: the one plural rule of every front end.
+pub use crate::eval::count;
 
 /// A finding in the header, which has no row to jump to.
 pub fn in_header(line: usize, message: &str) -> String {
