@@ -8,7 +8,7 @@ use std::path::Path;
 use serde::Serialize;
 
 use super::check::{BOLD, DIM, FAIL, PASS, Painter, wrap};
-use super::json::{JsonDiagnostic, diagnostic};
+use super::json::{JsonDiagnostic, JsonSummary, diagnostic};
 use super::{EXIT_CLEAN, EXIT_FINDINGS, load_sheet, print};
 use crate::audit::{
     ConversionAudit, ConversionEntry, ConversionKind, Exactness, conversion_audit, format_relative,
@@ -284,7 +284,7 @@ struct Report<'a> {
     gravity: Vec<JsonGravity<'a>>,
     conversions: Vec<JsonConversion<'a>>,
     diagnostics: Vec<JsonDiagnostic<'a>>,
-    summary: JsonSummary,
+    summary: JsonAuditSummary,
 }
 
 #[derive(Serialize)]
@@ -326,25 +326,19 @@ struct JsonConversion<'a> {
 }
 
 #[derive(Serialize)]
-struct JsonSummary {
+struct JsonAuditSummary {
     conversions: usize,
     exact: usize,
     rounded: usize,
     gravity_values: usize,
-    errors: usize,
-    warnings: usize,
-    infos: usize,
-    checks: usize,
-    passed: usize,
-    failed: usize,
-    unknown: usize,
+    #[serde(flatten)]
+    counts: JsonSummary,
 }
 
 fn json_report(file_name: &str, evaluated: &Evaluated, audit: &ConversionAudit) -> String {
     let header = evaluated.header();
     let (lines, source) = (&evaluated.lines, evaluated.source());
     let at = |offset: usize| lines.line_column(source, offset);
-    let summary = evaluated.summary();
     let report = Report {
         schema: SCHEMA,
         file: file_name,
@@ -410,18 +404,12 @@ fn json_report(file_name: &str, evaluated: &Evaluated, audit: &ConversionAudit) 
             .iter()
             .map(|d| diagnostic(d, source, lines))
             .collect(),
-        summary: JsonSummary {
+        summary: JsonAuditSummary {
             conversions: audit.conversions.len(),
             exact: audit.n_exact(),
             rounded: audit.n_rounded(),
             gravity_values: audit.n_gravity_values(),
-            errors: summary.errors,
-            warnings: summary.warnings,
-            infos: summary.infos,
-            checks: summary.checks,
-            passed: summary.passed,
-            failed: summary.failed,
-            unknown: summary.unknown,
+            counts: evaluated.summary().into(),
         },
     };
     let mut text = serde_json::to_string_pretty(&report)

@@ -28,9 +28,10 @@ struct Report<'a> {
     review: JsonReview,
 }
 
-/// The counts every presentation shows.
+/// The counts every presentation shows (shared by `heft check` and
+/// `heft audit`).
 #[derive(Serialize)]
-struct JsonSummary {
+pub(super) struct JsonSummary {
     cells: usize,
     errors: usize,
     warnings: usize,
@@ -39,6 +40,21 @@ struct JsonSummary {
     passed: usize,
     failed: usize,
     unknown: usize,
+}
+
+impl From<crate::eval::Summary> for JsonSummary {
+    fn from(summary: crate::eval::Summary) -> Self {
+        JsonSummary {
+            cells: summary.cells,
+            errors: summary.errors,
+            warnings: summary.warnings,
+            infos: summary.infos,
+            checks: summary.checks,
+            passed: summary.passed,
+            failed: summary.failed,
+            unknown: summary.unknown,
+        }
+    }
 }
 
 /// A place where a check was judged.
@@ -398,16 +414,7 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
         display: evaluated.header().display.label(),
         sig_figs: evaluated.header().sig_figs,
         clean: summary.is_clean(),
-        summary: JsonSummary {
-            cells: summary.cells,
-            errors: summary.errors,
-            warnings: summary.warnings,
-            infos: summary.infos,
-            checks: summary.checks,
-            passed: summary.passed,
-            failed: summary.failed,
-            unknown: summary.unknown,
-        },
+        summary: summary.into(),
         cells,
         checks,
         solves,

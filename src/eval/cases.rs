@@ -239,15 +239,7 @@ impl Evaluator<'_> {
                     CornerRange::Unknown => {}
                 }
             }
-            for (index, outcome) in found.checks {
-                match outcome {
-                    Ok(corner) => {
-                        checks[index].worst_corner = Some(corner.worst_corner);
-                        checks[index].worst = Some(corner.worst);
-                    }
-                    Err(reason) => checks[index].worst_unknown = Some(reason),
-                }
-            }
+            take_corner_checks(found.checks, checks);
             return vectors;
         }
         // Too many together: each check on its own, if its own are few enough.
@@ -264,15 +256,7 @@ impl Evaluator<'_> {
                 continue;
             }
             let found = self.corner_ranges(&own, &[], &[index], checks);
-            for (index, outcome) in found.checks {
-                match outcome {
-                    Ok(corner) => {
-                        checks[index].worst_corner = Some(corner.worst_corner);
-                        checks[index].worst = Some(corner.worst);
-                    }
-                    Err(reason) => checks[index].worst_unknown = Some(reason),
-                }
-            }
+            take_corner_checks(found.checks, checks);
         }
         vectors
     }
@@ -293,15 +277,7 @@ impl Evaluator<'_> {
         let Some(worst) = &result.worst else {
             return String::new();
         };
-        let utilization = worst
-            .worst_utilization
-            .map(|u| {
-                format!(
-                    " (utilization {} %)",
-                    units::format_significant(u * 100.0, 4)
-                )
-            })
-            .unwrap_or_default();
+        let utilization = utilization_note(worst.worst_utilization);
         let statement = format!(
             "{} {} {}",
             result.lhs_text,
@@ -384,6 +360,34 @@ impl Evaluator<'_> {
             }
         }
     }
+}
+
+/// Each check's worst case from the corners, or why there is none.
+fn take_corner_checks(
+    found: Vec<(usize, Result<super::corners::CornerCheck, String>)>,
+    checks: &mut [CheckResult],
+) {
+    for (index, outcome) in found {
+        match outcome {
+            Ok(corner) => {
+                checks[index].worst_corner = Some(corner.worst_corner);
+                checks[index].worst = Some(corner.worst);
+            }
+            Err(reason) => checks[index].worst_unknown = Some(reason),
+        }
+    }
+}
+
+/// ` (utilization 107.9 %)`, or nothing.
+pub(super) fn utilization_note(utilization: Option<f64>) -> String {
+    utilization
+        .map(|u| {
+            format!(
+                " (utilization {} %)",
+                units::format_significant(u * 100.0, 4)
+            )
+        })
+        .unwrap_or_default()
 }
 
 /// The left and right sides' values at a check's worst case.

@@ -511,15 +511,7 @@ impl<'a> Evaluator<'a> {
                     format!("{text} = {value}")
                 }
             };
-            let utilization = result
-                .utilization
-                .map(|u| {
-                    format!(
-                        " (utilization {} %)",
-                        units::format_significant(u * 100.0, 4)
-                    )
-                })
-                .unwrap_or_default();
+            let utilization = cases::utilization_note(result.utilization);
             let label = result
                 .label
                 .as_deref()

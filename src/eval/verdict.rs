@@ -152,19 +152,10 @@ impl CheckResult {
     /// `UNKNOWN (at the worst case of the tolerances)`, `ERROR`,
     /// `BLOCKED`.
     pub fn verdict_label(&self, cases: &[CaseOutcome]) -> String {
-        let places = |places: &mut dyn Iterator<Item = Place>| {
-            places
-                .map(|p| p.describe(cases))
-                .collect::<Vec<_>>()
-                .join(", ")
-        };
         match self.status {
             CheckStatus::Passed => "PASS".to_string(),
-            CheckStatus::Failed => format!("FAIL ({})", places(&mut self.fails.iter().copied())),
-            CheckStatus::Unknown => format!(
-                "UNKNOWN ({})",
-                places(&mut self.unknowns.iter().map(|u| u.place))
-            ),
+            CheckStatus::Failed => format!("FAIL ({})", self.failing_places(cases)),
+            CheckStatus::Unknown => format!("UNKNOWN ({})", self.unknown_places(cases)),
             CheckStatus::Error => "ERROR".to_string(),
             CheckStatus::Blocked { .. } => "BLOCKED".to_string(),
         }
@@ -174,24 +165,33 @@ impl CheckResult {
     /// "fails in case `estop` at the worst case of its tolerances". Empty
     /// for a check that passed everywhere.
     pub fn verdict_text(&self, cases: &[CaseOutcome]) -> String {
-        let places = |places: &mut dyn Iterator<Item = Place>| {
-            places
-                .map(|p| p.describe(cases))
-                .collect::<Vec<_>>()
-                .join(", ")
-        };
         let mut parts = Vec::new();
         if !self.fails.is_empty() {
-            parts.push(format!("fails {}", places(&mut self.fails.iter().copied())));
+            parts.push(format!("fails {}", self.failing_places(cases)));
         }
         if !self.unknowns.is_empty() {
-            parts.push(format!(
-                "not established {}",
-                places(&mut self.unknowns.iter().map(|u| u.place))
-            ));
+            parts.push(format!("not established {}", self.unknown_places(cases)));
         }
         parts.join("; ")
     }
+
+    /// "as written, in case `estop`": where it fails.
+    fn failing_places(&self, cases: &[CaseOutcome]) -> String {
+        places_text(self.fails.iter().copied(), cases)
+    }
+
+    /// Where it could not be established.
+    fn unknown_places(&self, cases: &[CaseOutcome]) -> String {
+        places_text(self.unknowns.iter().map(|u| u.place), cases)
+    }
+}
+
+/// Places in words, joined with commas.
+fn places_text(places: impl Iterator<Item = Place>, cases: &[CaseOutcome]) -> String {
+    places
+        .map(|place| place.describe(cases))
+        .collect::<Vec<_>>()
+        .join(", ")
 }
 
 /// The counts every presentation shows: cells, findings by severity, and
