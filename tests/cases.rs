@@ -465,3 +465,79 @@ fn a_check_failing_only_in_a_load_case_fails_the_sheet_everywhere() {
     live.set_lints(revision, source, &heftsheet::audit::lint(&sheet));
     assert_eq!(live.summary().failed, 1);
 }
+
+#[test]
+fn a_cell_used_only_by_a_load_case_is_not_an_unused_input() {
+    // The demo's rated load is used only by the proof case's override.
+    let sheet = heftsheet::pipeline::run(
+        &std::fs::read_to_string(concat!(
+            env!("CARGO_MANIFEST_DIR"),
+            "/sheets/gantry_cases.heft"
+        ))
+        .expect("demo sheet"),
+    );
+    assert!(
+        !common::codes(&sheet).contains(&"unused-input"),
+        "{:?}",
+        common::codes(&sheet)
+    );
+}
+
+#[test]
+fn small_things_a_checker_sees() {
+    // A check against zero has no utilization.
+    let sheet = run("a = 0.4 m/s^2\ncheck a > 0 m/s^2\n");
+    assert_eq!(sheet.checks[0].utilization, None);
+    // A result no tolerance reaches has no range, beside one that has.
+    let sheet = run("x = 0 .. 3\nk = 413.8 N\ny = 2 * x\ncheck y <= 5\n");
+    let k = sheet.cell("k").map(|c| c.id).expect("k");
+    assert!(sheet.ranges[k].is_none(), "{:?}", sheet.ranges[k]);
+    // `0 .. 3` is shown from 0, not from the outward-rounded -5e-324.
+    let (low, high) = range(&sheet, "x").shown_bounds();
+    assert_eq!((low, high), (0.0, 3.0));
+    // A crossing that the guaranteed (not exact) bounds show is said to be
+    // a bound: y = x·x over x ∈ [-1, 2] has bounds, not corners, at its top.
+    let sheet = run("x = -1 .. 2\ny = x * x - x\ncheck y < 1.5\n");
+    let message = sheet
+        .diagnostics
+        .iter()
+        .find(|d| d.code.as_str() == "check-failed")
+        .map(|d| d.message.clone())
+        .unwrap_or_default();
+    if !message.is_empty() {
+        assert!(
+            message.contains("bound") || message.contains("corner"),
+            "a failure found from bounds says so: {message}"
+        );
+    }
+}
+
+#[test]
+fn an_interval_power_holds_the_exact_power() {
+    // f64::powi errs by many units in the last place at high powers; the
+    // interval must still hold the exact power of its (double) input,
+    // computed here in exact rational arithmetic.
+    use heftsheet::cases::Interval;
+    use heftsheet::eval::program::Number;
+    let x = 1.1f64;
+    use num_bigint::BigInt;
+    use num_rational::BigRational;
+    use num_traits::ToPrimitive;
+    let exact = BigRational::from_float(x).expect("finite");
+    for power in [2, 7, 20, 40, 63] {
+        let mut value = BigRational::from_integer(BigInt::from(1));
+        for _ in 0..power {
+            value *= &exact;
+        }
+        let interval = Interval::point(x).powi(power);
+        let low = BigRational::from_float(interval.lo).expect("finite");
+        let high = BigRational::from_float(interval.hi).expect("finite");
+        assert!(
+            low <= value && value <= high,
+            "1.1^{power}: [{}, {}] misses {}",
+            interval.lo,
+            interval.hi,
+            value.to_f64().unwrap_or(f64::NAN)
+        );
+    }
+}

@@ -114,6 +114,14 @@ impl Evaluator<'_> {
                 &mut cell_ranges,
             );
         }
+        // A toleranced input's own range is its tolerance, exactly.
+        for input in &inputs {
+            if let Some(range) = cell_ranges[input.cell].as_mut() {
+                range.low = input.nominal - input.below;
+                range.high = input.nominal + input.above;
+                range.method = RangeMethod::WorstCorners;
+            }
+        }
         // A result no toleranced input reaches has no range.
         for (id, range) in cell_ranges.iter_mut().enumerate() {
             if !reached[id] {
