@@ -6,7 +6,7 @@
 
 mod common;
 
-use common::{assert_close, run, run_clean, si};
+use common::{assert_close, codes, run, run_clean, si};
 
 /// Agreement demanded of solved results (expected values have 10 digits).
 const CLOSE: f64 = 5e-10;
@@ -266,4 +266,170 @@ fn vector_mistakes_are_reported() {
         let sheet = run(source);
         assert_eq!(common::codes(&sheet), [code], "{source}");
     }
+}
+
+/// The diagnostics of `code` in `evaluated`, as messages.
+fn messages(evaluated: &heftsheet::eval::Evaluated, code: &str) -> Vec<String> {
+    evaluated
+        .diagnostics
+        .iter()
+        .filter(|d| d.code.as_str() == code)
+        .map(|d| d.message.clone())
+        .collect()
+}
+
+#[test]
+fn a_plain_guess_is_taken_in_the_unknowns_own_unit() {
+    // A rope holding a load of 500 N drawn aside by 219.3 N: T sin θ = H,
+    // T cos θ = W, so θ = atan2(H, W) = 23.68225632831837°, T = hypot(H, W)
+    // = 545.9784702714934 N (closed form; mpmath at 30 digits).
+    let sheet = run(
+        "W = 500 N\nH = 219.3 N\nsolve T [N] ~ 500, θ [deg] ~ 20:\n  T * sin(θ) = H\n  T * cos(θ) = W\nend\n",
+    );
+    assert_close(si(&sheet, "θ").to_degrees(), 23.68225632831837, 1e-12);
+    assert_close(si(&sheet, "T"), 545.9784702714934, 1e-12);
+    // Every angle and ratio unit reads a plain guess in itself: 20 deg, 20 %,
+    // 400 mrad, 0.06 rev all start near 0.41 rad and reach the one root.
+    // (T = −546 N at θ + 180° also solves the equations, and the search for
+    // other roots from ten times the guess may name it.)
+    for (unit, guess) in [("°", "20"), ("%", "40"), ("mrad", "400"), ("rev", "0.06")] {
+        let sheet = run(&format!(
+            "W = 500 N\nH = 219.3 N\nsolve T [N] ~ 500, θ [{unit}] ~ {guess}:\n  T * sin(θ) = H\n  T * cos(θ) = W\nend\n"
+        ));
+        assert_close(si(&sheet, "θ").to_degrees(), 23.68225632831837, 1e-12);
+        assert!(codes(&sheet).iter().all(|&code| code == "several-roots"));
+    }
+    // A guess with a unit is taken as written.
+    let sheet = run(
+        "W = 500 N\nH = 219.3 N\nsolve T [N] ~ 500, θ [deg] ~ 0.4 rad:\n  T * sin(θ) = H\n  T * cos(θ) = W\nend\n",
+    );
+    assert_close(si(&sheet, "θ").to_degrees(), 23.68225632831837, 1e-12);
+}
+
+#[test]
+fn a_capstan_friction_coefficient_is_solved_whatever_its_guess() {
+    // Capstan equation T2 = T1·e^(μθ) with θ = 3 rad: μ = ln(T2/T1)/3 =
+    // ln 2 / 3 = 0.2310490601866484 (closed form; mpmath). A far guess once
+    // froze the equation's scale at e^30 and called a residual of kN solved.
+    for guess in [
+        "mu [%] ~ 10",
+        "mu [%] ~ 1000",
+        "mu [%] ~ 1",
+        "mu [%] ~ 5000",
+    ] {
+        let sheet = run(&format!(
+            "T1 = 1000 N\nT2 = 2000 N\nsolve {guess}:\n  T2 = T1 * exp(mu * 3)\nend\n"
+        ));
+        match sheet.cell("mu").map(|c| c.status) {
+            Some(heftsheet::eval::CellStatus::Ok) => {
+                assert_close(si(&sheet, "mu"), 0.2310490601866484, 1e-10)
+            }
+            other => assert!(
+                !messages(&sheet, "no-convergence").is_empty(),
+                "guess {guess}: {other:?} without a no-convergence error"
+            ),
+        }
+    }
+}
+
+#[test]
+fn a_catenary_is_solved_or_refused_never_wrong() {
+    // Cable of length 41 m over a 40 m span: 41 = 2a·sinh(20/a), written
+    // with exp, a = 51.83231498737497 m (mpmath findroot at 30 digits).
+    for guess in ["2", "10", "50", "500"] {
+        let sheet = run(&format!(
+            "L = 41 m\nS = 40 m\nsolve a [m] ~ {guess}:\n  L = a * (exp(S / (2 * a)) - exp(-S / (2 * a)))\nend\n"
+        ));
+        if sheet.cell("a").map(|c| c.status) == Some(heftsheet::eval::CellStatus::Ok) {
+            // The equation is even in a's sign (−a solves it too), and a far
+            // guess may reach either.
+            assert_close(si(&sheet, "a").abs(), 51.83231498737497, 1e-9);
+        } else {
+            assert_eq!(messages(&sheet, "no-convergence").len(), 1, "guess {guess}");
+        }
+    }
+}
+
+#[test]
+fn a_system_with_no_root_is_not_solved() {
+    // x² + 1 m² = 0 has no real root; from a far guess the residual at x = 0
+    // (1 m²) is tiny beside the guess's 10¹² m² scale, but it is not zero.
+    for guess in ["1", "1e6"] {
+        let sheet = run(&format!(
+            "solve x [m] ~ {guess}:\n  x^2 + 1 m^2 = 0 m^2\nend\n"
+        ));
+        assert_ne!(
+            sheet.cell("x").map(|c| c.status),
+            Some(heftsheet::eval::CellStatus::Ok),
+            "guess {guess}"
+        );
+        assert_eq!(messages(&sheet, "no-convergence").len(), 1, "guess {guess}");
+        assert!(sheet.solves[0].status != heftsheet::eval::SolveStatus::Solved);
+    }
+}
+
+#[test]
+fn ill_conditioned_systems_and_double_roots_are_warned() {
+    // Two nearly parallel equations: the matrix [[1, 1], [1, 1 + 1e-10]] has
+    // condition number ≈ 4e10 (numpy.linalg.cond gives 4.0000000e10), which
+    // costs about 10 of the 16 significant digits.
+    let sheet =
+        run("solve x [m], y [m]:\n  x + y = 2 m\n  x + 1.0000000001 * y = 2.0000000001 m\nend\n");
+    let warned = messages(&sheet, "ill-conditioned");
+    assert_eq!(warned.len(), 1, "{:?}", sheet.diagnostics);
+    assert!(
+        warned[0].contains("4e10") || warned[0].contains("4.0e10"),
+        "{}",
+        warned[0]
+    );
+    assert!(warned[0].contains("digits"), "{}", warned[0]);
+    // A double root: x² − 4 m·x + 4 m² = 0 touches zero at 2 m, and its
+    // terms (4 m², 8 m², 4 m²) fix x only to the square root of the
+    // residual tolerance. It is one root, not several.
+    let sheet = run("solve x [m] ~ 1:\n  x^2 - 4 m * x + 4 m^2 = 0 m^2\nend\n");
+    assert_close(si(&sheet, "x"), 2.0, 1e-5);
+    assert_eq!(
+        codes(&sheet),
+        ["ill-conditioned"],
+        "{:?}",
+        sheet.diagnostics
+    );
+    // Written as a square, the same root is well-conditioned: a relative
+    // change in its terms (2 m) moves it as little.
+    let sheet = run_clean("solve x [m] ~ 1:\n  (x - 2 m)^2 = 0 m^2\nend\n");
+    assert_close(si(&sheet, "x"), 2.0, 1e-9);
+    // A well-posed system gets no such warning.
+    let sheet = run_clean("solve x [m], y [m]:\n  x + y = 2 m\n  x - y = 1 m\nend\n");
+    assert_close(si(&sheet, "x"), 1.5, 1e-14);
+}
+
+#[test]
+fn another_root_is_named_only_when_it_solves_the_equations() {
+    // x² = 4 m² has roots ±2 m; the search for others keeps the guess's
+    // sign, and m·x² − 5 m²·x + 6 m³ = 0 has the roots 2 m and 3 m.
+    let sheet = run("solve x [m] ~ 1.5:\n  x^2 - 5 m * x + 6 m^2 = 0 m^2\nend\n");
+    assert_close(si(&sheet, "x"), 2.0, 1e-12);
+    let warned = messages(&sheet, "several-roots");
+    assert_eq!(warned.len(), 1, "{:?}", sheet.diagnostics);
+    // The named other root, read back from the message, solves the equation.
+    let other: f64 = warned[0]
+        .rsplit("but x = ")
+        .next()
+        .and_then(|rest| rest.split_whitespace().next())
+        .and_then(|number| number.parse().ok())
+        .unwrap_or(f64::NAN);
+    assert_close(other, 3.0, 1e-9);
+}
+
+#[test]
+fn residuals_of_one_dimension_share_one_unit() {
+    let sheet = run_clean(
+        "m = 2000 kg\nsolve T1 [kN], T2 [kN]:\n  T1 + T2 = m * g0\n  T1 - T2 = 5 N\nend\n",
+    );
+    let units: Vec<String> = sheet.solves[0]
+        .equations
+        .iter()
+        .map(|e| e.display.text.to_string())
+        .collect();
+    assert_eq!(units[0], units[1], "{units:?}");
 }

@@ -82,6 +82,9 @@ pub enum Code {
     NoConvergence,
     /// A solve block with more than one solution near the guess.
     SeveralRoots,
+    /// A solve block whose solution is ill-conditioned: nearly dependent
+    /// equations or a double root, so small changes move it far.
+    IllConditioned,
     /// A tolerance that does not fit its value (wrong dimension, bounds
     /// the wrong way round, on a vector).
     BadTolerance,
@@ -144,6 +147,7 @@ impl Code {
             Code::SingularSystem => "singular-system",
             Code::NoConvergence => "no-convergence",
             Code::SeveralRoots => "several-roots",
+            Code::IllConditioned => "ill-conditioned",
             Code::BadTolerance => "bad-tolerance",
             Code::HandConversionFactor => "hand-conversion-factor",
             Code::GravityInconsistent => "gravity-inconsistent",
@@ -161,7 +165,7 @@ impl Code {
     }
 
     /// Every code, for documentation and tests.
-    pub const ALL: [Code; 36] = [
+    pub const ALL: [Code; 37] = [
         Code::ParseError,
         Code::EncodingError,
         Code::HeaderError,
@@ -185,6 +189,7 @@ impl Code {
         Code::SingularSystem,
         Code::NoConvergence,
         Code::SeveralRoots,
+        Code::IllConditioned,
         Code::BadTolerance,
         Code::HandConversionFactor,
         Code::GravityInconsistent,

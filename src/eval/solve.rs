@@ -1,8 +1,12 @@
 //! Solve blocks: equations `lhs = rhs` solved for their unknowns by Newton's
-//! method on scaled variables, with a central-difference Jacobian, a
-//! backtracking line search, Levenberg–Marquardt steps where Newton's step
-//! fails, and diagnostics for under- and over-determined systems, singular
-//! Jacobians, non-convergence and other roots near the guess.
+//! method with an exact Jacobian (the compiled equations run on dual
+//! numbers), a backtracking line search and Levenberg–Marquardt steps where
+//! Newton's step fails. Unknowns are scaled by their guesses; each equation
+//! is scaled afresh at every iteration by the size of its terms there, so a
+//! far guess cannot make a large residual look small. Every solution, and
+//! every other root named in a warning, is verified afterwards by evaluating
+//! each equation at it; an ill-conditioned solution is warned about with
+//! the digits it costs.
 
 use nalgebra::{DMatrix, DVector};
 
@@ -10,6 +14,7 @@ use super::explain::{Operand, mismatch};
 use super::model::{EquationReport, SolveReport, SolveStatus};
 use super::program::{CompileError, Input, Program};
 use super::{CellStatus, Evaluator};
+use crate::cases::Dual;
 use crate::diag::{Code, Diagnostic, Severity};
 use crate::sheet::CellId;
 use crate::syntax::ast::{BinaryOp, Equation, Expr, ExprKind, NameRef, SolveBlock, Target};
@@ -18,12 +23,19 @@ use crate::units::{Dimension, Quantity, Value, pick_unit};
 /// Scaled residual below which the system counts as solved.
 const TOLERANCE: f64 = 1e-12;
 /// Scaled residual accepted when no step can reduce it further (the
-/// rounding floor of the equations' arithmetic).
-const STAGNATION_TOLERANCE: f64 = 1e-9;
+/// rounding floor of the equations' arithmetic), and the most any equation
+/// may miss by, relative to its terms, when a solution is verified.
+const VERIFIED: f64 = 1e-9;
 /// Newton iterations before giving up.
 const MAX_ITERATIONS: usize = 100;
-/// Reciprocal condition below which the Jacobian counts as singular.
-const SINGULAR: f64 = 1e-12;
+/// Condition number beyond which the Jacobian counts as singular (fewer
+/// than four of the sixteen significant digits of a double survive).
+const SINGULAR: f64 = 1e12;
+/// Condition number from which a solution is warned about as
+/// ill-conditioned: it costs five or more significant digits. A double
+/// root, met only to the square root of the residual tolerance, gives
+/// about 10⁶.
+const ILL_CONDITIONED: f64 = 1e5;
 
 /// One scalar equation: an equation of the block, or one component of a
 /// vector equation.
@@ -32,14 +44,25 @@ struct ScalarEquation<'e> {
     /// Which component of a vector equation (`None` for a scalar one).
     component: Option<usize>,
     dimension: Dimension,
-    /// Typical size of its sides at the guess, to scale the residual.
-    scale: f64,
+    /// The terms of both sides (the operands of their outermost sums and
+    /// differences), whose size at a point is the equation's scale there.
+    terms: Vec<&'e Expr>,
     /// Which of the block's unknowns it mentions (its Jacobian row is zero
-    /// elsewhere, so only these columns need it re-evaluated).
+    /// elsewhere).
     mentions: Vec<bool>,
     /// `lhs - rhs` compiled with the unknowns (SI values) as inputs; `None`
     /// for a vector equation, which is interpreted instead.
     program: Option<Program>,
+}
+
+/// A block's equations and unknowns, as Newton's method sees them.
+struct System<'s, 'e> {
+    equations: &'s [ScalarEquation<'e>],
+    unknowns: &'s [CellId],
+    dimensions: Vec<Dimension>,
+    /// One of each unknown's unit, in SI: the least size an unknown is
+    /// measured against (so a root at zero still has a scale).
+    units: Vec<f64>,
 }
 
 /// Why an attempt to solve stopped.
@@ -48,14 +71,24 @@ enum Stop {
     Fail(Box<Diagnostic>),
 }
 
-/// The result of Newton's method from one start.
+/// A point Newton's method stopped at, with what was measured there.
 struct Root {
+    /// The unknowns, in SI.
     x: DVector<f64>,
+    /// Newton steps taken.
     iterations: usize,
-    /// The Jacobian of the last step (at the solution if no step was needed).
+    /// The Jacobian of the residuals (SI) at `x`.
     jacobian: DMatrix<f64>,
-    /// The Jacobian at the start.
-    first_jacobian: DMatrix<f64>,
+    /// Each equation's scale at `x`.
+    scales: DVector<f64>,
+}
+
+/// What went wrong at a point Newton's method could not get past.
+enum Miss {
+    /// An equation cannot be evaluated there (a square root of a negative, …).
+    Undefined,
+    /// The equations were evaluated but do not hold.
+    NotSolved(Box<(Root, DVector<f64>)>),
 }
 
 impl Evaluator<'_> {
@@ -107,16 +140,17 @@ impl Evaluator<'_> {
         report: &mut SolveReport,
     ) -> Result<(), Stop> {
         // Units, dimensions and starting values of the unknowns.
-        let mut factors = Vec::with_capacity(unknowns.len());
+        let mut dimensions = Vec::with_capacity(unknowns.len());
         let mut guess = Vec::with_capacity(unknowns.len());
+        let mut units = Vec::with_capacity(unknowns.len());
         for unknown in &block.unknowns {
             let unit = self.resolve_unit(&unknown.unit).map_err(Stop::Fail)?;
             let start = match &unknown.guess {
                 None => unit.si_factor,
                 Some(expr) => match self.eval(expr).map_err(Stop::Fail)? {
-                    Value::Scalar(q)
-                        if q.dimension.is_dimensionless() && !unit.dimension.is_dimensionless() =>
-                    {
+                    // A guess written as a plain number is in the unknown's
+                    // own unit (`θ [deg] ~ 20` is 20°, `μ [%] ~ 10` is 10 %).
+                    Value::Scalar(q) if q.dimension.is_dimensionless() && written_bare(expr) => {
                         q.si * unit.si_factor
                     }
                     Value::Scalar(q) if q.dimension == unit.dimension => q.si,
@@ -138,36 +172,16 @@ impl Evaluator<'_> {
                     }
                 },
             };
-            factors.push((unit.dimension, unit.si_factor));
+            dimensions.push(unit.dimension);
+            units.push(unit.si_factor.abs());
             guess.push(start);
         }
-        let scales: Vec<f64> = guess
-            .iter()
-            .zip(&factors)
-            .map(|(g, (_, factor))| if g.abs() > 0.0 { g.abs() } else { factor.abs() })
-            .collect();
-        for (&id, &value) in unknowns.iter().zip(&guess) {
-            self.values[id] = Some(Value::Scalar(Quantity::new(
-                value,
-                factors[self.index_of(unknowns, id)].0,
-            )));
+        for (i, &id) in unknowns.iter().enumerate() {
+            self.values[id] = Some(Value::Scalar(Quantity::new(guess[i], dimensions[i])));
         }
 
         let equations = self.scalar_equations(block, unknowns)?;
-        report.equations = equations
-            .iter()
-            .map(|e| EquationReport {
-                text: equation_text(self.source, e),
-                span: e.equation.span,
-                residual: None,
-                display: pick_unit(e.dimension, e.scale, self.style.system),
-            })
-            .collect();
-        let names: Vec<String> = block
-            .unknowns
-            .iter()
-            .map(|u| format!("`{}`", u.name.text))
-            .collect();
+        let names = self.unknown_names(block);
         if equations.len() != unknowns.len() {
             let (code, word) = if equations.len() < unknowns.len() {
                 (Code::Underdetermined, "fewer")
@@ -179,12 +193,9 @@ impl Evaluator<'_> {
                     code,
                     block.head,
                     format!(
-                        "this block has {} equation{} for {} unknown{} ({}): {word} equations than unknowns",
-                        equations.len(),
-                        if equations.len() == 1 { "" } else { "s" },
-                        unknowns.len(),
-                        if unknowns.len() == 1 { "" } else { "s" },
-                        names.join(", ")
+                        "this block has {} for {} ({names}): {word} equations than unknowns",
+                        super::count(equations.len(), "equation"),
+                        super::count(unknowns.len(), "unknown"),
                     ),
                 )
                 .with_help(if equations.len() < unknowns.len() {
@@ -194,40 +205,120 @@ impl Evaluator<'_> {
                 }),
             )));
         }
+        let system = System {
+            equations: &equations,
+            unknowns,
+            dimensions,
+            units,
+        };
 
-        let x0 = DVector::from_iterator(guess.len(), guess.iter().zip(&scales).map(|(g, s)| g / s));
-        let root = self.newton(&equations, unknowns, &factors, &scales, x0.clone(), block)?;
+        let x0 = DVector::from_vec(guess);
+        let root = match self.newton(&system, x0.clone()) {
+            Ok(root) => root,
+            Err(Miss::Undefined) => return Err(self.undefined_at_guess(block)),
+            Err(Miss::NotSolved(missed)) => {
+                let (at, residuals) = *missed;
+                return Err(self.not_converged(block, &system, &at, &residuals));
+            }
+        };
         report.iterations = root.iterations;
+        report.equations = self.equation_reports(&system, &root);
 
-        // Singular or ill-conditioned at the solution: the unknowns are not fixed.
-        let svd = root.jacobian.clone().svd(true, true);
+        // Verified by the interpreter, equation by equation, at the solution.
+        if let Some(residuals) = self.unverified(&system, &root) {
+            return Err(self.not_converged(block, &system, &root, &residuals));
+        }
+
+        // Singular or ill-conditioned at the solution: the unknowns are not
+        // (well) fixed.
+        let scaled = scaled_jacobian(&system, &root);
+        let svd = scaled.clone().svd(true, true);
         let (largest, smallest) = singular_extremes(&svd.singular_values);
-        report.condition = (smallest > 0.0).then(|| largest / smallest);
-        if largest == 0.0 || smallest / largest < SINGULAR {
+        let condition = largest.max(1.0) / smallest;
+        report.condition = condition.is_finite().then_some(condition);
+        if condition.is_nan() || condition > SINGULAR {
             return Err(Stop::Fail(Box::new(
                 self.singular_diagnostic(block, &equations, &svd),
             )));
         }
+        if condition >= ILL_CONDITIONED {
+            self.diagnostics
+                .push(ill_conditioned(block, condition, &names));
+        }
 
-        // Linear: the Jacobian did not change on the way to the solution.
-        report.linear = (&root.first_jacobian - &root.jacobian).abs().max()
-            <= 1e-7 * root.jacobian.abs().max().max(1.0);
+        // Linear: the Jacobian is the same at the guess as at the solution.
+        self.set_unknowns(&system, &x0);
+        report.linear = self.jacobian(&system, &x0).is_some_and(|at_guess| {
+            (&at_guess - &root.jacobian).abs().max() <= 1e-9 * root.jacobian.abs().max()
+        });
 
         // Other roots near the guess (same signs, other magnitudes).
         if !report.linear {
-            self.look_for_other_roots(&equations, unknowns, &factors, &scales, &x0, &root, block);
+            self.look_for_other_roots(&system, &x0, &root, condition, block);
         }
 
-        self.set_unknowns(unknowns, &factors, &scales, &root.x);
-        for (entry, equation) in report.equations.iter_mut().zip(&equations) {
-            entry.residual = self.side_difference(equation).ok();
-        }
+        self.set_unknowns(&system, &root.x);
         report.status = SolveStatus::Solved;
         Ok(())
     }
 
-    fn index_of(&self, unknowns: &[CellId], id: CellId) -> usize {
-        unknowns.iter().position(|&u| u == id).unwrap_or(0)
+    /// Each equation's report at `root`: its text, residual, and a unit
+    /// for the residual shared by every equation of its dimension.
+    fn equation_reports(&mut self, system: &System<'_, '_>, root: &Root) -> Vec<EquationReport> {
+        self.set_unknowns(system, &root.x);
+        let equations = system.equations;
+        equations
+            .iter()
+            .map(|e| {
+                let size = equations
+                    .iter()
+                    .zip(root.scales.iter())
+                    .filter(|(other, _)| other.dimension == e.dimension)
+                    .map(|(_, &scale)| scale)
+                    .fold(0.0, f64::max);
+                EquationReport {
+                    text: equation_text(self.source, e),
+                    span: e.equation.span,
+                    residual: self.side_difference(e).ok(),
+                    display: pick_unit(e.dimension, size, self.style.system),
+                }
+            })
+            .collect()
+    }
+
+    /// The residuals at `root` if an equation, evaluated afresh by the
+    /// interpreter, misses by more than [`VERIFIED`] of its terms' size;
+    /// `None` when every equation holds.
+    fn unverified(&mut self, system: &System<'_, '_>, root: &Root) -> Option<DVector<f64>> {
+        self.set_unknowns(system, &root.x);
+        let mut residuals = DVector::zeros(system.equations.len());
+        let mut holds = true;
+        for (j, equation) in system.equations.iter().enumerate() {
+            let residual = self.side_difference(equation).map_or(f64::NAN, |q| q.si);
+            residuals[j] = residual;
+            if residual.is_nan() || residual.abs() > VERIFIED * root.scales[j] {
+                holds = false;
+            }
+        }
+        (!holds).then_some(residuals)
+    }
+
+    /// Whether `x` solves the system, verified as a solution is.
+    fn solves(&mut self, system: &System<'_, '_>, x: &DVector<f64>) -> bool {
+        self.set_unknowns(system, x);
+        let Some(jacobian) = self.jacobian(system, x) else {
+            return false;
+        };
+        let Some(scales) = self.scales(system, x, &jacobian) else {
+            return false;
+        };
+        let root = Root {
+            x: x.clone(),
+            iterations: 0,
+            jacobian,
+            scales,
+        };
+        self.unverified(system, &root).is_none()
     }
 
     /// Splits the block's equations into scalar ones, checking that both
@@ -244,31 +335,7 @@ impl Evaluator<'_> {
             if lhs.dimension() != rhs.dimension()
                 || lhs.vector().is_some() != rhs.vector().is_some()
             {
-                let text = |expr: &crate::syntax::ast::Expr| expr.span.text(self.source);
-                let mut diagnostic = mismatch(
-                    "equate",
-                    &Operand {
-                        span: equation.lhs.span,
-                        text: text(&equation.lhs),
-                        value: lhs,
-                    },
-                    &Operand {
-                        span: equation.rhs.span,
-                        text: text(&equation.rhs),
-                        value: rhs,
-                    },
-                    self.style,
-                );
-                if lhs.vector().is_some() != rhs.vector().is_some() {
-                    diagnostic.message =
-                        "one side of this equation is a vector and the other a scalar".to_string();
-                    diagnostic.code = Code::DimensionMismatch;
-                    diagnostic.help = Some(
-                        "write both sides as vectors, or equate one component (F.x = m * a)"
-                            .to_string(),
-                    );
-                }
-                return Err(Stop::Fail(Box::new(diagnostic)));
+                return Err(Stop::Fail(Box::new(self.unequal_sides(equation, lhs, rhs))));
             }
             let mut mentions = vec![false; unknowns.len()];
             for side in [&equation.lhs, &equation.rhs] {
@@ -283,12 +350,9 @@ impl Evaluator<'_> {
                     }
                 });
             }
-            let program = match (lhs, rhs) {
-                (Value::Scalar(_), Value::Scalar(_)) => {
-                    self.compile_difference(equation, unknowns)?
-                }
-                _ => None,
-            };
+            let mut terms = Vec::new();
+            collect_terms(&equation.lhs, &mut terms);
+            collect_terms(&equation.rhs, &mut terms);
             match (lhs, rhs) {
                 (Value::Vector(l), Value::Vector(r)) => {
                     for component in 0..usize::from(l.n_components.max(r.n_components)) {
@@ -296,7 +360,7 @@ impl Evaluator<'_> {
                             equation,
                             component: Some(component),
                             dimension: l.dimension,
-                            scale: l.si[component].abs().max(r.si[component].abs()),
+                            terms: terms.clone(),
                             mentions: mentions.clone(),
                             program: None,
                         });
@@ -306,22 +370,41 @@ impl Evaluator<'_> {
                     equation,
                     component: None,
                     dimension: lhs.dimension(),
-                    scale: lhs.magnitude_si().max(rhs.magnitude_si()),
+                    terms,
                     mentions,
-                    program,
+                    program: self.compile_difference(equation, unknowns)?,
                 }),
             }
         }
-        // Equations that are zero on both sides at the guess are scaled by the
-        // largest typical size of their dimension, or left unscaled.
-        let fallback: Vec<f64> = scalars
-            .iter()
-            .map(|s| if s.scale > 0.0 { s.scale } else { 1.0 })
-            .collect();
-        for (scalar, scale) in scalars.iter_mut().zip(fallback) {
-            scalar.scale = scale;
-        }
         Ok(scalars)
+    }
+
+    /// The error for an equation whose sides differ in dimension or kind.
+    fn unequal_sides(&self, equation: &Equation, lhs: Value, rhs: Value) -> Diagnostic {
+        let text = |expr: &Expr| expr.span.text(self.source);
+        let mut diagnostic = mismatch(
+            "equate",
+            &Operand {
+                span: equation.lhs.span,
+                text: text(&equation.lhs),
+                value: lhs,
+            },
+            &Operand {
+                span: equation.rhs.span,
+                text: text(&equation.rhs),
+                value: rhs,
+            },
+            self.style,
+        );
+        if lhs.vector().is_some() != rhs.vector().is_some() {
+            diagnostic.message =
+                "one side of this equation is a vector and the other a scalar".to_string();
+            diagnostic.code = Code::DimensionMismatch;
+            diagnostic.help = Some(
+                "write both sides as vectors, or equate one component (F.x = m * a)".to_string(),
+            );
+        }
+        diagnostic
     }
 
     /// `lhs - rhs` of a scalar equation as one program over the unknowns.
@@ -355,180 +438,181 @@ impl Evaluator<'_> {
         }
     }
 
-    /// Left minus right of one scalar equation, in SI units, at the
-    /// unknowns' current values (`inputs`, in SI).
-    fn difference_at(
-        &self,
-        equation: &ScalarEquation<'_>,
-        inputs: &[f64],
-    ) -> Result<Quantity, Box<Diagnostic>> {
-        match &equation.program {
-            Some(program) => Ok(Quantity::new(program.run(inputs), equation.dimension)),
-            None => self.side_difference(equation),
-        }
-    }
-
-    /// Left minus right of one scalar equation, in SI units.
+    /// Left minus right of one scalar equation, in SI units, by the
+    /// interpreter at the unknowns' current values.
     fn side_difference(&self, equation: &ScalarEquation<'_>) -> Result<Quantity, Box<Diagnostic>> {
         let lhs = self.eval(&equation.equation.lhs)?;
         let rhs = self.eval(&equation.equation.rhs)?;
-        let pick = |value: Value| match (value, equation.component) {
-            (Value::Vector(v), Some(axis)) => v.si[axis],
-            (value, _) => value.scalar().map_or(f64::NAN, |q| q.si),
-        };
-        Ok(Quantity::new(pick(lhs) - pick(rhs), equation.dimension))
+        Ok(Quantity::new(
+            pick(lhs, equation.component) - pick(rhs, equation.component),
+            equation.dimension,
+        ))
     }
 
-    fn set_unknowns(
-        &mut self,
-        unknowns: &[CellId],
-        factors: &[(Dimension, f64)],
-        scales: &[f64],
-        x: &DVector<f64>,
-    ) {
-        for (i, &id) in unknowns.iter().enumerate() {
-            self.values[id] = Some(Value::Scalar(Quantity::new(x[i] * scales[i], factors[i].0)));
+    /// Gives the unknowns the SI values `x`.
+    fn set_unknowns(&mut self, system: &System<'_, '_>, x: &DVector<f64>) {
+        for (i, &id) in system.unknowns.iter().enumerate() {
+            self.values[id] = Some(Value::Scalar(Quantity::new(x[i], system.dimensions[i])));
         }
     }
 
-    /// The scaled residuals at scaled point `x`; `None` if an equation
-    /// cannot be evaluated there (a square root of a negative, …).
-    fn residuals(
-        &mut self,
-        equations: &[ScalarEquation<'_>],
-        unknowns: &[CellId],
-        factors: &[(Dimension, f64)],
-        scales: &[f64],
-        x: &DVector<f64>,
-    ) -> Option<DVector<f64>> {
-        self.set_unknowns(unknowns, factors, scales, x);
-        let inputs: Vec<f64> = x.iter().zip(scales).map(|(x, s)| x * s).collect();
-        let mut r = DVector::zeros(equations.len());
-        for (j, equation) in equations.iter().enumerate() {
-            r[j] = self.scaled_residual(equation, &inputs)?;
-        }
-        Some(r)
-    }
-
-    /// One equation's residual divided by its scale; `None` where it cannot
-    /// be evaluated or is not finite.
-    fn scaled_residual(&self, equation: &ScalarEquation<'_>, inputs: &[f64]) -> Option<f64> {
-        let value = self.difference_at(equation, inputs).ok()?.si / equation.scale;
-        value.is_finite().then_some(value)
-    }
-
-    /// Jacobian of the scaled residuals at `x` by central differences. With
-    /// the unknowns scaled to about one, a step of 1e-3 keeps rounding near
-    /// 1e-13 (so a linear system is solved in one Newton step) and truncation
-    /// near 1e-6 (so Newton's method still converges fast on nonlinear ones).
-    fn jacobian(
-        &mut self,
-        equations: &[ScalarEquation<'_>],
-        unknowns: &[CellId],
-        factors: &[(Dimension, f64)],
-        scales: &[f64],
-        x: &DVector<f64>,
-    ) -> Result<DMatrix<f64>, ()> {
-        let n = x.len();
-        let mut jacobian = DMatrix::zeros(equations.len(), n);
-        for i in 0..n {
-            let h = 1e-3 * x[i].abs().max(1.0);
-            let mut at = |offset: f64| -> Result<Vec<(usize, f64)>, ()> {
-                let mut shifted = x.clone();
-                shifted[i] += offset;
-                self.set_unknowns(unknowns, factors, scales, &shifted);
-                let inputs: Vec<f64> = shifted.iter().zip(scales).map(|(x, s)| x * s).collect();
-                // Only the equations that mention unknown i change with it.
-                equations
-                    .iter()
-                    .enumerate()
-                    .filter(|(_, equation)| equation.mentions[i])
-                    .map(|(j, equation)| {
-                        self.scaled_residual(equation, &inputs)
-                            .map(|value| (j, value))
-                            .ok_or(())
-                    })
-                    .collect()
+    /// Left minus right of every equation at `x` (SI); `None` if one
+    /// cannot be evaluated there or is not finite.
+    fn residuals(&mut self, system: &System<'_, '_>, x: &DVector<f64>) -> Option<DVector<f64>> {
+        self.set_unknowns(system, x);
+        let mut residuals = DVector::zeros(system.equations.len());
+        for (j, equation) in system.equations.iter().enumerate() {
+            let value = match &equation.program {
+                Some(program) => program.run(x.as_slice()),
+                None => self.side_difference(equation).ok()?.si,
             };
-            let (plus, minus) = (at(h)?, at(-h)?);
-            for ((j, forward), (_, backward)) in plus.into_iter().zip(minus) {
-                jacobian[(j, i)] = (forward - backward) / (2.0 * h);
+            if !value.is_finite() {
+                return None;
+            }
+            residuals[j] = value;
+        }
+        Some(residuals)
+    }
+
+    /// Each equation's scale at `x` (the unknowns already set there): the
+    /// largest of its terms, or of the change its unknowns would make if
+    /// each changed by its own size, whichever is more.
+    fn scales(
+        &self,
+        system: &System<'_, '_>,
+        x: &DVector<f64>,
+        jacobian: &DMatrix<f64>,
+    ) -> Option<DVector<f64>> {
+        let mut scales = DVector::zeros(system.equations.len());
+        for (j, equation) in system.equations.iter().enumerate() {
+            let mut largest: f64 = 0.0;
+            for term in &equation.terms {
+                let value = pick(self.eval(term).ok()?, equation.component);
+                largest = largest.max(value.abs());
+            }
+            let moved: f64 = (0..x.len()).map(|i| (jacobian[(j, i)] * x[i]).abs()).sum();
+            scales[j] = largest.max(moved);
+            if !scales[j].is_finite() {
+                return None;
             }
         }
-        self.set_unknowns(unknowns, factors, scales, x);
-        Ok(jacobian)
+        Some(scales)
     }
 
-    /// Newton's method with a backtracking line search, falling back to
-    /// Levenberg–Marquardt steps when the Newton step is unusable.
-    fn newton(
-        &mut self,
-        equations: &[ScalarEquation<'_>],
-        unknowns: &[CellId],
-        factors: &[(Dimension, f64)],
-        scales: &[f64],
-        start: DVector<f64>,
-        block: &SolveBlock,
-    ) -> Result<Root, Stop> {
-        let fail_at_guess = |this: &Self| {
-            Stop::Fail(Box::new(
-                Diagnostic::error(
-                    Code::NoConvergence,
-                    block.head,
-                    "the equations cannot be evaluated at the starting guess",
-                )
-                .with_help(format!(
-                    "give each unknown a guess with `~` inside the range where its equations are defined ({})",
-                    this.unknown_names(block)
-                )),
-            ))
-        };
-        let mut x = start;
-        let mut r = self
-            .residuals(equations, unknowns, factors, scales, &x)
-            .ok_or_else(|| fail_at_guess(self))?;
-        let mut damping = 1e-3;
-        // The Jacobian of the last step (an estimate of the one at the
-        // solution for the condition number) and the one at the start.
-        let mut latest: Option<DMatrix<f64>> = None;
-        let mut first: Option<DMatrix<f64>> = None;
-        for iteration in 0..=MAX_ITERATIONS {
-            if r.amax() <= TOLERANCE {
-                let jacobian = match latest {
-                    Some(jacobian) => jacobian,
-                    None => self
-                        .jacobian(equations, unknowns, factors, scales, &x)
-                        .map_err(|()| fail_at_guess(self))?,
+    /// The exact Jacobian of the residuals (SI) at `x`, the unknowns already
+    /// set there: each compiled equation run on dual numbers, a vector
+    /// equation's component by central differences of the interpreter.
+    fn jacobian(&mut self, system: &System<'_, '_>, x: &DVector<f64>) -> Option<DMatrix<f64>> {
+        let n = x.len();
+        let mut jacobian = DMatrix::zeros(system.equations.len(), n);
+        let mut duals: Vec<Dual<f64>> = x.iter().map(|&v| Dual::fixed(v)).collect();
+        for (j, equation) in system.equations.iter().enumerate() {
+            for i in (0..n).filter(|&i| equation.mentions[i]) {
+                let slope = match &equation.program {
+                    Some(program) => {
+                        duals[i] = Dual::variable(x[i]);
+                        let slope = program.run(&duals).derivative;
+                        duals[i] = Dual::fixed(x[i]);
+                        slope
+                    }
+                    None => self.central_difference(system, equation, x, i)?,
                 };
-                return Ok(Root {
-                    x,
-                    iterations: iteration,
-                    first_jacobian: first.unwrap_or_else(|| jacobian.clone()),
-                    jacobian,
-                });
+                if !slope.is_finite() {
+                    return None;
+                }
+                jacobian[(j, i)] = slope;
+            }
+        }
+        Some(jacobian)
+    }
+
+    /// d(residual)/d(unknown `i`) of an interpreted equation, by a central
+    /// difference of relative step 10⁻⁶ (truncation and rounding both near
+    /// 10⁻¹⁰ of the slope).
+    fn central_difference(
+        &mut self,
+        system: &System<'_, '_>,
+        equation: &ScalarEquation<'_>,
+        x: &DVector<f64>,
+        i: usize,
+    ) -> Option<f64> {
+        let h = 1e-6 * x[i].abs().max(system.units[i]);
+        let mut at = |offset: f64| {
+            let mut shifted = x.clone();
+            shifted[i] += offset;
+            self.set_unknowns(system, &shifted);
+            self.side_difference(equation).ok().map(|q| q.si)
+        };
+        let (forward, backward) = (at(h), at(-h));
+        self.set_unknowns(system, x);
+        Some((forward? - backward?) / (2.0 * h))
+    }
+
+    /// The point `x` measured: Jacobian, scales and residuals.
+    fn measure(
+        &mut self,
+        system: &System<'_, '_>,
+        x: &DVector<f64>,
+        iterations: usize,
+    ) -> Option<(Root, DVector<f64>)> {
+        let residuals = self.residuals(system, x)?;
+        let jacobian = self.jacobian(system, x)?;
+        let scales = self.scales(system, x, &jacobian)?;
+        Some((
+            Root {
+                x: x.clone(),
+                iterations,
+                jacobian,
+                scales,
+            },
+            residuals,
+        ))
+    }
+
+    /// Newton's method from `start` with a backtracking line search, falling
+    /// back to Levenberg–Marquardt steps when the Newton step is unusable.
+    /// The equations are scaled afresh at every point it reaches.
+    fn newton(&mut self, system: &System<'_, '_>, start: DVector<f64>) -> Result<Root, Miss> {
+        let mut x = start;
+        let mut damping = 1e-3;
+        let mut reached: Option<(Root, DVector<f64>)> = None;
+        for iteration in 0..=MAX_ITERATIONS {
+            let Some((root, residuals)) = self.measure(system, &x, iteration) else {
+                return Err(
+                    reached.map_or(Miss::Undefined, |missed| Miss::NotSolved(Box::new(missed)))
+                );
+            };
+            let r = scaled_residuals(&residuals, &root.scales);
+            if r.amax() <= TOLERANCE {
+                return Ok(root);
             }
             if iteration == MAX_ITERATIONS {
-                break;
+                return Err(Miss::NotSolved(Box::new((root, residuals))));
             }
-            let jacobian = self
-                .jacobian(equations, unknowns, factors, scales, &x)
-                .map_err(|()| fail_at_guess(self))?;
-            if first.is_none() {
-                first = Some(jacobian.clone());
-            }
-            latest = Some(jacobian.clone());
+            let columns = column_sizes(system, &root.x);
+            let jacobian = scaled_jacobian(system, &root);
             let merit = r.norm_squared();
-            let newton_step = jacobian.clone().lu().solve(&(-&r));
+            let scaled_at = |this: &mut Self, step: &DVector<f64>| {
+                let candidate = &x + step.component_mul(&columns);
+                let next = this.residuals(system, &candidate)?;
+                Some((
+                    candidate,
+                    scaled_residuals(&next, &root.scales).norm_squared(),
+                ))
+            };
             let mut accepted = None;
-            if let Some(step) = newton_step.filter(|s| s.iter().all(|v| v.is_finite())) {
+            if let Some(step) = jacobian
+                .clone()
+                .lu()
+                .solve(&(-&r))
+                .filter(|s| s.iter().all(|v| v.is_finite()))
+            {
                 let mut t = 1.0;
                 while t > 1e-10 {
-                    let candidate = &x + &step * t;
-                    if let Some(next) =
-                        self.residuals(equations, unknowns, factors, scales, &candidate)
-                        && next.norm_squared() <= (1.0 - 1e-4 * t) * merit
+                    if let Some((candidate, next)) = scaled_at(self, &(&step * t))
+                        && next <= (1.0 - 1e-4 * t) * merit
                     {
-                        accepted = Some((candidate, next));
+                        accepted = Some(candidate);
                         break;
                     }
                     t *= 0.5;
@@ -543,60 +627,97 @@ impl Evaluator<'_> {
                     for k in 0..damped.nrows() {
                         damped[(k, k)] += damping * normal[(k, k)].max(1e-12);
                     }
-                    if let Some(step) = damped.lu().solve(&(-&gradient)) {
-                        let candidate = &x + step;
-                        if let Some(next) =
-                            self.residuals(equations, unknowns, factors, scales, &candidate)
-                            && next.norm_squared() < merit
-                        {
-                            accepted = Some((candidate, next));
-                            damping = (damping / 10.0).max(1e-12);
-                            break;
-                        }
+                    if let Some(step) = damped.lu().solve(&(-&gradient))
+                        && let Some((candidate, next)) = scaled_at(self, &step)
+                        && next < merit
+                    {
+                        accepted = Some(candidate);
+                        damping = (damping / 10.0).max(1e-12);
+                        break;
                     }
                     damping *= 10.0;
                 }
             }
             match accepted {
-                Some((next_x, next_r)) => {
-                    x = next_x;
-                    r = next_r;
-                }
-                None if r.amax() <= STAGNATION_TOLERANCE => {
-                    return Ok(Root {
-                        x,
-                        iterations: iteration + 1,
-                        first_jacobian: first.unwrap_or_else(|| jacobian.clone()),
-                        jacobian,
-                    });
-                }
-                None => break,
+                Some(next) => x = next,
+                None if r.amax() <= VERIFIED => return Ok(root),
+                None => return Err(Miss::NotSolved(Box::new((root, residuals)))),
             }
+            reached = Some((root, residuals));
         }
-        // Not converged: name the equations that are furthest from holding.
-        self.set_unknowns(unknowns, factors, scales, &x);
-        let mut worst: Vec<(f64, usize)> =
-            r.iter().enumerate().map(|(j, v)| (v.abs(), j)).collect();
+        Err(reached.map_or(Miss::Undefined, |missed| Miss::NotSolved(Box::new(missed))))
+    }
+
+    /// The error for equations that cannot be evaluated at the guess.
+    fn undefined_at_guess(&self, block: &SolveBlock) -> Stop {
+        Stop::Fail(Box::new(
+            Diagnostic::error(
+                Code::NoConvergence,
+                block.head,
+                "the equations cannot be evaluated at the starting guess",
+            )
+            .with_help(format!(
+                "give each unknown a guess with `~` inside the range where its equations are defined ({})",
+                self.unknown_names(block)
+            )),
+        ))
+    }
+
+    /// The error for a point that does not solve the equations, naming
+    /// those furthest from holding and by how much.
+    fn not_converged(
+        &mut self,
+        block: &SolveBlock,
+        system: &System<'_, '_>,
+        at: &Root,
+        residuals: &DVector<f64>,
+    ) -> Stop {
+        let mut worst: Vec<(f64, usize)> = scaled_residuals(residuals, &at.scales)
+            .iter()
+            .enumerate()
+            .map(|(j, v)| (if v.is_nan() { f64::INFINITY } else { v.abs() }, j))
+            .collect();
         worst.sort_by(|a, b| b.0.total_cmp(&a.0));
         let described: Vec<String> = worst
             .iter()
             .take(3)
-            .map(|&(_, j)| format!("`{}`", equation_text(self.source, &equations[j])))
+            .map(|&(_, j)| {
+                let equation = &system.equations[j];
+                let off = self
+                    .style
+                    .show(Quantity::new(residuals[j], equation.dimension));
+                format!("`{}` (off by {off})", equation_text(self.source, equation))
+            })
+            .collect();
+        let closest: Vec<String> = block
+            .unknowns
+            .iter()
+            .enumerate()
+            .map(|(i, u)| {
+                format!(
+                    "{} = {}",
+                    u.name.text,
+                    self.style
+                        .show(Quantity::new(at.x[i], system.dimensions[i]))
+                )
+            })
             .collect();
         let mut diagnostic = Diagnostic::error(
             Code::NoConvergence,
             block.head,
             format!(
-                "Newton's method did not converge for {}; furthest from holding: {}",
+                "no solution found for {}: at the closest point reached ({}) the equations furthest from holding are {}",
                 self.unknown_names(block),
+                closest.join(", "),
                 described.join(", ")
             ),
         )
         .with_help("give better guesses with `~`, check the equations' signs, or check that a solution exists");
         for &(_, j) in worst.iter().take(3) {
-            diagnostic = diagnostic.with_label(equations[j].equation.span, "does not hold");
+            diagnostic = diagnostic.with_label(system.equations[j].equation.span, "does not hold");
         }
-        Err(Stop::Fail(Box::new(diagnostic)))
+        self.set_unknowns(system, &at.x);
+        Stop::Fail(Box::new(diagnostic))
     }
 
     fn unknown_names(&self, block: &SolveBlock) -> String {
@@ -656,70 +777,193 @@ impl Evaluator<'_> {
     }
 
     /// Starts Newton again from the guess scaled by 0.1, 0.5, 2 and 10 (same
-    /// signs): a different root found there is reported as a warning.
-    #[allow(clippy::too_many_arguments)]
+    /// signs): a different point found there that is verified to solve the
+    /// equations is reported as a warning.
     fn look_for_other_roots(
         &mut self,
-        equations: &[ScalarEquation<'_>],
-        unknowns: &[CellId],
-        factors: &[(Dimension, f64)],
-        scales: &[f64],
+        system: &System<'_, '_>,
         x0: &DVector<f64>,
         root: &Root,
+        condition: f64,
         block: &SolveBlock,
     ) {
+        let size = column_sizes(system, &root.x);
         for factor in [0.1, 0.5, 2.0, 10.0] {
-            let start = x0 * factor;
-            let Ok(other) = self.newton(equations, unknowns, factors, scales, start, block) else {
+            let Ok(other) = self.newton(system, x0 * factor) else {
                 continue;
             };
-            let distance = (&other.x - &root.x).amax();
-            if distance > 1e-6 * (1.0 + root.x.amax()) {
-                // Components at the rounding floor of the root's size read as zero.
-                let floor = 1e-9 * root.x.amax().max(1.0);
-                let describe = |x: &DVector<f64>| {
-                    let x = x.map(|v| if v.abs() < floor { 0.0 } else { v });
-                    block
-                        .unknowns
-                        .iter()
-                        .enumerate()
-                        .map(|(i, u)| {
-                            format!(
-                                "{} = {}",
-                                u.name.text,
-                                self.style.show_in(
-                                    x[i] * scales[i],
-                                    u.unit.span.text(self.source),
-                                    factors[i].1
-                                )
-                            )
-                        })
-                        .collect::<Vec<_>>()
-                        .join(", ")
-                };
-                self.diagnostics.push(
-                    Diagnostic::new(
-                        Severity::Warning,
-                        Code::SeveralRoots,
-                        block.head,
-                        format!(
-                            "these equations have more than one solution near the guess: heft took {} (reached from the guess), but {} also solves them",
-                            describe(&root.x),
-                            describe(&other.x)
-                        ),
-                    )
-                    .with_help("move the guesses (`~`) closer to the solution you mean, so that no other lies within a factor of 10 of them"),
-                );
-                return;
+            if !distinct(system, &root.x, &other.x, &size, condition)
+                || !self.solves(system, &other.x)
+            {
+                continue;
             }
+            // Components at the rounding floor of the root's size read as zero.
+            let describe = |x: &DVector<f64>| {
+                let x = x.zip_map(&size, |v, s| if v.abs() < 1e-9 * s { 0.0 } else { v });
+                block
+                    .unknowns
+                    .iter()
+                    .enumerate()
+                    .map(|(i, u)| {
+                        format!(
+                            "{} = {}",
+                            u.name.text,
+                            self.style.show_in(
+                                x[i],
+                                u.unit.span.text(self.source),
+                                system.units[i]
+                            )
+                        )
+                    })
+                    .collect::<Vec<_>>()
+                    .join(", ")
+            };
+            self.diagnostics.push(
+                Diagnostic::new(
+                    Severity::Warning,
+                    Code::SeveralRoots,
+                    block.head,
+                    format!(
+                        "these equations have more than one solution near the guess: heft took {} (reached from the guess), but {} also solves them",
+                        describe(&root.x),
+                        describe(&other.x)
+                    ),
+                )
+                .with_help("move the guesses (`~`) closer to the solution you mean, so that no other lies within a factor of 10 of them"),
+            );
+            return;
         }
     }
+}
+
+/// Whether `other` is a different solution from `root`: apart by more than
+/// either can be trusted to (10⁻⁶ of their size, or more for an
+/// ill-conditioned system), and not the same angles a whole number of turns
+/// apart.
+fn distinct(
+    system: &System<'_, '_>,
+    root: &DVector<f64>,
+    other: &DVector<f64>,
+    size: &DVector<f64>,
+    condition: f64,
+) -> bool {
+    let trusted = 1e-6_f64.max(condition * 1e-11);
+    let turn = std::f64::consts::TAU;
+    (0..root.len()).any(|i| {
+        let apart = other[i] - root[i];
+        let apart = if system.dimensions[i].is_dimensionless() {
+            apart - turn * (apart / turn).round()
+        } else {
+            apart
+        };
+        apart.abs() > trusted * size[i]
+    })
+}
+
+/// Whether a guess is written as a plain number (no unit and no name in it),
+/// so that it is read in the unknown's own unit.
+fn written_bare(expr: &Expr) -> bool {
+    match &expr.kind {
+        ExprKind::Number(_) => true,
+        ExprKind::Negate(inner) => written_bare(inner),
+        ExprKind::Binary { lhs, rhs, .. } => written_bare(lhs) && written_bare(rhs),
+        _ => false,
+    }
+}
+
+/// The operands of the outermost sums and differences of `expr`.
+fn collect_terms<'e>(expr: &'e Expr, terms: &mut Vec<&'e Expr>) {
+    match &expr.kind {
+        ExprKind::Binary {
+            op: BinaryOp::Add | BinaryOp::Subtract,
+            lhs,
+            rhs,
+        } => {
+            collect_terms(lhs, terms);
+            collect_terms(rhs, terms);
+        }
+        ExprKind::Negate(inner) => collect_terms(inner, terms),
+        _ => terms.push(expr),
+    }
+}
+
+/// One number of a value: a vector's component, or the scalar itself.
+fn pick(value: Value, component: Option<usize>) -> f64 {
+    match (value, component) {
+        (Value::Vector(v), Some(axis)) => v.si[axis],
+        (value, _) => value.scalar().map_or(f64::NAN, |q| q.si),
+    }
+}
+
+/// Residuals divided by their equations' scales (an equation whose terms
+/// are all zero holds only if its residual is zero).
+fn scaled_residuals(residuals: &DVector<f64>, scales: &DVector<f64>) -> DVector<f64> {
+    residuals.zip_map(scales, |r, s| {
+        if s > 0.0 {
+            r / s
+        } else if r == 0.0 {
+            0.0
+        } else {
+            f64::INFINITY
+        }
+    })
+}
+
+/// The size each unknown is measured against at `x`: its value, or one of
+/// its unit, whichever is larger.
+fn column_sizes(system: &System<'_, '_>, x: &DVector<f64>) -> DVector<f64> {
+    DVector::from_iterator(
+        x.len(),
+        x.iter()
+            .zip(&system.units)
+            .map(|(v, unit)| v.abs().max(*unit)),
+    )
+}
+
+/// The Jacobian at `root` with each unknown measured against its size and
+/// each equation against its scale: its condition number is the factor by
+/// which a relative change in the equations' terms moves the unknowns.
+fn scaled_jacobian(system: &System<'_, '_>, root: &Root) -> DMatrix<f64> {
+    let columns = column_sizes(system, &root.x);
+    let mut scaled = root.jacobian.clone();
+    for (j, mut row) in scaled.row_iter_mut().enumerate() {
+        let moved: f64 = row
+            .iter()
+            .zip(columns.iter())
+            .map(|(d, c)| (d * c).abs())
+            .sum();
+        let scale = if root.scales[j] > 0.0 {
+            root.scales[j]
+        } else if moved > 0.0 {
+            moved
+        } else {
+            1.0
+        };
+        for (i, entry) in row.iter_mut().enumerate() {
+            *entry *= columns[i] / scale;
+        }
+    }
+    scaled
 }
 
 fn singular_extremes(values: &DVector<f64>) -> (f64, f64) {
     let largest = values.iter().copied().fold(0.0, f64::max);
     let smallest = values.iter().copied().fold(f64::INFINITY, f64::min);
     (largest, if smallest.is_finite() { smallest } else { 0.0 })
+}
+
+/// The warning for a solution of condition number `condition`.
+fn ill_conditioned(block: &SolveBlock, condition: f64, names: &str) -> Diagnostic {
+    let lost = condition.log10().round();
+    Diagnostic::new(
+        Severity::Warning,
+        Code::IllConditioned,
+        block.head,
+        format!(
+            "the solution for {names} is ill-conditioned (condition number {condition:.1e}): it costs about {lost} of the 16 significant digits, and small changes in the inputs move it far",
+        ),
+    )
+    .with_help("look for nearly dependent equations, or a double root (a curve that only touches its target); an independent equation, or an inputs' margin, makes the answer firm")
 }
 
 /// `lhs = rhs`, with `(x)` for a component of a vector equation.
