@@ -8,6 +8,10 @@
 //!   written in); a range called exact equals the corner extremes; every
 //!   sensitivity equals a central difference; a check that fails at any
 //!   sampled point is never passed;
+//! - solve blocks: every reported solution satisfies its equations (a plain
+//!   sheet with the solution written in, each side and term a cell), and
+//!   every start from the guesses scaled by 0.1 … 10 reaches the same
+//!   solution or another that passes the same test;
 //! - the pipeline: `check --json`, the report, `audit --json`, `signoff`
 //!   and the notebook's status line agree on errors, warnings and checks.
 //!
@@ -23,7 +27,7 @@ use std::path::{Path, PathBuf};
 use heftsheet::eval::{CellStatus, CheckStatus, Evaluated, LiveSheet, RangeMethod};
 use heftsheet::pipeline;
 use heftsheet::syntax::Span;
-use heftsheet::syntax::ast::{Target, Tolerance};
+use heftsheet::syntax::ast::{BinaryOp, Expr, ExprKind, Target, Tolerance};
 use proptest::prelude::*;
 
 // ---------------------------------------------------------------------------
@@ -1035,4 +1039,278 @@ fn every_command_and_the_notebook_agree_on_every_sheet() {
         sheets += 1;
     }
     println!("pipeline oracle: {sheets} sheets, five front ends each");
+}
+
+// ---------------------------------------------------------------------------
+// Solve blocks: every solution heft reports satisfies its equations, checked
+// by a plain sheet with the solution written in as numbers and each side of
+// each equation a cell of its own; and every start from the guesses scaled
+// by 0.1 … 10 either reaches the same solution or another that also passes
+// that check.
+
+/// Agreement demanded of an equation's two sides at a reported solution,
+/// relative to its largest term (heft itself asks 10⁻⁹; the written-in
+/// solution is rounded once more).
+const SIDES_AGREE: f64 = 1e-8;
+
+/// The factors the guesses are scaled by.
+const GUESS_FACTORS: [f64; 4] = [0.1, 0.5, 2.0, 10.0];
+
+/// A sheet's solve blocks, checked by [`solution_written_in`]: how many
+/// solutions were checked. Panics on one that does not hold.
+fn solutions_hold(source: &str, origin: &str) -> usize {
+    let evaluated = pipeline::run(source);
+    let mut checked = 0;
+    for (index, solve) in evaluated.solves.iter().enumerate() {
+        if solve.status != heftsheet::eval::SolveStatus::Solved {
+            continue;
+        }
+        let (plain, sides) = solution_written_in(&evaluated, index);
+        let written = pipeline::run(&plain);
+        for (j, (lhs, rhs, terms)) in sides.iter().enumerate() {
+            let side = |name: &str| -> Vec<f64> {
+                let cell = written
+                    .cell(name)
+                    .unwrap_or_else(|| panic!("{origin}: no cell {name} in\n{plain}"));
+                assert_eq!(cell.status, CellStatus::Ok, "{origin}: {name} in\n{plain}");
+                match (cell.value, cell.vector) {
+                    (_, Some(vector)) => vector.si[..usize::from(vector.n_components)].to_vec(),
+                    (Some(q), None) => vec![q.si],
+                    (None, None) => vec![f64::NAN],
+                }
+            };
+            let (left, right) = (side(lhs), side(rhs));
+            let size = terms
+                .iter()
+                .flat_map(|term| side(term))
+                .fold(0.0_f64, |m, v| m.max(v.abs()));
+            for (l, r) in left.iter().zip(&right) {
+                assert!(
+                    (l - r).abs() <= SIDES_AGREE * size,
+                    "{origin}: equation {} of block {index} does not hold at the reported solution: {l} against {r}\n{plain}",
+                    j + 1
+                );
+            }
+        }
+        checked += 1;
+    }
+    checked
+}
+
+/// The operands of the outermost sums and differences of `expr`.
+fn terms_of<'e>(expr: &'e Expr, terms: &mut Vec<&'e Expr>) {
+    match &expr.kind {
+        ExprKind::Binary {
+            op: BinaryOp::Add | BinaryOp::Subtract,
+            lhs,
+            rhs,
+        } => {
+            terms_of(lhs, terms);
+            terms_of(rhs, terms);
+        }
+        ExprKind::Negate(inner) => terms_of(inner, terms),
+        _ => terms.push(expr),
+    }
+}
+
+/// The two sides of an equation and its terms, as cell names.
+type Sides = (String, String, Vec<String>);
+
+/// The sheet with solve block `index` replaced by its solution written in
+/// (each unknown a number in its unit) and each side of each equation, and
+/// each of their terms (whose largest sets the agreement asked), a cell;
+/// with the names of those cells, in equation order.
+fn solution_written_in(evaluated: &Evaluated, index: usize) -> (String, Vec<Sides>) {
+    let solve = &evaluated.solves[index];
+    let block = evaluated
+        .sheet()
+        .solve_block(solve.statement)
+        .unwrap_or_else(|| panic!("block {index} is not a solve block"));
+    let mut text = String::from("\n");
+    for &id in &solve.unknowns {
+        let cell = evaluated.cell_at(id);
+        let si = cell.value.map_or(f64::NAN, |q| q.si);
+        let number = si / cell.display.si_factor;
+        text.push_str(&format!(
+            "{} = {number:e} {}\n",
+            cell.name, cell.display.text
+        ));
+    }
+    let mut sides = Vec::new();
+    for (j, equation) in block.equations.iter().enumerate() {
+        let source = evaluated.source();
+        let (lhs, rhs) = (format!("oracle_lhs_{j}"), format!("oracle_rhs_{j}"));
+        text.push_str(&format!("{lhs} = {}\n", equation.lhs.span.text(source)));
+        text.push_str(&format!("{rhs} = {}\n", equation.rhs.span.text(source)));
+        let mut terms = Vec::new();
+        terms_of(&equation.lhs, &mut terms);
+        terms_of(&equation.rhs, &mut terms);
+        let names = (0..terms.len())
+            .map(|k| format!("oracle_term_{j}_{k}"))
+            .collect::<Vec<_>>();
+        for (name, term) in names.iter().zip(&terms) {
+            text.push_str(&format!("{name} = {}\n", term.span.text(source)));
+        }
+        sides.push((lhs, rhs, names));
+    }
+    (spliced(evaluated.source(), vec![(solve.span, text)]), sides)
+}
+
+/// The sheet with every guess of solve block `index` scaled by `factor`
+/// (an unknown without a guess gets `factor` of its unit).
+fn guesses_scaled(evaluated: &Evaluated, index: usize, factor: f64) -> String {
+    let solve = &evaluated.solves[index];
+    let source = evaluated.source();
+    let Some(block) = evaluated.sheet().solve_block(solve.statement) else {
+        return source.to_string();
+    };
+    let edits = block
+        .unknowns
+        .iter()
+        .map(|unknown| match &unknown.guess {
+            Some(guess) => (
+                guess.span,
+                format!("({}) * {factor}", guess.span.text(source)),
+            ),
+            None => {
+                // Just after the `]` that closes the unit.
+                let close = source[unknown.unit.span.end()..]
+                    .find(']')
+                    .map_or(unknown.unit.span.end(), |at| {
+                        unknown.unit.span.end() + at + 1
+                    });
+                (Span::new(close, close), format!(" ~ {factor}"))
+            }
+        })
+        .collect();
+    spliced(source, edits)
+}
+
+/// The guess oracle on one sheet: how many starts were tried, and how many
+/// reached a different (but verified) solution.
+fn other_starts_hold(source: &str, origin: &str) -> (usize, usize) {
+    let evaluated = pipeline::run(source);
+    let (mut starts, mut elsewhere) = (0, 0);
+    for (index, solve) in evaluated.solves.iter().enumerate() {
+        if solve.status != heftsheet::eval::SolveStatus::Solved {
+            continue;
+        }
+        let reference: Vec<f64> = solve
+            .unknowns
+            .iter()
+            .map(|&id| evaluated.cell_at(id).value.map_or(f64::NAN, |q| q.si))
+            .collect();
+        for factor in GUESS_FACTORS {
+            let moved = guesses_scaled(&evaluated, index, factor);
+            let label = format!("{origin} with guesses ×{factor}");
+            solutions_hold(&moved, &label);
+            let again = pipeline::run(&moved);
+            starts += 1;
+            let Some(other) = again.solves.get(index) else {
+                continue;
+            };
+            if other.status == heftsheet::eval::SolveStatus::Solved {
+                let same = other.unknowns.iter().zip(&reference).all(|(&id, &r)| {
+                    let v = again.cell_at(id).value.map_or(f64::NAN, |q| q.si);
+                    close(v, r, 1e-6, 1e-9)
+                });
+                if !same {
+                    elsewhere += 1;
+                }
+            }
+        }
+    }
+    (starts, elsewhere)
+}
+
+/// A generated sheet with one solve block of a known kind, and its seed.
+fn generated_solve_sheet(seed: u64) -> String {
+    let mut rng = Rng(seed);
+    match rng.below(4) {
+        0 => {
+            // A linear balance of two carts on a rope: a and T.
+            let (m1, m2, f) = (
+                rng.float(5.0, 500.0),
+                rng.float(5.0, 500.0),
+                rng.float(10.0, 5000.0),
+            );
+            format!(
+                "m1 = {m1} kg\nm2 = {m2} kg\nF = {f} N\nsolve a [m/s^2] ~ {}, T [N] ~ {}:\n  F - T = m1 * a\n  T = m2 * a\nend\n",
+                rng.float(0.1, 10.0),
+                rng.float(1.0, 1000.0)
+            )
+        }
+        1 => {
+            // Quadratic drag at terminal speed.
+            let (m, c) = (rng.float(0.5, 200.0), rng.float(0.001, 2.0));
+            format!(
+                "m = {m} kg\nc = {c} kg/m\nsolve v [m/s] ~ {}:\n  c * v^2 = m * g0\nend\n",
+                rng.float(0.5, 100.0)
+            )
+        }
+        2 => {
+            // A rope drawn aside: tension and angle.
+            let (w, h) = (rng.float(100.0, 20000.0), rng.float(10.0, 5000.0));
+            format!(
+                "W = {w} N\nH = {h} N\nsolve T [N] ~ {}, θ [deg] ~ {}:\n  T * sin(θ) = H\n  T * cos(θ) = W\nend\n",
+                rng.float(100.0, 20000.0),
+                rng.float(5.0, 60.0)
+            )
+        }
+        _ => {
+            // A capstan: the friction coefficient for a tension ratio.
+            let (t1, ratio, wrap) = (
+                rng.float(100.0, 5000.0),
+                rng.float(1.1, 20.0),
+                rng.float(1.0, 10.0),
+            );
+            format!(
+                "T1 = {t1} N\nT2 = {} N\nβ = {wrap}\nsolve μ [%] ~ {}:\n  T2 = T1 * exp(μ * β)\nend\n",
+                t1 * ratio,
+                rng.float(1.0, 80.0)
+            )
+        }
+    }
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 64, failure_persistence: None, ..ProptestConfig::default() })]
+
+    #[test]
+    fn generated_solutions_satisfy_their_equations_from_any_start(seed in any::<u64>()) {
+        let sheet = generated_solve_sheet(seed);
+        let checked = solutions_hold(&sheet, &format!("seed {seed}"));
+        prop_assert_eq!(checked, 1, "the generated block was not solved:\n{}", sheet);
+        other_starts_hold(&sheet, &format!("seed {seed}"));
+    }
+}
+
+#[test]
+fn every_repository_solution_satisfies_its_equations_from_any_start() {
+    let (mut solutions, mut starts, mut elsewhere) = (0, 0, 0);
+    for path in repository_sheets() {
+        let source = read(&path);
+        let origin = path.display().to_string();
+        solutions += solutions_hold(&source, &origin);
+        let (tried, other) = other_starts_hold(&source, &origin);
+        starts += tried;
+        elsewhere += other;
+    }
+    println!(
+        "solve oracle: {solutions} repository solutions hold; {starts} other starts, {elsewhere} reached another verified solution"
+    );
+    assert!(solutions >= 5, "only {solutions} solutions checked");
+    // The generated blocks, counted the same way over fixed seeds.
+    let (mut generated, mut generated_starts, mut generated_elsewhere) = (0, 0, 0);
+    for seed in 0..48u64 {
+        let sheet = generated_solve_sheet(seed);
+        generated += solutions_hold(&sheet, &format!("seed {seed}"));
+        let (tried, other) = other_starts_hold(&sheet, &format!("seed {seed}"));
+        generated_starts += tried;
+        generated_elsewhere += other;
+    }
+    println!(
+        "solve oracle: {generated} generated solutions hold; {generated_starts} other starts, {generated_elsewhere} reached another verified solution"
+    );
+    assert_eq!(generated, 48, "a generated block was not solved");
 }
