@@ -288,6 +288,53 @@ fn a_solved_result_is_judged_at_the_worst_case_of_its_tolerances() {
 }
 
 #[test]
+fn a_solved_result_has_the_first_order_range_and_sensitivities_of_its_closed_form() {
+    // Oracle: each solved unknown beside the closed form of the same
+    // quantity written as a formula, whose first-order range and
+    // sensitivities come from the ordinary derivative pass. Terminal speed
+    // of quadratic drag, c v² = m g0 (closed form v = √(m g0 / c)), with
+    // the mass and the drag coefficient toleranced; and a linear
+    // two-cart balance (a = F / (m1 + m2), T = m2 F / (m1 + m2)).
+    let sheet = run(
+        "m = 80 kg ± 5 %\nc = 0.25 kg/m ± 0.02 kg/m\nsolve v [m/s] ~ 10:\n  c * v^2 = m * g0\nend\n\
+         v_hand [m/s] = sqrt(m * g0 / c)\ncheck v <= 60 m/s\ncheck v_hand <= 60 m/s\n\
+         F = 900 N ± 50 N\nm1 = 120 kg ± 10 kg\nm2 = 60 kg\nsolve a [m/s^2], T [N]:\n  F - T = m1 * a\n  T = m2 * a\nend\n\
+         T_hand [N] = m2 * F / (m1 + m2)\ncheck T <= 400 N\ncheck T_hand <= 400 N\n",
+    );
+    for (solved, by_hand) in [("v", "v_hand"), ("T", "T_hand")] {
+        let (solved_range, hand_range) = (range(&sheet, solved), range(&sheet, by_hand));
+        let (low, high) = solved_range
+            .first_order
+            .unwrap_or_else(|| panic!("`{solved}` has no first-order range"));
+        let (hand_low, hand_high) = hand_range.first_order.unwrap_or((f64::NAN, f64::NAN));
+        assert_close(low, hand_low, 1e-12);
+        assert_close(high, hand_high, 1e-12);
+        assert_eq!(
+            solved_range.sensitivities.len(),
+            hand_range.sensitivities.len(),
+            "{solved}"
+        );
+        for (a, b) in solved_range
+            .sensitivities
+            .iter()
+            .zip(&hand_range.sensitivities)
+        {
+            assert_eq!(a.input, b.input, "{solved}: the same ranking");
+            assert_close(a.derivative, b.derivative, 1e-10);
+            assert_close(a.share, b.share, 1e-10);
+        }
+    }
+    // And by hand: ∂v/∂m = v / (2m) at the nominal point.
+    let v = (80.0_f64 * 9.80665 / 0.25).sqrt();
+    let by_mass = range(&sheet, "v")
+        .sensitivities
+        .iter()
+        .find(|s| sheet.cell_at(s.input).name == "m")
+        .map_or(f64::NAN, |s| s.derivative);
+    assert_close(by_mass, v / (2.0 * 80.0), 1e-12);
+}
+
+#[test]
 fn vector_and_simulated_results_are_judged_at_their_corners() {
     // A sling force as a vector: |F| = T / cos(θ) hand-checked at the worst
     // corner T = 1.1 × 4 kN, θ = 32° (5.188 kN > 5.1 kN; nominal 4.619 kN); a run's peak speed for a free fall

@@ -113,6 +113,7 @@ impl Evaluator<'_> {
                 checks,
                 &mut cell_ranges,
             );
+            self.add_first_order(&ranges, &corner_cells, &mut cell_ranges);
         }
         // A toleranced input's own range is its tolerance, exactly.
         for input in &inputs {

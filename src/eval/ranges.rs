@@ -28,6 +28,10 @@ struct Source {
     shift: f64,
 }
 
+/// A solve block's unknowns and their implicit derivatives (for each
+/// unknown, ∂x/∂c for each cell c its equations name), if known.
+type BlockSlopes<'u> = (&'u [CellId], Option<Vec<Vec<(CellId, f64)>>>);
+
 /// What a run of the sheet gives each varying input.
 #[derive(Clone, Copy)]
 enum Setting {
@@ -348,25 +352,18 @@ impl Evaluator<'_> {
         }
         let nominal = target.nominal(self, ranges)?;
         let mut mean_value = point;
-        let mut first_order = (nominal, nominal);
         let mut monotone = true;
         let mut signs = Vec::with_capacity(ranges.sources.len());
-        let mut contributions = Vec::with_capacity(ranges.sources.len());
-        let mut sensitivities = Vec::new();
+        let derivatives: Vec<f64> = (0..ranges.sources.len())
+            .map(|k| target.dual(&ranges.derivatives[k]).derivative)
+            .collect();
+        let (first_order, sensitivities) = self.linearised(ranges, &derivatives, nominal);
         // The cells the target depends on, found when first needed.
         let mut cone: Option<Vec<CellId>> = None;
         for (k, source) in ranges.sources.iter().enumerate() {
-            let derivative = target.dual(&ranges.derivatives[k]).derivative;
             let enclosure = target.dual_interval(&ranges.enclosures[k]).derivative;
             let spread = Interval::new(-source.below, source.above);
             mean_value = mean_value.add(enclosure.mul(spread));
-            let (low, high) = if derivative >= 0.0 {
-                (-derivative * source.below, derivative * source.above)
-            } else {
-                (derivative * source.above, -derivative * source.below)
-            };
-            first_order = (first_order.0 + low, first_order.1 + high);
-            contributions.push(high - low);
             // An exact zero derivative comes out as the smallest subnormal
             // interval around zero after outward rounding: that is no sign change.
             let tiny = 1e-300;
@@ -387,6 +384,49 @@ impl Evaluator<'_> {
             };
             monotone &= sign.is_some();
             signs.push(sign.unwrap_or(true));
+        }
+        let mut bounds = boxed.intersect(mean_value);
+        let mut method = RangeMethod::Guaranteed;
+        if refine && monotone {
+            let high_corner: Vec<bool> = signs.clone();
+            let low_corner: Vec<bool> = signs.iter().map(|s| !s).collect();
+            let cone = cone.get_or_insert_with(|| self.cone(ranges, target));
+            let high = value_in(&self.interval_pass(ranges, cone, Setting::Corner, &high_corner));
+            let low = value_in(&self.interval_pass(ranges, cone, Setting::Corner, &low_corner));
+            if !high.is_nan() && !low.is_nan() {
+                bounds = Interval::new(low.lo, high.hi).intersect(bounds);
+                method = RangeMethod::WorstCorners;
+            }
+        }
+        Some(CellRange {
+            low: bounds.lo,
+            high: bounds.hi,
+            first_order: Some(first_order),
+            method,
+            sensitivities,
+        })
+    }
+
+    /// The first-order bounds of a result of value `nominal` whose
+    /// derivative along each source is `derivatives`, and the sources ranked
+    /// by their share of that range.
+    fn linearised(
+        &self,
+        ranges: &Ranges,
+        derivatives: &[f64],
+        nominal: f64,
+    ) -> ((f64, f64), Vec<Sensitivity>) {
+        let mut first_order = (nominal, nominal);
+        let mut contributions = Vec::with_capacity(derivatives.len());
+        let mut sensitivities = Vec::with_capacity(derivatives.len());
+        for (source, &derivative) in ranges.sources.iter().zip(derivatives) {
+            let (low, high) = if derivative >= 0.0 {
+                (-derivative * source.below, derivative * source.above)
+            } else {
+                (derivative * source.above, -derivative * source.below)
+            };
+            first_order = (first_order.0 + low, first_order.1 + high);
+            contributions.push(high - low);
             let input = self.values[source.cell]
                 .and_then(|v| v.scalar())
                 .map_or(0.0, |q| q.si);
@@ -408,26 +448,107 @@ impl Evaluator<'_> {
             };
         }
         sensitivities.sort_by(|a, b| b.share.total_cmp(&a.share));
-        let mut bounds = boxed.intersect(mean_value);
-        let mut method = RangeMethod::Guaranteed;
-        if refine && monotone {
-            let high_corner: Vec<bool> = signs.clone();
-            let low_corner: Vec<bool> = signs.iter().map(|s| !s).collect();
-            let cone = cone.get_or_insert_with(|| self.cone(ranges, target));
-            let high = value_in(&self.interval_pass(ranges, cone, Setting::Corner, &high_corner));
-            let low = value_in(&self.interval_pass(ranges, cone, Setting::Corner, &low_corner));
-            if !high.is_nan() && !low.is_nan() {
-                bounds = Interval::new(low.lo, high.hi).intersect(bounds);
-                method = RangeMethod::WorstCorners;
+        (first_order, sensitivities)
+    }
+
+    /// Gives each listed range found at the corners its first-order bounds
+    /// and sensitivities, from exact derivatives that reach through solve
+    /// blocks by their implicit derivatives (dx/dp = −J⁻¹ ∂F/∂p). A result
+    /// the derivatives cannot reach (a vector, a simulate block, a block
+    /// with vector equations) keeps none.
+    pub(super) fn add_first_order(
+        &self,
+        ranges: &Ranges,
+        cells: &[CellId],
+        cell_ranges: &mut [Option<CellRange>],
+    ) {
+        let slopes: Vec<BlockSlopes<'_>> = self
+            .node_order()
+            .iter()
+            .filter_map(|&node| match &self.sheet.nodes[node] {
+                Node::Solve {
+                    statement,
+                    unknowns,
+                } => Some((&unknowns[..], self.solve_slopes(*statement, unknowns))),
+                _ => None,
+            })
+            .collect();
+        let passes: Vec<Vec<f64>> = (0..ranges.sources.len())
+            .map(|index| self.implicit_pass(ranges, &slopes, index))
+            .collect();
+        for &id in cells {
+            let Some(range) = cell_ranges[id].as_mut() else {
+                continue;
+            };
+            let Some(nominal) = self.values[id].and_then(|v| v.scalar()).map(|q| q.si) else {
+                continue;
+            };
+            let derivatives: Vec<f64> = passes.iter().map(|pass| pass[id]).collect();
+            if derivatives.iter().all(|d| d.is_finite()) {
+                let (first_order, sensitivities) = self.linearised(ranges, &derivatives, nominal);
+                range.first_order = Some(first_order);
+                range.sensitivities = sensitivities;
             }
         }
-        Some(CellRange {
-            low: bounds.lo,
-            high: bounds.hi,
-            first_order: Some(first_order),
-            method,
-            sensitivities,
-        })
+    }
+
+    /// Every cell's exact derivative along source `index` at the nominal
+    /// point, in node order: formula cells by their programs on dual
+    /// numbers, a solve block's unknowns by its implicit derivatives;
+    /// NaN where no derivative is known.
+    fn implicit_pass(
+        &self,
+        ranges: &Ranges,
+        slopes: &[BlockSlopes<'_>],
+        index: usize,
+    ) -> Vec<f64> {
+        let n_cells = ranges.programs.len();
+        let nominal = |id: CellId| {
+            self.values[id]
+                .and_then(|v| v.scalar())
+                .map_or(f64::NAN, |q| q.si)
+        };
+        let mut values: Vec<Dual<f64>> = (0..n_cells)
+            .map(|id| Dual {
+                value: nominal(id),
+                derivative: f64::NAN,
+            })
+            .collect();
+        let source = ranges.sources[index].cell;
+        let mut blocks = slopes.iter();
+        let mut stack = Vec::with_capacity(16);
+        for &node in self.node_order() {
+            match &self.sheet.nodes[node] {
+                Node::Cell(id) => {
+                    // A program folds a name it cannot take as an input
+                    // (a vector) to a constant: no derivative reaches through it.
+                    let unreached = self
+                        .uses_of(*id)
+                        .iter()
+                        .any(|&used| values[used].derivative.is_nan());
+                    let derivative = match &ranges.programs[*id] {
+                        Some(program) if !unreached => {
+                            program.run_with(&values, &mut stack).derivative
+                        }
+                        _ => f64::NAN,
+                    };
+                    values[*id].derivative = derivative + if *id == source { 1.0 } else { 0.0 };
+                }
+                Node::Solve { .. } => {
+                    let Some((unknowns, Some(slopes))) = blocks.next() else {
+                        continue;
+                    };
+                    for (&unknown, slopes) in unknowns.iter().zip(slopes) {
+                        values[unknown].derivative = slopes
+                            .iter()
+                            .map(|&(cell, slope)| slope * values[cell].derivative)
+                            .sum();
+                    }
+                }
+                Node::Simulate { .. } => {}
+            }
+        }
+        values.into_iter().map(|v| v.derivative).collect()
     }
 
     /// The cells `target` depends on (itself included), in evaluation order.

@@ -720,6 +720,85 @@ impl Evaluator<'_> {
         Stop::Fail(Box::new(diagnostic))
     }
 
+    /// The implicit derivatives of a solved block's unknowns: for each
+    /// unknown, ∂x/∂c for every other cell c its equations name, from
+    /// dx/dc = −J⁻¹ ∂F/∂c with both Jacobians exact (the equations compiled
+    /// over every cell they name and run on dual numbers) at the solution.
+    /// `None` for a block with vector equations, or one whose Jacobian
+    /// cannot be inverted there.
+    pub(super) fn solve_slopes(
+        &self,
+        statement: usize,
+        unknowns: &[CellId],
+    ) -> Option<Vec<Vec<(CellId, f64)>>> {
+        let block = self.sheet.solve_block(statement)?;
+        if block.equations.len() != unknowns.len() {
+            return None;
+        }
+        let mut programs = Vec::with_capacity(block.equations.len());
+        for equation in &block.equations {
+            let difference = Expr {
+                span: equation.span,
+                kind: ExprKind::Binary {
+                    op: BinaryOp::Subtract,
+                    lhs: Box::new(equation.lhs.clone()),
+                    rhs: Box::new(equation.rhs.clone()),
+                },
+            };
+            programs.push(
+                self.compile(&difference, &|name| self.input_for(name))
+                    .ok()?,
+            );
+        }
+        let mut outside: Vec<CellId> = programs
+            .iter()
+            .flat_map(|program| program.inputs().map(|id| id as usize))
+            .filter(|id| !unknowns.contains(id))
+            .collect();
+        outside.sort_unstable();
+        outside.dedup();
+        let values: Vec<f64> = (0..self.sheet.cells.len())
+            .map(|id| {
+                self.values[id]
+                    .and_then(|v| v.scalar())
+                    .map_or(f64::NAN, |q| q.si)
+            })
+            .collect();
+        let mut duals: Vec<Dual<f64>> = values.iter().map(|&v| Dual::fixed(v)).collect();
+        let mut slope = |program: &Program, cell: CellId| {
+            duals[cell] = Dual::variable(values[cell]);
+            let derivative = program.run(&duals).derivative;
+            duals[cell] = Dual::fixed(values[cell]);
+            derivative
+        };
+        let n = unknowns.len();
+        let mut jacobian = DMatrix::zeros(n, n);
+        let mut forcing = DMatrix::zeros(n, outside.len());
+        for (j, program) in programs.iter().enumerate() {
+            for (i, &unknown) in unknowns.iter().enumerate() {
+                jacobian[(j, i)] = slope(program, unknown);
+            }
+            for (k, &cell) in outside.iter().enumerate() {
+                forcing[(j, k)] = -slope(program, cell);
+            }
+        }
+        let solved = jacobian.lu().solve(&forcing)?;
+        if solved.iter().any(|v| !v.is_finite()) {
+            return None;
+        }
+        Some(
+            (0..n)
+                .map(|i| {
+                    outside
+                        .iter()
+                        .enumerate()
+                        .map(|(k, &cell)| (cell, solved[(i, k)]))
+                        .collect()
+                })
+                .collect(),
+        )
+    }
+
     fn unknown_names(&self, block: &SolveBlock) -> String {
         block
             .unknowns
