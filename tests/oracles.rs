@@ -27,7 +27,7 @@ use std::path::{Path, PathBuf};
 use heftsheet::eval::{CellStatus, CheckStatus, Evaluated, LiveSheet, RangeMethod};
 use heftsheet::pipeline;
 use heftsheet::syntax::Span;
-use heftsheet::syntax::ast::{BinaryOp, Expr, ExprKind, Target, Tolerance};
+use heftsheet::syntax::ast::{Target, Tolerance};
 use proptest::prelude::*;
 
 // ---------------------------------------------------------------------------
@@ -1097,22 +1097,6 @@ fn solutions_hold(source: &str, origin: &str) -> usize {
     checked
 }
 
-/// The operands of the outermost sums and differences of `expr`.
-fn terms_of<'e>(expr: &'e Expr, terms: &mut Vec<&'e Expr>) {
-    match &expr.kind {
-        ExprKind::Binary {
-            op: BinaryOp::Add | BinaryOp::Subtract,
-            lhs,
-            rhs,
-        } => {
-            terms_of(lhs, terms);
-            terms_of(rhs, terms);
-        }
-        ExprKind::Negate(inner) => terms_of(inner, terms),
-        _ => terms.push(expr),
-    }
-}
-
 /// The two sides of an equation and its terms, as cell names.
 type Sides = (String, String, Vec<String>);
 
@@ -1142,9 +1126,8 @@ fn solution_written_in(evaluated: &Evaluated, index: usize) -> (String, Vec<Side
         let (lhs, rhs) = (format!("oracle_lhs_{j}"), format!("oracle_rhs_{j}"));
         text.push_str(&format!("{lhs} = {}\n", equation.lhs.span.text(source)));
         text.push_str(&format!("{rhs} = {}\n", equation.rhs.span.text(source)));
-        let mut terms = Vec::new();
-        terms_of(&equation.lhs, &mut terms);
-        terms_of(&equation.rhs, &mut terms);
+        let mut terms = equation.lhs.terms();
+        terms.extend(equation.rhs.terms());
         let names = (0..terms.len())
             .map(|k| format!("oracle_term_{j}_{k}"))
             .collect::<Vec<_>>();

@@ -496,12 +496,7 @@ impl Evaluator<'_> {
     /// point, in node order: formula cells by their programs on dual
     /// numbers, a solve block's unknowns by its implicit derivatives;
     /// NaN where no derivative is known.
-    fn implicit_pass(
-        &self,
-        ranges: &Ranges,
-        slopes: &[BlockSlopes<'_>],
-        index: usize,
-    ) -> Vec<f64> {
+    fn implicit_pass(&self, ranges: &Ranges, slopes: &[BlockSlopes<'_>], index: usize) -> Vec<f64> {
         let n_cells = ranges.programs.len();
         let nominal = |id: CellId| {
             self.values[id]

@@ -350,9 +350,8 @@ impl Evaluator<'_> {
                     }
                 });
             }
-            let mut terms = Vec::new();
-            collect_terms(&equation.lhs, &mut terms);
-            collect_terms(&equation.rhs, &mut terms);
+            let mut terms = equation.lhs.terms();
+            terms.extend(equation.rhs.terms());
             match (lhs, rhs) {
                 (Value::Vector(l), Value::Vector(r)) => {
                     for component in 0..usize::from(l.n_components.max(r.n_components)) {
@@ -689,26 +688,13 @@ impl Evaluator<'_> {
                 format!("`{}` (off by {off})", equation_text(self.source, equation))
             })
             .collect();
-        let closest: Vec<String> = block
-            .unknowns
-            .iter()
-            .enumerate()
-            .map(|(i, u)| {
-                format!(
-                    "{} = {}",
-                    u.name.text,
-                    self.style
-                        .show(Quantity::new(at.x[i], system.dimensions[i]))
-                )
-            })
-            .collect();
         let mut diagnostic = Diagnostic::error(
             Code::NoConvergence,
             block.head,
             format!(
                 "no solution found for {}: at the closest point reached ({}) the equations furthest from holding are {}",
                 self.unknown_names(block),
-                closest.join(", "),
+                self.unknowns_at(block, system, &at.x),
                 described.join(", ")
             ),
         )
@@ -799,6 +785,31 @@ impl Evaluator<'_> {
         )
     }
 
+    /// `T = 546 N, θ = 23.68 deg`: the unknowns at `x`, each in its own
+    /// unit (a component at the rounding floor of its size reads as zero).
+    fn unknowns_at(&self, block: &SolveBlock, system: &System<'_, '_>, x: &DVector<f64>) -> String {
+        let size = column_sizes(system, x);
+        block
+            .unknowns
+            .iter()
+            .enumerate()
+            .map(|(i, u)| {
+                let value = if x[i].abs() < 1e-9 * size[i] {
+                    0.0
+                } else {
+                    x[i]
+                };
+                format!(
+                    "{} = {}",
+                    u.name.text,
+                    self.style
+                        .show_in(value, u.unit.span.text(self.source), system.units[i])
+                )
+            })
+            .collect::<Vec<_>>()
+            .join(", ")
+    }
+
     fn unknown_names(&self, block: &SolveBlock) -> String {
         block
             .unknowns
@@ -876,27 +887,6 @@ impl Evaluator<'_> {
             {
                 continue;
             }
-            // Components at the rounding floor of the root's size read as zero.
-            let describe = |x: &DVector<f64>| {
-                let x = x.zip_map(&size, |v, s| if v.abs() < 1e-9 * s { 0.0 } else { v });
-                block
-                    .unknowns
-                    .iter()
-                    .enumerate()
-                    .map(|(i, u)| {
-                        format!(
-                            "{} = {}",
-                            u.name.text,
-                            self.style.show_in(
-                                x[i],
-                                u.unit.span.text(self.source),
-                                system.units[i]
-                            )
-                        )
-                    })
-                    .collect::<Vec<_>>()
-                    .join(", ")
-            };
             self.diagnostics.push(
                 Diagnostic::new(
                     Severity::Warning,
@@ -904,8 +894,8 @@ impl Evaluator<'_> {
                     block.head,
                     format!(
                         "these equations have more than one solution near the guess: heft took {} (reached from the guess), but {} also solves them",
-                        describe(&root.x),
-                        describe(&other.x)
+                        self.unknowns_at(block, system, &root.x),
+                        self.unknowns_at(block, system, &other.x)
                     ),
                 )
                 .with_help("move the guesses (`~`) closer to the solution you mean, so that no other lies within a factor of 10 of them"),
@@ -947,22 +937,6 @@ fn written_bare(expr: &Expr) -> bool {
         ExprKind::Negate(inner) => written_bare(inner),
         ExprKind::Binary { lhs, rhs, .. } => written_bare(lhs) && written_bare(rhs),
         _ => false,
-    }
-}
-
-/// The operands of the outermost sums and differences of `expr`.
-fn collect_terms<'e>(expr: &'e Expr, terms: &mut Vec<&'e Expr>) {
-    match &expr.kind {
-        ExprKind::Binary {
-            op: BinaryOp::Add | BinaryOp::Subtract,
-            lhs,
-            rhs,
-        } => {
-            collect_terms(lhs, terms);
-            collect_terms(rhs, terms);
-        }
-        ExprKind::Negate(inner) => collect_terms(inner, terms),
-        _ => terms.push(expr),
     }
 }
 

@@ -608,6 +608,28 @@ pub struct UnitFactor {
 }
 
 impl Expr {
+    /// The operands of this expression's outermost sums and differences
+    /// (`F - m * a + N` → `F`, `m * a`, `N`; a negation is looked through).
+    pub fn terms(&self) -> Vec<&Expr> {
+        let mut terms = Vec::new();
+        let mut stack = vec![self];
+        while let Some(expr) = stack.pop() {
+            match &expr.kind {
+                ExprKind::Binary {
+                    op: BinaryOp::Add | BinaryOp::Subtract,
+                    lhs,
+                    rhs,
+                } => {
+                    stack.push(rhs);
+                    stack.push(lhs);
+                }
+                ExprKind::Negate(inner) => stack.push(inner),
+                _ => terms.push(expr),
+            }
+        }
+        terms
+    }
+
     /// Calls `visit` on every name in this expression, in written order.
     pub fn walk_names_mut(&mut self, visit: &mut impl FnMut(&mut NameRef, Span)) {
         self.walk_mut(&mut |node| {
