@@ -422,14 +422,7 @@ impl Evaluator<'_> {
             }),
             _ => None,
         };
-        let difference = Expr {
-            span: equation.span,
-            kind: ExprKind::Binary {
-                op: BinaryOp::Subtract,
-                lhs: Box::new(equation.lhs.clone()),
-                rhs: Box::new(equation.rhs.clone()),
-            },
-        };
+        let difference = difference_of(equation);
         match self.compile(&difference, &input_of) {
             Ok(program) => Ok(Some(program)),
             Err(CompileError::NeedsVectors(_)) => Ok(None),
@@ -723,14 +716,7 @@ impl Evaluator<'_> {
         }
         let mut programs = Vec::with_capacity(block.equations.len());
         for equation in &block.equations {
-            let difference = Expr {
-                span: equation.span,
-                kind: ExprKind::Binary {
-                    op: BinaryOp::Subtract,
-                    lhs: Box::new(equation.lhs.clone()),
-                    rhs: Box::new(equation.rhs.clone()),
-                },
-            };
+            let difference = difference_of(equation);
             programs.push(
                 self.compile(&difference, &|name| self.input_for(name))
                     .ok()?,
@@ -937,6 +923,18 @@ fn written_bare(expr: &Expr) -> bool {
         ExprKind::Negate(inner) => written_bare(inner),
         ExprKind::Binary { lhs, rhs, .. } => written_bare(lhs) && written_bare(rhs),
         _ => false,
+    }
+}
+
+/// `lhs - rhs` of an equation, as one expression to compile.
+fn difference_of(equation: &Equation) -> Expr {
+    Expr {
+        span: equation.span,
+        kind: ExprKind::Binary {
+            op: BinaryOp::Subtract,
+            lhs: Box::new(equation.lhs.clone()),
+            rhs: Box::new(equation.rhs.clone()),
+        },
     }
 }
 
