@@ -57,6 +57,14 @@ fn find(app: &mut App, name: &str) {
     keys(app, &[KeyCode::Enter]);
 }
 
+/// Carries out the lint the notebook asks for, as its event loop does on
+/// its lint thread (the findings' fixes are verified there).
+fn linted(app: &mut App) {
+    if let heftsheet::tui::app::Effect::Lint { revision, text } = app.lint_request() {
+        update(app, heftsheet::tui::app::lint(revision, text));
+    }
+}
+
 fn draw(app: &App) -> Terminal<TestBackend> {
     let area = app.viewport();
     let mut terminal = Terminal::new(TestBackend::new(area.width, area.height)).expect("terminal");
@@ -90,12 +98,14 @@ fn a_weight_typed_as_a_mass_is_flagged_while_editing_80_by_24() {
     find(&mut app, "m_tot");
     keys(&mut app, &[KeyCode::Enter, KeyCode::End]);
     typed(&mut app, " + WLL");
+    linted(&mut app);
     insta::assert_snapshot!(draw(&app).backend());
 }
 
 #[test]
 fn findings_and_a_broken_sheet_at_80_by_24() {
     let mut app = app(BROKEN, 80, 24, false);
+    linted(&mut app);
     find(&mut app, "F_hold");
     insta::assert_snapshot!("broken_sheet_80x24", draw(&app).backend());
     keys(&mut app, &[KeyCode::Char('!')]);
@@ -105,6 +115,7 @@ fn findings_and_a_broken_sheet_at_80_by_24() {
 #[test]
 fn a_broken_sheet_at_160_by_48() {
     let mut app = app(BROKEN, 160, 48, false);
+    linted(&mut app);
     find(&mut app, "F_hold");
     insta::assert_snapshot!(draw(&app).backend());
 }

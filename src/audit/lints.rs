@@ -7,7 +7,7 @@ use super::gravity::{self, GravityKind, GravityUse, same_value};
 use super::hand_factors::{self, Family, HandFactorUse};
 use super::rewrite::evaluate_rewritten;
 use super::roles::{Evidence, Role, role_of};
-use crate::diag::{Code, Diagnostic};
+use crate::diag::{Code, Diagnostic, Fix};
 use crate::syntax::Span;
 use crate::syntax::ast::{BinaryOp, Expr, ExprKind};
 use crate::units::{self, Dimension, Quantity, STANDARD_GRAVITY, UnitSystem, format_significant};
@@ -61,7 +61,7 @@ pub(super) fn run(context: &Context<'_>) -> Vec<Diagnostic> {
     }
     let gravity = gravity.finish(context, &hand_factors);
     findings.extend(gravity_inconsistent(context, &gravity));
-    rounded_gravity(&gravity, &mut findings);
+    rounded_gravity(context, &gravity, &mut findings);
     findings.extend(systems.finish());
     findings
 }
@@ -106,36 +106,32 @@ fn mass_weight_mixup(
     let cell = context.sheet.formula_cell(id)?;
     let name = &cell.name.text;
     let formula = context.text(cell.expr.span);
-    let (held, converted, operation) = match role {
-        Role::Mass => (
-            "a force",
-            Quantity::new(value.si / STANDARD_GRAVITY, Dimension::MASS),
-            "/ g0",
-        ),
-        Role::Force => (
-            "a mass",
-            Quantity::new(value.si * STANDARD_GRAVITY, Dimension::FORCE),
-            "* g0",
-        ),
+    let (held, operation) = match role {
+        Role::Mass => ("a force", "/ g0"),
+        Role::Force => ("a mass", "* g0"),
     };
     let written = match &cell.expr.kind {
         ExprKind::Quantity {
             number_span, unit, ..
-        } => Some((context.text(*number_span), context.text(unit.span))),
+        } => Some((
+            context.text(*number_span),
+            context.text(unit.span),
+            unit.span,
+        )),
         _ => None,
     };
     // An input written in the gravitational counterpart of the right unit
     // (`120 lbf` for a mass) is fixed by swapping the unit: 120 lbf is the
     // weight of 120 lbm exactly, since lbf is defined with g0.
-    let swapped = written.and_then(|(number, unit)| {
+    let swapped = written.and_then(|(number, unit, unit_span)| {
         COUNTERPARTS.iter().find_map(|&(mass, force)| match role {
-            Role::Mass if unit == force => Some((number, unit, mass)),
-            Role::Force if unit == mass => Some((number, unit, force)),
+            Role::Mass if unit == force => Some((number, unit, unit_span, mass)),
+            Role::Force if unit == mass => Some((number, unit, unit_span, force)),
             _ => None,
         })
     });
     let what = match written {
-        Some((_, unit)) => format!("is written in {unit}, a unit of {held}"),
+        Some((_, unit, _)) => format!("is written in {unit}, a unit of {held}"),
         None => format!("holds {held} ({})", context.show(value)),
     };
     let message = format!(
@@ -156,27 +152,18 @@ fn mass_weight_mixup(
         Role::Mass => "a mass",
         Role::Force => "a weight",
     };
-    // The other system's unit, so the number is not just the one typed.
-    let other_system = match context.system {
-        crate::units::DisplaySystem::Si => crate::units::DisplaySystem::Fps,
-        crate::units::DisplaySystem::Fps => crate::units::DisplaySystem::Si,
-    };
-    let in_other = |q: Quantity| {
-        let unit = crate::units::pick_unit(q.dimension, q.si, other_system);
-        context.show_in(q.si, &unit.text, unit.si_factor)
-    };
-    let help = match swapped {
-        Some((number, unit, counterpart)) => format!(
-            "if it is {intended}, write `{name} = {number} {counterpart}` ({} = {}; {number} {unit} is its {}); otherwise {rename}",
-            context.show(converted),
-            in_other(converted),
-            match role {
-                Role::Mass => "weight",
-                Role::Force => "mass",
-            }
-        ),
+    let fix = match swapped {
+        Some((number, unit, unit_span, counterpart)) => Fix::replace(unit_span, counterpart)
+            .showing(Some(format!("{name} = {number} {counterpart}")))
+            .with_tail(format!(
+                "; {number} {unit} is its {}",
+                match role {
+                    Role::Mass => "weight",
+                    Role::Force => "mass",
+                }
+            )),
         None => {
-            let fix = if matches!(
+            let fixed = if matches!(
                 cell.expr.kind,
                 ExprKind::Name(_) | ExprKind::Quantity { .. }
             ) {
@@ -184,14 +171,16 @@ fn mass_weight_mixup(
             } else {
                 format!("({formula}) {operation}")
             };
-            format!(
-                "if it is {intended}, write `{name} = {fix}` (= {}); otherwise {rename}",
-                context.show(converted)
-            )
+            Fix::replace(cell.expr.span, fixed.clone()).showing(Some(format!("{name} = {fixed}")))
         }
     };
-    let mut diagnostic =
-        Diagnostic::warning(Code::MassWeightMixup, cell.expr.span, message).with_help(help);
+    let fix = fix
+        .with_lead(format!("if it is {intended}, "))
+        .with_tail(format!("; otherwise {rename}"));
+    let help = format!("if it is not {}, {rename}", role.describe());
+    let mut diagnostic = Diagnostic::warning(Code::MassWeightMixup, cell.expr.span, message)
+        .with_help(help)
+        .with_fix(fix);
     diagnostic = match (evidence, &cell.description) {
         (Evidence::Description, Some(description)) => diagnostic.with_label(
             description.span,
@@ -358,25 +347,24 @@ fn hand_conversion_factor(context: &Context<'_>, used: &HandFactorUse<'_>) -> Di
             current.map_or_else(|| "no value".to_string(), |v| v.dimension.describe())
         ),
     };
-    let help = match fixed_value {
-        _ if converts_bare_number => format!(
-            "give `{other}` its unit in place of the factor `{number}` (heft then converts it exactly); removing the factor alone would give `{fix}`, a different value"
-        ),
-        Some(value) => format!("write `{fix}` (= {})", context.show_for(used.owner, *value)),
-        None => format!("write `{fix}`"),
-    };
     let verb = if used.op == BinaryOp::Multiply {
         "multiplication"
     } else {
         "division"
     };
-    Diagnostic::warning(
+    let diagnostic = Diagnostic::warning(
         Code::HandConversionFactor,
         used.number.span,
         format!("{looks_like}; {explanation}"),
     )
-    .with_label(used.operation.span, format!("in this {verb}"))
-    .with_help(help)
+    .with_label(used.operation.span, format!("in this {verb}"));
+    if converts_bare_number {
+        diagnostic.with_help(format!(
+            "give `{other}` its unit in place of the factor `{number}` (heft then converts it exactly); removing the factor alone would give `{fix}`, a different value"
+        ))
+    } else {
+        diagnostic.with_fix(Fix::replace(used.root.span, fix.as_str()))
+    }
 }
 
 /// The dimension an expression should have: its cell's declared unit, else
@@ -504,7 +492,7 @@ pub(super) fn rounded_decimals(typed: f64, exact: f64) -> Option<u32> {
         .map(|decimals| decimals as u32)
 }
 
-fn rounded_gravity(uses: &[GravityUse], findings: &mut Vec<Diagnostic>) {
+fn rounded_gravity(context: &Context<'_>, uses: &[GravityUse], findings: &mut Vec<Diagnostic>) {
     for used in uses {
         if !matches!(used.kind, GravityKind::Cell | GravityKind::Literal) {
             continue;
@@ -536,11 +524,28 @@ fn rounded_gravity(uses: &[GravityUse], findings: &mut Vec<Diagnostic>) {
                     percent(used.relative_to_g0()),
                 ),
             )
-            .with_help(format!(
-                "write `g0` (= {g0_here}) unless a local gravity is meant; then give its source in the description"
-            )),
+            .with_help("if a local gravity is meant, give its source in the description")
+            .with_fix(
+                Fix::replace(gravity_value_span(context, used), "g0")
+                    .giving(None)
+                    .with_tail(format!(
+                        " (g0 = {g0_here}) unless a local gravity is meant; then give its source in the description"
+                    )),
+            ),
         );
     }
+}
+
+/// The text a gravity value is written as: a literal's own span, a gravity
+/// cell's formula.
+fn gravity_value_span(context: &Context<'_>, used: &GravityUse) -> Span {
+    if used.kind != GravityKind::Cell {
+        return used.span;
+    }
+    (0..context.sheet.cells.len())
+        .filter_map(|id| context.sheet.formula_cell(id))
+        .find(|cell| cell.name.span.start() == used.span.start())
+        .map_or(used.span, |cell| cell.expr.span)
 }
 
 // ---------------------------------------------------------------------------

@@ -10,11 +10,12 @@
 //! The lints are kept out of [`crate::eval::evaluate_source`] on purpose:
 //! evaluation reports what is wrong for certain; lints report what is
 //! probably wrong, from names, descriptions and familiar numbers.
-//! [`check_source`] is the whole pipeline with the lints added, which
-//! `heft check` and `heft audit` use.
+//! [`check_source`] is the whole pipeline with the lints added and every
+//! fix verified ([`verify_fixes`]), which every command uses.
 
 mod context;
 mod conversions;
+mod fixes;
 mod gravity;
 mod hand_factors;
 mod lints;
@@ -24,11 +25,12 @@ mod roles;
 pub use conversions::{
     ConversionAudit, ConversionEntry, ConversionKind, Exactness, SystemUse, conversion_audit,
 };
+pub use fixes::{MAX_CHECKED_FIXES, verify_fixes};
 pub use gravity::{GravityKind, GravityUse, Typed};
 pub use hand_factors::{Family, HAND_FACTORS, HandFactor};
 
 use crate::diag::Diagnostic;
-use crate::eval::{self, Evaluated};
+use crate::eval::Evaluated;
 
 /// Every lint finding for an evaluated sheet, sorted by position.
 pub fn lint(evaluated: &Evaluated) -> Vec<Diagnostic> {
@@ -60,10 +62,8 @@ pub fn format_relative(relative: f64) -> String {
     )
 }
 
-/// Parses, links, evaluates and lints a sheet: what `heft check` and
-/// `heft audit` report.
+/// Parses, links, evaluates and lints a sheet, with its fixes verified:
+/// [`crate::pipeline::run`], what every command reports.
 pub fn check_source(source: &str) -> Evaluated {
-    let mut evaluated = eval::evaluate_source(source);
-    add_lints(&mut evaluated);
-    evaluated
+    crate::pipeline::run(source)
 }

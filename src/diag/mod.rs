@@ -222,6 +222,78 @@ pub struct Label {
     pub message: String,
 }
 
+/// A rewrite of the sheet a finding suggests.
+///
+/// A fix is shown only once [`crate::pipeline::run`] has evaluated the sheet
+/// with it applied ([`crate::audit::verify_fixes`]): the number its help
+/// gives is the fixed sheet's own value, and until then its words stay here,
+/// out of [`Diagnostic::help`], so nothing prints them.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Fix {
+    /// The text the fix replaces (within one line).
+    pub span: Span,
+    /// What it writes there.
+    pub replacement: String,
+    /// Words before `write …`: `if it is a mass, `.
+    pub lead: String,
+    /// What to write, as the help shows it (`m_part = 120 lbm`); `None` for
+    /// the fixed line's formula (or check) as the fixed sheet reads it.
+    pub shows: Option<String>,
+    /// Words after the number: `; otherwise rename it (`W_part`)`.
+    pub tail: String,
+    /// Where the fixed sheet holds the number the help gives, if any.
+    pub value_of: Option<FixValue>,
+}
+
+/// Where the fixed sheet holds the number a fix's help gives.
+#[derive(Clone, Debug, PartialEq)]
+pub enum FixValue {
+    /// The cell or the side of a check the fix writes into.
+    Here,
+    /// The cell of this name (a fix to an input gives its number further on).
+    Cell(String),
+}
+
+impl Fix {
+    /// A fix that replaces `span` with `replacement` and shows the value of
+    /// what it writes into: `write `{replacement}` (= …)`.
+    pub fn replace(span: Span, replacement: impl Into<String>) -> Fix {
+        let replacement = replacement.into();
+        Fix {
+            span,
+            shows: Some(replacement.clone()),
+            replacement,
+            lead: String::new(),
+            tail: String::new(),
+            value_of: Some(FixValue::Here),
+        }
+    }
+
+    /// The same fix with words before `write`.
+    pub fn with_lead(mut self, lead: impl Into<String>) -> Fix {
+        self.lead = lead.into();
+        self
+    }
+
+    /// The same fix with more words after its number.
+    pub fn with_tail(mut self, tail: impl AsRef<str>) -> Fix {
+        self.tail.push_str(tail.as_ref());
+        self
+    }
+
+    /// The same fix, showing `shows` as what to write.
+    pub fn showing(mut self, shows: Option<String>) -> Fix {
+        self.shows = shows;
+        self
+    }
+
+    /// The same fix, giving the number of `value_of`.
+    pub fn giving(mut self, value_of: Option<FixValue>) -> Fix {
+        self.value_of = value_of;
+        self
+    }
+}
+
 /// One finding: what, where, and what to do about it.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Diagnostic {
@@ -237,6 +309,9 @@ pub struct Diagnostic {
     pub labels: Vec<Label>,
     /// A concrete suggestion, ideally with the number it would give.
     pub help: Option<String>,
+    /// Before [`crate::audit::verify_fixes`]: rewrites that would cure it,
+    /// best first, none shown. After: the one fix its help shows, if any.
+    pub fixes: Vec<Fix>,
 }
 
 impl Diagnostic {
@@ -264,6 +339,7 @@ impl Diagnostic {
             message: message.into(),
             labels: Vec::new(),
             help: None,
+            fixes: Vec::new(),
         }
     }
 
@@ -279,6 +355,13 @@ impl Diagnostic {
     /// Adds the suggested fix.
     pub fn with_help(mut self, help: impl Into<String>) -> Self {
         self.help = Some(help.into());
+        self
+    }
+
+    /// Adds a fix to be verified; [`Diagnostic::help`] stays the advice
+    /// shown if no fix verifies.
+    pub fn with_fix(mut self, fix: Fix) -> Self {
+        self.fixes.push(fix);
         self
     }
 }

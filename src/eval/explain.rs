@@ -1,7 +1,7 @@
 //! Diagnostics for quantities that do not fit together, with the
 //! mass-versus-weight case spelled out and a fix with its number.
 
-use crate::diag::{Code, Diagnostic};
+use crate::diag::{Code, Diagnostic, Fix};
 use crate::syntax::Span;
 use crate::units::{
     Dimension, DisplaySystem, DisplayUnit, Quantity, Value, format_significant, pick_unit,
@@ -89,8 +89,8 @@ pub(crate) struct Operand<'a> {
     pub value: Value,
 }
 
-/// `cannot add a mass (10 kg) and a force (5 N)`, with the weight/mass fix
-/// when the two differ by an acceleration.
+/// `cannot add a mass (10 kg) and a force (5 N)`, with the weight/mass fixes
+/// (one per reading) when the two differ by an acceleration.
 pub(crate) fn mismatch(
     action: &str,
     left: &Operand<'_>,
@@ -133,18 +133,19 @@ pub(crate) fn mismatch(
         .with_label(left.span, describe(left))
         .with_label(right.span, describe(right));
     if let Some((lighter, heavier)) = weight_mass {
-        let g0 = crate::units::STANDARD_GRAVITY;
-        let as_mass = Quantity::new(heavier.value.magnitude_si() / g0, lighter.value.dimension());
-        let as_weight = Quantity::new(lighter.value.magnitude_si() * g0, heavier.value.dimension());
-        diagnostic = diagnostic.with_help(format!(
-            "if `{}` is a weight, its mass is `({}) / g0` = {}; the weight of `{}` is `({}) * g0` = {}",
-            heavier.text,
-            heavier.text,
-            style.show(as_mass),
-            lighter.text,
-            lighter.text,
-            style.show(as_weight),
-        ));
+        // Two readings; the first that verifies in the whole sheet is shown
+        // (`audit::verify_fixes`), so a declared unit or a name decides.
+        diagnostic = diagnostic
+            .with_fix(
+                Fix::replace(heavier.span, format!("({}) / g0", heavier.text))
+                    .showing(None)
+                    .with_lead(format!("if `{}` is a weight, ", heavier.text)),
+            )
+            .with_fix(
+                Fix::replace(lighter.span, format!("({}) * g0", lighter.text))
+                    .showing(None)
+                    .with_lead(format!("if `{}` is a mass, ", lighter.text)),
+            );
     }
     diagnostic
 }
@@ -157,8 +158,6 @@ pub(crate) struct DeclaredMismatch<'a> {
     pub unit_text: &'a str,
     /// Where the unit is written.
     pub unit_span: Span,
-    /// SI value of one declared unit.
-    pub unit_si_factor: f64,
     /// The declared dimension.
     pub declared: Dimension,
     /// The formula as written and where.
@@ -171,7 +170,8 @@ pub(crate) struct DeclaredMismatch<'a> {
     pub value: Value,
 }
 
-/// `W is a force but m_skid is a mass (1850 kg); a weight is mass × g0 = 4079 lbf`.
+/// `W is a force but m_skid is a mass (1850 kg); a weight is mass × g0`,
+/// with the fix `m_skid * g0` for [`crate::audit::verify_fixes`] to check.
 pub(crate) fn declared_mismatch(cell: &DeclaredMismatch<'_>, style: Style) -> Diagnostic {
     let found = cell.value.dimension();
     let gives = if cell.formula_is_name {
@@ -194,39 +194,35 @@ pub(crate) fn declared_mismatch(cell: &DeclaredMismatch<'_>, style: Style) -> Di
         cell.declared.describe(),
         cell.unit_text
     );
-    let in_declared = |si: f64| style.show_in(si, cell.unit_text, cell.unit_si_factor);
-    let g0 = crate::units::STANDARD_GRAVITY;
     let formula = if cell.formula_is_name {
         cell.formula.to_string()
     } else {
         format!("({})", cell.formula)
     };
     let diagnostic = if differs_by_acceleration(cell.declared, found) {
-        let weight = in_declared(cell.value.magnitude_si() * g0);
         let what = if found == Dimension::MASS {
             "a weight is mass × g0"
         } else {
-            "multiplied by g0 it would be"
+            "multiplied by g0 it would fit"
         };
         Diagnostic::error(
             Code::MassWeightMixup,
             cell.formula_span,
-            format!("{declared} but {gives}; {what} = {weight}"),
+            format!("{declared} but {gives}; {what}"),
         )
-        .with_help(format!("write `{formula} * g0` (= {weight})"))
+        .with_fix(Fix::replace(cell.formula_span, format!("{formula} * g0")))
     } else if differs_by_acceleration(found, cell.declared) {
-        let mass = in_declared(cell.value.magnitude_si() / g0);
         let what = if cell.declared == Dimension::MASS {
             "a mass is weight / g0"
         } else {
-            "divided by g0 it would be"
+            "divided by g0 it would fit"
         };
         Diagnostic::error(
             Code::MassWeightMixup,
             cell.formula_span,
-            format!("{declared} but {gives}; {what} = {mass}"),
+            format!("{declared} but {gives}; {what}"),
         )
-        .with_help(format!("write `{formula} / g0` (= {mass})"))
+        .with_fix(Fix::replace(cell.formula_span, format!("{formula} / g0")))
     } else {
         Diagnostic::error(
             Code::DeclaredUnitMismatch,

@@ -136,6 +136,11 @@ pub struct LiveSheet {
     /// The lint findings of the text at this revision (none until they are
     /// put in with [`LiveSheet::set_lints`]; every edit drops them).
     lints: Vec<Finding>,
+    /// The verified help of each evaluation finding that offers a fix, by
+    /// (line, column, code), for the text at this revision (put in with
+    /// [`LiveSheet::set_fix_helps`]; every edit drops them). Until then such
+    /// a finding shows only its plain advice, never an unchecked fix.
+    fix_helps: Vec<(usize, usize, Code, Option<String>)>,
 }
 
 /// A revision number not given before in this process.
@@ -202,6 +207,7 @@ impl LiveSheet {
             last_evaluated: 0,
             revision: next_revision(),
             lints: Vec::new(),
+            fix_helps: Vec::new(),
         };
         live.sheet.header = header;
         live.relink(statements);
@@ -663,13 +669,23 @@ impl LiveSheet {
                 (place.line, place.column)
             }
         };
+        let help = if diagnostic.fixes.is_empty() {
+            diagnostic.help.clone()
+        } else {
+            self.fix_helps
+                .iter()
+                .find(|(at_line, at_column, code, _)| {
+                    (*at_line, *at_column, *code) == (line, column, diagnostic.code)
+                })
+                .map_or_else(|| diagnostic.help.clone(), |(.., help)| help.clone())
+        };
         Finding {
             severity: diagnostic.severity,
             code: diagnostic.code,
             line,
             column,
             message: diagnostic.message.clone(),
-            help: diagnostic.help.clone(),
+            help,
             statement,
         }
     }
@@ -778,8 +794,10 @@ impl LiveSheet {
     /// text is unchanged, so its lint findings stay.
     pub fn compact(&mut self) {
         let lints = std::mem::take(&mut self.lints);
+        let fix_helps = std::mem::take(&mut self.fix_helps);
         self.reopen();
         self.lints = lints;
+        self.fix_helps = fix_helps;
     }
 
     /// Starts an edit: a new revision, whose lint findings are not known yet.
@@ -787,6 +805,7 @@ impl LiveSheet {
         self.last_evaluated = 0;
         self.revision = next_revision();
         self.lints.clear();
+        self.fix_helps.clear();
     }
 
     /// The revision of the text, unique in the process: answers about an
@@ -821,6 +840,29 @@ impl LiveSheet {
                     help: diagnostic.help.clone(),
                     statement,
                 }
+            })
+            .collect();
+        true
+    }
+
+    /// Puts in the verified help of the evaluation findings of `text` (the
+    /// text at `revision`) that offer a fix, as [`crate::pipeline::lint`]
+    /// gives them; returns whether they were taken.
+    pub fn set_fix_helps(&mut self, revision: u64, text: &str, findings: &[Diagnostic]) -> bool {
+        if revision != self.revision {
+            return false;
+        }
+        let lines = LineIndex::new(text);
+        self.fix_helps = findings
+            .iter()
+            .map(|diagnostic| {
+                let place = lines.line_column(text, diagnostic.span.start());
+                (
+                    place.line,
+                    place.column,
+                    diagnostic.code,
+                    diagnostic.help.clone(),
+                )
             })
             .collect();
         true

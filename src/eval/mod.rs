@@ -374,7 +374,6 @@ impl<'a> Evaluator<'a> {
                 name,
                 unit_text: unit.span.text(self.source),
                 unit_span: unit.span,
-                unit_si_factor: declared.si_factor,
                 declared: declared.dimension,
                 formula: expr.span.text(self.source),
                 formula_span: expr.span,

@@ -42,8 +42,8 @@ pub enum Message {
         revision: u64,
         /// Its text, which the findings' spans point into.
         text: String,
-        /// The findings.
-        lints: Vec<crate::diag::Diagnostic>,
+        /// The lints and the evaluation findings' verified fixes.
+        linted: crate::pipeline::Linted,
     },
 }
 
@@ -1185,21 +1185,23 @@ pub fn update(app: &mut App, message: Message) -> Vec<Effect> {
         Message::Linted {
             revision,
             text,
-            lints,
+            linted,
         } => {
-            app.live.set_lints(revision, &text, &lints);
+            app.live.set_lints(revision, &text, &linted.lints);
+            app.live.set_fix_helps(revision, &text, &linted.fixed);
         }
     }
     Vec::new()
 }
 
 /// Carries out [`Effect::Lint`]: the audit lints (`heft audit`'s, and
-/// `heft check`'s warnings) over a fresh evaluation of `text`.
+/// `heft check`'s warnings) over a fresh evaluation of `text`, with every
+/// fix verified ([`crate::pipeline::lint`]).
 pub fn lint(revision: u64, text: String) -> Message {
-    let lints = crate::audit::lint(&crate::eval::evaluate_source(&text));
+    let linted = crate::pipeline::lint(&text);
     Message::Linted {
         revision,
         text,
-        lints,
+        linted,
     }
 }
