@@ -317,8 +317,8 @@ impl Builder<'_, '_> {
     fn hand_typed(&mut self, found: &[hand_factors::HandFactorUse<'_>]) {
         let context = self.context;
         for used in found {
-            let factor = used.factor;
-            let Some(facts) = unit_facts(factor.exact_units) else {
+            let factor = &used.factor;
+            let Some(facts) = unit_facts(&factor.exact_units()) else {
                 continue;
             };
             let exact = facts.factor.to_f64();
@@ -332,7 +332,7 @@ impl Builder<'_, '_> {
                 used.owner,
                 ConversionKind::HandTyped,
                 format!("{op} {}", context.text(used.number.span)),
-                factor.converts,
+                &factor.converts(),
                 None,
                 facts,
             );

@@ -1,41 +1,95 @@
-//! The conversion factors and gravity values engineers type by hand, each
-//! with the exact conversion it approximates (taken from the unit catalog,
-//! never typed here).
+//! The conversion factors and gravity values engineers type by hand. The
+//! list is derived from the unit catalog, never typed here: every ratio
+//! between two ways of writing one dimension (a catalog unit, the coherent
+//! SI unit, or, where a side has no unit of its own for work, torque or
+//! area, a length times a force or a length squared: `ft*lbf`, `in^2`),
+//! plus standard gravity in m/s² and ft/s².
+//! A bare number counts as one when it is that ratio rounded to the figures
+//! it is written with (three or more; two within 0.5 % for gravity and mass
+//! and force factors: `2.2`, `9.8`);
+//! an integer ratio or its reciprocal (`12`, `60`, `1000`) counts only when
+//! the units on both sides show that conversion. Those units also catch a
+//! conversion of any dimension (`a * 3.281` from m/s² to ft/s²).
+
+use std::sync::LazyLock;
 
 use super::context::{Context, Owner};
 use super::rewrite::evaluate_rewritten;
 use crate::syntax::ast::{BinaryOp, Expr, ExprKind};
-use crate::units::{self, Dimension, ExactFactor};
+use crate::units::{self, Dimension, ExactFactor, SI_BASE_SYMBOLS, UnitSystem};
 
-/// A familiar conversion factor as typed by hand.
-#[derive(Debug)]
+/// A conversion factor as engineers type it by hand.
+#[derive(Clone, Debug)]
 pub struct HandFactor {
-    /// The spellings that count as this factor: `2.2`, `2.2046`, ….
-    pub values: &'static [f64],
-    /// What it converts, in words that follow "looks like": "pounds-mass per kilogram".
-    pub converts: &'static str,
-    /// The conversion as a product of catalog units whose exact value the
-    /// factor approximates: `kg/lbm` for 2.2.
-    pub exact_units: &'static [(&'static str, i32)],
-    /// The exact conversion for people: "1 kg = 2.2046226… lbm".
-    pub exact_words: &'static str,
+    /// The unit converted from, in heft syntax: `kg`, `ft*lbf`, `m/s^2`.
+    pub from: String,
+    /// The unit converted to: `lbm`.
+    pub to: String,
+    /// The conversion as a product of catalog units (`kg/lbm` for 2.2): its
+    /// exact value is the number of `to` in one `from`.
+    pub exact_units: Vec<(String, i32)>,
     /// What kind of value it is.
     pub family: Family,
-    /// Only counts when the units on both sides differ by this factor
-    /// (`12` between ft and in, `1000` between prefixes): such numbers are
-    /// more often counts.
-    pub needs_unit_evidence: bool,
 }
 
 impl HandFactor {
     /// The exact value the factor approximates.
     pub fn exact(&self) -> ExactFactor {
-        units::exact_factor(self.exact_units.iter().copied()).unwrap_or_else(ExactFactor::one)
+        units::exact_factor(self.exact_units()).unwrap_or_else(ExactFactor::one)
+    }
+
+    /// [`HandFactor::exact_units`] as borrowed symbols.
+    pub fn exact_units(&self) -> Vec<(&str, i32)> {
+        self.exact_units
+            .iter()
+            .map(|(symbol, exponent)| (symbol.as_str(), *exponent))
+            .collect()
     }
 
     /// Whether it is a value of gravity (g0 in m/s² or ft/s², or g_c).
     pub fn is_gravity(&self) -> bool {
         self.family == Family::Gravity
+    }
+
+    /// What it converts, in words that follow "looks like": `the kg → lbm
+    /// factor`, `standard gravity in ft/s² or g_c`.
+    pub fn converts(&self) -> String {
+        match self.family {
+            Family::Gravity if self.to == "m/s^2" => "standard gravity in m/s²".to_string(),
+            Family::Gravity => "standard gravity in ft/s² or g_c".to_string(),
+            Family::Conversion(_) | Family::Prefix => {
+                format!("the {} → {} factor", self.from, self.to)
+            }
+        }
+    }
+
+    /// The exact conversion for people: `1 kg = 2.2046226218… lbm`.
+    pub fn exact_words(&self) -> String {
+        let exact = self.exact();
+        match self.family {
+            Family::Gravity if self.to == "m/s^2" => {
+                "g0 = 9.80665 m/s² exactly, 3rd CGPM 1901".to_string()
+            }
+            Family::Gravity => format!(
+                "g0 = g_c = {} = {} ft/s² exactly",
+                exact.exact_text(),
+                exact.approximate_text(11)
+            ),
+            Family::Conversion(_) | Family::Prefix if exact.terminates() => {
+                format!(
+                    "1 {} = {} {} exactly",
+                    self.from,
+                    exact.exact_text(),
+                    self.to
+                )
+            }
+            Family::Conversion(_) | Family::Prefix => format!(
+                "1 {} = {} {}",
+                self.from,
+                exact.approximate_text(11),
+                self.to
+            ),
+        }
     }
 }
 
@@ -46,195 +100,337 @@ pub enum Family {
     Gravity,
     /// A conversion between two units of this dimension.
     Conversion(Dimension),
-    /// A decimal prefix step, for any dimension.
+    /// A power of ten between two units (a prefix step), for any dimension.
     Prefix,
 }
 
-/// Every factor the `hand-conversion-factor` lint looks for.
-pub const HAND_FACTORS: &[HandFactor] = &[
-    HandFactor {
-        values: &[9.8, 9.81, 9.807, 9.8067, 9.80665],
-        converts: "standard gravity in m/s²",
-        exact_units: &[("kgf", 1), ("kg", -1)],
-        exact_words: "g0 = 9.80665 m/s² exactly, 3rd CGPM 1901",
-        family: Family::Gravity,
-        needs_unit_evidence: false,
-    },
-    HandFactor {
-        values: &[32.2, 32.17, 32.174, 32.1740, 32.17405, 32.174049],
-        converts: "standard gravity in ft/s² or g_c",
-        exact_units: &[("kgf", 1), ("kg", -1), ("ft", -1), ("s", 2)],
-        exact_words: "g0 = g_c = 196133/6096 = 32.174048556… ft/s² exactly",
-        family: Family::Gravity,
-        needs_unit_evidence: false,
-    },
-    HandFactor {
-        values: &[2.2, 2.204, 2.2046, 2.20462, 2.204623, 2.205],
-        converts: "pounds-mass per kilogram",
-        exact_units: &[("kg", 1), ("lbm", -1)],
-        exact_words: "1 kg = 2.2046226218… lbm",
-        family: Family::Conversion(Dimension::MASS),
-        needs_unit_evidence: false,
-    },
-    HandFactor {
-        values: &[0.454, 0.4536, 0.45359, 0.453592, 0.45359237],
-        converts: "kilograms per pound-mass",
-        exact_units: &[("lbm", 1), ("kg", -1)],
-        exact_words: "1 lbm = 0.45359237 kg exactly",
-        family: Family::Conversion(Dimension::MASS),
-        needs_unit_evidence: false,
-    },
-    HandFactor {
-        values: &[4.448, 4.4482, 4.44822, 4.448222, 4.45],
-        converts: "newtons per pound-force",
-        exact_units: &[("lbf", 1), ("N", -1)],
-        exact_words: "1 lbf = 4.4482216152605 N exactly",
-        family: Family::Conversion(Dimension::FORCE),
-        needs_unit_evidence: false,
-    },
-    HandFactor {
-        values: &[0.2248, 0.22481, 0.224809],
-        converts: "pounds-force per newton",
-        exact_units: &[("N", 1), ("lbf", -1)],
-        exact_words: "1 N = 0.2248089431… lbf",
-        family: Family::Conversion(Dimension::FORCE),
-        needs_unit_evidence: false,
-    },
-    HandFactor {
-        values: &[14.59, 14.594, 14.5939, 14.59390],
-        converts: "kilograms per slug",
-        exact_units: &[("slug", 1), ("kg", -1)],
-        exact_words: "1 slug = 14.5939029372… kg",
-        family: Family::Conversion(Dimension::MASS),
-        needs_unit_evidence: false,
-    },
-    HandFactor {
-        values: &[3.28, 3.281, 3.2808, 3.28084],
-        converts: "feet per metre",
-        exact_units: &[("m", 1), ("ft", -1)],
-        exact_words: "1 m = 3.2808398950… ft",
-        family: Family::Conversion(Dimension::LENGTH),
-        needs_unit_evidence: false,
-    },
-    HandFactor {
-        values: &[0.3048],
-        converts: "metres per foot",
-        exact_units: &[("ft", 1), ("m", -1)],
-        exact_words: "1 ft = 0.3048 m exactly",
-        family: Family::Conversion(Dimension::LENGTH),
-        needs_unit_evidence: false,
-    },
-    HandFactor {
-        values: &[25.4],
-        converts: "millimetres per inch",
-        exact_units: &[("in", 1), ("mm", -1)],
-        exact_words: "1 in = 25.4 mm exactly",
-        family: Family::Conversion(Dimension::LENGTH),
-        needs_unit_evidence: false,
-    },
-    HandFactor {
-        values: &[0.0254],
-        converts: "metres per inch",
-        exact_units: &[("in", 1), ("m", -1)],
-        exact_words: "1 in = 0.0254 m exactly",
-        family: Family::Conversion(Dimension::LENGTH),
-        needs_unit_evidence: false,
-    },
-    HandFactor {
-        values: &[39.37, 39.3701],
-        converts: "inches per metre",
-        exact_units: &[("m", 1), ("in", -1)],
-        exact_words: "1 m = 39.3700787… in",
-        family: Family::Conversion(Dimension::LENGTH),
-        needs_unit_evidence: false,
-    },
-    HandFactor {
-        values: &[6.895, 6.8948, 6.89476, 6.894757],
-        converts: "kilopascals per psi",
-        exact_units: &[("psi", 1), ("kPa", -1)],
-        exact_words: "1 psi = 6.8947572931… kPa",
-        family: Family::Conversion(Dimension::PRESSURE),
-        needs_unit_evidence: false,
-    },
-    HandFactor {
-        values: &[145.04, 145.038],
-        converts: "psi per megapascal",
-        exact_units: &[("MPa", 1), ("psi", -1)],
-        exact_words: "1 MPa = 145.0377377… psi",
-        family: Family::Conversion(Dimension::PRESSURE),
-        needs_unit_evidence: false,
-    },
-    HandFactor {
-        values: &[1.356, 1.3558, 1.35582],
-        converts: "joules (newton-metres) per foot-pound-force",
-        exact_units: &[("ft", 1), ("lbf", 1), ("J", -1)],
-        exact_words: "1 ft·lbf = 1.3558179483314004 J exactly",
-        family: Family::Conversion(Dimension::ENERGY),
-        needs_unit_evidence: false,
-    },
-    HandFactor {
-        values: &[0.7376, 0.73756],
-        converts: "foot-pounds-force per joule",
-        exact_units: &[("J", 1), ("ft", -1), ("lbf", -1)],
-        exact_words: "1 J = 0.7375621492… ft·lbf",
-        family: Family::Conversion(Dimension::ENERGY),
-        needs_unit_evidence: false,
-    },
-    HandFactor {
-        values: &[745.7, 746.0],
-        converts: "watts per horsepower",
-        exact_units: &[("hp", 1), ("W", -1)],
-        exact_words: "1 hp = 550 ft·lbf/s = 745.69987158227022 W exactly",
-        family: Family::Conversion(Dimension::POWER),
-        needs_unit_evidence: false,
-    },
-    HandFactor {
-        values: &[550.0],
-        converts: "foot-pounds-force per second per horsepower",
-        exact_units: &[("hp", 1), ("ft", -1), ("lbf", -1), ("s", 1)],
-        exact_words: "1 hp = 550 ft·lbf/s exactly",
-        family: Family::Conversion(Dimension::POWER),
-        needs_unit_evidence: false,
-    },
-    HandFactor {
-        values: &[1.609, 1.6093, 1.609344],
-        converts: "kilometres per mile",
-        exact_units: &[("mi", 1), ("km", -1)],
-        exact_words: "1 mi = 1.609344 km exactly",
-        family: Family::Conversion(Dimension::LENGTH),
-        needs_unit_evidence: false,
-    },
-    HandFactor {
-        values: &[12.0],
-        converts: "inches per foot",
-        exact_units: &[("ft", 1), ("in", -1)],
-        exact_words: "1 ft = 12 in exactly",
-        family: Family::Conversion(Dimension::LENGTH),
-        needs_unit_evidence: true,
-    },
-    HandFactor {
-        values: &[1000.0],
-        converts: "an SI prefix step (kilo, milli)",
-        exact_units: &[("kN", 1), ("N", -1)],
-        exact_words: "1 kN = 1000 N, 1 m = 1000 mm exactly",
-        family: Family::Prefix,
-        needs_unit_evidence: true,
-    },
-];
+/// A factor of the list with its value, for the search by value.
+struct Listed {
+    factor: HandFactor,
+    value: f64,
+    /// An integer, or one over an integer (`12`, `1/12`): more often a count
+    /// than a conversion, so it needs the units to show it.
+    needs_unit_evidence: bool,
+    /// How a rounding of it must be written to count.
+    evidence: Evidence,
+}
 
-/// The hand factor a bare number matches, if any.
-pub(super) fn matching(value: f64) -> Option<&'static HandFactor> {
-    HAND_FACTORS
+/// One way of writing a dimension: a unit, a coherent SI unit, a product.
+struct Writing {
+    /// Whether it is a product or a coherent SI unit rather than a unit of
+    /// the catalog: such a writing converts only to the other side.
+    compound: bool,
+    /// Whether it is US customary (else SI, metric or shared).
+    customary: bool,
+    text: String,
+    symbols: Vec<(String, i32)>,
+    factor: ExactFactor,
+    dimension: Dimension,
+}
+
+/// Every factor the `hand-conversion-factor` lint looks for, derived from
+/// the unit catalog (see the module's documentation), by value.
+pub fn hand_factors() -> impl Iterator<Item = &'static HandFactor> {
+    listed().iter().map(|listed| &listed.factor)
+}
+
+fn listed() -> &'static [Listed] {
+    static LIST: LazyLock<Vec<Listed>> = LazyLock::new(build_list);
+    &LIST
+}
+
+fn build_list() -> Vec<Listed> {
+    let catalog = units::catalog();
+    let mut metric: Vec<Writing> = Vec::new();
+    let mut customary: Vec<Writing> = Vec::new();
+    for unit in catalog.units() {
+        // Two spellings of one unit (`deg` and `°`, `µm` and `um`) are one.
+        let seen = metric
+            .iter()
+            .chain(&customary)
+            .any(|writing| writing.dimension == unit.dimension && writing.factor == unit.factor);
+        if seen || unit.symbol == "%" {
+            continue;
+        }
+        let writing = Writing {
+            compound: false,
+            customary: unit.system == UnitSystem::UsCustomary,
+            text: unit.symbol.clone(),
+            symbols: vec![(unit.symbol.clone(), 1)],
+            factor: unit.factor.clone(),
+            dimension: unit.dimension,
+        };
+        match unit.system {
+            UnitSystem::UsCustomary => customary.push(writing),
+            UnitSystem::Si | UnitSystem::Metric | UnitSystem::Shared => metric.push(writing),
+        }
+    }
+    // Work and torque (a length times a force) and area (a length squared)
+    // where a side has no unit of its own for them: `ft*lbf`, `in^2`.
+    let products = |side: &[Writing]| -> Vec<Writing> {
+        let of = |dimension: Dimension| side.iter().filter(move |w| w.dimension == dimension);
+        let mut made = Vec::new();
+        for length in of(Dimension::LENGTH) {
+            let mut partners: Vec<&Writing> = of(Dimension::FORCE).collect();
+            partners.push(length);
+            for partner in partners {
+                let Some(dimension) = length.dimension.checked_mul(partner.dimension) else {
+                    continue;
+                };
+                if side.iter().any(|writing| writing.dimension == dimension) {
+                    continue;
+                }
+                let square = std::ptr::eq(length, partner);
+                let mut symbols = length.symbols.clone();
+                symbols.extend(partner.symbols.iter().cloned());
+                made.push(Writing {
+                    compound: true,
+                    customary: length.customary,
+                    text: if square {
+                        format!("{}^2", length.text)
+                    } else {
+                        format!("{}*{}", length.text, partner.text)
+                    },
+                    symbols,
+                    factor: length.factor.times(&partner.factor),
+                    dimension,
+                });
+            }
+        }
+        made
+    };
+    let metric_products = products(&metric);
+    let customary_products = products(&customary);
+    metric.extend(metric_products);
+    customary.extend(customary_products);
+    // The coherent SI unit of every dimension written, where no unit is it.
+    let mut dimensions: Vec<Dimension> = metric
         .iter()
-        .find(|factor| factor.values.contains(&value))
+        .chain(&customary)
+        .map(|writing| writing.dimension)
+        .collect();
+    dimensions.sort_unstable();
+    dimensions.dedup();
+    for dimension in dimensions {
+        let coherent = metric
+            .iter()
+            .any(|writing| writing.dimension == dimension && writing.factor == ExactFactor::one());
+        if !coherent && !dimension.is_dimensionless() {
+            metric.push(Writing {
+                compound: true,
+                customary: false,
+                text: dimension.si_units(),
+                symbols: SI_BASE_SYMBOLS
+                    .iter()
+                    .zip(dimension.exponents)
+                    .filter(|(_, exponent)| *exponent != 0)
+                    .map(|(symbol, exponent)| ((*symbol).to_string(), i32::from(exponent)))
+                    .collect(),
+                factor: ExactFactor::one(),
+                dimension,
+            });
+        }
+    }
+
+    // An angular speed converts to rad/s, not to Hz (1 rpm is 1/60 Hz of
+    // revolutions but π/30 rad/s): the rpm factors are named so.
+    metric.push(Writing {
+        compound: false,
+        customary: false,
+        text: "rad/s".to_string(),
+        symbols: vec![("rad".to_string(), 1), ("s".to_string(), -1)],
+        factor: ExactFactor::one(),
+        dimension: Dimension::FREQUENCY,
+    });
+    let hertz_and_rpm = |a: &Writing, b: &Writing| a.text == "rpm" && b.text.ends_with("Hz");
+
+    let mut list = vec![
+        gravity("m/s^2", &[("kgf", 1), ("kg", -1)]),
+        gravity("ft/s^2", &[("kgf", 1), ("kg", -1), ("ft", -1), ("s", 2)]),
+    ];
+    let all: Vec<&Writing> = metric.iter().chain(&customary).collect();
+    for from in &all {
+        for to in &all {
+            let across = from.customary != to.customary;
+            if from.dimension != to.dimension
+                || std::ptr::eq(*from, *to)
+                || ((from.compound || to.compound) && !across)
+                || hertz_and_rpm(from, to)
+                || hertz_and_rpm(to, from)
+            {
+                continue;
+            }
+            let exact = from.factor.over(&to.factor);
+            if exact == ExactFactor::one() {
+                continue;
+            }
+            let family = if is_power_of_ten(&exact) {
+                Family::Prefix
+            } else {
+                Family::Conversion(from.dimension)
+            };
+            let mut exact_units = from.symbols.clone();
+            exact_units.extend(to.symbols.iter().map(|(s, e)| (s.clone(), -e)));
+            list.push(listed_factor(
+                HandFactor {
+                    from: from.text.clone(),
+                    to: to.text.clone(),
+                    exact_units,
+                    family,
+                },
+                &exact,
+            ));
+        }
+    }
+    list.sort_by(|a, b| a.value.total_cmp(&b.value));
+    list
+}
+
+fn gravity(unit: &str, exact_units: &[(&str, i32)]) -> Listed {
+    let factor = HandFactor {
+        from: "g0".to_string(),
+        to: unit.to_string(),
+        exact_units: exact_units
+            .iter()
+            .map(|(symbol, exponent)| ((*symbol).to_string(), *exponent))
+            .collect(),
+        family: Family::Gravity,
+    };
+    let exact = factor.exact();
+    listed_factor(factor, &exact)
+}
+
+fn listed_factor(factor: HandFactor, exact: &ExactFactor) -> Listed {
+    let integer_or_reciprocal =
+        exact.pi_power == 0 && (exact.ratio.is_integer() || exact.ratio.recip().is_integer());
+    let two_figures = match factor.family {
+        Family::Gravity => true,
+        Family::Conversion(dimension) => [Dimension::MASS, Dimension::FORCE].contains(&dimension),
+        Family::Prefix => false,
+    };
+    Listed {
+        value: exact.to_f64(),
+        needs_unit_evidence: integer_or_reciprocal || factor.family == Family::Prefix,
+        evidence: if two_figures {
+            Evidence::TwoFigures
+        } else {
+            Evidence::ThreeFigures
+        },
+        factor,
+    }
+}
+
+/// Whether an exact factor is 10^n for some integer n.
+fn is_power_of_ten(exact: &ExactFactor) -> bool {
+    if exact.pi_power != 0 {
+        return false;
+    }
+    let ten = num_bigint::BigInt::from(10);
+    let is_power = |mut n: num_bigint::BigInt| {
+        while n > num_bigint::BigInt::from(1) && (&n % &ten) == num_bigint::BigInt::from(0) {
+            n /= &ten;
+        }
+        n == num_bigint::BigInt::from(1)
+    };
+    is_power(exact.ratio.numer().clone()) && is_power(exact.ratio.denom().clone())
+}
+
+/// The significant figures of a number as written: `2.2` → 2, `0.4536` →
+/// 4, `746` → 3, `1000` → 1, `9.80` → 3.
+pub(super) fn significant_figures(written: &str) -> usize {
+    let mantissa = written
+        .trim_start_matches(['-', '+'])
+        .split(['e', 'E'])
+        .next()
+        .unwrap_or("");
+    let digits: String = mantissa.chars().filter(char::is_ascii_digit).collect();
+    let significant = digits.trim_start_matches('0');
+    let significant = if mantissa.contains('.') {
+        significant
+    } else {
+        significant.trim_end_matches('0')
+    };
+    significant.len().max(1)
+}
+
+/// `value` rounded to `figures` significant figures.
+fn rounded(value: f64, figures: usize) -> f64 {
+    if value == 0.0 || !value.is_finite() {
+        return value;
+    }
+    let exponent = value.abs().log10().floor() as i32 - (figures as i32 - 1);
+    let scale = 10f64.powi(exponent.abs());
+    if exponent >= 0 {
+        (value / scale).round() * scale
+    } else {
+        (value * scale).round() / scale
+    }
+}
+
+/// How sure a bare number must be to count as a rounding of a factor.
+#[derive(Clone, Copy, PartialEq, Eq)]
+pub(super) enum Evidence {
+    /// The units on both sides show the conversion: any exact spelling, and
+    /// two figures within 0.5 % (`a [ft/s^2] = a_m * 3.3`).
+    Units,
+    /// A gravity or a mass or force factor, the classic two-figure
+    /// roundings (`2.2`, `9.8`): two figures within 0.5 %, exact from two.
+    TwoFigures,
+    /// Any other factor: three figures or more (two figures are more often a
+    /// coefficient: `1.2`, `0.62`), exact from two.
+    ThreeFigures,
+}
+
+/// Whether `typed`, written with `figures` significant figures, is `exact`
+/// as engineers round it (see [`Evidence`]).
+pub(super) fn is_rounding_of(typed: f64, figures: usize, exact: f64, evidence: Evidence) -> bool {
+    let same = |a: f64, b: f64| ((a - b) / b).abs() < 1e-12;
+    if same(typed, exact) {
+        return evidence == Evidence::Units || figures >= 2;
+    }
+    let close_two = || same(rounded(exact, 2), typed) && ((typed - exact) / exact).abs() <= 0.005;
+    match figures {
+        0 | 1 => false,
+        2 => evidence != Evidence::ThreeFigures && close_two(),
+        _ => same(rounded(exact, figures), typed),
+    }
+}
+
+/// The listed factors a bare number written as `written` could be, most
+/// likely first: (factor, whether it needs the units to show it).
+fn matching(value: f64, written: &str) -> Vec<(&'static HandFactor, bool)> {
+    let figures = significant_figures(written);
+    let list = listed();
+    // A rounding to `figures` figures lies within half a unit of its last
+    // figure of the exact value.
+    let half_unit = 0.5 * 10f64.powi(value.abs().log10().floor() as i32 - figures as i32 + 1);
+    let (low, high) = (value - half_unit * 1.000_001, value + half_unit * 1.000_001);
+    let first = list.partition_point(|listed| listed.value < low);
+    let mut found: Vec<(&'static Listed, f64)> = list[first..]
+        .iter()
+        .take_while(|listed| listed.value <= high)
+        .filter(|listed| is_rounding_of(value, figures, listed.value, listed.evidence))
+        .map(|listed| (listed, ((value - listed.value) / listed.value).abs()))
+        .collect();
+    // Gravity first, then the closest.
+    found.sort_by(|(a, error_a), (b, error_b)| {
+        (!a.factor.is_gravity())
+            .cmp(&!b.factor.is_gravity())
+            .then(error_a.total_cmp(error_b))
+    });
+    found
+        .into_iter()
+        .map(|(listed, _)| (&listed.factor, listed.needs_unit_evidence))
+        .collect()
 }
 
 /// A bare number in a formula that matches a [`HandFactor`], used as a
 /// multiplier or a divisor.
-#[derive(Clone, Copy, Debug)]
+#[derive(Clone, Debug)]
 pub(super) struct HandFactorUse<'a> {
-    /// The factor it matches.
-    pub factor: &'static HandFactor,
+    /// The factor it matches (from the list, or the conversion between the
+    /// units on both sides).
+    pub factor: std::borrow::Cow<'static, HandFactor>,
     /// The number as written.
     pub number: &'a Expr,
     /// Its value.
@@ -283,20 +479,36 @@ pub(super) fn visit<'a>(
         let ExprKind::Number(value) = number.kind else {
             continue;
         };
-        let Some(factor) = matching(value) else {
-            continue;
-        };
+        let written = context.text(number.span);
         let units_present = units_around(context, owner, other);
-        if factor.needs_unit_evidence
-            && !units_present.is_some_and(|(_, from, _, to)| ratio_is(from / to, value))
-        {
-            continue;
-        }
-        if let Family::Conversion(family) = factor.family
-            && !converts_plausibly(context, owner, other, family)
-        {
-            continue;
-        }
+        let shown = units_present.and_then(|(from, from_factor, to, to_factor)| {
+            shown_by_units(value, written, (from, from_factor), (to, to_factor))
+        });
+        let factor = match shown {
+            Some(factor) => std::borrow::Cow::Owned(factor),
+            None => {
+                let listed = matching(value, written)
+                    .into_iter()
+                    .filter(|&(_, needs_unit_evidence)| !needs_unit_evidence)
+                    .map(|(factor, _)| factor)
+                    .filter(|factor| match factor.family {
+                        Family::Conversion(family) => {
+                            converts_plausibly(context, owner, other, family)
+                        }
+                        Family::Gravity | Family::Prefix => true,
+                    })
+                    .min_by_key(|factor| match factor.family {
+                        // The conversion of the operand's own dimension first.
+                        Family::Conversion(family) => !dimension_of(context, owner, other)
+                            .is_some_and(|dimension| converts_dimension(dimension, family)),
+                        Family::Gravity | Family::Prefix => false,
+                    });
+                match listed {
+                    Some(factor) => std::borrow::Cow::Borrowed(factor),
+                    None => continue,
+                }
+            }
+        };
         found.push(HandFactorUse {
             factor,
             number,
@@ -332,6 +544,71 @@ fn converts_plausibly(
         || already_converted(context, owner, other, family).is_some()
 }
 
+/// Whether a conversion of `family` converts `dimension`: the same, or the
+/// same per second or per second squared (time is written alike in every
+/// system, so 3.281 converts m/s² to ft/s² as it converts m to ft, and
+/// 6.283 rev/s to rad/s as rev to rad).
+fn converts_dimension(dimension: Dimension, family: Dimension) -> bool {
+    let Some(quotient) = dimension.checked_div(family) else {
+        return false;
+    };
+    let only_time = quotient
+        .exponents
+        .iter()
+        .enumerate()
+        .all(|(base, &e)| base == 2 || e == 0);
+    only_time && quotient.exponents[2] <= 0
+}
+
+/// The conversion between the units on both sides (the operand's written
+/// unit and the result's) when `value`, written as `written`, is it or its
+/// inverse as engineers round it: a factor of any dimension, integers and
+/// prefix steps included (`L_in [in] = L_ft * 12`).
+fn shown_by_units(
+    value: f64,
+    written: &str,
+    (from, from_factor): (&str, f64),
+    (to, to_factor): (&str, f64),
+) -> Option<HandFactor> {
+    let ratio = from_factor / to_factor;
+    let figures = significant_figures(written);
+    let (from, to) = if is_rounding_of(value, figures, ratio, Evidence::Units) {
+        (from, to)
+    } else if is_rounding_of(value, figures, 1.0 / ratio, Evidence::Units) {
+        (to, from)
+    } else {
+        return None;
+    };
+    let symbols = |text: &str| -> Option<Vec<(String, i32)>> {
+        let unit = crate::syntax::parse_unit(text).ok()?;
+        Some(
+            unit.symbols()
+                .map(|(symbol, exponent)| (symbol.to_string(), exponent))
+                .collect(),
+        )
+    };
+    let from_symbols = symbols(from)?;
+    let dimension = units::resolve(from_symbols.iter().map(|(s, e)| (s.as_str(), *e)))
+        .ok()?
+        .dimension;
+    let mut exact_units = from_symbols;
+    exact_units.extend(symbols(to)?.into_iter().map(|(s, e)| (s, -e)));
+    let exact = units::exact_factor(exact_units.iter().map(|(s, e)| (s.as_str(), *e)))?;
+    if exact == ExactFactor::one() {
+        return None;
+    }
+    Some(HandFactor {
+        from: from.to_string(),
+        to: to.to_string(),
+        exact_units,
+        family: if is_power_of_ten(&exact) {
+            Family::Prefix
+        } else {
+            Family::Conversion(dimension)
+        },
+    })
+}
+
 /// The part of `other` that is already a quantity of `family` (and so is
 /// converted a second time by the factor): `other` itself, or one factor of
 /// the product it is.
@@ -341,7 +618,7 @@ pub(super) fn already_converted<'e>(
     other: &'e Expr,
     family: Dimension,
 ) -> Option<&'e Expr> {
-    if dimension_of(context, owner, other) == Some(family) {
+    if dimension_of(context, owner, other).is_some_and(|d| converts_dimension(d, family)) {
         return Some(other);
     }
     let mut factors = Vec::new();
@@ -371,12 +648,6 @@ fn product_factors<'e>(expr: &'e Expr, factors: &mut Vec<&'e Expr>) {
         }
         _ => factors.push(expr),
     }
-}
-
-/// Whether `ratio` is `factor` or its inverse, to rounding.
-fn ratio_is(ratio: f64, factor: f64) -> bool {
-    let close = |a: f64| (a / factor - 1.0).abs() < 1e-9;
-    close(ratio) || close(1.0 / ratio)
 }
 
 /// The unit `other` was written in and the unit the result is declared or

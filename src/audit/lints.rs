@@ -214,7 +214,7 @@ enum Repair {
 }
 
 fn hand_conversion_factor(context: &Context<'_>, used: &HandFactorUse<'_>) -> Diagnostic {
-    let factor = used.factor;
+    let factor = &used.factor;
     let number = context.text(used.number.span);
     let other = context.text(used.other.span);
     let operation = context.text(used.operation.span);
@@ -274,7 +274,8 @@ fn hand_conversion_factor(context: &Context<'_>, used: &HandFactorUse<'_>) -> Di
     };
     let looks_like = format!(
         "`{number}` looks like {} typed by hand ({}{accuracy})",
-        factor.converts, factor.exact_words
+        factor.converts(),
+        factor.exact_words()
     );
     let scale = if used.op == BinaryOp::Multiply {
         used.value

@@ -27,7 +27,7 @@ pub use conversions::{
 };
 pub use fixes::{MAX_CHECKED_FIXES, verify_fixes};
 pub use gravity::{GravityKind, GravityUse, Typed};
-pub use hand_factors::{Family, HAND_FACTORS, HandFactor};
+pub use hand_factors::{Family, HandFactor, hand_factors};
 
 use crate::diag::Diagnostic;
 use crate::eval::Evaluated;
