@@ -44,6 +44,15 @@ fn stated_value(help: &str) -> (f64, String) {
     (number.parse().expect("a number"), unit.to_string())
 }
 
+/// The name and number of a `(`T` = 5.774 kN)` in a help.
+fn named_value(help: &str) -> Option<(String, f64)> {
+    let start = help.find("(`")? + 2;
+    let rest = &help[start..];
+    let (name, rest) = rest.split_once("` = ")?;
+    let number = rest.split([' ', ')']).next()?;
+    Some((name.to_string(), number.parse().ok()?))
+}
+
 /// The one fix of line `line`: every finding there that offers a fix offers
 /// the same rewrite, and says so with the same number. Returns the help of
 /// the first and the fixed sheet's text.
@@ -221,6 +230,32 @@ fn every_fix_offered_in_the_repository_fixes_its_line() {
                 }
                 if factors_after > 0 && factors_after >= factors_before {
                     failures.push(format!("{place}: `{fixed_text}` keeps a hand-typed factor"));
+                }
+            }
+            // A number the help gives for a named cell is that cell's.
+            if let Some(help) = diagnostic.help.as_deref()
+                && let Some((name, shown)) = named_value(help)
+            {
+                let cell_value = fixed.cell(&name).and_then(|cell| {
+                    let value = cell.value?;
+                    let unit = heftsheet::units::pick_unit(
+                        value.dimension,
+                        value.si,
+                        fixed.header().display,
+                    );
+                    let in_unit = if cell.declared_unit {
+                        cell.display.value_of(value.si)
+                    } else {
+                        unit.value_of(value.si)
+                    };
+                    heftsheet::units::format_significant(in_unit, fixed.header().sig_figs)
+                        .parse::<f64>()
+                        .ok()
+                });
+                if cell_value != Some(shown) {
+                    failures.push(format!(
+                        "{place}: the help gives `{name}` = {shown}, the fixed sheet {cell_value:?} ({help})"
+                    ));
                 }
             }
             // The number the help gives is the fixed sheet's.

@@ -201,7 +201,7 @@ struct Checked {
     lead: String,
     /// What to write.
     shows: String,
-    /// ` (= 3084 kg)`, or nothing.
+    /// ` (= 3084 kg)`, ` (`T` = 5.774 kN)` for another cell, or nothing.
     number: String,
     /// Its words after the number.
     tail: String,
@@ -342,12 +342,14 @@ fn check(
                 .to_string()
         }
     };
-    let value = match &fix.value_of {
+    let number = match &fix.value_of {
         None => None,
-        Some(FixValue::Here) => place.and_then(|place| place.value(&fixed)),
+        Some(FixValue::Here) => place
+            .and_then(|place| place.value(&fixed))
+            .map(|value| format!(" (= {value})")),
         Some(FixValue::Cell(name)) => {
             let id = fixed.sheet().names.get(name.as_str()).copied()?;
-            Some(Place::Cell(id).value(&fixed)?)
+            Some(format!(" (`{name}` = {})", Place::Cell(id).value(&fixed)?))
         }
     };
     let clears = before
@@ -364,9 +366,7 @@ fn check(
         clears,
         lead: fix.lead.clone(),
         shows,
-        number: value
-            .map(|value| format!(" (= {value})"))
-            .unwrap_or_default(),
+        number: number.unwrap_or_default(),
         tail: fix.tail.clone(),
         fixed_source,
     })

@@ -13,6 +13,7 @@
 //! [`check_source`] is the whole pipeline with the lints added and every
 //! fix verified ([`verify_fixes`]), which every command uses.
 
+mod angles;
 mod context;
 mod conversions;
 mod fixes;
