@@ -328,3 +328,36 @@ fn the_notebook_shows_the_verified_fix_once_linted_and_no_unchecked_one_before()
     expected.sort();
     assert_eq!(shown, expected);
 }
+
+#[test]
+fn past_the_limit_a_finding_says_its_fix_was_not_checked_and_offers_none() {
+    // 40 crates, two findings each: more fixes than heft checks for one
+    // sheet. Every finding either shows a checked fix (kept in `fixes`) or
+    // says it was not checked; none shows an unchecked rewrite.
+    let mut source = String::new();
+    for n in 0..40 {
+        source.push_str(&format!(
+            "W_{n} = {} lbf\nm_{n} [kg] = W_{n} / 2.2\n",
+            100 + n
+        ));
+    }
+    let limit = heftsheet::audit::checked_fixes(source.len());
+    assert_eq!(limit, heftsheet::audit::MAX_CHECKED_FIXES);
+    let evaluated = pipeline::run(&source);
+    let (mut shown, mut unchecked) = (0, 0);
+    for diagnostic in &evaluated.diagnostics {
+        let help = diagnostic.help.as_deref().unwrap_or("");
+        if diagnostic.fixes.is_empty() {
+            assert!(help.contains("checks at most"), "{help}");
+            assert!(!help.contains("write"), "{help}");
+            unchecked += 1;
+        } else {
+            assert!(help.starts_with("write `W_"), "{help}");
+            shown += 1;
+        }
+    }
+    assert!(
+        shown >= limit / 2 && unchecked > 0,
+        "{shown} shown, {unchecked} not checked"
+    );
+}
