@@ -200,3 +200,125 @@ fn coefficients_are_still_not_conversion_factors() {
         assert!(found.is_empty(), "{source}: {found:#?}");
     }
 }
+
+/// The number after `(`name` = ` or `(= ` in a help.
+fn number_in(help: &str, after: &str) -> f64 {
+    let start = help
+        .find(after)
+        .map(|at| at + after.len())
+        .unwrap_or_else(|| panic!("no `{after}` in {help}"));
+    let rest = &help[start..];
+    let end = rest.find([' ', ')']).unwrap_or(rest.len());
+    rest[..end].parse().expect("a number")
+}
+
+#[test]
+fn an_angle_in_degrees_given_to_sin_is_a_warning_with_the_degrees_fix() {
+    // Two legs at 60° from horizontal carry W / (2 sin 60°) = 10 kN / √3 =
+    // 5.7735027 kN each (closed-form statics); taken as 60 rad, heft would
+    // show −16.40 kN with no word.
+    let source = "W = 10 kN\nθ = 60 \"degrees\"\nT [kN] = W / (2 * sin(θ))\n";
+    let found = findings(source, Code::DegreesAsRadians);
+    assert_eq!(found.len(), 1, "{found:#?}");
+    let help = found[0].help.as_deref().unwrap_or("");
+    assert!(help.contains("`θ = 60 deg`"), "{help}");
+    let leg = number_in(help, "(`T` = ");
+    let exact = 10.0 / 3f64.sqrt();
+    assert!(
+        (leg - exact).abs() <= 0.5e-3,
+        "{leg} is not {exact} to 4 figures"
+    );
+    // The fix, applied, gives that number and no warning.
+    let fixed = source.replace("θ = 60 ", "θ = 60 deg ");
+    let evaluated = heftsheet::pipeline::run(&fixed);
+    common::assert_close(common::si(&evaluated, "T"), exact * 1000.0, 1e-12);
+    assert!(findings(&fixed, Code::DegreesAsRadians).is_empty());
+}
+
+#[test]
+fn a_plain_angle_beyond_a_turn_is_taken_for_degrees_and_a_radian_one_is_not() {
+    // 75 as radians is nearly 12 turns: more likely degrees; 1.2 and
+    // 2π f t (with π, so radians) are left alone, and so is an angle
+    // written with its unit.
+    assert_eq!(
+        findings("W = 5 kN\nH = W * cos(75)\n", Code::DegreesAsRadians).len(),
+        1
+    );
+    for source in [
+        "W = 5 kN\nH = W * cos(1.2)\n",
+        "f = 3 Hz\nt = 2 s\ny = sin(2 * pi * f * t)\n",
+        "θ = 75 deg \"degrees\"\ny = cos(θ)\n",
+        "h = 2 m\nL = 3 m\nθ = atan(h / L)\ny = cos(θ)\n",
+    ] {
+        let found = findings(source, Code::DegreesAsRadians);
+        assert!(found.is_empty(), "{source}: {found:#?}");
+    }
+}
+
+#[test]
+fn a_plain_rate_shown_in_rpm_gives_both_readings() {
+    // A drum of diameter D under a belt at v turns v / (π D) = 0.26526 rev/s
+    // = 15.915 rev/min (closed form); read as radians per second the same
+    // number is 0.26526 × 60 / (2π) = 2.5330 rpm, which heft shows.
+    let source = "v = 0.5 m/s\nD = 0.6 m\nn [rpm] = v / (pi * D)\n";
+    let found = findings(source, Code::AmbiguousAngularSpeed);
+    assert_eq!(found.len(), 1, "{found:#?}");
+    let per_second = 0.5 / (std::f64::consts::PI * 0.6);
+    let revolutions = heftsheet::units::format_significant(per_second * 60.0, 4);
+    let radians =
+        heftsheet::units::format_significant(per_second * 60.0 / std::f64::consts::TAU, 4);
+    assert_eq!((revolutions.as_str(), radians.as_str()), ("15.92", "2.533"));
+    let message = &found[0].message;
+    assert!(
+        message.contains(&format!("{radians} rpm"))
+            && message.contains(&format!("{revolutions} rpm")),
+        "{message}"
+    );
+    // Saying which silences it, and `* 1 rev` gives the drum's speed.
+    let fixed = source.replace("(pi * D)\n", "(pi * D) * 1 rev\n");
+    assert!(findings(&fixed, Code::AmbiguousAngularSpeed).is_empty());
+    let evaluated = heftsheet::pipeline::run(&fixed);
+    common::assert_close(common::shown(&evaluated, "n"), per_second * 60.0, 1e-12);
+    // A rate written with an angle is no question.
+    for source in [
+        "n = 1750 rpm\nω [rad/s] = n * 2\n",
+        "θ = 90 deg\nt = 2 s\nω [rad/s] = θ / t\n",
+    ] {
+        let found = findings(source, Code::AmbiguousAngularSpeed);
+        assert!(found.is_empty(), "{source}: {found:#?}");
+    }
+}
+
+#[test]
+fn a_check_of_a_plain_rate_against_an_angular_speed_gives_both_readings() {
+    // The same drum: 0.26526 1/s is 2.533 rpm as radians per second and
+    // 15.92 rpm as revolutions per second (closed form, as above); the
+    // check passes either way here, but says which reading it judged.
+    let source =
+        "v = 0.5 m/s\nD = 0.6 m\nn = v / (pi * D)\ncheck n <= 20 rpm \"gearbox input limit\"\n";
+    let found = findings(source, Code::AmbiguousAngularSpeed);
+    assert_eq!(found.len(), 1, "{found:#?}");
+    assert!(
+        found[0].message.contains("2.533 rpm") && found[0].message.contains("15.92 rpm"),
+        "{}",
+        found[0].message
+    );
+    let said = source.replace("check n <=", "check n * 1 rev <=");
+    assert!(findings(&said, Code::AmbiguousAngularSpeed).is_empty());
+}
+
+#[test]
+fn a_polar_direction_in_degrees_is_a_warning_too() {
+    // polar(40 N, 30°) = (34.64, 20) N (closed form); polar(40 N, 30) is
+    // 30 rad and points elsewhere.
+    let source = "F = polar(40 N, 30)\nF_x = F.x\n";
+    assert_eq!(findings(source, Code::DegreesAsRadians).len(), 1);
+    let written = "F = polar(40 N, 30 deg)\nF_x = F.x\n";
+    assert!(findings(written, Code::DegreesAsRadians).is_empty());
+    let evaluated = heftsheet::pipeline::run(written);
+    common::assert_close(
+        common::si(&evaluated, "F_x"),
+        40.0 * 3f64.sqrt() / 2.0,
+        1e-12,
+    );
+}

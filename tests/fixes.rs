@@ -44,6 +44,15 @@ fn stated_value(help: &str) -> (f64, String) {
     (number.parse().expect("a number"), unit.to_string())
 }
 
+/// The name and number of a `(`T` = 5.774 kN)` in a help.
+fn named_value(help: &str) -> Option<(String, f64)> {
+    let start = help.find("(`")? + 2;
+    let rest = &help[start..];
+    let (name, rest) = rest.split_once("` = ")?;
+    let number = rest.split([' ', ')']).next()?;
+    Some((name.to_string(), number.parse().ok()?))
+}
+
 /// The one fix of line `line`: every finding there that offers a fix offers
 /// the same rewrite, and says so with the same number. Returns the help of
 /// the first and the fixed sheet's text.
@@ -223,6 +232,32 @@ fn every_fix_offered_in_the_repository_fixes_its_line() {
                     failures.push(format!("{place}: `{fixed_text}` keeps a hand-typed factor"));
                 }
             }
+            // A number the help gives for a named cell is that cell's.
+            if let Some(help) = diagnostic.help.as_deref()
+                && let Some((name, shown)) = named_value(help)
+            {
+                let cell_value = fixed.cell(&name).and_then(|cell| {
+                    let value = cell.value?;
+                    let unit = heftsheet::units::pick_unit(
+                        value.dimension,
+                        value.si,
+                        fixed.header().display,
+                    );
+                    let in_unit = if cell.declared_unit {
+                        cell.display.value_of(value.si)
+                    } else {
+                        unit.value_of(value.si)
+                    };
+                    heftsheet::units::format_significant(in_unit, fixed.header().sig_figs)
+                        .parse::<f64>()
+                        .ok()
+                });
+                if cell_value != Some(shown) {
+                    failures.push(format!(
+                        "{place}: the help gives `{name}` = {shown}, the fixed sheet {cell_value:?} ({help})"
+                    ));
+                }
+            }
             // The number the help gives is the fixed sheet's.
             if let Some(help) = diagnostic.help.as_deref()
                 && help.contains("(= ")
@@ -292,4 +327,37 @@ fn the_notebook_shows_the_verified_fix_once_linted_and_no_unchecked_one_before()
     shown.sort();
     expected.sort();
     assert_eq!(shown, expected);
+}
+
+#[test]
+fn past_the_limit_a_finding_says_its_fix_was_not_checked_and_offers_none() {
+    // 40 crates, two findings each: more fixes than heft checks for one
+    // sheet. Every finding either shows a checked fix (kept in `fixes`) or
+    // says it was not checked; none shows an unchecked rewrite.
+    let mut source = String::new();
+    for n in 0..40 {
+        source.push_str(&format!(
+            "W_{n} = {} lbf\nm_{n} [kg] = W_{n} / 2.2\n",
+            100 + n
+        ));
+    }
+    let limit = heftsheet::audit::checked_fixes(source.len());
+    assert_eq!(limit, heftsheet::audit::MAX_CHECKED_FIXES);
+    let evaluated = pipeline::run(&source);
+    let (mut shown, mut unchecked) = (0, 0);
+    for diagnostic in &evaluated.diagnostics {
+        let help = diagnostic.help.as_deref().unwrap_or("");
+        if diagnostic.fixes.is_empty() {
+            assert!(help.contains("checks at most"), "{help}");
+            assert!(!help.contains("write"), "{help}");
+            unchecked += 1;
+        } else {
+            assert!(help.starts_with("write `W_"), "{help}");
+            shown += 1;
+        }
+    }
+    assert!(
+        shown >= limit / 2 && unchecked > 0,
+        "{shown} shown, {unchecked} not checked"
+    );
 }

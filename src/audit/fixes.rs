@@ -25,6 +25,19 @@ use crate::units::{DisplayUnit, Quantity, format_significant, pick_unit};
 /// evaluation of the whole sheet. Findings past it offer no fix and say so.
 pub const MAX_CHECKED_FIXES: usize = 64;
 
+/// Fewer for a long sheet: the fixes checked re-evaluate at most this many
+/// bytes of sheet in all (64 fixes of a 64 KiB sheet), but never fewer
+/// than [`MIN_CHECKED_FIXES`].
+const CHECKED_BYTES: usize = 64 * 64 * 1024;
+
+/// The fixes checked for a sheet of any length.
+pub const MIN_CHECKED_FIXES: usize = 4;
+
+/// How many fixes are checked for a sheet of `source_len` bytes.
+pub fn checked_fixes(source_len: usize) -> usize {
+    (CHECKED_BYTES / source_len.max(1)).clamp(MIN_CHECKED_FIXES, MAX_CHECKED_FIXES)
+}
+
 /// Checks every fix the findings of `evaluated` offer against the sheet with
 /// the fix applied, and turns the one fix kept for each line into the help
 /// of its findings; afterwards a finding's `fixes` holds exactly the fix its
@@ -40,13 +53,14 @@ pub fn verify_fixes(evaluated: &mut Evaluated) {
         return;
     }
     let before = LineFindings::of(&evaluated.diagnostics, &evaluated.lines);
+    let n_checked = checked_fixes(evaluated.source().len());
     let shared: &Evaluated = evaluated;
     let checked: Vec<Option<Checked>> = candidates
         .par_iter()
         .enumerate()
         .map(|(n, &(index, fix))| {
             let diagnostic = &shared.diagnostics[index];
-            (n < MAX_CHECKED_FIXES)
+            (n < n_checked)
                 .then(|| check(shared, &before, diagnostic, &diagnostic.fixes[fix]))
                 .flatten()
         })
@@ -89,9 +103,9 @@ pub fn verify_fixes(evaluated: &mut Evaluated) {
                 (Some(kept.help_for_another_line()), Some(n))
             }
             (_, Some((n, kept))) => (Some(kept.summary()), Some(n)),
-            (_, None) if own_run.start >= MAX_CHECKED_FIXES => (
+            (_, None) if own_run.start >= n_checked => (
                 Some(format!(
-                    "heft checks the fixes of at most {MAX_CHECKED_FIXES} findings of a sheet before it offers them; clear the findings above and check again"
+                    "heft checks at most {n_checked} fixes of a sheet this long before it offers them; clear the findings above and check again"
                 )),
                 None,
             ),
@@ -201,7 +215,7 @@ struct Checked {
     lead: String,
     /// What to write.
     shows: String,
-    /// ` (= 3084 kg)`, or nothing.
+    /// ` (= 3084 kg)`, ` (`T` = 5.774 kN)` for another cell, or nothing.
     number: String,
     /// Its words after the number.
     tail: String,
@@ -342,12 +356,14 @@ fn check(
                 .to_string()
         }
     };
-    let value = match &fix.value_of {
+    let number = match &fix.value_of {
         None => None,
-        Some(FixValue::Here) => place.and_then(|place| place.value(&fixed)),
+        Some(FixValue::Here) => place
+            .and_then(|place| place.value(&fixed))
+            .map(|value| format!(" (= {value})")),
         Some(FixValue::Cell(name)) => {
             let id = fixed.sheet().names.get(name.as_str()).copied()?;
-            Some(Place::Cell(id).value(&fixed)?)
+            Some(format!(" (`{name}` = {})", Place::Cell(id).value(&fixed)?))
         }
     };
     let clears = before
@@ -364,9 +380,7 @@ fn check(
         clears,
         lead: fix.lead.clone(),
         shows,
-        number: value
-            .map(|value| format!(" (= {value})"))
-            .unwrap_or_default(),
+        number: number.unwrap_or_default(),
         tail: fix.tail.clone(),
         fixed_source,
     })

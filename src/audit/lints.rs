@@ -1,6 +1,7 @@
 //! The lints: each reads the [`Context`] and adds findings with a stable
 //! code, the place, and a fix with the number it would give.
 
+use super::angles;
 use super::context::{Context, Owner};
 use super::format_relative as percent;
 use super::gravity::{self, GravityKind, GravityUse, same_value};
@@ -18,18 +19,24 @@ pub(super) fn run(context: &Context<'_>) -> Vec<Diagnostic> {
     let mut hand_factors = Vec::new();
     let mut gravity = gravity::Collector::new();
     let mut systems = SystemsSeen::default();
+    let radians = angles::AngleWords::new(context, true);
+    let mut trig_findings = Vec::new();
     for (owner, root) in context.expressions() {
         let whole_input = gravity::is_whole_input(owner, root);
         root.walk(&mut |node| {
             hand_factors::visit(context, owner, root, node, &mut hand_factors);
             gravity.visit_node(context, whole_input, node);
             systems.visit(context, node);
+            trig_findings.extend(angles::degrees_as_radians(context, &radians, owner, node));
         });
     }
     let mut findings: Vec<Diagnostic> = hand_factors
         .iter()
         .map(|used| hand_conversion_factor(context, used))
         .collect();
+    findings.extend(trig_findings);
+    // In `v / (pi * D)` the π is a circumference's, not an angle.
+    let angles_written = angles::AngleWords::new(context, false);
     let mut used = vec![false; context.sheet.cells.len()];
     for &id in context
         .sheet
@@ -58,6 +65,18 @@ pub(super) fn run(context: &Context<'_>) -> Vec<Diagnostic> {
             findings.extend(unused_input(context, id));
         }
         findings.extend(shadowed_constant(context, id));
+        findings.extend(angles::ambiguous_angular_speed(
+            context,
+            &angles_written,
+            id,
+        ));
+    }
+    for index in 0..context.sheet.checks.len() {
+        findings.extend(angles::ambiguous_angular_speed_in_check(
+            context,
+            &angles_written,
+            index,
+        ));
     }
     let gravity = gravity.finish(context, &hand_factors);
     findings.extend(gravity_inconsistent(context, &gravity));

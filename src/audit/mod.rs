@@ -13,6 +13,7 @@
 //! [`check_source`] is the whole pipeline with the lints added and every
 //! fix verified ([`verify_fixes`]), which every command uses.
 
+mod angles;
 mod context;
 mod conversions;
 mod fixes;
@@ -25,7 +26,7 @@ mod roles;
 pub use conversions::{
     ConversionAudit, ConversionEntry, ConversionKind, Exactness, SystemUse, conversion_audit,
 };
-pub use fixes::{MAX_CHECKED_FIXES, verify_fixes};
+pub use fixes::{MAX_CHECKED_FIXES, MIN_CHECKED_FIXES, checked_fixes, verify_fixes};
 pub use gravity::{GravityKind, GravityUse, Typed};
 pub use hand_factors::{Family, HandFactor, hand_factors};
 

@@ -29,10 +29,22 @@ pub(super) fn evaluate_rewritten(
     for id in needed {
         let value = context.value(id)?;
         let name = &context.sheet.cell(id).name.text;
-        let units = if value.dimension.is_dimensionless() {
-            String::new()
+        // Base units with their exponents, negative ones too (`s^-1`):
+        // a unit cannot start with `1/`.
+        let units: String = crate::units::SI_BASE_SYMBOLS
+            .iter()
+            .zip(value.dimension.exponents)
+            .filter(|(_, exponent)| *exponent != 0)
+            .map(|(symbol, exponent)| match exponent {
+                1 => (*symbol).to_string(),
+                _ => format!("{symbol}^{exponent}"),
+            })
+            .collect::<Vec<_>>()
+            .join("*");
+        let units = if units.is_empty() {
+            units
         } else {
-            format!(" {}", value.dimension.si_units())
+            format!(" {units}")
         };
         let _ = writeln!(sheet, "{name} = {:e}{units}", value.si);
     }

@@ -101,6 +101,12 @@ pub enum Code {
     UnusedInput,
     /// A cell named like a built-in constant (`g0`, `pi`).
     ShadowedConstant,
+    /// A plain number in degrees given to `sin`, `cos` or `tan`, which take
+    /// radians.
+    DegreesAsRadians,
+    /// A plain 1/s shown as an angular speed (`[rpm]`, `[rad/s]`): it could
+    /// be revolutions or radians per second.
+    AmbiguousAngularSpeed,
     /// A state's rate of change that is not the state's dimension per time.
     RateMismatch,
     /// A simulate block that cannot run as written: a state without a rate
@@ -155,6 +161,8 @@ impl Code {
             Code::MixedSystems => "mixed-systems",
             Code::UnusedInput => "unused-input",
             Code::ShadowedConstant => "shadowed-constant",
+            Code::DegreesAsRadians => "degrees-as-radians",
+            Code::AmbiguousAngularSpeed => "ambiguous-angular-speed",
             Code::RateMismatch => "rate-mismatch",
             Code::BadSimulation => "bad-simulation",
             Code::StiffSystem => "stiff-system",
@@ -165,7 +173,7 @@ impl Code {
     }
 
     /// Every code, for documentation and tests.
-    pub const ALL: [Code; 37] = [
+    pub const ALL: [Code; 39] = [
         Code::ParseError,
         Code::EncodingError,
         Code::HeaderError,
@@ -197,6 +205,8 @@ impl Code {
         Code::MixedSystems,
         Code::UnusedInput,
         Code::ShadowedConstant,
+        Code::DegreesAsRadians,
+        Code::AmbiguousAngularSpeed,
         Code::RateMismatch,
         Code::BadSimulation,
         Code::StiffSystem,
