@@ -3,6 +3,8 @@
 //! the numbers the lints' fixes give, worked by hand from closed forms.
 //! Scenarios are invented.
 
+mod common;
+
 use heftsheet::audit::{ConversionKind, Exactness, GravityKind, check_source, conversion_audit};
 use heftsheet::diag::{Code, Severity};
 
@@ -85,16 +87,10 @@ fn hand_typed_factors_are_rounded_by_the_published_amounts() {
         ("W_j = 10 lbf\nx_j = W_j / 32.2\n", 0.08065955e-2), // g0 = 32.174048556… ft/s²
     ];
     for (source, expected) in cases {
-        let audit = conversion_audit(&check_source(source));
-        let typed: Vec<_> = audit
-            .conversions
-            .iter()
-            .filter(|c| c.kind == ConversionKind::HandTyped)
-            .collect();
-        assert_eq!(typed.len(), 1, "{source}");
-        assert_eq!(typed[0].exactness, Exactness::Rounded);
+        let typed = common::the_hand_typed_conversion(source);
+        assert_eq!(typed.exactness, Exactness::Rounded);
         assert_close(
-            typed[0].relative_error.unwrap_or(f64::NAN),
+            typed.relative_error.unwrap_or(f64::NAN),
             expected,
             FOUR_DIGITS,
         );

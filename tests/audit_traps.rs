@@ -6,7 +6,7 @@
 
 mod common;
 
-use heftsheet::audit::{ConversionKind, check_source, conversion_audit};
+use heftsheet::audit::check_source;
 use heftsheet::diag::{Code, Diagnostic};
 use heftsheet::units::{UnitSystem, catalog};
 
@@ -21,16 +21,10 @@ fn findings(source: &str, code: Code) -> Vec<Diagnostic> {
 /// The hand-typed factor `heft audit` lists for `source`, with its
 /// relative error.
 fn audited_factor(source: &str) -> (f64, f64) {
-    let audit = conversion_audit(&check_source(source));
-    let typed: Vec<_> = audit
-        .conversions
-        .iter()
-        .filter(|c| c.kind == ConversionKind::HandTyped)
-        .collect();
-    assert_eq!(typed.len(), 1, "{source}: {typed:#?}");
+    let typed = common::the_hand_typed_conversion(source);
     (
-        typed[0].typed_factor.unwrap_or(f64::NAN),
-        typed[0].relative_error.unwrap_or(f64::NAN),
+        typed.typed_factor.unwrap_or(f64::NAN),
+        typed.relative_error.unwrap_or(f64::NAN),
     )
 }
 

@@ -115,3 +115,17 @@ pub fn expected_findings(source: &str) -> std::collections::BTreeMap<(usize, Str
     }
     expected
 }
+
+/// The one hand-typed conversion `heft audit` lists for `source` (panics
+/// unless there is exactly one).
+#[track_caller]
+pub fn the_hand_typed_conversion(source: &str) -> heftsheet::audit::ConversionEntry {
+    let audit = heftsheet::audit::conversion_audit(&heftsheet::audit::check_source(source));
+    let mut typed: Vec<_> = audit
+        .conversions
+        .into_iter()
+        .filter(|c| c.kind == heftsheet::audit::ConversionKind::HandTyped)
+        .collect();
+    assert_eq!(typed.len(), 1, "{source}: {typed:#?}");
+    typed.remove(0)
+}
