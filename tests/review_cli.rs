@@ -53,6 +53,32 @@ fn report_refuses_an_unknown_format_and_never_overwrites_the_sheet() {
 }
 
 #[test]
+fn report_refuses_an_output_that_is_the_sheet_under_another_name() {
+    // A hard link and a symbolic link name the sheet's own file: writing the
+    // report there would replace the sheet's text.
+    let sheet = scratch("linked.heft");
+    std::fs::write(&sheet, "m = 3 kg\n").expect("write sheet");
+    let hard = scratch("linked_hard.md");
+    let _ = std::fs::remove_file(&hard);
+    std::fs::hard_link(&sheet, &hard).expect("hard link");
+    let soft = scratch("linked_soft.html");
+    let _ = std::fs::remove_file(&soft);
+    std::os::unix::fs::symlink(&sheet, &soft).expect("symbolic link");
+    let sheet_text = sheet.display().to_string();
+    for output in [&hard, &soft] {
+        let output_text = output.display().to_string();
+        let (code, _, stderr) = heft(&["report", &sheet_text, "-o", &output_text]);
+        assert_eq!(code, 2, "{output_text}: {stderr}");
+        assert!(stderr.contains("would overwrite the sheet"), "{stderr}");
+        assert_eq!(
+            std::fs::read_to_string(&sheet).expect("sheet"),
+            "m = 3 kg\n",
+            "{output_text}"
+        );
+    }
+}
+
+#[test]
 fn report_of_a_sheet_with_findings_is_written_and_exits_one() {
     let out = scratch("broken.md");
     let out_text = out.display().to_string();

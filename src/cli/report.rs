@@ -61,10 +61,9 @@ fn format_of(output: &Path) -> io::Result<Format> {
     }
 }
 
-/// Whether two paths name the same existing file.
+/// Whether two paths name the same existing file: the same device and
+/// inode (volume and file index on Windows), so a hard link, a symbolic
+/// link or a bind mount of the sheet counts as the sheet.
 fn same_file(a: &Path, b: &Path) -> bool {
-    match (a.canonicalize(), b.canonicalize()) {
-        (Ok(a), Ok(b)) => a == b,
-        _ => false,
-    }
+    same_file::is_same_file(a, b).unwrap_or(false)
 }
