@@ -141,3 +141,27 @@ proptest! {
         let _ = heftsheet::diag::render::render(&evaluated.diagnostics, "soup.heft", &text, false);
     }
 }
+
+#[test]
+fn huge_unit_exponents_end_with_the_unit_error() {
+    // `m^2147483647` once made `heft audit` compute 0.3048-style exact
+    // factors by 2^31 multiplications (minutes); exponents beyond what a
+    // dimension holds now have no factor, and powers are taken by squaring.
+    let dir = std::env::temp_dir().join(format!("heft-exponents-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).expect("scratch folder");
+    for (name, sheet) in [
+        ("huge.heft", "v = 1 m^2147483647*m\n"),
+        ("feet.heft", "v = 1 ft^10000\n"),
+    ] {
+        let path = dir.join(name);
+        std::fs::write(&path, sheet).expect("write sheet");
+        let path = path.display().to_string();
+        for command in ["check", "audit"] {
+            let (code, stdout, _) = common::heft(&[command, &path]);
+            assert_eq!(code, 1, "{command} {sheet}: {stdout}");
+            assert!(stdout.contains("too large"), "{command} {sheet}: {stdout}");
+        }
+    }
+    let (code, _, stderr) = common::heft(&["convert", "1 m", "ft^10000"]);
+    assert_eq!(code, 2, "{stderr}");
+}

@@ -384,8 +384,12 @@ impl<'a> Evaluator<'a> {
                 UnitErrorKind::Overflow => Diagnostic::error(
                     Code::DimensionMismatch,
                     unit.span,
-                    "the unit's exponents are too large",
-                ),
+                    format!(
+                        "the unit's exponents are too large: each base dimension's exponent must lie within ±{}",
+                        i8::MAX
+                    ),
+                )
+                .with_help("write the unit with smaller powers; no physical quantity needs more"),
             })
         })
     }

@@ -133,11 +133,10 @@ impl fmt::Display for ExactFactor {
     }
 }
 
+/// `base` to an integer power, by repeated squaring (num-traits' `pow`), so
+/// the cost grows with the exponent's digits, not its size.
 fn pow(base: &BigRational, exponent: i32) -> BigRational {
-    let mut result = BigRational::one();
-    for _ in 0..exponent.unsigned_abs() {
-        result *= base;
-    }
+    let result = num_traits::pow(base.clone(), exponent.unsigned_abs() as usize);
     if exponent < 0 && !result.is_zero() {
         result.recip()
     } else {
@@ -202,4 +201,26 @@ fn decimal_text(ratio: &BigRational) -> String {
         format!("{whole}.{fraction}")
     };
     if negative { format!("-{text}") } else { text }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn powers_by_squaring_equal_repeated_products() {
+        // 0.3048 (the international foot, 1959) to every power from −20 to
+        // 20, against the product written out one factor at a time.
+        let foot = BigRational::new(BigInt::from(3048), BigInt::from(10_000));
+        for exponent in -20i32..=20 {
+            let mut product = BigRational::one();
+            for _ in 0..exponent.unsigned_abs() {
+                product *= &foot;
+            }
+            if exponent < 0 {
+                product = product.recip();
+            }
+            assert_eq!(pow(&foot, exponent), product, "0.3048^{exponent}");
+        }
+    }
 }

@@ -93,12 +93,16 @@ pub fn resolve<'a>(
 }
 
 /// The exact SI factor of a product of catalog units (`None` if a symbol is
-/// not in the catalog).
+/// not in the catalog, or an exponent is beyond what a dimension holds, so
+/// the unit cannot be used anyway).
 pub fn exact_factor<'a>(factors: impl IntoIterator<Item = (&'a str, i32)>) -> Option<ExactFactor> {
     let catalog = catalog();
     factors
         .into_iter()
         .try_fold(ExactFactor::one(), |product, (symbol, exponent)| {
+            if exponent.unsigned_abs() > i8::MAX.unsigned_abs().into() {
+                return None;
+            }
             Some(product.times(&catalog.get(symbol)?.factor.powi(exponent)))
         })
 }
