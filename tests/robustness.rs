@@ -165,3 +165,50 @@ fn huge_unit_exponents_end_with_the_unit_error() {
     let (code, _, stderr) = common::heft(&["convert", "1 m", "ft^10000"]);
     assert_eq!(code, 2, "{stderr}");
 }
+
+#[test]
+fn deep_components_units_and_long_bodies_are_refused_cleanly() {
+    // Each once overflowed the stack (abort, exit 134): 15,000 components,
+    // a declared unit nested 28,000 deep, a body of 15,000 forces.
+    let components = format!("F = vec(1 N, 2 N)\nG = F{}\n", ".x".repeat(15_000));
+    let unit = format!(
+        "m [{}kg{}] = 3 kg\n",
+        "(".repeat(28_000),
+        ")".repeat(28_000)
+    );
+    let body = format!(
+        "F = vec(1 N, 2 N)\nbody B: {}\n",
+        vec!["F"; 15_000].join(", ")
+    );
+    for (sheet, expected) in [
+        (&components, "operators"),
+        (&unit, "nest more than"),
+        (&body, "at most 1000 forces"),
+    ] {
+        let evaluated = run(sheet);
+        assert!(
+            evaluated
+                .diagnostics
+                .iter()
+                .any(|d| d.code.as_str() == "parse-error" && d.message.contains(expected)),
+            "{expected}: {:?}",
+            codes(&evaluated)
+        );
+    }
+    // Just inside the limits, the same constructs evaluate.
+    let components = "F = vec(1 N, 2 N)\nG = F.x\n";
+    assert_eq!(si(&run(components), "G"), 1.0);
+    let body = format!(
+        "F = vec(1 N, 2 N)\nbody B: {}\nB_x = B.x\n",
+        vec!["F"; 1000].join(", ")
+    );
+    assert_eq!(si(&run(&body), "B_x"), 1000.0);
+    // A deep unit given to `heft convert`.
+    let deep = format!("{}m{}", "(".repeat(27_000), ")".repeat(27_000));
+    let (code, stdout, stderr) = common::heft(&["convert", "1 m", &deep]);
+    assert_eq!(code, 2);
+    assert!(
+        stdout.contains("nest more than") || stderr.contains("nest more than"),
+        "the nesting limit is named"
+    );
+}

@@ -49,7 +49,7 @@ pub(crate) fn statement(mut pairs: Pairs<'_, Rule>, offset: usize) -> Built<Opti
         },
         Rule::cell => StatementKind::Cell(Box::new(builder.cell(pair)?)),
         Rule::check => StatementKind::Check(Box::new(builder.check(pair)?)),
-        Rule::body => StatementKind::Body(Box::new(builder.body(pair))),
+        Rule::body => StatementKind::Body(Box::new(builder.body(pair)?)),
         Rule::review => StatementKind::Review(Box::new(builder.review(pair)?)),
         Rule::signoff => StatementKind::SignOff(Box::new(builder.signoff(pair)?)),
         Rule::EOI => return Ok(None),
@@ -456,7 +456,7 @@ impl Builder {
         }
     }
 
-    fn body(&self, pair: Pair<'_, Rule>) -> BodyDef {
+    fn body(&self, pair: Pair<'_, Rule>) -> Built<BodyDef> {
         let mut names = Vec::new();
         let mut description = None;
         for part in pair.into_inner() {
@@ -472,6 +472,18 @@ impl Builder {
             .next()
             .unwrap_or_else(|| unreachable!("expected the body's name"));
         let forces: Vec<Ident> = names.collect();
+        // The resultant is a sum, evaluated recursively: as many forces as a
+        // formula may have operators.
+        if forces.len() > super::MAX_OPERATORS {
+            return Err(BuildError {
+                span: forces[super::MAX_OPERATORS].span,
+                message: format!(
+                    "a body may list at most {} forces; this one lists {}",
+                    super::MAX_OPERATORS,
+                    forces.len()
+                ),
+            });
+        }
         // The resultant is the sum of the listed forces, written as a formula.
         let reference = |force: &Ident| Expr {
             span: force.span,
@@ -495,7 +507,7 @@ impl Builder {
                 },
             };
         }
-        BodyDef {
+        Ok(BodyDef {
             resultant: CellDef {
                 name: name.clone(),
                 unit: None,
@@ -506,7 +518,7 @@ impl Builder {
             name,
             forces,
             description,
-        }
+        })
     }
 
     fn review(&self, pair: Pair<'_, Rule>) -> Built<ReviewMark> {

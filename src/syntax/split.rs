@@ -406,6 +406,12 @@ fn parse_statement(text: &str, offset: usize) -> (StatementKind, Option<Diagnost
 
 /// The cell a broken line still defines, read from its `name [unit] =` head.
 fn recover_cell(text: &str, offset: usize) -> Option<StatementKind> {
+    // The head is parsed recursively too (its unit may nest): only a head
+    // within the limits is read.
+    let head = text.split('=').next().unwrap_or(text);
+    if check_limits(head, offset).is_some() {
+        return None;
+    }
     let pairs = HeftParser::parse(Rule::cell_head, text).ok()?;
     let (name, unit, formula_start) = build::cell_head(pairs, offset)?;
     let code_end = offset + text.split("//").next().unwrap_or(text).trim_end().len();
@@ -422,6 +428,17 @@ fn recover_cell(text: &str, offset: usize) -> Option<StatementKind> {
         tolerance: None,
         description: None,
     })))
+}
+
+/// The error for a statement with more than [`MAX_OPERATORS`] operators
+/// (components included), at the one past the limit.
+fn too_many_operators(at: usize) -> Diagnostic {
+    Diagnostic::error(
+        Code::ParseError,
+        Span::new(at, at + 1),
+        format!("this statement has more than {MAX_OPERATORS} operators"),
+    )
+    .with_help("split the formula into several cells")
 }
 
 /// Refuses statements nested deeper than [`MAX_NESTING`] or with more than
@@ -459,17 +476,17 @@ pub(super) fn check_limits(text: &str, offset: usize) -> Option<Diagnostic> {
                 }
             }
             ')' | ']' => depth = depth.saturating_sub(1),
+            // A component (`F.x`) nests its vector like an operator does.
+            '.' if text[position + 1..].starts_with(|next: char| next.is_ascii_alphabetic()) => {
+                n_operators += 1;
+                if n_operators > MAX_OPERATORS {
+                    return Some(too_many_operators(offset + position));
+                }
+            }
             '+' | '-' | '*' | '/' | '^' => {
                 n_operators += 1;
                 if n_operators > MAX_OPERATORS {
-                    return Some(
-                        Diagnostic::error(
-                            Code::ParseError,
-                            Span::new(offset + position, offset + position + 1),
-                            format!("this statement has more than {MAX_OPERATORS} operators"),
-                        )
-                        .with_help("split the formula into several cells"),
-                    );
+                    return Some(too_many_operators(offset + position));
                 }
             }
             _ => {}
@@ -505,6 +522,9 @@ pub fn parse_expression(text: &str) -> Result<super::ast::Expr, Diagnostic> {
 
 /// Parses `text` as one unit expression (for `heft convert`).
 pub fn parse_unit(text: &str) -> Result<super::ast::UnitExpr, Diagnostic> {
+    if let Some(diagnostic) = check_limits(text, 0) {
+        return Err(diagnostic);
+    }
     let pairs = HeftParser::parse(Rule::unit_only, text).map_err(|error| {
         let (span, message) = describe_error(&error, text, 0);
         Diagnostic::error(Code::ParseError, span, message)
