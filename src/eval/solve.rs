@@ -1,9 +1,10 @@
 //! Solve blocks: equations `lhs = rhs` solved for their unknowns by Newton's
 //! method with an exact Jacobian (the compiled equations run on dual
 //! numbers), a backtracking line search and Levenberg–Marquardt steps where
-//! Newton's step fails. Unknowns are scaled by their guesses; each equation
-//! is scaled afresh at every iteration by the size of its terms there, so a
-//! far guess cannot make a large residual look small. Every solution, and
+//! Newton's step fails. Each unknown is measured against its value (or one
+//! of its unit) and each equation against the size of its terms, both
+//! afresh at every iteration, so a far guess cannot make a large residual
+//! look small. Every solution, and
 //! every other root named in a warning, is verified afterwards by evaluating
 //! each equation at it; an ill-conditioned solution is warned about with
 //! the digits it costs.
@@ -18,7 +19,7 @@ use crate::cases::Dual;
 use crate::diag::{Code, Diagnostic, Severity};
 use crate::sheet::CellId;
 use crate::syntax::ast::{BinaryOp, Equation, Expr, ExprKind, NameRef, SolveBlock, Target};
-use crate::units::{Dimension, Quantity, Value, pick_unit};
+use crate::units::{Dimension, DisplayUnit, Quantity, Value, pick_unit};
 
 /// Scaled residual below which the system counts as solved.
 const TOLERANCE: f64 = 1e-12;
@@ -213,8 +214,8 @@ impl Evaluator<'_> {
         };
 
         let x0 = DVector::from_vec(guess);
-        let root = match self.newton(&system, x0.clone()) {
-            Ok(root) => root,
+        let (root, start_jacobian) = match self.newton(&system, x0.clone()) {
+            Ok(solved) => solved,
             Err(Miss::Undefined) => return Err(self.undefined_at_guess(block)),
             Err(Miss::NotSolved(missed)) => {
                 let (at, residuals) = *missed;
@@ -247,10 +248,8 @@ impl Evaluator<'_> {
         }
 
         // Linear: the Jacobian is the same at the guess as at the solution.
-        self.set_unknowns(&system, &x0);
-        report.linear = self.jacobian(&system, &x0).is_some_and(|at_guess| {
-            (&at_guess - &root.jacobian).abs().max() <= 1e-9 * root.jacobian.abs().max()
-        });
+        report.linear =
+            (&start_jacobian - &root.jacobian).abs().max() <= 1e-9 * root.jacobian.abs().max();
 
         // Other roots near the guess (same signs, other magnitudes).
         if !report.linear {
@@ -266,22 +265,30 @@ impl Evaluator<'_> {
     /// for the residual shared by every equation of its dimension.
     fn equation_reports(&mut self, system: &System<'_, '_>, root: &Root) -> Vec<EquationReport> {
         self.set_unknowns(system, &root.x);
-        let equations = system.equations;
-        equations
+        // The largest scale of each dimension, and its unit (a block has a
+        // handful of dimensions, however many equations).
+        let mut units: Vec<(Dimension, f64)> = Vec::new();
+        for (equation, &scale) in system.equations.iter().zip(root.scales.iter()) {
+            match units.iter_mut().find(|(d, _)| *d == equation.dimension) {
+                Some((_, size)) => *size = size.max(scale),
+                None => units.push((equation.dimension, scale)),
+            }
+        }
+        let units: Vec<(Dimension, DisplayUnit)> = units
+            .into_iter()
+            .map(|(dimension, size)| (dimension, pick_unit(dimension, size, self.style.system)))
+            .collect();
+        system
+            .equations
             .iter()
-            .map(|e| {
-                let size = equations
+            .map(|e| EquationReport {
+                text: equation_text(self.source, e),
+                span: e.equation.span,
+                residual: self.side_difference(e).ok(),
+                display: units
                     .iter()
-                    .zip(root.scales.iter())
-                    .filter(|(other, _)| other.dimension == e.dimension)
-                    .map(|(_, &scale)| scale)
-                    .fold(0.0, f64::max);
-                EquationReport {
-                    text: equation_text(self.source, e),
-                    span: e.equation.span,
-                    residual: self.side_difference(e).ok(),
-                    display: pick_unit(e.dimension, size, self.style.system),
-                }
+                    .find(|(d, _)| *d == e.dimension)
+                    .map_or_else(DisplayUnit::none, |(_, unit)| unit.clone()),
             })
             .collect()
     }
@@ -305,20 +312,8 @@ impl Evaluator<'_> {
 
     /// Whether `x` solves the system, verified as a solution is.
     fn solves(&mut self, system: &System<'_, '_>, x: &DVector<f64>) -> bool {
-        self.set_unknowns(system, x);
-        let Some(jacobian) = self.jacobian(system, x) else {
-            return false;
-        };
-        let Some(scales) = self.scales(system, x, &jacobian) else {
-            return false;
-        };
-        let root = Root {
-            x: x.clone(),
-            iterations: 0,
-            jacobian,
-            scales,
-        };
-        self.unverified(system, &root).is_none()
+        self.measure(system, x, 0)
+            .is_some_and(|(root, _)| self.unverified(system, &root).is_none())
     }
 
     /// Splits the block's equations into scalar ones, checking that both
@@ -563,11 +558,22 @@ impl Evaluator<'_> {
 
     /// Newton's method from `start` with a backtracking line search, falling
     /// back to Levenberg–Marquardt steps when the Newton step is unusable.
-    /// The equations are scaled afresh at every point it reaches.
-    fn newton(&mut self, system: &System<'_, '_>, start: DVector<f64>) -> Result<Root, Miss> {
+    /// The equations are scaled afresh at every point it reaches. Gives the
+    /// root reached and the Jacobian at the start (which tells a linear
+    /// system: the same at both).
+    fn newton(
+        &mut self,
+        system: &System<'_, '_>,
+        start: DVector<f64>,
+    ) -> Result<(Root, DMatrix<f64>), Miss> {
         let mut x = start;
         let mut damping = 1e-3;
         let mut reached: Option<(Root, DVector<f64>)> = None;
+        let mut start_jacobian: Option<DMatrix<f64>> = None;
+        let solved = |root: Root, start_jacobian: Option<DMatrix<f64>>| {
+            let start_jacobian = start_jacobian.unwrap_or_else(|| root.jacobian.clone());
+            (root, start_jacobian)
+        };
         for iteration in 0..=MAX_ITERATIONS {
             let Some((root, residuals)) = self.measure(system, &x, iteration) else {
                 return Err(
@@ -576,10 +582,13 @@ impl Evaluator<'_> {
             };
             let r = scaled_residuals(&residuals, &root.scales);
             if r.amax() <= TOLERANCE {
-                return Ok(root);
+                return Ok(solved(root, start_jacobian));
             }
             if iteration == MAX_ITERATIONS {
                 return Err(Miss::NotSolved(Box::new((root, residuals))));
+            }
+            if iteration == 0 {
+                start_jacobian = Some(root.jacobian.clone());
             }
             let columns = column_sizes(system, &root.x);
             let jacobian = scaled_jacobian(system, &root);
@@ -632,7 +641,7 @@ impl Evaluator<'_> {
             }
             match accepted {
                 Some(next) => x = next,
-                None if r.amax() <= VERIFIED => return Ok(root),
+                None if r.amax() <= VERIFIED => return Ok(solved(root, start_jacobian)),
                 None => return Err(Miss::NotSolved(Box::new((root, residuals)))),
             }
             reached = Some((root, residuals));
@@ -865,7 +874,7 @@ impl Evaluator<'_> {
     ) {
         let size = column_sizes(system, &root.x);
         for factor in [0.1, 0.5, 2.0, 10.0] {
-            let Ok(other) = self.newton(system, x0 * factor) else {
+            let Ok((other, _)) = self.newton(system, x0 * factor) else {
                 continue;
             };
             if !distinct(system, &root.x, &other.x, &size, condition)
