@@ -233,6 +233,11 @@ impl<'a> Evaluator<'a> {
         }
     }
 
+    /// A cell's value in SI units, if it has a scalar one.
+    fn scalar_si(&self, id: CellId) -> Option<f64> {
+        self.values[id].and_then(|v| v.scalar()).map(|q| q.si)
+    }
+
     /// The failed cell at the root of whatever stops these uses, if any.
     fn blocker(&self, uses: &[CellId]) -> Option<CellId> {
         uses.iter().find_map(|&used| match self.statuses[used] {

@@ -89,9 +89,7 @@ impl Evaluator<'_> {
         let mut sources = sources;
         let formula_values = self.pass::<f64>(&programs, &supported, &[], &|_| 0.0);
         for source in &mut sources {
-            let nominal = self.values[source.cell]
-                .and_then(|v| v.scalar())
-                .map_or(0.0, |q| q.si);
+            let nominal = self.scalar_si(source.cell).unwrap_or(0.0);
             source.shift = nominal - formula_values[source.cell];
         }
         let order = self.formula_order();
@@ -427,9 +425,7 @@ impl Evaluator<'_> {
             };
             first_order = (first_order.0 + low, first_order.1 + high);
             contributions.push(high - low);
-            let input = self.values[source.cell]
-                .and_then(|v| v.scalar())
-                .map_or(0.0, |q| q.si);
+            let input = self.scalar_si(source.cell).unwrap_or(0.0);
             sensitivities.push(Sensitivity {
                 input: source.cell,
                 derivative,
@@ -480,7 +476,7 @@ impl Evaluator<'_> {
             let Some(range) = cell_ranges[id].as_mut() else {
                 continue;
             };
-            let Some(nominal) = self.values[id].and_then(|v| v.scalar()).map(|q| q.si) else {
+            let Some(nominal) = self.scalar_si(id) else {
                 continue;
             };
             let derivatives: Vec<f64> = passes.iter().map(|pass| pass[id]).collect();
@@ -493,27 +489,25 @@ impl Evaluator<'_> {
     }
 
     /// Every cell's exact derivative along source `index` at the nominal
-    /// point, in node order: formula cells by their programs on dual
-    /// numbers, a solve block's unknowns by its implicit derivatives;
-    /// NaN where no derivative is known.
+    /// point, in node order: a cell the interval engine follows as the
+    /// standard derivative pass gave it, any other formula cell by its
+    /// program on dual numbers, a solve block's unknowns by its implicit
+    /// derivatives; NaN where no derivative is known.
     fn implicit_pass(&self, ranges: &Ranges, slopes: &[BlockSlopes<'_>], index: usize) -> Vec<f64> {
-        let n_cells = ranges.programs.len();
-        let nominal = |id: CellId| {
-            self.values[id]
-                .and_then(|v| v.scalar())
-                .map_or(f64::NAN, |q| q.si)
-        };
-        let mut values: Vec<Dual<f64>> = (0..n_cells)
+        let followed = &ranges.derivatives[index];
+        let mut values: Vec<Dual<f64>> = (0..ranges.programs.len())
             .map(|id| Dual {
-                value: nominal(id),
+                value: self.scalar_si(id).unwrap_or(f64::NAN),
                 derivative: f64::NAN,
             })
             .collect();
-        let source = ranges.sources[index].cell;
         let mut blocks = slopes.iter();
         let mut stack = Vec::with_capacity(16);
         for &node in self.node_order() {
             match &self.sheet.nodes[node] {
+                Node::Cell(id) if ranges.supported[*id] => {
+                    values[*id].derivative = followed[*id].derivative;
+                }
                 Node::Cell(id) => {
                     // A program folds a name it cannot take as an input
                     // (a vector) to a constant: no derivative reaches through it.
@@ -527,7 +521,12 @@ impl Evaluator<'_> {
                         }
                         _ => f64::NAN,
                     };
-                    values[*id].derivative = derivative + if *id == source { 1.0 } else { 0.0 };
+                    let own = if *id == ranges.sources[index].cell {
+                        1.0
+                    } else {
+                        0.0
+                    };
+                    values[*id].derivative = derivative + own;
                 }
                 Node::Solve { .. } => {
                     let Some((unknowns, Some(slopes))) = blocks.next() else {

@@ -739,11 +739,7 @@ impl Evaluator<'_> {
         outside.sort_unstable();
         outside.dedup();
         let values: Vec<f64> = (0..self.sheet.cells.len())
-            .map(|id| {
-                self.values[id]
-                    .and_then(|v| v.scalar())
-                    .map_or(f64::NAN, |q| q.si)
-            })
+            .map(|id| self.scalar_si(id).unwrap_or(f64::NAN))
             .collect();
         let mut duals: Vec<Dual<f64>> = values.iter().map(|&v| Dual::fixed(v)).collect();
         let mut slope = |program: &Program, cell: CellId| {
