@@ -17,9 +17,9 @@ use rayon::prelude::*;
 use rustc_hash::FxHashMap;
 
 use crate::diag::{Code, Diagnostic, Fix, FixValue, Severity};
-use crate::eval::{CellStatus, Evaluated, evaluate_source};
+use crate::eval::{CellStatus, Evaluated, evaluate_source, format_value};
 use crate::syntax::LineIndex;
-use crate::units::{DisplayUnit, Quantity, format_significant, pick_unit};
+use crate::units::{DisplayUnit, Quantity, Value, pick_unit};
 
 /// At most this many fixes are checked for one sheet: each costs an
 /// evaluation of the whole sheet. Findings past it offer no fix and say so.
@@ -452,11 +452,6 @@ impl Place {
                 &picked
             }
         };
-        let number = format_significant(unit.value_of(value.si), header.sig_figs);
-        Some(if unit.text.is_empty() {
-            number
-        } else {
-            format!("{number} {}", unit.text)
-        })
+        Some(format_value(Value::Scalar(value), unit, header.sig_figs))
     }
 }
