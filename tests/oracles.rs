@@ -1056,16 +1056,15 @@ const SIDES_AGREE: f64 = 1e-8;
 /// The factors the guesses are scaled by.
 const GUESS_FACTORS: [f64; 4] = [0.1, 0.5, 2.0, 10.0];
 
-/// A sheet's solve blocks, checked by [`solution_written_in`]: how many
-/// solutions were checked. Panics on one that does not hold.
-fn solutions_hold(source: &str, origin: &str) -> usize {
-    let evaluated = pipeline::run(source);
+/// An evaluated sheet's solve blocks, checked by [`solution_written_in`]:
+/// how many solutions were checked. Panics on one that does not hold.
+fn solutions_hold(evaluated: &Evaluated, origin: &str) -> usize {
     let mut checked = 0;
     for (index, solve) in evaluated.solves.iter().enumerate() {
         if solve.status != heftsheet::eval::SolveStatus::Solved {
             continue;
         }
-        let (plain, sides) = solution_written_in(&evaluated, index);
+        let (plain, sides) = solution_written_in(evaluated, index);
         let written = pipeline::run(&plain);
         for (j, (lhs, rhs, terms)) in sides.iter().enumerate() {
             let side = |name: &str| -> Vec<f64> {
@@ -1169,11 +1168,22 @@ fn guesses_scaled(evaluated: &Evaluated, index: usize, factor: f64) -> String {
     spliced(source, edits)
 }
 
-/// The guess oracle on one sheet: how many starts were tried, and how many
-/// reached a different (but verified) solution.
-fn other_starts_hold(source: &str, origin: &str) -> (usize, usize) {
+/// What the solve oracle counted on some sheets.
+#[derive(Default)]
+struct SolveCounts {
+    /// Solutions written in and checked.
+    solutions: usize,
+    /// Starts from scaled guesses.
+    starts: usize,
+    /// Of those, how many reached another (verified) solution.
+    elsewhere: usize,
+}
+
+/// The solve oracle on one sheet: its solutions hold, and so does every
+/// solution reached from its guesses scaled by [`GUESS_FACTORS`].
+fn solve_oracle(source: &str, origin: &str, counts: &mut SolveCounts) {
     let evaluated = pipeline::run(source);
-    let (mut starts, mut elsewhere) = (0, 0);
+    counts.solutions += solutions_hold(&evaluated, origin);
     for (index, solve) in evaluated.solves.iter().enumerate() {
         if solve.status != heftsheet::eval::SolveStatus::Solved {
             continue;
@@ -1185,10 +1195,9 @@ fn other_starts_hold(source: &str, origin: &str) -> (usize, usize) {
             .collect();
         for factor in GUESS_FACTORS {
             let moved = guesses_scaled(&evaluated, index, factor);
-            let label = format!("{origin} with guesses ×{factor}");
-            solutions_hold(&moved, &label);
             let again = pipeline::run(&moved);
-            starts += 1;
+            solutions_hold(&again, &format!("{origin} with guesses ×{factor}"));
+            counts.starts += 1;
             let Some(other) = again.solves.get(index) else {
                 continue;
             };
@@ -1198,12 +1207,11 @@ fn other_starts_hold(source: &str, origin: &str) -> (usize, usize) {
                     close(v, r, 1e-6, 1e-9)
                 });
                 if !same {
-                    elsewhere += 1;
+                    counts.elsewhere += 1;
                 }
             }
         }
     }
-    (starts, elsewhere)
 }
 
 /// A generated sheet with one solve block of a known kind, and its seed.
@@ -1262,38 +1270,37 @@ proptest! {
     #[test]
     fn generated_solutions_satisfy_their_equations_from_any_start(seed in any::<u64>()) {
         let sheet = generated_solve_sheet(seed);
-        let checked = solutions_hold(&sheet, &format!("seed {seed}"));
-        prop_assert_eq!(checked, 1, "the generated block was not solved:\n{}", sheet);
-        other_starts_hold(&sheet, &format!("seed {seed}"));
+        let mut counts = SolveCounts::default();
+        solve_oracle(&sheet, &format!("seed {seed}"), &mut counts);
+        prop_assert_eq!(counts.solutions, 1, "the generated block was not solved:\n{}", sheet);
     }
 }
 
 #[test]
 fn every_repository_solution_satisfies_its_equations_from_any_start() {
-    let (mut solutions, mut starts, mut elsewhere) = (0, 0, 0);
+    let mut repository = SolveCounts::default();
     for path in repository_sheets() {
-        let source = read(&path);
-        let origin = path.display().to_string();
-        solutions += solutions_hold(&source, &origin);
-        let (tried, other) = other_starts_hold(&source, &origin);
-        starts += tried;
-        elsewhere += other;
+        solve_oracle(&read(&path), &path.display().to_string(), &mut repository);
     }
-    println!(
-        "solve oracle: {solutions} repository solutions hold; {starts} other starts, {elsewhere} reached another verified solution"
-    );
-    assert!(solutions >= 5, "only {solutions} solutions checked");
     // The generated blocks, counted the same way over fixed seeds.
-    let (mut generated, mut generated_starts, mut generated_elsewhere) = (0, 0, 0);
+    let mut generated = SolveCounts::default();
     for seed in 0..48u64 {
-        let sheet = generated_solve_sheet(seed);
-        generated += solutions_hold(&sheet, &format!("seed {seed}"));
-        let (tried, other) = other_starts_hold(&sheet, &format!("seed {seed}"));
-        generated_starts += tried;
-        generated_elsewhere += other;
+        solve_oracle(
+            &generated_solve_sheet(seed),
+            &format!("seed {seed}"),
+            &mut generated,
+        );
     }
-    println!(
-        "solve oracle: {generated} generated solutions hold; {generated_starts} other starts, {generated_elsewhere} reached another verified solution"
+    for (what, counts) in [("repository", &repository), ("generated", &generated)] {
+        println!(
+            "solve oracle: {} {what} solutions hold; {} other starts, {} reached another verified solution",
+            counts.solutions, counts.starts, counts.elsewhere
+        );
+    }
+    assert!(
+        repository.solutions >= 5,
+        "only {} solutions checked",
+        repository.solutions
     );
-    assert_eq!(generated, 48, "a generated block was not solved");
+    assert_eq!(generated.solutions, 48, "a generated block was not solved");
 }
