@@ -27,6 +27,7 @@ pub mod simulate;
 pub mod syntax;
 pub mod tui;
 pub mod units;
+pub mod visible;
 
 /// The caution every output for people carries: heft supports the
 /// engineer's judgment and the independent check, never replaces them.

@@ -30,7 +30,7 @@ pub fn run(path: &Path, as_json: bool, colour: bool) -> io::Result<u8> {
     } else {
         text_report(&file_name, &evaluated, &audit, colour)
     };
-    print(&text)?;
+    print(&text, colour)?;
     Ok(if passes(&evaluated) {
         EXIT_CLEAN
     } else {
@@ -412,8 +412,5 @@ fn json_report(file_name: &str, evaluated: &Evaluated, audit: &ConversionAudit) 
             counts: evaluated.summary().into(),
         },
     };
-    let mut text = serde_json::to_string_pretty(&report)
-        .unwrap_or_else(|error| format!("{{\"error\": \"{error}\"}}"));
-    text.push('\n');
-    text
+    super::json::text(&report)
 }

@@ -2,12 +2,12 @@
 //! findings and the caution, as text or JSON.
 
 use std::fmt::Write as _;
-use std::io::{self, Write as _};
+use std::io;
 use std::path::Path;
 
 use anstyle::{AnsiColor, Style};
 
-use super::{EXIT_CLEAN, EXIT_FINDINGS, EXIT_USAGE, json, load_sheet, print, runs};
+use super::{EXIT_CLEAN, EXIT_FINDINGS, EXIT_USAGE, eprint, json, load_sheet, print, runs};
 use crate::diag::{Severity, render::render};
 use crate::eval::{
     CellStatus, CheckStatus, Evaluated, OutlineItem, RangeMethod, SolveStatus, format_result,
@@ -15,6 +15,7 @@ use crate::eval::{
 };
 use crate::units::Value;
 use crate::units::format_significant;
+use crate::visible::{visible, visible_output};
 
 /// What `heft check` prints.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -45,18 +46,16 @@ pub fn run(path: &Path, output: Output, deny_warnings: bool, colour: bool) -> io
         Output::Text => text_report(&file_name, source, &evaluated, colour),
         Output::Csv { run } | Output::Svg { run } => {
             // The data goes to standard output; findings go to standard error.
-            let mut stderr = io::stderr();
             if !evaluated.diagnostics.is_empty() {
-                let _ = write!(
-                    stderr,
-                    "{}",
-                    render(&evaluated.diagnostics, &file_name, source, colour)
+                eprint(
+                    &render(&evaluated.diagnostics, &file_name, source, colour),
+                    colour,
                 );
             }
             let index = match runs::pick_run(&evaluated, run) {
                 Ok(index) => index,
                 Err(message) => {
-                    let _ = writeln!(stderr, "heft: {file_name}: {message}");
+                    eprint(&format!("heft: {file_name}: {message}\n"), false);
                     return Ok(EXIT_USAGE);
                 }
             };
@@ -68,16 +67,18 @@ pub fn run(path: &Path, output: Output, deny_warnings: bool, colour: bool) -> io
             match data {
                 Some(data) => data,
                 None => {
-                    let _ = writeln!(
-                        stderr,
-                        "heft: {file_name}: the simulate run did not finish, so there is nothing to export"
+                    eprint(
+                        &format!(
+                            "heft: {file_name}: the simulate run did not finish, so there is nothing to export\n"
+                        ),
+                        false,
                     );
                     return Ok(EXIT_FINDINGS);
                 }
             }
         }
     };
-    print(&text)?;
+    print(&text, colour)?;
     let failed = !evaluated.is_clean() || (deny_warnings && evaluated.count(Severity::Warning) > 0);
     // The process ends next and the operating system takes the memory back
     // at once; freeing a large sheet node by node would only add time.
@@ -92,12 +93,14 @@ pub(super) struct Painter {
 }
 
 impl Painter {
-    /// `text` in `style`, or plain.
+    /// `text` in `style`, or plain; any hidden control in it but a line
+    /// break is shown as an escape ([`visible_output`]).
     pub fn paint(&self, style: Style, text: &str) -> String {
+        let text = visible_output(text, false);
         if self.colour {
             format!("{style}{text}{style:#}")
         } else {
-            text.to_string()
+            text.into_owned()
         }
     }
 }
@@ -221,7 +224,7 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
             .description
             .map(|d| format!("  {}", painter.paint(DIM, d)))
             .unwrap_or_default();
-        let name = format!("{:<name_width$}", cell.name);
+        let name = format!("{:<name_width$}", visible(cell.name));
         if cell.is_input
             && cell.status == CellStatus::Ok
             && !cell.declared_unit
@@ -230,13 +233,13 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
             let _ = writeln!(
                 out,
                 "  {name} = {:<formula_width$}{description}",
-                cell.formula
+                visible(cell.formula)
             );
         } else {
             let _ = writeln!(
                 out,
                 "  {name} = {:<formula_width$} → {}{description}",
-                cell.formula,
+                visible(cell.formula),
                 painter.paint(BOLD, &value)
             );
         }
@@ -307,7 +310,7 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
             let _ = writeln!(
                 out,
                 "  {mark}  {}:  {detail}{verdict}{label}",
-                check.statement()
+                visible(&check.statement())
             );
         }
     }
@@ -334,9 +337,10 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
         };
         let _ = writeln!(
             out,
-            "  {} {}: {verdict}",
+            "  {} {}: {}",
             painter.paint(FAIL, "-"),
-            check.statement()
+            visible(&check.statement()),
+            visible(&verdict)
         );
     }
     let _ = writeln!(out, "\n{}", painter.paint(DIM, &wrap(crate::CAUTION, 78)));
@@ -362,7 +366,7 @@ fn write_cases(out: &mut String, evaluated: &Evaluated, painter: &Painter) {
         } else {
             "  (not evaluated: see the findings)"
         };
-        let _ = writeln!(out, "  {}. {}{label}{note}", index + 1, case.name);
+        let _ = writeln!(out, "  {}. {}{label}{note}", index + 1, visible(&case.name));
     }
     let columns: Vec<&str> = std::iter::once("as written")
         .chain(evaluated.cases.iter().map(|c| c.name.as_str()))
@@ -411,6 +415,7 @@ fn write_cases(out: &mut String, evaluated: &Evaluated, painter: &Painter) {
                 check.rhs_text
             )
         });
+        let label = visible(&label).into_owned();
         let label: String = if label.chars().count() > row_label_width - 4 {
             label
                 .chars()
@@ -587,7 +592,7 @@ fn write_solve_block(out: &mut String, evaluated: &Evaluated, index: usize, pain
         let _ = writeln!(
             out,
             "    {:<width$}{}",
-            equation.text,
+            visible(&equation.text),
             painter.paint(DIM, &residual)
         );
     }

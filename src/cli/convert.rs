@@ -15,33 +15,31 @@ pub fn run(quantity_text: &str, unit_text: &str, colour: bool) -> io::Result<u8>
     let value = match eval::evaluate_expression(quantity_text) {
         Ok(value) => value,
         Err(diagnostic) => {
-            print(&render(&[diagnostic], "quantity", quantity_text, colour))?;
+            print(
+                &render(&[diagnostic], "quantity", quantity_text, colour),
+                colour,
+            )?;
             return Ok(EXIT_USAGE);
         }
     };
     let (target, resolved) = match eval::evaluate_unit(unit_text) {
         Ok(unit) => unit,
         Err(diagnostic) => {
-            print(&render(&[diagnostic], "unit", unit_text, colour))?;
+            print(&render(&[diagnostic], "unit", unit_text, colour), colour)?;
             return Ok(EXIT_USAGE);
         }
     };
     if value.dimension != resolved.dimension {
-        print(&mismatch_text(
-            quantity_text,
-            value,
-            unit_text,
-            resolved.dimension,
-        ))?;
+        print(
+            &mismatch_text(quantity_text, value, unit_text, resolved.dimension),
+            false,
+        )?;
         return Ok(EXIT_USAGE);
     }
-    print(&conversion_text(
-        quantity_text,
-        value,
-        unit_text,
-        &target,
-        resolved.si_factor,
-    ))?;
+    print(
+        &conversion_text(quantity_text, value, unit_text, &target, resolved.si_factor),
+        false,
+    )?;
     Ok(EXIT_CLEAN)
 }
 

@@ -27,7 +27,7 @@ pub fn run(old_path: &Path, new_path: &Path, as_json: bool) -> io::Result<u8> {
     } else {
         text(&diff, &old_name, &new_name)
     };
-    print(&text)?;
+    print(&text, false)?;
     Ok(if diff.is_same() {
         EXIT_CLEAN
     } else {
@@ -302,8 +302,5 @@ pub fn json(diff: &RevisionDiff, old_name: &str, new_name: &str) -> String {
             .collect(),
         unchanged: diff.n_unchanged,
     };
-    let mut text = serde_json::to_string_pretty(&report)
-        .unwrap_or_else(|error| format!("{{\"error\": \"{error}\"}}"));
-    text.push('\n');
-    text
+    super::json::text(&report)
 }

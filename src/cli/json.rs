@@ -223,6 +223,17 @@ pub(super) struct JsonDiagnostic<'a> {
     help: Option<&'a str>,
 }
 
+/// A JSON document as pretty text ending in a line break, every hidden
+/// control in its strings written as a `\uXXXX` escape
+/// ([`crate::visible::visible_json`]), so the text reads back exact and
+/// shows safely.
+pub fn text(report: &impl Serialize) -> String {
+    let mut text = serde_json::to_string_pretty(report)
+        .unwrap_or_else(|error| format!("{{\"error\": \"{error}\"}}"));
+    text.push('\n');
+    crate::visible::visible_json(&text).into_owned()
+}
+
 /// Serializes an evaluated sheet.
 pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> String {
     let lines = &evaluated.lines;
@@ -427,10 +438,7 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
             .collect(),
         review: review(evaluated),
     };
-    let mut text = serde_json::to_string_pretty(&report)
-        .unwrap_or_else(|error| format!("{{\"error\": \"{error}\"}}"));
-    text.push('\n');
-    text
+    super::json::text(&report)
 }
 
 /// A place where a check fails or could not be established.

@@ -190,7 +190,7 @@ pub fn run(args: Args) -> ExitCode {
         Ok(code) => ExitCode::from(code),
         Err(error) if error.kind() == io::ErrorKind::BrokenPipe => ExitCode::from(EXIT_CLEAN),
         Err(error) => {
-            let _ = writeln!(io::stderr(), "heft: {error}");
+            eprint(&format!("heft: {error}\n"), false);
             ExitCode::from(EXIT_USAGE)
         }
     }
@@ -214,9 +214,17 @@ fn load_sheet(path: &Path) -> io::Result<crate::eval::Evaluated> {
     Ok(crate::pipeline::run_bytes(&bytes))
 }
 
-/// Writes `text` to standard output.
-fn print(text: &str) -> io::Result<()> {
+/// Writes a command's text to standard output, every hidden control shown
+/// as an escape and only heft's own colour sequences kept
+/// ([`crate::visible::visible_output`]). JSON is already safe
+/// ([`json::text`]) and passes through unchanged.
+fn print(text: &str, colour: bool) -> io::Result<()> {
     let mut stdout = io::stdout().lock();
-    stdout.write_all(text.as_bytes())?;
+    stdout.write_all(crate::visible::visible_output(text, colour).as_bytes())?;
     stdout.flush()
+}
+
+/// Writes a message to standard error, as [`print`] does.
+fn eprint(text: &str, colour: bool) {
+    let _ = io::stderr().write_all(crate::visible::visible_output(text, colour).as_bytes());
 }

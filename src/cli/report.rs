@@ -30,11 +30,14 @@ pub fn run(path: &Path, output: &Path) -> io::Result<u8> {
         Format::Html => "HTML",
         Format::Markdown => "Markdown",
     };
-    super::print(&format!(
-        "wrote {} ({kind} report of {})\n",
-        output.display(),
-        path.display()
-    ))?;
+    super::print(
+        &format!(
+            "wrote {} ({kind} report of {})\n",
+            output.display(),
+            path.display()
+        ),
+        false,
+    )?;
     Ok(if evaluated.is_clean() {
         EXIT_CLEAN
     } else {

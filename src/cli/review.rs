@@ -6,7 +6,7 @@ use std::fmt::Write as _;
 use std::io;
 use std::path::Path;
 
-use super::{EXIT_CLEAN, EXIT_FINDINGS, load_sheet, print};
+use super::{EXIT_CLEAN, EXIT_FINDINGS, eprint, load_sheet, print};
 use crate::eval::{Evaluated, OutlineItem};
 use crate::review::{self, MarkTarget, Review, SignOffState};
 
@@ -48,31 +48,32 @@ pub fn run_signoff(path: &Path, by: &str, on: &str) -> io::Result<u8> {
         })
         .collect();
     if !open.is_empty() {
-        let _ = io::Write::write_all(
-            &mut io::stderr(),
-            format!(
+        eprint(
+            &format!(
                 "heft: {} has {} open review mark{} (a required change or a question); a sheet is signed off only when every one is answered:\n{}\n",
                 path.display(),
                 open.len(),
                 if open.len() == 1 { "" } else { "s" },
                 open.join("\n")
-            )
-            .as_bytes(),
+            ),
+            false,
         );
         return Ok(EXIT_FINDINGS);
     }
     if !evaluated.is_clean() {
-        let _ = io::Write::write_all(
-            &mut io::stderr(),
-            format!(
+        eprint(
+            &format!(
                 "heft: {} has errors or failed checks (run `heft check`); a sheet is signed off only when it is clean\n",
                 path.display()
-            )
-            .as_bytes(),
+            ),
+            false,
         );
         return Ok(EXIT_FINDINGS);
     }
-    print(&format!("{}\n", review::signoff_line(&evaluated, by, on)))?;
+    print(
+        &format!("{}\n", review::signoff_line(&evaluated, by, on)),
+        false,
+    )?;
     Ok(EXIT_CLEAN)
 }
 

@@ -33,6 +33,6 @@ pub fn run() -> io::Result<u8> {
             ambiguity.symbol, ambiguity.choices
         );
     }
-    print(&text)?;
+    print(&text, false)?;
     Ok(EXIT_CLEAN)
 }
