@@ -58,14 +58,15 @@ pub fn visible_output(text: &str, colour: bool) -> Cow<'_, str> {
     let mut out = String::with_capacity(text.len() + 16);
     let mut rest = text.char_indices().peekable();
     while let Some((at, c)) = rest.next() {
-        if c == '\u{1b}' && colour {
-            if let Some(length) = sgr_length(&text[at..]) {
-                out.push_str(&text[at..at + length]);
-                while rest.peek().is_some_and(|&(next, _)| next < at + length) {
-                    rest.next();
-                }
-                continue;
+        if c == '\u{1b}'
+            && colour
+            && let Some(length) = sgr_length(&text[at..])
+        {
+            out.push_str(&text[at..at + length]);
+            while rest.peek().is_some_and(|&(next, _)| next < at + length) {
+                rest.next();
             }
+            continue;
         }
         if is_hidden_control(c) && c != '\n' {
             push_escape(&mut out, c);

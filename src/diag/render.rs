@@ -210,7 +210,7 @@ impl<'a> Excerpt<'a> {
         let chars: Vec<(usize, char)> = text.char_indices().collect();
         let index_of = |offset: usize| chars.partition_point(|&(at, _)| at + line.start < offset);
         let windows: Vec<Range<usize>> = if shown_width <= LONG_LINE_CHARS {
-            vec![0..chars.len()]
+            std::iter::once(0..chars.len()).collect()
         } else {
             let mut windows: Vec<Range<usize>> = Vec::new();
             let mut points: Vec<usize> = ends.iter().map(|&offset| index_of(offset)).collect();
