@@ -115,8 +115,37 @@ fn hostile_sheet_text_is_shown_as_text_in_markdown() {
     }
     assert!(markdown.contains("&lt;script&gt;alert('d')&lt;/script&gt;"));
     // Markdown's own markup characters are escaped, not interpreted.
-    assert!(markdown.contains(r"pipe \`tick\` \*star\* \_under\_ \[link\](http://x)"));
+    assert!(markdown.contains(r"pipe \`tick\` \*star\* \_under\_ \[link\](http\://x)"));
     assert!(markdown.contains(r"ampersand \| pipe"));
+}
+
+/// Renders the Markdown report as GitHub-flavoured Markdown does (comrak,
+/// a CommonMark + GFM implementation, with its autolink, table and
+/// strikethrough extensions): the sheet's text must come out as that text,
+/// with no element it did not ask for: no link, no script, no image.
+#[test]
+fn a_markdown_viewer_shows_the_hostile_text_and_makes_no_link() {
+    let markdown = report::render(
+        &evaluate_source(&read("tests/report/hostile.heft")),
+        Format::Markdown,
+    );
+    let mut options = comrak::Options::default();
+    options.extension.autolink = true;
+    options.extension.table = true;
+    options.extension.strikethrough = true;
+    let html = comrak::markdown_to_html(&markdown, &options);
+    for element in ["<a ", "<a>", "<script", "<img", "<iframe", "<svg", "<del"] {
+        assert!(
+            !html.contains(element),
+            "`{element}` in the rendered report"
+        );
+    }
+    for text in [
+        "drawing at https://plant.example/dwg/7 or www.plant.example, ask ops@plant.example",
+        "*star* _under_ [link](http://x)",
+    ] {
+        assert!(html.contains(text), "`{text}` not shown as written");
+    }
 }
 
 #[test]

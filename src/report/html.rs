@@ -14,8 +14,11 @@ use super::model::{
     Tone,
 };
 
-/// Escapes text for HTML (and SVG) element content and quoted attribute values.
+/// Escapes text for HTML (and SVG) element content and quoted attribute
+/// values; hidden controls (which would reorder or vanish from the page)
+/// are shown as escapes ([`crate::visible`]).
 pub fn escape(text: &str) -> String {
+    let text = crate::visible::visible(text);
     let mut out = String::with_capacity(text.len() + 8);
     for c in text.chars() {
         match c {

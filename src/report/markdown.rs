@@ -9,19 +9,28 @@ use super::model::{
 };
 
 /// Escapes text for Markdown: characters that start markup are
-/// backslash-escaped, and `<`, `>`, `&` become entities so no HTML gets through.
+/// backslash-escaped, `<`, `>`, `&` become entities so no HTML gets through,
+/// line breaks become spaces,
+/// the `:` of `://`, every `@` and the `.` of `www.` are escaped so no address in the
+/// sheet's text is turned into a link (GitHub-flavoured autolinks), and
+/// hidden controls are shown as escapes ([`crate::visible`]).
 pub fn escape(text: &str) -> String {
+    let text = text.replace(['\n', '\r'], " ");
+    let text = crate::visible::visible(&text);
     let mut out = String::with_capacity(text.len() + 8);
-    for c in text.chars() {
+    for (at, c) in text.char_indices() {
         match c {
             '<' => out.push_str("&lt;"),
             '>' => out.push_str("&gt;"),
             '&' => out.push_str("&amp;"),
-            '\\' | '`' | '*' | '_' | '[' | ']' | '|' | '~' | '#' | '!' | '{' | '}' => {
+            '\\' | '`' | '*' | '_' | '[' | ']' | '|' | '~' | '#' | '!' | '{' | '}' | '@' => {
                 out.push('\\');
                 out.push(c);
             }
-            '\n' | '\r' => out.push(' '),
+            ':' if text[at..].starts_with("://") => out.push_str("\\:"),
+            '.' if at >= 3 && text.as_bytes()[at - 3..at].eq_ignore_ascii_case(b"www") => {
+                out.push_str("\\.");
+            }
             _ => out.push(c),
         }
     }

@@ -912,17 +912,18 @@ impl Builder {
     }
 }
 
-/// Resolves `\"` and `\\` (and any other `\x` to `x`) in a description.
+/// Resolves `\"` and `\\` in a description; any other backslash is kept
+/// as written (`C:\new`, `\n` stay as typed: nothing written is dropped).
 fn unescape(raw: &str) -> String {
     let mut text = String::with_capacity(raw.len());
-    let mut chars = raw.chars();
+    let mut chars = raw.chars().peekable();
     while let Some(c) = chars.next() {
-        if c == '\\' {
-            if let Some(escaped) = chars.next() {
+        match (c, chars.peek()) {
+            ('\\', Some(&escaped @ ('"' | '\\'))) => {
                 text.push(escaped);
+                chars.next();
             }
-        } else {
-            text.push(c);
+            _ => text.push(c),
         }
     }
     text

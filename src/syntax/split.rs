@@ -44,8 +44,17 @@ struct Line {
     end: usize,
 }
 
+/// The UTF-8 byte-order mark some editors write at the start of a file.
+pub const BYTE_ORDER_MARK: char = '\u{feff}';
+
+/// The lines of `source`; a byte-order mark at its start belongs to no line
+/// (it is kept in the text, so a save writes it back).
 fn lines(source: &str) -> impl Iterator<Item = Line> + '_ {
-    let mut start = 0;
+    let mut start = if source.starts_with(BYTE_ORDER_MARK) {
+        BYTE_ORDER_MARK.len_utf8()
+    } else {
+        0
+    };
     std::iter::from_fn(move || {
         if start > source.len() || (start == source.len() && !source.is_empty()) {
             return None;
@@ -70,6 +79,7 @@ fn lines(source: &str) -> impl Iterator<Item = Line> + '_ {
 /// statements that did parse are kept.
 pub fn parse(source: &str) -> ParsedSheet {
     let mut sheet = ParsedSheet::default();
+    sheet.diagnostics.extend(carriage_returns_only(source));
     let mut lines = lines(source).peekable();
 
     // The header must open on the first line that is not blank or a comment.
@@ -349,6 +359,23 @@ pub fn is_statement_line(text: &str) -> bool {
 /// (`end`): a line that changes how the lines after it group.
 pub fn is_block_line(text: &str) -> bool {
     opens_block(text) || code_of(text) == "end"
+}
+
+/// A file whose lines end in a carriage return alone (no line feed) reads
+/// as one long line; say so at the first one rather than only fail to parse.
+fn carriage_returns_only(source: &str) -> Option<Diagnostic> {
+    if source.contains('\n') {
+        return None;
+    }
+    let at = source.find('\r').filter(|&at| at + 1 < source.len())?;
+    Some(
+        Diagnostic::error(
+            Code::EncodingError,
+            Span::new(at, at + 1),
+            "this file ends its lines with a carriage return alone (CR), so heft reads it as one line",
+        )
+        .with_help("save the sheet with LF or CRLF line endings"),
+    )
 }
 
 /// Whether a line opens or closes a `+++` header block.
