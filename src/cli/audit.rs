@@ -7,7 +7,7 @@ use std::path::Path;
 
 use serde::Serialize;
 
-use super::check::{BOLD, DIM, FAIL, PASS, Painter, wrap};
+use super::check::{BOLD, DIM, FAIL, PASS, Painter, sheet_facts, wrap};
 use super::json::{JsonDiagnostic, JsonSummary, diagnostic};
 use super::{EXIT_CLEAN, EXIT_FINDINGS, load_sheet, print};
 use crate::audit::{
@@ -16,6 +16,7 @@ use crate::audit::{
 use crate::diag::{Severity, render::render};
 use crate::eval::{Evaluated, count};
 use crate::units::format_significant;
+use crate::visible::visible;
 
 /// The version of the audit's JSON schema; bumped only for incompatible changes.
 pub const SCHEMA: &str = "heft-audit/1";
@@ -63,17 +64,14 @@ fn text_report(
     let _ = writeln!(
         out,
         "{}",
-        painter.paint(BOLD, &format!("Conversion audit: {title}"))
+        painter.paint(BOLD, &format!("Conversion audit: {}", visible(title)))
     );
-    let mut facts = vec![file_name.to_string()];
-    facts.extend(header.project.as_ref().map(|p| format!("project {p}")));
-    facts.extend(header.revision.as_ref().map(|r| format!("revision {r}")));
-    facts.extend(header.date.as_ref().map(|d| format!("dated {d}")));
+    let mut facts = sheet_facts(header, file_name);
     facts.extend(
         header
             .prepared_by
             .as_ref()
-            .map(|p| format!("prepared by {p}")),
+            .map(|p| format!("prepared by {}", visible(p))),
     );
     let _ = writeln!(out, "{}", painter.paint(DIM, &facts.join(" · ")));
 

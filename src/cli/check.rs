@@ -93,10 +93,11 @@ pub(super) struct Painter {
 }
 
 impl Painter {
-    /// `text` in `style`, or plain; any hidden control in it but a line
-    /// break is shown as an escape ([`visible_output`]).
+    /// `text` in `style`, or plain. Sheet text in it must have passed
+    /// [`visible`]; any other hidden control but a line break or a colour
+    /// already in it is shown as an escape ([`visible_output`]).
     pub fn paint(&self, style: Style, text: &str) -> String {
-        let text = visible_output(text, false);
+        let text = visible_output(text, true);
         if self.colour {
             format!("{style}{text}{style:#}")
         } else {
@@ -114,6 +115,31 @@ pub(super) const FAIL: Style = Style::new()
     .fg_color(Some(anstyle::Color::Ansi(AnsiColor::Red)));
 pub(super) const DIM: Style = Style::new().dimmed();
 
+/// The file name and the header's project, revision and date, as the
+/// first line under the title shows them (sheet text through [`visible`]).
+pub(super) fn sheet_facts(header: &crate::sheet::Header, file_name: &str) -> Vec<String> {
+    let mut facts = vec![visible(file_name).into_owned()];
+    facts.extend(
+        header
+            .project
+            .as_ref()
+            .map(|p| format!("project {}", visible(p))),
+    );
+    facts.extend(
+        header
+            .revision
+            .as_ref()
+            .map(|r| format!("revision {}", visible(r))),
+    );
+    facts.extend(
+        header
+            .date
+            .as_ref()
+            .map(|d| format!("dated {}", visible(d))),
+    );
+    facts
+}
+
 /// The text report of `heft check`.
 pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour: bool) -> String {
     let painter = Painter { colour };
@@ -121,11 +147,8 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
     let sig_figs = header.sig_figs;
     let mut out = String::new();
     let title = header.title.as_deref().unwrap_or("(untitled sheet)");
-    let _ = writeln!(out, "{}", painter.paint(BOLD, title));
-    let mut facts = vec![file_name.to_string()];
-    facts.extend(header.project.as_ref().map(|p| format!("project {p}")));
-    facts.extend(header.revision.as_ref().map(|r| format!("revision {r}")));
-    facts.extend(header.date.as_ref().map(|d| format!("dated {d}")));
+    let _ = writeln!(out, "{}", painter.paint(BOLD, &visible(title)));
+    let mut facts = sheet_facts(header, file_name);
     facts.push(format!(
         "display {}, {sig_figs} significant figures",
         header.display.label()
@@ -222,7 +245,7 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
         };
         let description = cell
             .description
-            .map(|d| format!("  {}", painter.paint(DIM, d)))
+            .map(|d| format!("  {}", painter.paint(DIM, &visible(d))))
             .unwrap_or_default();
         let name = format!("{:<name_width$}", visible(cell.name));
         if cell.is_input
@@ -300,12 +323,12 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
             let verdict = if verdict.is_empty() || check.status == CheckStatus::Error {
                 String::new()
             } else {
-                format!("; {}", painter.paint(FAIL, &verdict))
+                format!("; {}", painter.paint(FAIL, &visible(&verdict)))
             };
             let label = check
                 .label
                 .as_deref()
-                .map(|l| format!("  {}", painter.paint(DIM, l)))
+                .map(|l| format!("  {}", painter.paint(DIM, &visible(l))))
                 .unwrap_or_default();
             let _ = writeln!(
                 out,
@@ -359,7 +382,7 @@ fn write_cases(out: &mut String, evaluated: &Evaluated, painter: &Painter) {
         let label = case
             .label
             .as_deref()
-            .map(|l| format!("  {}", painter.paint(DIM, l)))
+            .map(|l| format!("  {}", painter.paint(DIM, &visible(l))))
             .unwrap_or_default();
         let note = if case.evaluated {
             ""
@@ -614,13 +637,17 @@ fn write_section(
     let _ = writeln!(
         out,
         "\n{}",
-        painter.paint(BOLD, &format!("{marks} {text}{continued}"))
+        painter.paint(BOLD, &format!("{marks} {}{continued}", visible(text)))
     );
     if first_time {
         for item in &evaluated.outline[position + 1..] {
             match item {
                 OutlineItem::Note { text } => {
-                    let _ = writeln!(out, "  {}", painter.paint(DIM, &format!("> {text}")));
+                    let _ = writeln!(
+                        out,
+                        "  {}",
+                        painter.paint(DIM, &format!("> {}", visible(text)))
+                    );
                 }
                 OutlineItem::Heading { .. } => break,
                 _ => {}

@@ -127,7 +127,8 @@ pub fn review_text(evaluated: &Evaluated) -> String {
             );
         }
     }
-    out
+    // No colour here: the whole block is sheet text and plain words.
+    crate::visible::visible_output(&out, false).into_owned()
 }
 
 /// What a mark is about, in words.
