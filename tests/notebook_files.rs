@@ -4,6 +4,8 @@
 //! on one sheet kept apart, recovery copies that are not trusted blindly,
 //! and temporary files of stopped saves cleaned up.
 
+#![cfg(unix)]
+
 use std::fs;
 use std::os::unix::fs::{MetadataExt, PermissionsExt};
 use std::path::{Path, PathBuf};
@@ -133,10 +135,10 @@ fn saving_replaces_the_file_whole_and_quitting_leaves_nothing_behind() {
     let (directory, path) = sheet_with(SHEET);
     let (session, _) = Session::start(&path).expect("open");
     assert_eq!(
-        session.lock_path(),
+        session.lock_path().expect("a lock"),
         directory.path().join(".fixture.heft.heft-lock")
     );
-    assert!(session.lock_path().exists());
+    assert!(session.lock_path().expect("a lock").exists());
     let edited = SHEET.replace("12 kg", "14 kg");
     session
         .save(
@@ -236,7 +238,7 @@ fn two_notebooks_on_one_sheet_keep_their_unsaved_work_apart() {
             .iter()
             .map(|other| other.lock.clone())
             .collect::<Vec<_>>(),
-        vec![second.lock_path().to_path_buf()]
+        vec![second.lock_path().expect("a lock").to_path_buf()]
     );
     assert_ne!(first.recovery_path(), second.recovery_path());
 
@@ -272,7 +274,7 @@ fn two_notebooks_on_one_sheet_keep_their_unsaved_work_apart() {
     ));
 
     // The second dies: its lock names a process that is gone.
-    let lock = second.lock_path().to_path_buf();
+    let lock = second.lock_path().expect("a lock").to_path_buf();
     let copy = second.recovery_path().to_path_buf();
     let lock_text = fs::read_to_string(&lock).expect("lock");
     std::mem::forget(second);
@@ -297,7 +299,7 @@ fn two_notebooks_on_one_sheet_keep_their_unsaved_work_apart() {
         }]
     );
     assert_eq!(
-        third.lock_path(),
+        third.lock_path().expect("a lock"),
         directory.path().join(".fixture.heft.heft-lock")
     );
 }
@@ -349,10 +351,10 @@ fn a_lock_from_another_host_counts_as_live_and_a_stale_one_is_taken_over() {
         opened.notices
     );
     assert_eq!(
-        session.lock_path(),
+        session.lock_path().expect("a lock"),
         directory.path().join(".fixture.heft.heft-lock-1")
     );
-    let host = host_in_lock(session.lock_path());
+    let host = host_in_lock(session.lock_path().expect("a lock"));
     drop(session);
     assert!(lock.exists(), "another host's lock is never removed");
 
@@ -366,11 +368,29 @@ fn a_lock_from_another_host_counts_as_live_and_a_stale_one_is_taken_over() {
     .expect("lock");
     let (session, opened) = Session::start(&path).expect("open");
     assert!(opened.notices.is_empty(), "{:?}", opened.notices);
-    assert_eq!(session.lock_path(), lock);
+    assert_eq!(session.lock_path().expect("a lock"), lock);
     let text = fs::read_to_string(&lock).expect("lock");
     assert!(
         text.contains(&format!("pid {}\n", std::process::id())),
         "{text}"
+    );
+}
+
+#[test]
+fn a_sheet_where_no_lock_can_be_made_still_opens_and_says_so() {
+    let directory = tempfile::tempdir().expect("directory");
+    // A new sheet in a folder not made yet: nothing can be written beside it.
+    let path = directory.path().join("not-yet").join("new.heft");
+    let (session, opened) = Session::start(&path).expect("it opens");
+    assert_eq!(session.lock_path(), None);
+    assert!(
+        opened.notices[0].starts_with("no lock on this sheet (cannot create a temporary file in"),
+        "{:?}",
+        opened.notices
+    );
+    assert!(
+        opened.notices[0].contains("not-yet"),
+        "the error names the folder"
     );
 }
 
@@ -820,7 +840,7 @@ fn temporary_files_of_stopped_saves_are_removed_and_nothing_else() {
     let (directory, path) = sheet_with(SHEET);
     let host = {
         let (session, _) = Session::start(&path).expect("open");
-        host_in_lock(session.lock_path())
+        host_in_lock(session.lock_path().expect("a lock"))
     };
     let dead = dead_pid();
     let own = std::process::id();
@@ -871,7 +891,7 @@ fn temporary_files_of_stopped_saves_are_removed_and_nothing_else() {
 fn a_save_names_its_temporary_file_with_the_host_and_process() {
     let (directory, path) = sheet_with(SHEET);
     let (session, _) = Session::start(&path).expect("open");
-    let host = host_in_lock(session.lock_path());
+    let host = host_in_lock(session.lock_path().expect("a lock"));
     let mut seen = Vec::new();
     session
         .save_with_pause(

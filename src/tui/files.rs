@@ -253,12 +253,13 @@ fn clean_temporary_files(names: &Names) -> Vec<String> {
 }
 
 /// A notebook's hold on a sheet: its lock file, and the recovery copy that
-/// is its own. Ending the session (or dropping it) removes the lock.
+/// is its own. Dropping the session removes the lock.
 #[derive(Debug)]
 pub struct Session {
     path: PathBuf,
     names: Names,
-    lock: PathBuf,
+    /// `None` if no lock file could be made (a folder heft may not write).
+    lock: Option<PathBuf>,
     holder: Holder,
     recovery: PathBuf,
 }
@@ -282,10 +283,17 @@ impl Session {
                 .map(|(path, why)| strings::recovery_copy_ignored(path, why)),
         );
         let holder = Holder::this_process();
-        let slot = claim(&names, &holder)?;
+        let (slot, lock) = claim(&names, &holder);
+        let lock = match lock {
+            Ok(lock) => Some(lock),
+            Err(error) => {
+                notices.push(strings::not_locked(&error));
+                None
+            }
+        };
         let session = Session {
             path: path.to_path_buf(),
-            lock: names.lock(slot),
+            lock,
             recovery: names.recovery(slot),
             names,
             holder,
@@ -315,9 +323,9 @@ impl Session {
         &self.recovery
     }
 
-    /// This notebook's lock file.
-    pub fn lock_path(&self) -> &Path {
-        &self.lock
+    /// This notebook's lock file; `None` if none could be made.
+    pub fn lock_path(&self) -> Option<&Path> {
+        self.lock.as_deref()
     }
 
     /// Keeps `text` as this notebook's recovery copy: a private file (mode
@@ -346,9 +354,10 @@ impl Session {
         remove_if_there(copy)
     }
 
-    /// The other notebooks that have the sheet open now (their locks).
+    /// The other notebooks that have the sheet open now (their locks);
+    /// stale locks found on the way are removed.
     pub fn other_notebooks(&self) -> Vec<OtherNotebook> {
-        lock::live_locks(&self.names, Some(&self.lock))
+        lock::live_locks(&self.names, self.lock.as_deref())
             .into_iter()
             .map(|(_, other)| other)
             .collect()
@@ -410,7 +419,9 @@ impl Session {
 /// another notebook has taken its place meanwhile.
 impl Drop for Session {
     fn drop(&mut self) {
-        lock::release(&self.lock, &self.holder);
+        if let Some(lock) = &self.lock {
+            lock::release(lock, &self.holder);
+        }
     }
 }
 
@@ -498,17 +509,24 @@ fn kept_copies(
 
 /// Takes the first notebook number whose lock is free and under whose
 /// name no recovery copy lies (a copy there is someone's unsaved work,
-/// offered on opening, and must not be written over).
-fn claim(names: &Names, holder: &Holder) -> io::Result<usize> {
+/// offered on opening, and must not be written over). Returns the number
+/// and its lock file, or, if no lock could be made, the number to work
+/// under without one and why.
+fn claim(names: &Names, holder: &Holder) -> (usize, io::Result<PathBuf>) {
     for slot in 0..MAX_NOTEBOOKS {
-        let copy_there = fs::symlink_metadata(names.recovery(slot)).is_ok();
-        if !copy_there && lock::try_take(names, &names.lock(slot), holder)? {
-            return Ok(slot);
+        if fs::symlink_metadata(names.recovery(slot)).is_ok() {
+            continue;
+        }
+        let lock = names.lock(slot);
+        match lock::try_take(names, &lock, holder) {
+            Ok(true) => return (slot, Ok(lock)),
+            Ok(false) => {}
+            Err(error) => return (slot, Err(error)),
         }
     }
-    Err(io::Error::other(format!(
-        "cannot open {}: {MAX_NOTEBOOKS} notebooks already hold it open or left unsaved work beside it (lock files {})",
-        names.directory.join(&names.file_name).display(),
-        names.lock(0).display()
-    )))
+    let error = io::Error::other(format!(
+        "{MAX_NOTEBOOKS} notebooks hold {} open or left unsaved work beside it",
+        names.directory.join(&names.file_name).display()
+    ));
+    (MAX_NOTEBOOKS, Err(error))
 }

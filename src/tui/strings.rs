@@ -283,6 +283,11 @@ pub fn other_notebook_opened(other: &crate::tui::files::OtherNotebook) -> String
     )
 }
 
+/// No lock file could be made beside the sheet.
+pub fn not_locked(error: &std::io::Error) -> String {
+    format!("no lock on this sheet ({error}): another notebook opening it will not be told")
+}
+
 /// A file under a recovery copy's name that was not read.
 pub fn recovery_copy_ignored(path: &std::path::Path, why: &crate::tui::files::Refusal) -> String {
     format!(
