@@ -102,7 +102,7 @@ const MAX_NOTEBOOKS: usize = 64;
 const TEMPORARY_MARK: &str = ".heft-save-";
 
 /// The names of heft's files beside one sheet.
-#[derive(Clone, Debug)]
+#[derive(Debug)]
 struct Names {
     /// The folder the sheet's file is in.
     directory: PathBuf,

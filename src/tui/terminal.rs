@@ -120,6 +120,10 @@ fn event_loop(
     loop {
         terminal.draw(|frame| view(app, frame))?;
         let message = loop {
+            // First, so that a stream of keys does not put it off.
+            if let Some(message) = upkeep.run_due(app, session) {
+                break message;
+            }
             if event::poll(LINT_POLL)? {
                 match event::read()? {
                     Event::Key(key) if key.kind != KeyEventKind::Release => {
@@ -132,9 +136,6 @@ fn event_loop(
             }
             if let Ok(linted) = linter.answers.try_recv() {
                 break linted;
-            }
-            if let Some(message) = upkeep.run_due(app, session) {
-                break message;
             }
         };
         let mut pending = update(app, message);
