@@ -32,7 +32,8 @@ fn notebook() -> (App, Terminal<TestBackend>) {
             path: "generated.heft".into(),
             text: text.clone(),
             disk: Some(Fingerprint::of(text.as_bytes())),
-            recovery: None,
+            recovery: Vec::new(),
+            notices: Vec::new(),
         },
         Rect::new(0, 0, 160, 48),
         Theme::new(true),
@@ -97,6 +98,7 @@ fn key_to_frame(c: &mut Criterion) {
     select(&mut app, "w50_50");
     let directory = tempfile::tempdir().expect("a temporary directory");
     let sheet_path = directory.path().join("generated.heft");
+    let (session, _) = files::Session::start(&sheet_path).expect("a notebook session");
     let mut flip = false;
     group.bench_function("delete a line or undo it (full relink)", |b| {
         b.iter(|| {
@@ -108,7 +110,7 @@ fn key_to_frame(c: &mut Criterion) {
             );
             for effect in effects {
                 if let Effect::KeepRecovery(text) = effect {
-                    files::keep_recovery(&sheet_path, &text).expect("recovery copy");
+                    session.keep_recovery(&text).expect("recovery copy");
                 }
             }
             terminal.draw(|frame| view(&app, frame)).expect("draw");

@@ -3,7 +3,7 @@
 
 use heftsheet::eval::{CellStatus, Row};
 use heftsheet::tui::app::{Change, Focus, Mode, Question, UnitsView};
-use heftsheet::tui::files::{Fingerprint, Opened};
+use heftsheet::tui::files::{Fingerprint, KeptCopy, Opened};
 use heftsheet::tui::keys::{Action, BINDINGS, Key, Scope};
 use heftsheet::tui::theme::Theme;
 use heftsheet::tui::{App, Effect, Message, update};
@@ -29,7 +29,8 @@ fn opened(text: &str) -> Opened {
         path: "demo.heft".into(),
         text: text.to_string(),
         disk: Some(Fingerprint::of(text.as_bytes())),
-        recovery: None,
+        recovery: Vec::new(),
+        notices: Vec::new(),
     }
 }
 
@@ -133,7 +134,10 @@ fn app_in_scope(scope: Scope, key: &Key) -> App {
             match question {
                 Question::Recover => {
                     let mut with_copy = opened(SKID_LIFT);
-                    with_copy.recovery = Some(SKID_LIFT.replace("1850 kg", "1900 kg"));
+                    with_copy.recovery = vec![KeptCopy {
+                        path: ".demo.heft.heft-unsaved".into(),
+                        text: SKID_LIFT.replace("1850 kg", "1900 kg"),
+                    }];
                     app = App::new(with_copy, Rect::new(0, 0, 80, 24), Theme::new(false));
                 }
                 Question::Overwrite => {
@@ -149,6 +153,10 @@ fn app_in_scope(scope: Scope, key: &Key) -> App {
                     type_text(&mut app, "1");
                     press(&mut app, KeyCode::Enter);
                     press_char(&mut app, 'q');
+                }
+                // Their keys are tested with the questions chosen above.
+                Question::RecoverNext | Question::ReplaceReadOnly => {
+                    unreachable!("not chosen for any key")
                 }
             }
             assert!(matches!(app.mode(), Mode::Ask(q) if *q == question));
@@ -604,6 +612,7 @@ fn saving_asks_the_loop_and_clears_the_modified_mark() {
             text,
             expected,
             overwrite,
+            replace_read_only,
         },
     ] = effects.as_slice()
     else {
@@ -611,6 +620,7 @@ fn saving_asks_the_loop_and_clears_the_modified_mark() {
     };
     assert_eq!(*expected, Some(Fingerprint::of(SKID_LIFT.as_bytes())));
     assert!(!overwrite);
+    assert!(!replace_read_only);
     assert_eq!(changed_lines(SKID_LIFT, text).len(), 1);
     let effects = update(&mut app, Message::Saved(Fingerprint::of(text.as_bytes())));
     assert_eq!(effects, vec![Effect::DropRecovery]);
@@ -682,7 +692,10 @@ fn quitting_with_unsaved_changes_asks() {
 fn kept_work_from_a_crash_is_offered_and_restored() {
     let kept = SKID_LIFT.replace("m_rig  = 42 kg", "m_rig  = 47 kg");
     let mut with_copy = opened(SKID_LIFT);
-    with_copy.recovery = Some(kept.clone());
+    with_copy.recovery = vec![KeptCopy {
+        path: ".demo.heft.heft-unsaved".into(),
+        text: kept.clone(),
+    }];
     let mut app = App::new(
         with_copy.clone(),
         Rect::new(0, 0, 80, 24),
@@ -694,12 +707,23 @@ fn kept_work_from_a_crash_is_offered_and_restored() {
         matches!(app.mode(), Mode::Ask(Question::Recover)),
         "must choose"
     );
-    press_char(&mut app, 'r');
+    let effects = press_char(&mut app, 'r');
     assert_eq!(app.live().text(), kept);
     assert!(app.is_dirty());
+    // The restored text becomes this notebook's own recovery copy.
+    assert_eq!(
+        effects.first(),
+        Some(&Effect::AdoptCopy {
+            path: ".demo.heft.heft-unsaved".into(),
+            text: kept.clone(),
+        })
+    );
 
     let mut declined = App::new(with_copy, Rect::new(0, 0, 80, 24), Theme::new(false));
-    assert_eq!(press_char(&mut declined, 'd'), vec![Effect::DropRecovery]);
+    assert_eq!(
+        press_char(&mut declined, 'd'),
+        vec![Effect::DiscardCopy(".demo.heft.heft-unsaved".into())]
+    );
     assert_eq!(declined.live().text(), SKID_LIFT);
 }
 
@@ -710,7 +734,8 @@ fn a_new_file_starts_empty_and_grows() {
             path: "new.heft".into(),
             text: String::new(),
             disk: None,
-            recovery: None,
+            recovery: Vec::new(),
+            notices: Vec::new(),
         },
         Rect::new(0, 0, 80, 24),
         Theme::new(false),

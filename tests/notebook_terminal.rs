@@ -105,6 +105,43 @@ impl Session {
         let _ = self.child.kill();
         panic!("heft did not exit; the screen shows:\n{}", self.contents());
     }
+
+    /// Stops heft at once, as `kill -9` does: no handler runs, nothing is
+    /// written on the way out.
+    fn kill_hard(&mut self) {
+        let pid = self.child.process_id().expect("heft's process id");
+        let status = std::process::Command::new("kill")
+            .args(["-KILL", &pid.to_string()])
+            .status()
+            .expect("kill runs");
+        assert!(status.success(), "heft is killed");
+        let _ = self.child.wait();
+    }
+}
+
+/// Waits until `file` exists and contains `text`; `None` if it never does
+/// within `patience`.
+fn wait_for_file(file: &std::path::Path, text: &str, patience: Duration) -> Option<String> {
+    let deadline = Instant::now() + patience;
+    while Instant::now() < deadline {
+        if let Ok(contents) = std::fs::read_to_string(file)
+            && contents.contains(text)
+        {
+            return Some(contents);
+        }
+        std::thread::sleep(Duration::from_millis(20));
+    }
+    None
+}
+
+/// The names in `directory`, sorted.
+fn names_in(directory: &std::path::Path) -> Vec<String> {
+    let mut names: Vec<String> = std::fs::read_dir(directory)
+        .expect("list")
+        .filter_map(|entry| Some(entry.ok()?.file_name().to_string_lossy().into_owned()))
+        .collect();
+    names.sort();
+    names
 }
 
 const ENTER: &str = "\r";
@@ -164,13 +201,9 @@ fn edit_an_input_watch_the_result_change_and_save_one_line() {
     );
     assert_eq!(saved.lines().count(), original.lines().count());
     assert_eq!(saved.len(), original.len() - 1);
-    // Saved and quit cleanly: no recovery copy is left behind.
-    assert!(
-        !directory
-            .path()
-            .join(".skid_lift.heft.heft-unsaved")
-            .exists()
-    );
+    // Saved and quit cleanly: no recovery copy, lock or temporary file is
+    // left behind.
+    assert_eq!(names_in(directory.path()), vec!["skid_lift.heft"]);
 }
 
 #[test]
@@ -211,4 +244,96 @@ fn quitting_with_unsaved_changes_asks_and_a_kept_copy_survives_a_kill() {
     again.send("s");
     assert!(again.wait_exit());
     assert_eq!(std::fs::read_to_string(&file).expect("sheet"), kept);
+}
+
+#[test]
+fn text_typed_without_enter_survives_a_kill() {
+    let directory = tempfile::tempdir().expect("a temporary directory");
+    let file = directory.path().join("cart.heft");
+    let original = include_str!("../sheets/cart_train.heft");
+    std::fs::write(&file, original).expect("the demo sheet is copied");
+
+    let mut heft = Session::start(&file);
+    heft.wait_for("Parts-cart train");
+    heft.send("f");
+    heft.send("F_draw");
+    heft.send(ENTER);
+    heft.send("=");
+    heft.send(CLEAR_FIELD);
+    heft.send("251 lbf");
+    heft.wait_for("251 lbf");
+    // No Enter: the line being typed reaches the recovery copy by itself,
+    // at most a few hundred milliseconds after the last key.
+    let copy = directory.path().join(".cart.heft.heft-unsaved");
+    let kept = wait_for_file(&copy, "F_draw = 251 lbf", Duration::from_secs(5));
+    heft.kill_hard();
+    let kept = kept.expect("the typed line reached the recovery copy within 5 s");
+    assert_eq!(std::fs::read_to_string(&file).expect("sheet"), original);
+
+    let mut again = Session::start(&file);
+    again.wait_for("Unsaved work from an earlier session");
+    again.send("r");
+    again.wait_for("restored");
+    again.send("q");
+    again.wait_for("Unsaved changes");
+    again.send("s");
+    assert!(again.wait_exit());
+    assert_eq!(std::fs::read_to_string(&file).expect("sheet"), kept);
+    // The killed notebook's stale lock and its adopted copy are gone too.
+    assert_eq!(names_in(directory.path()), vec!["cart.heft"]);
+}
+
+#[test]
+fn two_notebooks_on_one_sheet_are_told_of_each_other_and_lose_nothing() {
+    let directory = tempfile::tempdir().expect("a temporary directory");
+    let file = directory.path().join("hoist.heft");
+    let original = include_str!("../sheets/skid_lift.heft");
+    std::fs::write(&file, original).expect("the demo sheet is copied");
+
+    let mut first = Session::start(&file);
+    first.wait_for("Compressor skid lift");
+    let mut second = Session::start(&file);
+    second.wait_for("another notebook has this sheet open");
+    // The first hears of the second within a few seconds.
+    first.wait_for("another notebook opened this sheet");
+
+    // Each changes a different input and keeps it (Enter).
+    for (heft, value) in [(&mut second, "0.6 m/s^2"), (&mut first, "0.4 m/s^2")] {
+        heft.send("f");
+        heft.send("a_up");
+        heft.send(ENTER);
+        heft.send("=");
+        heft.send(CLEAR_FIELD);
+        heft.send(value);
+        heft.send(ENTER);
+        heft.wait_for("modified");
+    }
+    let second_copy = directory.path().join(".hoist.heft.heft-unsaved-1");
+    let kept = wait_for_file(&second_copy, "a_up   = 0.6 m/s^2", PATIENCE)
+        .expect("the second notebook keeps its own copy");
+    // The first saves and quits: the second's copy is untouched.
+    first.send("s");
+    first.wait_for("saved hoist.heft");
+    first.send("q");
+    assert!(first.wait_exit());
+    assert_eq!(
+        std::fs::read_to_string(&second_copy).expect("the second's copy"),
+        kept
+    );
+    // The second dies; the next notebook offers its work.
+    second.kill_hard();
+    let mut third = Session::start(&file);
+    third.wait_for("Unsaved work from an earlier session");
+    third.send("r");
+    third.wait_for("restored");
+    third.send("q");
+    third.wait_for("Unsaved changes");
+    third.send("d");
+    assert!(third.wait_exit());
+    assert!(
+        std::fs::read_to_string(&file)
+            .expect("sheet")
+            .contains("a_up   = 0.4 m/s^2"),
+        "the first notebook's save"
+    );
 }

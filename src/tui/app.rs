@@ -9,7 +9,7 @@ use ratatui::crossterm::event::{KeyEvent, KeyModifiers, MouseButton, MouseEvent,
 use ratatui::layout::{Position, Rect};
 use tui_input::{Input, InputRequest};
 
-use super::files::{Fingerprint, Opened};
+use super::files::{Fingerprint, KeptCopy, Opened};
 use super::keys::{Action, Scope, action_for};
 use super::layout::{Areas, areas};
 use super::strings as text;
@@ -32,10 +32,15 @@ pub enum Message {
     Saved(Fingerprint),
     /// The save was refused: the file changed on disk since it was opened.
     SaveRefused,
+    /// The save was refused: the file is read-only.
+    SaveReadOnly,
     /// The save failed.
     SaveFailed(String),
     /// The recovery copy could not be written.
     RecoveryFailed(String),
+    /// Something to tell the user about the sheet's files (another
+    /// notebook opened it).
+    Notice(String),
     /// The lint findings of the text at `revision` (see [`lint`]).
     Linted {
         /// The revision linted.
@@ -59,11 +64,27 @@ pub enum Effect {
         expected: Option<Fingerprint>,
         /// Save even if the file changed on disk.
         overwrite: bool,
+        /// Save even if the file is read-only.
+        replace_read_only: bool,
     },
     /// Keep this text as the recovery copy.
     KeepRecovery(String),
+    /// Keep the text as it is being typed in the recovery copy soon: the
+    /// event loop writes [`App::recovery_effect`] at most every few hundred
+    /// milliseconds while typing goes on.
+    KeepRecoverySoon,
     /// Remove the recovery copy.
     DropRecovery,
+    /// The kept copy at `path` was restored as `text`: keep the text as
+    /// this notebook's recovery copy, then remove the old copy.
+    AdoptCopy {
+        /// The kept copy's file.
+        path: PathBuf,
+        /// Its text.
+        text: String,
+    },
+    /// Remove the kept copy at this path: the user discarded it.
+    DiscardCopy(PathBuf),
     /// Run the audit lints over `text`, the text at `revision`, and answer
     /// with [`Message::Linted`] (see [`lint`]). The event loop runs them
     /// off the drawing thread, so typing never waits for them.
@@ -134,6 +155,10 @@ pub enum Question {
     Overwrite,
     /// Restore unsaved work from an earlier session?
     Recover,
+    /// Restore further unsaved work, kept by another earlier session?
+    RecoverNext,
+    /// The file is read-only: save over it?
+    ReplaceReadOnly,
 }
 
 impl Question {
@@ -143,6 +168,8 @@ impl Question {
             Question::QuitUnsaved => text::ASK_QUIT,
             Question::Overwrite => text::ASK_OVERWRITE,
             Question::Recover => text::ASK_RECOVER,
+            Question::RecoverNext => text::ASK_RECOVER_NEXT,
+            Question::ReplaceReadOnly => text::ASK_READ_ONLY,
         }
     }
 }
@@ -300,7 +327,9 @@ pub struct App {
     path: PathBuf,
     file_name: String,
     disk: Option<Fingerprint>,
-    recovered: Option<String>,
+    recovered: Vec<KeptCopy>,
+    opening_notice: Option<String>,
+    granted: SaveGrants,
     selected: usize,
     scroll: usize,
     focus: Focus,
@@ -316,6 +345,15 @@ pub struct App {
     quit_after_save: bool,
 }
 
+/// What the user allowed the save under way to do, by answering a question.
+#[derive(Clone, Copy, Debug, Default)]
+struct SaveGrants {
+    /// Write over a file that changed on disk.
+    overwrite: bool,
+    /// Write over a read-only file.
+    read_only: bool,
+}
+
 /// Rows moved by one turn of the mouse wheel.
 const WHEEL_ROWS: usize = 3;
 
@@ -329,17 +367,19 @@ impl App {
             .file_name()
             .map(|name| name.to_string_lossy().into_owned())
             .unwrap_or_else(|| opened.path.display().to_string());
-        let mode = if opened.recovery.is_some() {
-            Mode::Ask(Question::Recover)
-        } else {
+        let mode = if opened.recovery.is_empty() {
             Mode::Browse
+        } else {
+            Mode::Ask(Question::Recover)
         };
+        let opening_notice = (!opened.notices.is_empty()).then(|| opened.notices.join(" · "));
         App {
             live,
             path: opened.path,
             file_name,
             disk: opened.disk,
             recovered: opened.recovery,
+            granted: SaveGrants::default(),
             selected: 0,
             scroll: 0,
             focus: Focus::Sheet,
@@ -351,7 +391,12 @@ impl App {
                 saved: Some(0),
                 ..History::default()
             },
-            message: Some(text::OPENING_CAUTION.to_string()),
+            message: Some(
+                opening_notice
+                    .clone()
+                    .unwrap_or_else(|| text::OPENING_CAUTION.to_string()),
+            ),
+            opening_notice,
             viewport,
             jumps: Vec::new(),
             theme,
@@ -677,12 +722,17 @@ impl App {
     /// After an edit: keeps the recovery copy in step with the text and
     /// asks for the new text's lint findings.
     fn recovery_effects(&self) -> Vec<Effect> {
-        let recovery = if self.is_dirty() {
+        vec![self.recovery_effect(), self.lint_request()]
+    }
+
+    /// Keeps the recovery copy in step with the text as it is now, typing
+    /// included: the text while it differs from the file, none otherwise.
+    pub fn recovery_effect(&self) -> Effect {
+        if self.is_dirty() {
             Effect::KeepRecovery(self.live.text())
         } else {
             Effect::DropRecovery
-        };
-        vec![recovery, self.lint_request()]
+        }
     }
 
     /// Asks for the lint findings of the text as it is now.
@@ -770,8 +820,13 @@ impl App {
         }
     }
 
-    fn save(&mut self, overwrite: bool) -> Vec<Effect> {
-        if !self.is_dirty() && !self.is_new_file() && !overwrite {
+    /// Saves with what the user allowed so far (`granted`).
+    fn save(&mut self) -> Vec<Effect> {
+        let SaveGrants {
+            overwrite,
+            read_only,
+        } = self.granted;
+        if !self.is_dirty() && !self.is_new_file() && !overwrite && !read_only {
             self.say(text::NOTHING_TO_SAVE);
             return Vec::new();
         }
@@ -779,6 +834,7 @@ impl App {
             text: self.live.text(),
             expected: self.disk,
             overwrite,
+            replace_read_only: read_only,
         }]
     }
 
@@ -890,7 +946,10 @@ impl App {
                 }
                 _ => self.say(text::NO_JUMP_BACK),
             },
-            Action::Save => return self.save(false),
+            Action::Save => {
+                self.granted = SaveGrants::default();
+                return self.save();
+            }
             Action::Quit => return self.quit(),
             _ => {}
         }
@@ -945,7 +1004,7 @@ impl App {
             .is_some_and(|state| state.value);
         if changed {
             self.apply_typing();
-            return vec![self.lint_request()];
+            return vec![self.lint_request(), Effect::KeepRecoverySoon];
         }
         Vec::new()
     }
@@ -1015,7 +1074,7 @@ impl App {
         match (question, action_for(Scope::Question, key)) {
             // Unsaved work kept from a crash must be restored or dropped:
             // the first edit would otherwise write over the copy.
-            (Question::Recover, Some(Action::Close)) => Vec::new(),
+            (Question::Recover | Question::RecoverNext, Some(Action::Close)) => Vec::new(),
             (_, Some(Action::Close)) => {
                 self.mode = Mode::Browse;
                 self.quit_after_save = false;
@@ -1024,33 +1083,74 @@ impl App {
             (Question::QuitUnsaved, Some(Action::AnswerSave)) => {
                 self.mode = Mode::Browse;
                 self.quit_after_save = true;
-                self.save(false)
+                self.granted = SaveGrants::default();
+                self.save()
             }
             (Question::QuitUnsaved, Some(Action::AnswerDiscard)) => {
                 vec![Effect::DropRecovery, Effect::Quit]
             }
             (Question::Overwrite, Some(Action::AnswerOverwrite)) => {
                 self.mode = Mode::Browse;
-                self.save(true)
+                self.granted.overwrite = true;
+                self.save()
             }
-            (Question::Recover, Some(Action::AnswerRestore)) => {
+            (Question::ReplaceReadOnly, Some(Action::AnswerOverwrite)) => {
                 self.mode = Mode::Browse;
-                if let Some(kept) = self.recovered.take() {
-                    self.live = LiveSheet::open(&kept);
-                    self.history = History::default();
-                    self.select(0);
-                    self.say(text::RESTORED);
-                }
-                Vec::new()
+                self.granted.read_only = true;
+                self.save()
             }
-            (Question::Recover, Some(Action::AnswerDiscard)) => {
-                self.mode = Mode::Browse;
-                self.recovered = None;
-                self.say(text::DISCARDED);
-                vec![Effect::DropRecovery]
+            (Question::Recover | Question::RecoverNext, Some(Action::AnswerRestore)) => {
+                self.restore_kept_copy()
+            }
+            (Question::Recover | Question::RecoverNext, Some(Action::AnswerDiscard)) => {
+                self.discard_kept_copy()
             }
             _ => Vec::new(),
         }
+    }
+
+    /// Restores the kept copy on offer; any others stay on disk, offered
+    /// at the next opening (restoring a second would replace the first).
+    fn restore_kept_copy(&mut self) -> Vec<Effect> {
+        self.mode = Mode::Browse;
+        if self.recovered.is_empty() {
+            return Vec::new();
+        }
+        let kept = self.recovered.remove(0);
+        self.live = LiveSheet::open(&kept.text);
+        self.history = History::default();
+        self.select(0);
+        let restored = match self.recovered.len() {
+            0 => text::RESTORED.to_string(),
+            n_left => text::restored_others_left(n_left),
+        };
+        self.recovered.clear();
+        let notice = self.opening_notice.take();
+        self.say(text::with_notice(&restored, notice));
+        vec![
+            Effect::AdoptCopy {
+                path: kept.path,
+                text: kept.text,
+            },
+            self.lint_request(),
+        ]
+    }
+
+    /// Discards the kept copy on offer and offers the next, if any.
+    fn discard_kept_copy(&mut self) -> Vec<Effect> {
+        if self.recovered.is_empty() {
+            self.mode = Mode::Browse;
+            return Vec::new();
+        }
+        let kept = self.recovered.remove(0);
+        if self.recovered.is_empty() {
+            self.mode = Mode::Browse;
+            let notice = self.opening_notice.take();
+            self.say(text::with_notice(text::DISCARDED, notice));
+        } else {
+            self.mode = Mode::Ask(Question::RecoverNext);
+        }
+        vec![Effect::DiscardCopy(kept.path)]
     }
 
     fn mouse(&mut self, event: MouseEvent) {
@@ -1168,6 +1268,7 @@ pub fn update(app: &mut App, message: Message) -> Vec<Effect> {
         }
         Message::Saved(fingerprint) => {
             app.disk = Some(fingerprint);
+            app.granted = SaveGrants::default();
             app.history.saved = Some(app.history.done);
             app.say(format!("{} {}", text::SAVED, app.file_name));
             let mut effects = vec![Effect::DropRecovery];
@@ -1177,11 +1278,13 @@ pub fn update(app: &mut App, message: Message) -> Vec<Effect> {
             return effects;
         }
         Message::SaveRefused => app.mode = Mode::Ask(Question::Overwrite),
+        Message::SaveReadOnly => app.mode = Mode::Ask(Question::ReplaceReadOnly),
         Message::SaveFailed(error) => {
             app.quit_after_save = false;
+            app.granted = SaveGrants::default();
             app.say(error);
         }
-        Message::RecoveryFailed(error) => app.say(error),
+        Message::RecoveryFailed(said) | Message::Notice(said) => app.say(said),
         Message::Linted {
             revision,
             text,

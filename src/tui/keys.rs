@@ -390,7 +390,7 @@ pub const BINDINGS: &[Binding] = &[
         S::Question,
         &[ch('o')],
         A::AnswerOverwrite,
-        "file changed on disk: overwrite it",
+        "file changed on disk or read-only: save over it",
     ),
     bind(
         S::Question,

@@ -214,3 +214,112 @@ pub fn recovery_failed(path: &std::path::Path, error: &std::io::Error) -> String
         path.display()
     )
 }
+
+/// The file could not be replaced: it is read-only.
+pub const ASK_READ_ONLY: &str = "The file is read-only (or you may not write it). o: save over it anyway, keeping its permissions · Esc: do not save";
+/// A further recovery copy after one was discarded.
+pub const ASK_RECOVER_NEXT: &str =
+    "More unsaved work was kept, by another earlier session. r: restore it · d: discard it";
+
+/// Restored one kept copy while others stay on disk for the next opening.
+pub fn restored_others_left(n_left: usize) -> String {
+    format!(
+        "{RESTORED}; {} more kept {} beside the sheet, offered when it is next opened",
+        n_left,
+        if n_left == 1 {
+            "copy stays"
+        } else {
+            "copies stay"
+        }
+    )
+}
+
+/// A message, then what the notebook had to say on opening.
+pub fn with_notice(message: &str, notice: Option<String>) -> String {
+    match notice {
+        Some(notice) => format!("{message} · {notice}"),
+        None => message.to_string(),
+    }
+}
+
+fn holder_words(other: &crate::tui::files::OtherNotebook) -> String {
+    match &other.holder {
+        Some(holder) => format!(
+            "process {} on {}, open {} min",
+            holder.pid,
+            holder.host,
+            holder.minutes_open()
+        ),
+        None => format!("lock {} unreadable", other.lock.display()),
+    }
+}
+
+/// Other notebooks have the sheet open: said on opening.
+pub fn other_notebooks(
+    others: &[crate::tui::files::OtherNotebook],
+    own_recovery: &std::path::Path,
+) -> String {
+    let who: Vec<String> = others.iter().map(holder_words).collect();
+    format!(
+        "{} this sheet open too ({}): unsaved work is kept apart, this notebook's in {}; a save asks if the other saved first",
+        if others.len() == 1 {
+            "another notebook has".to_string()
+        } else {
+            format!("{} other notebooks have", others.len())
+        },
+        who.join("; "),
+        own_recovery
+            .file_name()
+            .map(|name| name.to_string_lossy().into_owned())
+            .unwrap_or_default()
+    )
+}
+
+/// Another notebook opened the sheet while this one had it open.
+pub fn other_notebook_opened(other: &crate::tui::files::OtherNotebook) -> String {
+    format!(
+        "another notebook opened this sheet ({}): a save asks if the other saved first",
+        holder_words(other)
+    )
+}
+
+/// No lock file could be made beside the sheet.
+pub fn not_locked(error: &std::io::Error) -> String {
+    format!("no lock on this sheet ({error}): another notebook opening it will not be told")
+}
+
+/// A file under a recovery copy's name that was not read.
+pub fn recovery_copy_ignored(path: &std::path::Path, why: &crate::tui::files::Refusal) -> String {
+    format!(
+        "ignored {}: {why}, not a recovery copy heft wrote; remove it if it is not yours",
+        path.display()
+    )
+}
+
+/// Sizes of files, for the user: `12.5 MB`, `3 kB`.
+fn size_words(bytes: u64) -> String {
+    if bytes >= 1_000_000 {
+        format!("{:.1} MB", bytes as f64 / 1e6)
+    } else {
+        format!("{} kB", bytes.div_ceil(1000))
+    }
+}
+
+/// Temporary files of stopped saves were removed on opening.
+pub fn temporary_files_removed(n: usize, bytes: u64, folder: &std::path::Path) -> String {
+    format!(
+        "removed {n} temporary {} ({}) left in {} by saves that were stopped",
+        if n == 1 { "file" } else { "files" },
+        size_words(bytes),
+        folder.display()
+    )
+}
+
+/// Temporary files heft cannot tell the owner of were left alone.
+pub fn temporary_files_left(n: usize, folder: &std::path::Path) -> String {
+    format!(
+        "{n} temporary {} .heft-save-* in {} heft cannot tell the owner of (an older heft's?): left alone; remove them when no heft is saving there",
+        if n == 1 { "file" } else { "files" },
+        folder.display()
+    )
+}
