@@ -351,6 +351,12 @@ pub fn is_block_line(text: &str) -> bool {
     opens_block(text) || code_of(text) == "end"
 }
 
+/// Whether a line opens a block (`solve`, `case`, `simulate`), whose lines
+/// run to a line `end`.
+pub fn is_block_head(text: &str) -> bool {
+    opens_block(text)
+}
+
 /// Whether a line opens or closes a `+++` header block.
 pub fn is_header_delimiter(text: &str) -> bool {
     text.trim() == "+++"
