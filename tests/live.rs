@@ -441,3 +441,122 @@ fn typing_a_block_head_regroups_the_lines_after_it() {
     let a = live.cell_named("a").expect("a");
     assert!((live.cell(a).value.expect("solved").si - 5.0).abs() < 1e-9);
 }
+
+/// A splice of several lines: a block's equation, a whole block, the
+/// whole header, and two cells made three in a sheet without blocks.
+/// Each ends where a fresh evaluation of the text does, and the inverses
+/// give the text back byte for byte.
+#[test]
+fn splices_over_blocks_and_the_header_match_a_full_evaluation_and_undo_exactly() {
+    let text = include_str!("../sheets/lift_slide_clamp.heft");
+    let mut live = LiveSheet::open(text);
+    let solve_block = |live: &LiveSheet| {
+        (0..live.n_statements())
+            .find(|&s| live.statement_text(s).starts_with("solve"))
+            .map(|s| live.statement_lines(s))
+    };
+    let lines = solve_block(&live).expect("the solve block");
+    assert_eq!(lines.len(), 3);
+    let unknown = live.cell_named("N_req").expect("N_req");
+    let two_faces = live.cell(unknown).value.expect("solved").si;
+    let four_faces = live
+        .document()
+        .plan(
+            lines.start,
+            lines.len(),
+            &[
+                "solve N_req [N] ~ 100:",
+                "  SF * m_part * (g0 + a_up) = 4 * μ_jaw * N_req",
+                "end",
+            ],
+        )
+        .expect("plan");
+    assert_eq!(
+        four_faces.first,
+        lines.start + 1,
+        "only the equation changes"
+    );
+    live.apply(&four_faces).expect("apply");
+    assert_matches_full_evaluation(&live);
+    // SF m (g0 + a) = 4 μ N: half the force of two faces (closed form).
+    let unknown = live.cell_named("N_req").expect("N_req");
+    let solved = live.cell(unknown).value.expect("solved").si;
+    assert!((solved - two_faces / 2.0).abs() < 1e-9 * two_faces);
+
+    // A broken equation: the block is kept, marked, its finding placed on
+    // the equation's own line and column, as `heft check` places it.
+    let broken = live
+        .document()
+        .plan(
+            lines.start + 1,
+            1,
+            &["  SF * m_part * (g0 + a_up) = 4 * μ_jaw * N_req +*"],
+        )
+        .expect("plan");
+    live.apply(&broken).expect("apply");
+    assert_matches_full_evaluation(&live);
+    let finding = live
+        .findings()
+        .into_iter()
+        .find(|f| f.code == heftsheet::diag::Code::ParseError)
+        .expect("the broken equation's finding");
+    assert_eq!(finding.line, lines.start + 2);
+    live.apply(&broken.inverse()).expect("undo");
+
+    let removal = live
+        .document()
+        .plan(lines.start, lines.len(), &[])
+        .expect("plan");
+    live.apply(&removal).expect("apply");
+    assert_matches_full_evaluation(&live);
+    assert!(solve_block(&live).is_none());
+    assert!(live.cell_named("N_req").is_none());
+
+    let header = live.document().header_lines().expect("a header");
+    let new_header = live
+        .document()
+        .plan(
+            header.start,
+            header.len(),
+            &[
+                "+++",
+                "title = \"Clamp, four faces\"",
+                "sig_figs = 6",
+                "+++",
+            ],
+        )
+        .expect("plan");
+    live.apply(&new_header).expect("apply");
+    assert_eq!(live.header().title.as_deref(), Some("Clamp, four faces"));
+    assert_eq!(live.header().sig_figs, 6);
+    assert_matches_full_evaluation(&live);
+
+    for splice in [&new_header, &removal, &four_faces] {
+        live.apply(&splice.inverse()).expect("undo");
+        assert_matches_full_evaluation(&live);
+    }
+    assert_eq!(live.text(), text);
+    // Undone once, the same undo no longer fits the text and is refused.
+    assert!(matches!(
+        live.apply(&four_faces.inverse()),
+        Err(EditError::Stale { .. })
+    ));
+    assert_eq!(live.text(), text);
+
+    let mut plain = LiveSheet::open(SKID_LIFT);
+    let id = plain.cell_named("m_skid").expect("m_skid");
+    let line = plain.cell(id).line - 1;
+    let two_into_three = plain
+        .document()
+        .plan(
+            line,
+            2,
+            &["m_skid = 1850 kg", "m_rig = 40 kg", "m_slings = 2 kg"],
+        )
+        .expect("plan");
+    plain.apply(&two_into_three).expect("apply");
+    assert_matches_full_evaluation(&plain);
+    plain.apply(&two_into_three.inverse()).expect("undo");
+    assert_matches_full_evaluation(&plain);
+    assert_eq!(plain.text(), SKID_LIFT);
+}

@@ -1,8 +1,8 @@
 //! The notebook's state and update logic, driven by messages without a
 //! terminal: every key of the key table, and what each action must do.
 
-use heftsheet::eval::{CellStatus, Row};
-use heftsheet::tui::app::{Change, Focus, Mode, Question, UnitsView};
+use heftsheet::eval::{CellStatus, LineEnding, Row, WrittenLine};
+use heftsheet::tui::app::{Focus, Mode, Question, UnitsView};
 use heftsheet::tui::files::{Fingerprint, KeptCopy, Opened};
 use heftsheet::tui::keys::{Action, BINDINGS, Key, Scope};
 use heftsheet::tui::theme::Theme;
@@ -774,14 +774,18 @@ fn history_records_one_change_per_kept_edit() {
     press_char(&mut app, '>');
     // The change is recorded by line, with both texts.
     let text = app.live().text();
+    let kept = "a_brake = 1.2 m/s^2            \"deceleration when the brake stops a descent\"";
+    assert_eq!(text.lines().nth(line), Some(kept));
+    let change = app.history().last_change().expect("a change");
+    assert_eq!(change.first, line);
+    assert_eq!(change.before.len(), 1);
     assert_eq!(
-        text.lines().nth(line),
-        Some("a_brake = 1.2 m/s^2            \"deceleration when the brake stops a descent\"")
+        change.after,
+        vec![WrittenLine {
+            text: kept.to_string(),
+            ending: LineEnding::Lf
+        }]
     );
-    let _ = Change::Insert {
-        line,
-        text: String::new(),
-    };
 }
 
 #[test]
@@ -973,5 +977,795 @@ proptest! {
             press_char(&mut app, '>');
             prop_assert_eq!(&app.live().text(), expected);
         }
+    }
+}
+
+// ----- blocks and the header -----
+
+const LIFT_SLIDE: &str = include_str!("../sheets/lift_slide_clamp.heft");
+const GANTRY_CASES: &str = include_str!("../sheets/gantry_cases.heft");
+const HOIST_RUNUP: &str = include_str!("../sheets/hoist_runup.heft");
+
+fn ctrl(c: char) -> Message {
+    Message::Key(KeyEvent::new(KeyCode::Char(c), KeyModifiers::CONTROL))
+}
+
+/// Selects the first block row whose first line starts with `head`.
+fn select_block(app: &mut App, head: &str) {
+    press(app, KeyCode::Home);
+    for _ in 0..app.live().rows().len() {
+        let statement = app.selected_statement().expect("a row");
+        if let Row::Block { head: first } = app.live().row(statement)
+            && first.trim_start().starts_with(head)
+        {
+            return;
+        }
+        press(app, KeyCode::Down);
+    }
+    panic!("no block starting {head:?}");
+}
+
+/// The text with lines `lines` (0-based) taken out.
+fn without_lines(text: &str, lines: std::ops::Range<usize>) -> String {
+    text.split_inclusive('\n')
+        .enumerate()
+        .filter(|(index, _)| !lines.contains(index))
+        .map(|(_, line)| line)
+        .collect()
+}
+
+fn session(app: &App) -> &heftsheet::tui::app::EditSession {
+    match app.mode() {
+        Mode::Editing(session) => session,
+        other => panic!("not editing: {other:?}"),
+    }
+}
+
+#[test]
+fn x_deletes_every_line_of_a_block_and_undo_puts_them_back() {
+    for (sheet, head, n_lines) in [
+        (LIFT_SLIDE, "solve", 3),
+        (GANTRY_CASES, "case proof", 4),
+        (HOIST_RUNUP, "simulate", 10),
+    ] {
+        let mut app = app_for(sheet);
+        select_block(&mut app, head);
+        let statement = app.selected_statement().expect("the block");
+        let lines = app.live().statement_lines(statement);
+        assert_eq!(lines.len(), n_lines, "{head}");
+        let n_statements = app.live().n_statements();
+        press_char(&mut app, 'x');
+        assert_eq!(
+            app.message(),
+            Some(format!("deleted {n_lines} lines (< undoes)").as_str())
+        );
+        // The whole block went, and nothing of it is left as an orphan row.
+        let deleted = app.live().text();
+        assert_eq!(deleted, without_lines(sheet, lines));
+        assert_eq!(app.live().n_statements(), n_statements - 1);
+        assert!(
+            !app.live()
+                .rows()
+                .iter()
+                .any(|&s| matches!(app.live().row(s as usize), Row::Invalid { .. })),
+            "no orphan rows after deleting the {head} block"
+        );
+        press_char(&mut app, '<');
+        assert_eq!(app.message(), Some("undone"));
+        assert_eq!(app.live().text(), sheet, "undo restores the {head} block");
+        assert!(!app.is_dirty());
+        press_char(&mut app, '>');
+        assert_eq!(app.live().text(), deleted);
+    }
+}
+
+#[test]
+fn adding_on_a_block_row_inserts_after_its_end() {
+    let mut app = app_for(LIFT_SLIDE);
+    select_block(&mut app, "solve");
+    let statement = app.selected_statement().expect("the block");
+    let end = app.live().statement_lines(statement).end;
+    let unknown = value_of(&app, "N_req");
+    for (key, typed, written) in [
+        (
+            'a',
+            "N_spare [N] = F_cyl - N_req",
+            "N_spare [N] = F_cyl - N_req",
+        ),
+        ('h', "Reserve", "# Reserve"),
+        (
+            't',
+            "Spare clamp force per jaw.",
+            "> Spare clamp force per jaw.",
+        ),
+        (
+            'c',
+            "N_spare >= 0 N \"spare\"",
+            "check N_spare >= 0 N \"spare\"",
+        ),
+    ] {
+        select_block(&mut app, "solve");
+        press_char(&mut app, key);
+        type_text(&mut app, typed);
+        press(&mut app, KeyCode::Enter);
+        let text = app.live().text();
+        assert_eq!(text.lines().nth(end), Some(written), "{key}");
+        assert_eq!(text.lines().nth(end - 1), Some("end"), "{key}");
+    }
+    // The block still reads as it did: its unknown is solved as before.
+    assert_eq!(value_of(&app, "N_req"), unknown);
+    assert!(value_of(&app, "N_spare") > 0.0);
+    assert_eq!(app.live().count(heftsheet::diag::Severity::Error), 0);
+}
+
+#[test]
+fn e_edits_a_block_in_a_multi_line_editor_and_ctrl_s_keeps_it() {
+    let mut app = app_for(LIFT_SLIDE);
+    let before = value_of(&app, "N_req");
+    select_block(&mut app, "solve");
+    press_char(&mut app, 'e');
+    let editing = session(&app);
+    assert!(editing.is_multiline());
+    assert_eq!(
+        editing.lines().collect::<Vec<_>>(),
+        vec![
+            "solve N_req [N] ~ 100:",
+            "  SF * m_part * (g0 + a_up) = 2 * μ_jaw * N_req",
+            "end"
+        ]
+    );
+    // To the equation, and make it four friction faces instead of two.
+    press(&mut app, KeyCode::Down);
+    press(&mut app, KeyCode::Home);
+    for _ in 0.."  SF * m_part * (g0 + a_up) = ".len() {
+        press(&mut app, KeyCode::Right);
+    }
+    press(&mut app, KeyCode::Delete);
+    press_char(&mut app, '4');
+    // Applied while typing: SF m (g + a) = 4 μ N halves N (closed form).
+    assert!((value_of(&app, "N_req") - before / 2.0).abs() < 1e-9 * before);
+    // Enter breaks the line; Backspace joins it again.
+    press(&mut app, KeyCode::Enter);
+    assert_eq!(session(&app).n_shown(), 4);
+    assert!(matches!(app.mode(), Mode::Editing(_)));
+    press(&mut app, KeyCode::Backspace);
+    assert_eq!(session(&app).n_shown(), 3);
+    update(&mut app, ctrl('s'));
+    assert!(matches!(app.mode(), Mode::Browse));
+    assert_eq!(
+        changed_lines(LIFT_SLIDE, &app.live().text()),
+        vec![(
+            "  SF * m_part * (g0 + a_up) = 2 * μ_jaw * N_req",
+            "  SF * m_part * (g0 + a_up) = 4 * μ_jaw * N_req"
+        )]
+    );
+    assert_eq!(app.history().undoable(), 1);
+    assert_eq!(app.history().last_change().expect("kept").before.len(), 1);
+    press_char(&mut app, '<');
+    assert_eq!(app.live().text(), LIFT_SLIDE);
+    assert_eq!(value_of(&app, "N_req"), before);
+}
+
+#[test]
+fn escape_puts_a_block_back_exactly() {
+    let crlf = LIFT_SLIDE.replace('\n', "\r\n");
+    let sheet = crlf.trim_end();
+    let mut app = app_for(sheet);
+    select_block(&mut app, "solve");
+    press(&mut app, KeyCode::Enter);
+    assert!(
+        session(&app).is_multiline(),
+        "Enter on a block edits its lines"
+    );
+    press(&mut app, KeyCode::Down);
+    press(&mut app, KeyCode::End);
+    press(&mut app, KeyCode::Enter);
+    type_text(&mut app, "  N_req = 3 N");
+    press(&mut app, KeyCode::Down);
+    update(&mut app, ctrl('u'));
+    assert_ne!(app.live().text(), sheet);
+    press(&mut app, KeyCode::Esc);
+    assert_eq!(app.live().text(), sheet);
+    assert_eq!(app.history().undoable(), 0);
+    // Kept, then undone, the CRLF breaks and the missing final break are exact.
+    select_block(&mut app, "solve");
+    press_char(&mut app, 'e');
+    press(&mut app, KeyCode::Down);
+    press(&mut app, KeyCode::End);
+    press(&mut app, KeyCode::Enter);
+    type_text(&mut app, "  // checked against the jaw supplier's table");
+    update(&mut app, ctrl('s'));
+    let kept = app.live().text();
+    assert!(kept.contains("N_req\r\n  // checked against the jaw supplier's table\r\nend\r\n"));
+    press_char(&mut app, '<');
+    assert_eq!(app.live().text(), sheet);
+    press_char(&mut app, '>');
+    assert_eq!(app.live().text(), kept);
+}
+
+#[test]
+fn a_block_that_does_not_parse_stays_as_typed_and_is_marked() {
+    let mut app = app_for(LIFT_SLIDE);
+    select_block(&mut app, "solve");
+    press_char(&mut app, 'e');
+    press(&mut app, KeyCode::Down);
+    press(&mut app, KeyCode::End);
+    type_text(&mut app, " +* ");
+    update(&mut app, ctrl('s'));
+    let text = app.live().text();
+    assert!(text.contains("2 * μ_jaw * N_req +* \nend\n"), "{text}");
+    let statement = app.selected_statement().expect("the block");
+    assert!(matches!(app.live().row(statement), Row::Block { .. }));
+    assert_eq!(
+        app.live().statement_severity(statement),
+        Some(heftsheet::diag::Severity::Error)
+    );
+    // A block whose head does not parse is kept whole too, marked as an
+    // invalid row shown by its first line, and x still deletes all of it.
+    let mut app = app_for(GANTRY_CASES);
+    select_block(&mut app, "case estop");
+    press_char(&mut app, 'e');
+    type_text(&mut app, " oops");
+    update(&mut app, ctrl('s'));
+    let text = app.live().text();
+    assert!(text.contains("heaviest part\": oops\n  a_lift = 3.2 m/s^2 ± 0.4 m/s^2\nend\n"));
+    let statement = app.selected_statement().expect("the block");
+    assert!(matches!(app.live().row(statement), Row::Invalid { .. }));
+    assert_eq!(app.live().statement_lines(statement).len(), 3);
+    press_char(&mut app, 'x');
+    press_char(&mut app, '<');
+    press_char(&mut app, '<');
+    assert_eq!(app.live().text(), GANTRY_CASES);
+}
+
+#[test]
+fn a_new_line_that_opens_a_block_grows_into_a_block_editor() {
+    let mut app = app_for(SKID_LIFT);
+    select_cell(&mut app, "W_hoist");
+    press_char(&mut app, 'a');
+    type_text(&mut app, "solve x_b [m] ~ 1:");
+    assert!(session(&app).is_multiline());
+    press(&mut app, KeyCode::Enter);
+    assert_eq!(session(&app).n_shown(), 2, "Enter broke the line");
+    type_text(&mut app, "  2 * x_b = 3 m");
+    press(&mut app, KeyCode::Enter);
+    type_text(&mut app, "end");
+    update(
+        &mut app,
+        Message::Key(KeyEvent::new(KeyCode::Enter, KeyModifiers::ALT)),
+    );
+    assert!(matches!(app.mode(), Mode::Browse));
+    // 2 x = 3 m gives x = 1.5 m.
+    let x = app.live().cell_named("x_b").expect("x_b");
+    assert!((app.live().cell(x).value.expect("solved").si - 1.5).abs() < 1e-9);
+    assert_eq!(app.history().undoable(), 1);
+    assert_eq!(app.history().last_change().expect("kept").after.len(), 3);
+    press_char(&mut app, '<');
+    assert_eq!(app.live().text(), SKID_LIFT);
+}
+
+#[test]
+fn a_new_sheet_gets_a_header_with_t_and_its_title_shows() {
+    let mut app = App::new(
+        Opened {
+            path: "new.heft".into(),
+            text: String::new(),
+            disk: None,
+            recovery: Vec::new(),
+            notices: Vec::new(),
+        },
+        Rect::new(0, 0, 80, 24),
+        Theme::new(false),
+    );
+    // Esc leaves nothing behind; kept untouched, nothing is added either.
+    press_char(&mut app, 'T');
+    assert!(session(&app).is_multiline());
+    press(&mut app, KeyCode::Esc);
+    assert_eq!(app.live().text(), "");
+    press_char(&mut app, 'T');
+    update(&mut app, ctrl('s'));
+    assert_eq!(app.live().text(), "");
+    assert_eq!(
+        app.message(),
+        Some("no header added: nothing was typed into it")
+    );
+    assert_eq!(app.history().undoable(), 0);
+    // The cursor starts in the title's quotes.
+    press_char(&mut app, 'T');
+    type_text(&mut app, "Bench hoist hook");
+    assert_eq!(
+        app.live().header().title.as_deref(),
+        Some("Bench hoist hook"),
+        "applied while typing"
+    );
+    press(&mut app, KeyCode::Down);
+    press(&mut app, KeyCode::Left);
+    type_text(&mut app, "A");
+    press(&mut app, KeyCode::Down);
+    press(&mut app, KeyCode::End);
+    press(&mut app, KeyCode::Left);
+    type_text(&mut app, "J. Ortiz");
+    update(&mut app, ctrl('s'));
+    assert_eq!(
+        app.live().text(),
+        "+++\ntitle = \"Bench hoist hook\"\nrevision = \"A\"\nprepared_by = \"J. Ortiz\"\n+++\n"
+    );
+    let header = app.live().header();
+    assert_eq!(header.revision.as_deref(), Some("A"));
+    assert_eq!(header.prepared_by.as_deref(), Some("J. Ortiz"));
+    // Cells go below it.
+    press_char(&mut app, 'a');
+    type_text(&mut app, "m = 20 kg");
+    press(&mut app, KeyCode::Enter);
+    assert!(app.live().text().ends_with("+++\nm = 20 kg\n"));
+    press_char(&mut app, '<');
+    press_char(&mut app, '<');
+    assert_eq!(app.live().text(), "");
+}
+
+#[test]
+fn t_edits_an_existing_header_whole_and_keeps_the_other_lines() {
+    let mut app = app_for(SKID_LIFT);
+    let header = app.live().document().header_lines().expect("a header");
+    press_char(&mut app, 'T');
+    let editing = session(&app);
+    assert_eq!(editing.first, header.start);
+    assert_eq!(editing.n_shown(), header.len());
+    assert!(editing.input.value().starts_with("title"));
+    // The cursor is in the title's quotes.
+    type_text(&mut app, ", rev B");
+    // A new key after the project line.
+    press(&mut app, KeyCode::Down);
+    press(&mut app, KeyCode::End);
+    press(&mut app, KeyCode::Enter);
+    type_text(&mut app, "checked_by = \"P. Mensah\"");
+    update(&mut app, ctrl('s'));
+    let text = app.live().text();
+    assert_eq!(
+        changed_lines(SKID_LIFT, &text).first().copied(),
+        Some((
+            "title = \"Compressor skid lift, north bay gantry\"",
+            "title = \"Compressor skid lift, north bay gantry, rev B\""
+        ))
+    );
+    assert_eq!(
+        without_lines(&text, 3..4),
+        SKID_LIFT.replace("gantry\"", "gantry, rev B\""),
+        "only the title changed and one line came in"
+    );
+    assert_eq!(text.lines().nth(3), Some("checked_by = \"P. Mensah\""));
+    assert_eq!(app.live().header().checked_by.as_deref(), Some("P. Mensah"));
+    press_char(&mut app, '<');
+    assert_eq!(app.live().text(), SKID_LIFT);
+}
+
+#[test]
+fn a_header_edit_of_sig_figs_shows_at_once_and_a_click_on_the_title_opens_it() {
+    let mut app = app_for(SKID_LIFT);
+    let click = Message::Mouse(MouseEvent {
+        kind: MouseEventKind::Down(MouseButton::Left),
+        column: 10,
+        row: 0,
+        modifiers: KeyModifiers::NONE,
+    });
+    update(&mut app, click);
+    assert!(matches!(
+        session(&app).target,
+        heftsheet::tui::app::EditTarget::Header
+    ));
+    press(&mut app, KeyCode::Esc);
+    assert_eq!(app.sig_figs(), 4, "the header's sig_figs");
+    press_char(&mut app, 'T');
+    while session(&app).cursor_row() < 7 {
+        press(&mut app, KeyCode::Down);
+    }
+    assert_eq!(session(&app).input.value(), "sig_figs = 4");
+    update(&mut app, ctrl('u'));
+    type_text(&mut app, "sig_figs = 6");
+    update(&mut app, ctrl('s'));
+    assert_eq!(app.sig_figs(), 6);
+    press_char(&mut app, '<');
+    assert_eq!(app.sig_figs(), 4);
+    assert_eq!(app.live().text(), SKID_LIFT);
+}
+
+// ----- random key-driven edits over every block kind -----
+
+/// A sheet with a statement of every kind the notebook shows: the header,
+/// headings, notes, cells, a solve block, vectors and a free body, a load
+/// case, a simulate block, a run query and a check (invented figures:
+/// a = (30 N − 0.1 × 12 kg × 9.80665 m/s²) / 12 kg = 1.519 m/s²).
+const EVERY_KIND: &str = "\
++++
+title = \"Trolley on the bench rail\"
+revision = \"A\"
+prepared_by = \"test\"
++++
+// Invented figures: a small trolley pushed along a bench rail.
+# Inputs
+m = 12 kg              \"trolley\"
+F = 30 N               \"push\"
+μ = 0.1                \"rolling resistance\"
+> The push is steady.
+
+solve a [m/s^2] ~ 1:
+  F - μ * m * g0 = m * a
+end
+
+f_push = vec(F, 0 N)                  \"push\"
+f_roll = vec(-μ * m * g0, 0 N)        \"rolling resistance\"
+body trolley: f_push, f_roll          \"trolley on the rail\"
+
+case heavy \"a heavier trolley\":
+  m = 20 kg
+end
+
+simulate t from 0 s to 2 s:
+  x' = v
+  v' = a
+  x(0) = 0 m
+  v(0) = 0 m/s
+end
+
+x_end [m] = x at end                  \"travel in two seconds\"
+check a >= 0.5 m/s^2 \"it starts briskly\"
+";
+
+/// The sheet, with CRLF breaks and no final break, or without its header.
+fn every_kind_variant(variant: usize) -> String {
+    match variant % 3 {
+        0 => EVERY_KIND.to_string(),
+        1 => EVERY_KIND.replace('\n', "\r\n").trim_end().to_string(),
+        _ => EVERY_KIND
+            .split_once("+++\n// Invented")
+            .map(|(_, body)| format!("// Invented{body}"))
+            .expect("the header's end"),
+    }
+}
+
+/// A key in the editor.
+#[derive(Clone, Debug)]
+enum EditorKey {
+    Type(&'static str),
+    Enter,
+    Backspace,
+    Delete,
+    Up,
+    Down,
+    Left,
+    Right,
+    Home,
+    End,
+    ClearLine,
+}
+
+/// One thing done with the notebook's keys.
+#[derive(Clone, Debug)]
+enum BlockOp {
+    Delete {
+        row: usize,
+    },
+    Undo,
+    Redo,
+    Add {
+        row: usize,
+        kind: char,
+        text: &'static str,
+    },
+    Edit {
+        row: usize,
+        keys: Vec<EditorKey>,
+        keep: bool,
+    },
+    Header {
+        keys: Vec<EditorKey>,
+        keep: bool,
+    },
+}
+
+const CHUNKS: &[&str] = &[
+    "x",
+    " = 2 m",
+    "end",
+    "solve q [m] ~ 1:",
+    "  2 * q = 3 m",
+    "case light:",
+    "  m = 8 kg",
+    "+++",
+    "title = \"T\"",
+    "(",
+    "μ",
+];
+
+fn editor_key() -> impl Strategy<Value = EditorKey> + Clone {
+    prop_oneof![
+        3 => proptest::sample::select(CHUNKS).prop_map(EditorKey::Type),
+        2 => Just(EditorKey::Enter),
+        1 => Just(EditorKey::Backspace),
+        1 => Just(EditorKey::Delete),
+        1 => Just(EditorKey::Up),
+        1 => Just(EditorKey::Down),
+        1 => Just(EditorKey::Left),
+        1 => Just(EditorKey::Right),
+        1 => Just(EditorKey::Home),
+        1 => Just(EditorKey::End),
+        1 => Just(EditorKey::ClearLine),
+    ]
+}
+
+fn block_op() -> impl Strategy<Value = BlockOp> {
+    let keys = proptest::collection::vec(editor_key(), 0..5);
+    prop_oneof![
+        2 => any::<usize>().prop_map(|row| BlockOp::Delete { row }),
+        2 => Just(BlockOp::Undo),
+        1 => Just(BlockOp::Redo),
+        2 => (
+            any::<usize>(),
+            proptest::sample::select(&['a', 'h', 't', 'c'][..]),
+            proptest::sample::select(CHUNKS)
+        )
+            .prop_map(|(row, kind, text)| BlockOp::Add { row, kind, text }),
+        // Kept more often than put back, so that edits pile up for undo.
+        4 => (any::<usize>(), keys.clone(), proptest::bool::weighted(0.75))
+            .prop_map(|(row, keys, keep)| BlockOp::Edit { row, keys, keep }),
+        1 => (keys, proptest::bool::weighted(0.75))
+            .prop_map(|(keys, keep)| BlockOp::Header { keys, keep }),
+    ]
+}
+
+fn press_editor_key(app: &mut App, key: &EditorKey) {
+    match key {
+        EditorKey::Type(text) => {
+            type_text(app, text);
+        }
+        EditorKey::Enter => {
+            press(app, KeyCode::Enter);
+        }
+        EditorKey::Backspace => {
+            press(app, KeyCode::Backspace);
+        }
+        EditorKey::Delete => {
+            press(app, KeyCode::Delete);
+        }
+        EditorKey::Up => {
+            press(app, KeyCode::Up);
+        }
+        EditorKey::Down => {
+            press(app, KeyCode::Down);
+        }
+        EditorKey::Left => {
+            press(app, KeyCode::Left);
+        }
+        EditorKey::Right => {
+            press(app, KeyCode::Right);
+        }
+        EditorKey::Home => {
+            press(app, KeyCode::Home);
+        }
+        EditorKey::End => {
+            press(app, KeyCode::End);
+        }
+        EditorKey::ClearLine => {
+            update(app, ctrl('u'));
+        }
+    }
+}
+
+/// A text's lines as (text, break); the last break is "" in a file
+/// without a final one.
+fn split_lines(text: &str) -> Vec<(&str, &str)> {
+    text.split_inclusive('\n')
+        .map(|line| {
+            let body = line
+                .strip_suffix('\n')
+                .map_or(line, |l| l.strip_suffix('\r').unwrap_or(l));
+            (body, &line[body.len()..])
+        })
+        .collect()
+}
+
+/// Checks that `after` is `before` with at most the lines `range` of
+/// `before` replaced: every other line byte for byte, except that the line
+/// which becomes or stops being the last of a file without a final break
+/// gains or loses that break.
+fn only_lines_changed(
+    before: &str,
+    after: &str,
+    range: std::ops::Range<usize>,
+) -> Result<(), TestCaseError> {
+    let (old, new) = (split_lines(before), split_lines(after));
+    let n_suffix = old.len() - range.end;
+    prop_assert!(new.len() >= range.start + n_suffix, "lines were lost");
+    for index in 0..range.start {
+        let last = index + 1 == old.len() || index + 1 == new.len();
+        prop_assert_eq!(old[index].0, new[index].0, "line {} changed", index + 1);
+        prop_assert!(
+            last || old[index].1 == new[index].1,
+            "line {}'s break",
+            index + 1
+        );
+    }
+    for offset in 0..n_suffix {
+        let (was, is) = (old[range.end + offset], new[new.len() - n_suffix + offset]);
+        prop_assert_eq!(was, is, "line {} changed", range.end + offset + 1);
+    }
+    Ok(())
+}
+
+/// A row as the notebook shows it, in words.
+fn row_words(row: Row<'_>) -> String {
+    match row {
+        Row::Heading { level, text } => format!("heading {level} {text}"),
+        Row::Note { text } => format!("note {text}"),
+        Row::Cell(cell) => format!("cell {} = {}", cell.name, cell.formula),
+        Row::Check(index, check) => format!("check {index} {:?}", check.status),
+        Row::Block { head } => format!("block {head}"),
+        Row::Review { text } => format!("review {text}"),
+        Row::Invalid { text } => format!("invalid {text}"),
+    }
+}
+
+/// Checks that the live sheet is what its text reads as afresh: the same
+/// statements on the same lines, rows of the same kind, header and findings.
+fn reparses_to_the_rows_shown(app: &App) -> Result<(), TestCaseError> {
+    let live = app.live();
+    let text = live.text();
+    let fresh = heftsheet::eval::LiveSheet::open(&text);
+    prop_assert_eq!(
+        live.n_statements(),
+        fresh.n_statements(),
+        "statements of\n{}",
+        text
+    );
+    let mut rows = live.rows().to_vec();
+    rows.sort_unstable();
+    prop_assert_eq!(rows, (0..live.n_statements() as u32).collect::<Vec<_>>());
+    for statement in 0..live.n_statements() {
+        prop_assert_eq!(
+            live.statement_text(statement),
+            fresh.statement_text(statement)
+        );
+        prop_assert_eq!(
+            live.statement_lines(statement),
+            fresh.statement_lines(statement)
+        );
+        prop_assert_eq!(
+            row_words(live.row(statement)),
+            row_words(fresh.row(statement))
+        );
+    }
+    prop_assert_eq!(live.header(), fresh.header());
+    let places = |sheet: &heftsheet::eval::LiveSheet| {
+        let mut found: Vec<_> = sheet
+            .findings()
+            .into_iter()
+            .map(|f| (f.line, f.column, f.code, f.message))
+            .collect();
+        found.sort();
+        found
+    };
+    prop_assert_eq!(places(live), places(&fresh), "findings of\n{}", text);
+    prop_assert!(live.rows().is_empty() || app.selected() < live.rows().len());
+    Ok(())
+}
+
+/// Does `op`; returns the lines of the text before it that it may change
+/// (`None`: any, as for a redo).
+fn do_block_op(app: &mut App, op: &BlockOp) -> Option<std::ops::Range<usize>> {
+    let selected_lines = |app: &App| {
+        app.selected_statement()
+            .map(|statement| app.live().statement_lines(statement))
+    };
+    let finish = |app: &mut App, keep: bool| {
+        if matches!(app.mode(), Mode::Editing(_)) {
+            if keep {
+                update(app, ctrl('s'));
+            } else {
+                press(app, KeyCode::Esc);
+            }
+        }
+    };
+    match op {
+        BlockOp::Delete { row } => {
+            go_to_row(app, *row);
+            let lines = selected_lines(app);
+            press_char(app, 'x');
+            Some(lines.unwrap_or(0..0))
+        }
+        BlockOp::Undo => {
+            let change = app.history().last_change().cloned();
+            press_char(app, '<');
+            Some(change.map_or(0..0, |c| c.first..c.first + c.after.len()))
+        }
+        BlockOp::Redo => {
+            press_char(app, '>');
+            None
+        }
+        BlockOp::Add { row, kind, text } => {
+            go_to_row(app, *row);
+            let at = selected_lines(app)
+                .map_or(app.live().document().n_lines(), |lines| lines.end)
+                .max(app.live().document().editable_from());
+            press_char(app, *kind);
+            type_text(app, text);
+            // A block head typed here breaks the line on Enter: Ctrl+S keeps.
+            press(app, KeyCode::Enter);
+            finish(app, true);
+            Some(at..at)
+        }
+        BlockOp::Edit { row, keys, keep } => {
+            go_to_row(app, *row);
+            let lines = selected_lines(app);
+            press_char(app, 'e');
+            for key in keys {
+                // Enter keeps a one-line edit; the keys after it are not typed.
+                if !matches!(app.mode(), Mode::Editing(_)) {
+                    break;
+                }
+                press_editor_key(app, key);
+            }
+            finish(app, *keep);
+            Some(lines.unwrap_or(0..0))
+        }
+        BlockOp::Header { keys, keep } => {
+            let lines = app.live().document().header_lines().unwrap_or(0..0);
+            press_char(app, 'T');
+            for key in keys {
+                press_editor_key(app, key);
+            }
+            finish(app, *keep);
+            Some(lines)
+        }
+    }
+}
+
+#[test]
+fn the_untouched_lines_check_catches_a_change_outside_the_edit() {
+    let before = "a\nb\nc";
+    assert!(only_lines_changed(before, "a\nB\nc", 1..2).is_ok());
+    assert!(
+        only_lines_changed(before, "a\nb", 2..3).is_ok(),
+        "b may lose its break"
+    );
+    assert!(only_lines_changed(before, "a\nb\nX\nc", 2..2).is_ok());
+    assert!(only_lines_changed(before, "A\nB\nc", 1..2).is_err());
+    assert!(only_lines_changed(before, "a\nB\nC", 1..2).is_err());
+    assert!(only_lines_changed(before, "a\r\nB\nc", 1..2).is_err());
+    assert!(only_lines_changed(before, "a\nB\nc\n", 1..2).is_err());
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(64))]
+
+    #[test]
+    fn random_key_edits_of_blocks_and_the_header_keep_every_other_line_and_undo_exactly(
+        variant in 0..3usize,
+        ops in proptest::collection::vec(block_op(), 1..7),
+    ) {
+        let original = every_kind_variant(variant);
+        let mut app = app_for(&original);
+        reparses_to_the_rows_shown(&app)?;
+        for op in &ops {
+            let before = app.live().text();
+            let lines = do_block_op(&mut app, op);
+            prop_assert!(matches!(app.mode(), Mode::Browse), "{:?} left the editor open", op);
+            let after = app.live().text();
+            if let Some(lines) = lines {
+                only_lines_changed(&before, &after, lines)?;
+            }
+            reparses_to_the_rows_shown(&app)?;
+        }
+        let last = app.live().text();
+        let n_changes = app.history().undoable();
+        for _ in 0..n_changes {
+            press_char(&mut app, '<');
+        }
+        prop_assert_eq!(app.live().text(), original.clone(), "undo all the way");
+        prop_assert!(!app.is_dirty());
+        reparses_to_the_rows_shown(&app)?;
+        for _ in 0..n_changes {
+            press_char(&mut app, '>');
+        }
+        prop_assert_eq!(app.live().text(), last, "redo all the way");
     }
 }

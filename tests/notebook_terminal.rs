@@ -337,3 +337,63 @@ fn two_notebooks_on_one_sheet_are_told_of_each_other_and_lose_nothing() {
         "the first notebook's save"
     );
 }
+
+const DOWN: &str = "\u{1b}[B";
+const HOME: &str = "\u{1b}[H";
+const RIGHT: &str = "\u{1b}[C";
+const DELETE: &str = "\u{1b}[3~";
+const KEEP: &str = "\u{13}";
+
+#[test]
+fn edit_a_solve_block_in_its_editor_keep_it_with_ctrl_s_and_save_one_line() {
+    let directory = tempfile::tempdir().expect("a temporary directory");
+    let file = directory.path().join("clamp.heft");
+    let original = include_str!("../sheets/lift_slide_clamp.heft");
+    std::fs::write(&file, original).expect("the demo sheet is copied");
+
+    let mut heft = Session::start(&file);
+    heft.wait_for("Jaw clamp force");
+    // The solve block gives N_req = SF m (g0 + a) / (2 μ)
+    // = 2 × 11.7934 kg × 13.00665 m/s² / 0.5 = 613.6 N (26 lbm = 11.7934 kg,
+    // the 1959 pound; closed form).
+    heft.send("f");
+    heft.send("N_req");
+    heft.send(ENTER);
+    heft.wait_for("613.6 N");
+    heft.send("e");
+    heft.wait_for("block · lines 28–30");
+    heft.wait_for("Ctrl+S keep");
+    // To the equation; four friction faces instead of two.
+    heft.send(DOWN);
+    heft.send(HOME);
+    for _ in 0.."  SF * m_part * (g0 + a_up) = ".len() {
+        heft.send(RIGHT);
+    }
+    heft.send(DELETE);
+    heft.send("4");
+    heft.send(KEEP);
+    // Half the force: 306.8 N.
+    heft.wait_for("306.8 N");
+    heft.send("s");
+    heft.wait_for("saved clamp.heft");
+    heft.send("q");
+    assert!(heft.wait_exit(), "heft exits cleanly");
+
+    let saved = std::fs::read_to_string(&file).expect("the saved sheet");
+    let changed: Vec<(usize, &str, &str)> = original
+        .lines()
+        .zip(saved.lines())
+        .enumerate()
+        .filter(|(_, (before, after))| before != after)
+        .map(|(line, (before, after))| (line + 1, before, after))
+        .collect();
+    assert_eq!(
+        changed,
+        vec![(
+            29,
+            "  SF * m_part * (g0 + a_up) = 2 * μ_jaw * N_req",
+            "  SF * m_part * (g0 + a_up) = 4 * μ_jaw * N_req"
+        )]
+    );
+    assert_eq!(saved.len(), original.len());
+}

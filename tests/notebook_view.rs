@@ -310,3 +310,36 @@ fn the_detail_shows_ranges_load_cases_and_verdicts() {
         "{screen}"
     );
 }
+
+#[test]
+fn a_block_and_a_new_header_in_the_editor_of_several_lines_at_80_by_24() {
+    let mut block = app(
+        include_str!("../sheets/lift_slide_clamp.heft"),
+        80,
+        24,
+        false,
+    );
+    find(&mut block, "N_req");
+    keys(
+        &mut block,
+        &[KeyCode::Char('e'), KeyCode::Down, KeyCode::End],
+    );
+    typed(&mut block, " +*");
+    // The lines with their numbers, the keys on the lower border, the
+    // cursor's place and the error of the line typed on the bottom line.
+    insta::assert_snapshot!("block_editor_80x24", draw(&block).backend());
+    let mut header = app("", 80, 24, false);
+    keys(&mut header, &[KeyCode::Char('T')]);
+    typed(&mut header, "Bench hoist hook");
+    insta::assert_snapshot!("new_header_editor_80x24", draw(&header).backend());
+    let mut terminal = draw(&header);
+    // The cursor is in the title's quotes: "title = \"" is 9 columns, after
+    // the line number's gutter and the border.
+    terminal.show_cursor().expect("cursor");
+    let position = terminal.get_cursor_position().expect("cursor");
+    assert_eq!(position.y, header.areas().detail.y + 2);
+    assert_eq!(
+        position.x,
+        header.areas().detail.x + 1 + 2 + 9 + "Bench hoist hook".len() as u16
+    );
+}

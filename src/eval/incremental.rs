@@ -25,7 +25,7 @@ use crate::syntax::ast::{
 use crate::syntax::{self, LineIndex, Span};
 use crate::units::{self, DisplaySystem, DisplayUnit, Value, pick_unit};
 
-pub use crate::sheet::edit::{CellField, EditError, FieldEditor};
+pub use crate::sheet::edit::{CellField, EditError, FieldEditor, LineEnding, Splice, WrittenLine};
 
 /// One finding, placed by line and column of the file as it is now.
 #[derive(Clone, Debug, PartialEq)]
@@ -655,12 +655,13 @@ impl LiveSheet {
         let arena = self.document.arena();
         let (line, column) = match statement {
             Some(index) => {
+                // A block's lines are contiguous in the arena (blocks are
+                // always read whole), so its line breaks count its lines.
                 let start = self.sheet.statements[index].span.start();
-                let column = Span::new(start, diagnostic.span.start().max(start))
-                    .text(arena)
-                    .chars()
-                    .count();
-                (self.statement_line(index) + 1, column + 1)
+                let before = Span::new(start, diagnostic.span.start().max(start)).text(arena);
+                let lines_before = before.matches('\n').count();
+                let column = before.rsplit('\n').next().unwrap_or(before).chars().count();
+                (self.statement_line(index) + 1 + lines_before, column + 1)
             }
             None => {
                 let place = self
@@ -717,35 +718,80 @@ impl LiveSheet {
         self.replace_line(self.statement_line(statement), &line_text)
     }
 
-    /// Replaces the text of 0-based `line`.
+    /// Replaces the text of 0-based `line` (a body line).
     pub fn replace_line(&mut self, line: usize, text: &str) -> Result<(), EditError> {
-        self.document.check_edit(line, Some(text))?;
-        let old_statement = self.document.statement_at_line(line);
-        let span = self.document.append(text);
-        let (was, is) = self.document.set_line(line, span);
+        self.document.check_body_lines(line, 1)?;
+        let splice = self.document.plan(line, 1, &[text])?;
+        self.apply(&splice)
+    }
+
+    /// Inserts `text` as a new line before 0-based `at` (at the end when
+    /// `at` is the number of lines).
+    pub fn insert_line(&mut self, at: usize, text: &str) -> Result<(), EditError> {
+        self.document.check_body_lines(at, 0)?;
+        let splice = self.document.plan(at, 0, &[text])?;
+        self.apply(&splice)
+    }
+
+    /// Removes 0-based `line` (a body line).
+    pub fn remove_line(&mut self, line: usize) -> Result<(), EditError> {
+        self.document.check_body_lines(line, 1)?;
+        let splice = self.document.plan(line, 1, &[])?;
+        self.apply(&splice)
+    }
+
+    /// Applies `splice` (made with [`Document::plan`], or the inverse of
+    /// one applied before): any lines, a block's or the header's included.
+    /// A change of one statement line among one-line statements is
+    /// evaluated incrementally; a change that touches the header, a
+    /// block's first or `end` line, or a sheet with blocks reads the whole
+    /// text again.
+    pub fn apply(&mut self, splice: &Splice) -> Result<(), EditError> {
+        if splice.is_empty() {
+            return Ok(());
+        }
+        let first = splice.first;
+        let touches_header = first < self.document.body_start() || self.document.header_unclosed();
+        let n_removed = splice
+            .before
+            .iter()
+            .enumerate()
+            .filter(|(offset, line)| self.document.is_statement(first + offset, &line.text))
+            .count();
+        let index = self.document.statements_before(first);
+        self.document.apply(splice)?;
         self.begin_edit();
-        if self.needs_reopen() || syntax::is_block_line(text) {
+        let regroups = splice.before.iter().chain(&splice.after).any(|line| {
+            syntax::is_block_line(&line.text) || syntax::is_header_delimiter(&line.text)
+        });
+        if touches_header || regroups || self.needs_reopen() {
             self.reopen();
             return Ok(());
         }
-        match (was, is, old_statement) {
-            (true, true, Some(index)) => {
-                let (kind, diagnostic) = syntax::parse_line(text, span.start());
-                self.replace_statement(index, Statement { span, kind }, diagnostic);
+        let mut added = Vec::new();
+        for (offset, line) in splice.after.iter().enumerate() {
+            if !self.document.is_statement(first + offset, &line.text) {
+                continue;
             }
-            (false, false, _) => {}
-            (true, false, Some(index)) => {
-                let mut statements = std::mem::take(&mut self.sheet.statements);
-                statements.remove(index);
-                self.parse_diagnostics.remove(index);
-                self.relink(statements);
+            let Some(span) = self.document.line_span(first + offset) else {
+                continue;
+            };
+            let (kind, diagnostic) = syntax::parse_line(&line.text, span.start());
+            added.push((Statement { span, kind }, diagnostic));
+        }
+        match (n_removed, added.len()) {
+            (0, 0) => {}
+            (1, 1) if splice.before.len() == 1 && splice.after.len() == 1 => {
+                if let Some((statement, diagnostic)) = added.pop() {
+                    self.replace_statement(index, statement, diagnostic);
+                }
             }
             _ => {
-                let index = self.document.statements_before(line);
-                let (kind, diagnostic) = syntax::parse_line(text, span.start());
                 let mut statements = std::mem::take(&mut self.sheet.statements);
-                statements.insert(index, Statement { span, kind });
-                self.parse_diagnostics.insert(index, diagnostic);
+                let (new_statements, new_diagnostics): (Vec<_>, Vec<_>) = added.into_iter().unzip();
+                statements.splice(index..index + n_removed, new_statements);
+                self.parse_diagnostics
+                    .splice(index..index + n_removed, new_diagnostics);
                 self.relink(statements);
             }
         }
@@ -753,41 +799,12 @@ impl LiveSheet {
         Ok(())
     }
 
-    /// Inserts `text` as a new line before 0-based `at` (at the end when
-    /// `at` is the number of lines).
-    pub fn insert_line(&mut self, at: usize, text: &str) -> Result<(), EditError> {
-        self.document.check_insert(at, text)?;
-        let span = self.document.append(text);
-        let is = self.document.insert_line(at, span);
-        self.begin_edit();
-        if self.needs_reopen() || syntax::is_block_line(text) {
-            self.reopen();
-        } else if is {
-            let index = self.document.statements_before(at);
-            let (kind, diagnostic) = syntax::parse_line(text, span.start());
-            let mut statements = std::mem::take(&mut self.sheet.statements);
-            statements.insert(index, Statement { span, kind });
-            self.parse_diagnostics.insert(index, diagnostic);
-            self.relink(statements);
-        }
-        Ok(())
-    }
-
-    /// Removes 0-based `line`.
-    pub fn remove_line(&mut self, line: usize) -> Result<(), EditError> {
-        self.document.check_edit(line, None)?;
-        let old_statement = self.document.statement_at_line(line);
-        let was = self.document.remove_line(line);
-        self.begin_edit();
-        if self.needs_reopen() {
-            self.reopen();
-        } else if let (true, Some(index)) = (was, old_statement) {
-            let mut statements = std::mem::take(&mut self.sheet.statements);
-            statements.remove(index);
-            self.parse_diagnostics.remove(index);
-            self.relink(statements);
-        }
-        Ok(())
+    /// The 0-based lines of statement `index`: one line, or a block's
+    /// lines from its first to its `end` (blank and comment lines between
+    /// included).
+    pub fn statement_lines(&self, index: usize) -> std::ops::Range<usize> {
+        let first = self.statement_line(index);
+        first..first + self.statement_text(index).matches('\n').count() + 1
     }
 
     /// Rebuilds the arena from the text (every span is then fresh). The

@@ -20,7 +20,9 @@ mod vectors;
 mod verdict;
 
 pub use explain::{format_result, format_value};
-pub use incremental::{CellField, EditError, FieldEditor, Finding, LiveSheet, Row};
+pub use incremental::{
+    CellField, EditError, FieldEditor, Finding, LineEnding, LiveSheet, Row, Splice, WrittenLine,
+};
 pub use model::{
     CaseCheck, CaseOutcome, CaseValue, CellRange, CellResult, CellStatus, CheckRange, CheckResult,
     CheckStatus, EquationReport, Evaluated, FreeBody, OutlineItem, Place, RangeMethod, Sensitivity,

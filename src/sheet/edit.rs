@@ -1,24 +1,27 @@
-//! Editing a sheet's text one line at a time, for the notebook.
+//! Editing a sheet's text by lines, for the notebook.
 //!
 //! The text is the document: every line the user did not touch is kept byte
-//! for byte (comments, spacing, order, line endings), and an edit replaces,
-//! inserts or removes one line. Spans in the syntax tree are byte offsets
-//! into one text, so that an edit never has to shift the spans of the lines
-//! after it, the [`Document`] keeps an append-only *arena*: the text as
+//! for byte (comments, spacing, order, line endings), and an edit is a
+//! [`Splice`]: some consecutive lines as they were, and the lines put in
+//! their place (one line for a cell, all of a block's lines, or the `+++`
+//! header). A splice keeps both sides with their line breaks, so undoing it
+//! gives the text back byte for byte. Spans in the syntax tree are byte
+//! offsets into one text, so that an edit never has to shift the spans of the
+//! lines after it, the [`Document`] keeps an append-only *arena*: the text as
 //! opened, followed by the text of every line written since. A line is a
 //! span into the arena; the file's text is the lines joined in order.
 //!
 //! Hand-written rather than a rope crate: heft needs stable offsets for its
-//! syntax tree, not fast edits inside long lines (a line is one statement).
+//! syntax tree, not fast edits inside long lines (a line is short).
+
+use std::ops::Range;
 
 use crate::syntax::ast::{CellDef, Statement};
 use crate::syntax::{self, HeaderBlock, MAX_SOURCE_LEN, Span};
 
-/// How a line ends in the file.
+/// The line break after a line.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub enum LineEnding {
-    /// The last line of a file without a final line break.
-    None,
     /// `\n`
     Lf,
     /// `\r\n`
@@ -29,7 +32,6 @@ impl LineEnding {
     /// The bytes of the line break.
     pub fn as_str(self) -> &'static str {
         match self {
-            LineEnding::None => "",
             LineEnding::Lf => "\n",
             LineEnding::CrLf => "\r\n",
         }
@@ -43,6 +45,70 @@ struct DocumentLine {
     ending: LineEnding,
 }
 
+/// A line as written: its text and the break after it. The last line of a
+/// file without a final break still has one here (the file's usual break),
+/// so that lines keep their break wherever an edit moves them; the file's
+/// text leaves it off (see [`Document::text`]).
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct WrittenLine {
+    /// The text, without its break.
+    pub text: String,
+    /// The break after it.
+    pub ending: LineEnding,
+}
+
+/// One edit of the document: the lines `first..first + before.len()` as
+/// they were, and the lines that take their place. Applying
+/// [`Splice::inverse`] afterwards gives the text back byte for byte.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Splice {
+    /// The 0-based line where the change begins.
+    pub first: usize,
+    /// The lines as they were.
+    pub before: Vec<WrittenLine>,
+    /// The lines put in their place.
+    pub after: Vec<WrittenLine>,
+}
+
+impl Splice {
+    /// The splice that undoes this one.
+    pub fn inverse(&self) -> Splice {
+        Splice {
+            first: self.first,
+            before: self.after.clone(),
+            after: self.before.clone(),
+        }
+    }
+
+    /// Whether it changes nothing.
+    pub fn is_empty(&self) -> bool {
+        self.before == self.after
+    }
+
+    /// The same change without the lines it leaves as they were at its
+    /// start and end, so that it names only the lines that change.
+    pub fn trimmed(mut self) -> Splice {
+        let prefix = self
+            .before
+            .iter()
+            .zip(&self.after)
+            .take_while(|(old, new)| old == new)
+            .count();
+        let suffix = self.before[prefix..]
+            .iter()
+            .rev()
+            .zip(self.after[prefix..].iter().rev())
+            .take_while(|(old, new)| old == new)
+            .count();
+        self.before.truncate(self.before.len() - suffix);
+        self.after.truncate(self.after.len() - suffix);
+        self.before.drain(..prefix);
+        self.after.drain(..prefix);
+        self.first += prefix;
+        self
+    }
+}
+
 /// Why an edit was refused. The text stays as it was.
 #[derive(Clone, Debug, PartialEq, Eq)]
 pub enum EditError {
@@ -51,18 +117,24 @@ pub enum EditError {
         /// The 0-based line asked for.
         line: usize,
     },
-    /// The line belongs to the `+++` header block, which the notebook shows
-    /// but does not edit.
+    /// The line belongs to the `+++` header block, which is edited as a
+    /// whole (a splice over its lines), not one line at a time.
     InHeader {
         /// The 0-based line asked for.
         line: usize,
     },
-    /// The new text has a line break in it; an edit is one line.
+    /// The new text has a line break in it; a line is one line.
     LineBreak,
     /// The cell is not a `name = formula` line of its own (a body's
     /// resultant, a block's unknown or state): edit its line instead.
     NotOwnLine {
         /// The 0-based line of its statement.
+        line: usize,
+    },
+    /// A line is not as the edit expects it (the edit was made for
+    /// another state of the text).
+    Stale {
+        /// The 0-based line that differs.
         line: usize,
     },
     /// The document would grow past what a span can address.
@@ -75,13 +147,18 @@ impl std::fmt::Display for EditError {
             EditError::NoSuchLine { line } => write!(f, "there is no line {}", line + 1),
             EditError::InHeader { line } => write!(
                 f,
-                "line {} is part of the +++ header, which is edited in a text editor",
+                "line {} is part of the +++ header, which is edited as a whole",
                 line + 1
             ),
-            EditError::LineBreak => f.write_str("a statement is one line; remove the line break"),
+            EditError::LineBreak => f.write_str("a line cannot hold a line break"),
             EditError::NotOwnLine { line } => write!(
                 f,
                 "this cell is defined inside the statement on line {}; edit that line",
+                line + 1
+            ),
+            EditError::Stale { line } => write!(
+                f,
+                "line {} is not as this edit expects; nothing was changed",
                 line + 1
             ),
             EditError::TooLarge => f.write_str("the sheet would grow past 4 GiB"),
@@ -96,12 +173,17 @@ impl std::error::Error for EditError {}
 pub struct Document {
     arena: String,
     lines: Vec<DocumentLine>,
+    /// Whether the last line ends with a break (an empty text counts as
+    /// ending with one, so lines added to it get breaks).
+    final_break: bool,
+    /// The 0-based line of the header's opening `+++`, if there is a header.
+    header_start: Option<usize>,
     /// First line after the header block (0 without a header).
     body_start: usize,
     /// Whether a header was opened but never closed (it then runs to the end).
     header_unclosed: bool,
-    /// First line an edit may touch: the body, or with an unclosed header
-    /// the line after its opening `+++`, so that it can still be closed.
+    /// First line a one-line edit may touch: the body, or with an unclosed
+    /// header the line after its opening `+++`, so that it can still be closed.
     editable_from: usize,
     /// The 0-based line of each statement, ascending.
     statement_lines: Vec<u32>,
@@ -119,31 +201,41 @@ impl Document {
     /// (spans into `text`).
     pub fn open(text: &str, header: Option<HeaderBlock>, statements: &[Statement]) -> Document {
         let mut lines = Vec::new();
+        let mut endings = Vec::new();
         let mut start = 0;
         while start < text.len() {
             let (end, ending, next) = match text[start..].find('\n') {
                 Some(at) if at > 0 && text.as_bytes()[start + at - 1] == b'\r' => {
-                    (start + at - 1, LineEnding::CrLf, start + at + 1)
+                    (start + at - 1, Some(LineEnding::CrLf), start + at + 1)
                 }
-                Some(at) => (start + at, LineEnding::Lf, start + at + 1),
-                None => (text.len(), LineEnding::None, text.len()),
+                Some(at) => (start + at, Some(LineEnding::Lf), start + at + 1),
+                None => (text.len(), None, text.len()),
             };
-            lines.push(DocumentLine {
-                text: Span::new(start, end),
-                ending,
-            });
+            lines.push(Span::new(start, end));
+            endings.push(ending);
             start = next;
         }
-        let newline = lines
+        let newline = endings
             .iter()
-            .map(|line| line.ending)
-            .find(|ending| *ending != LineEnding::None)
+            .flatten()
+            .next()
+            .copied()
             .unwrap_or(LineEnding::Lf);
+        let final_break = text.is_empty() || text.ends_with('\n');
+        let lines: Vec<DocumentLine> = lines
+            .into_iter()
+            .zip(endings)
+            .map(|(text, ending)| DocumentLine {
+                text,
+                ending: ending.unwrap_or(newline),
+            })
+            .collect();
         let line_of = |offset: usize| {
             lines
                 .partition_point(|line| line.text.start() <= offset)
                 .saturating_sub(1)
         };
+        let header_start = header.map(|block| line_of(block.span.start()));
         let (body_start, header_unclosed, editable_from) = match header {
             None => (0, false, 0),
             // An unclosed header runs to the end of the text.
@@ -165,6 +257,8 @@ impl Document {
         Document {
             arena: text.to_string(),
             lines,
+            final_break,
+            header_start,
             body_start,
             header_unclosed,
             editable_from,
@@ -180,12 +274,18 @@ impl Document {
         &self.arena
     }
 
-    /// The file's text: every line and its break, in order.
+    /// The file's text: every line and its break, in order (the last
+    /// line's break left off if the file had none).
     pub fn text(&self) -> String {
         let mut text = String::with_capacity(self.arena.len() - self.unused_bytes);
         for line in &self.lines {
             text.push_str(line.text.text(&self.arena));
             text.push_str(line.ending.as_str());
+        }
+        if !self.final_break
+            && let Some(last) = self.lines.last()
+        {
+            text.truncate(text.len() - last.ending.as_str().len());
         }
         text
     }
@@ -200,12 +300,36 @@ impl Document {
         self.lines.get(line).map(|l| l.text.text(&self.arena))
     }
 
+    /// Where the text of 0-based `line` is in the arena.
+    pub fn line_span(&self, line: usize) -> Option<Span> {
+        self.lines.get(line).map(|l| l.text)
+    }
+
+    /// The lines in `range`, as written.
+    pub fn written_lines(&self, range: Range<usize>) -> Vec<WrittenLine> {
+        self.lines
+            .get(range)
+            .unwrap_or_default()
+            .iter()
+            .map(|line| WrittenLine {
+                text: line.text.text(&self.arena).to_string(),
+                ending: line.ending,
+            })
+            .collect()
+    }
+
     /// The first line after the header block.
     pub fn body_start(&self) -> usize {
         self.body_start
     }
 
-    /// The first line an edit may touch (see [`EditError::InHeader`]).
+    /// The lines of the `+++` header block, from its opening `+++` (to the
+    /// end of the text if it is never closed); `None` without a header.
+    pub fn header_lines(&self) -> Option<Range<usize>> {
+        self.header_start.map(|start| start..self.body_start)
+    }
+
+    /// The first line a one-line edit may touch (see [`EditError::InHeader`]).
     pub fn editable_from(&self) -> usize {
         self.editable_from
     }
@@ -244,42 +368,132 @@ impl Document {
         self.unused_bytes
     }
 
-    /// Checks that `line` may be replaced or removed and `text` is one line.
-    pub fn check_edit(&self, line: usize, text: Option<&str>) -> Result<(), EditError> {
-        if line >= self.lines.len() {
-            return Err(EditError::NoSuchLine { line });
+    /// Checks that `n` lines from 0-based `line` exist and lie where a
+    /// one-line edit may touch them (after the header).
+    pub fn check_body_lines(&self, line: usize, n: usize) -> Result<(), EditError> {
+        if line + n > self.lines.len() {
+            return Err(EditError::NoSuchLine {
+                line: (line + n).saturating_sub(1),
+            });
         }
         if line < self.editable_from {
             return Err(EditError::InHeader { line });
         }
-        self.check_text(text)
+        Ok(())
     }
 
-    /// Checks that a line may be inserted before 0-based `at`.
-    pub fn check_insert(&self, at: usize, text: &str) -> Result<(), EditError> {
-        if at > self.lines.len() {
-            return Err(EditError::NoSuchLine { line: at });
+    /// The splice that puts `texts` in place of the `n_old` lines from
+    /// 0-based `first` (`n_old` = 0 inserts before `first`), trimmed to the
+    /// lines that change. Lines the texts leave as they were at the start
+    /// and end keep their breaks; the others take the break of the line
+    /// they replace, or the file's usual one.
+    pub fn plan(&self, first: usize, n_old: usize, texts: &[&str]) -> Result<Splice, EditError> {
+        if first + n_old > self.lines.len() {
+            return Err(EditError::NoSuchLine {
+                line: (first + n_old).saturating_sub(1).max(first),
+            });
         }
-        if at < self.editable_from {
-            return Err(EditError::InHeader { line: at });
-        }
-        self.check_text(Some(text))
-    }
-
-    fn check_text(&self, text: Option<&str>) -> Result<(), EditError> {
-        let text = text.unwrap_or("");
-        if text.contains(['\n', '\r']) {
+        if texts.iter().any(|text| text.contains(['\n', '\r'])) {
             return Err(EditError::LineBreak);
         }
-        if self.arena.len() + text.len() + 1 >= MAX_SOURCE_LEN {
+        let before = self.written_lines(first..first + n_old);
+        let prefix = before
+            .iter()
+            .zip(texts)
+            .take_while(|(old, new)| old.text == **new)
+            .count();
+        let suffix = before[prefix..]
+            .iter()
+            .rev()
+            .zip(texts[prefix..].iter().rev())
+            .take_while(|(old, new)| old.text == **new)
+            .count();
+        let after = texts
+            .iter()
+            .enumerate()
+            .map(|(index, text)| {
+                let ending = if index < prefix {
+                    before[index].ending
+                } else if index >= texts.len() - suffix {
+                    before[n_old - (texts.len() - index)].ending
+                } else if index < n_old - suffix {
+                    before[index].ending
+                } else {
+                    self.newline
+                };
+                WrittenLine {
+                    text: text.to_string(),
+                    ending,
+                }
+            })
+            .collect();
+        Ok(Splice {
+            first,
+            before,
+            after,
+        }
+        .trimmed())
+    }
+
+    /// Applies `splice` as it stands (its lines and breaks verbatim),
+    /// refusing it unless its `before` lines are the document's.
+    pub fn apply(&mut self, splice: &Splice) -> Result<(), EditError> {
+        let first = splice.first;
+        let end = first + splice.before.len();
+        if first > self.lines.len() || end > self.lines.len() {
+            return Err(EditError::NoSuchLine {
+                line: end.saturating_sub(1).max(first),
+            });
+        }
+        for (offset, old) in splice.before.iter().enumerate() {
+            let line = self.lines[first + offset];
+            if line.text.text(&self.arena) != old.text || line.ending != old.ending {
+                return Err(EditError::Stale {
+                    line: first + offset,
+                });
+            }
+        }
+        if splice
+            .after
+            .iter()
+            .any(|line| line.text.contains(['\n', '\r']))
+        {
+            return Err(EditError::LineBreak);
+        }
+        let added: usize = splice.after.iter().map(|line| line.text.len() + 2).sum();
+        if self.arena.len() + added >= MAX_SOURCE_LEN {
             return Err(EditError::TooLarge);
+        }
+        let same_statements =
+            splice.before.len() == splice.after.len()
+                && splice.before.iter().zip(&splice.after).enumerate().all(
+                    |(offset, (old, new))| {
+                        self.is_statement(first + offset, &old.text)
+                            == self.is_statement(first + offset, &new.text)
+                    },
+                );
+        let new_lines: Vec<DocumentLine> = splice
+            .after
+            .iter()
+            .map(|line| DocumentLine {
+                text: self.append(&line.text),
+                ending: line.ending,
+            })
+            .collect();
+        let removed: usize = self
+            .lines
+            .splice(first..end, new_lines)
+            .map(|line| line.text.end() - line.text.start())
+            .sum();
+        self.unused_bytes += removed;
+        if !same_statements {
+            self.index_statements();
         }
         Ok(())
     }
 
-    /// Writes `text` into the arena and returns its span; a line is then
-    /// pointed at it with [`Document::set_line`] or [`Document::insert_line`].
-    pub fn append(&mut self, text: &str) -> Span {
+    /// Writes `text` into the arena and returns its span.
+    fn append(&mut self, text: &str) -> Span {
         // A line break keeps each appended line a line of its own, so that
         // an arena offset never reads across two statements.
         if !self.arena.is_empty() && !self.arena.ends_with('\n') {
@@ -291,61 +505,6 @@ impl Document {
         self.arena.push('\n');
         self.unused_bytes += 1;
         Span::new(start, start + text.len())
-    }
-
-    /// Points 0-based `line` at `text` (a span from [`Document::append`]).
-    /// Returns whether the line was a statement before and is one now.
-    pub fn set_line(&mut self, line: usize, text: Span) -> (bool, bool) {
-        let old = self.lines[line].text;
-        let was = self.is_statement(line, old.text(&self.arena));
-        let is = self.is_statement(line, text.text(&self.arena));
-        self.unused_bytes += old.end() - old.start();
-        self.lines[line].text = text;
-        if was != is {
-            self.index_statements();
-        }
-        (was, is)
-    }
-
-    /// Inserts a line before 0-based `at` (at the end if `at` is the number
-    /// of lines). Returns whether it is a statement.
-    pub fn insert_line(&mut self, at: usize, text: Span) -> bool {
-        if let Some(last) = self.lines.last_mut()
-            && last.ending == LineEnding::None
-        {
-            // The old last line gains a break; the new line ends the file
-            // without one, as the old one did.
-            last.ending = self.newline;
-            let ending = if at == self.lines.len() {
-                LineEnding::None
-            } else {
-                self.newline
-            };
-            self.lines.insert(at, DocumentLine { text, ending });
-        } else {
-            self.lines.insert(
-                at,
-                DocumentLine {
-                    text,
-                    ending: self.newline,
-                },
-            );
-        }
-        self.index_statements();
-        self.is_statement(at, text.text(&self.arena))
-    }
-
-    /// Removes 0-based `line`; returns whether it was a statement.
-    pub fn remove_line(&mut self, line: usize) -> bool {
-        let removed = self.lines.remove(line);
-        self.unused_bytes += removed.text.end() - removed.text.start();
-        if removed.ending == LineEnding::None
-            && let Some(last) = self.lines.last_mut()
-        {
-            last.ending = LineEnding::None;
-        }
-        self.index_statements();
-        self.is_statement(line, removed.text.text(&self.arena))
     }
 
     /// Recomputes which lines are statements (after lines came or went).
@@ -603,19 +762,59 @@ mod tests {
         );
     }
 
+    fn document(text: &str) -> Document {
+        let parsed = syntax::parse(text);
+        Document::open(text, parsed.header, &parsed.statements)
+    }
+
     #[test]
     fn lines_keep_their_breaks_and_a_missing_final_break() {
         let text = "a = 1\r\nb = 2\n\n// note\nc = 3";
-        let parsed = syntax::parse(text);
-        let mut document = Document::open(text, parsed.header, &parsed.statements);
+        let mut document = document(text);
         assert_eq!(document.text(), text);
         assert_eq!(document.statement_at_line(4), Some(2));
         assert_eq!(document.statement_at_line(3), None);
-        let span = document.append("d = 4");
-        document.insert_line(5, span);
+        let insert = document.plan(5, 0, &["d = 4"]).expect("plan");
+        document.apply(&insert).expect("insert");
+        // The file's first break (CRLF) is its usual one; the file still
+        // ends without a break.
         assert_eq!(document.text(), "a = 1\r\nb = 2\n\n// note\nc = 3\r\nd = 4");
-        document.remove_line(5);
+        document.apply(&insert.inverse()).expect("undo");
         assert_eq!(document.text(), text);
+        // Removing the last line and putting it back is exact too.
+        let remove = document.plan(4, 1, &[]).expect("plan");
+        document.apply(&remove).expect("remove");
+        assert_eq!(document.text(), "a = 1\r\nb = 2\n\n// note");
+        document.apply(&remove.inverse()).expect("undo");
+        assert_eq!(document.text(), text);
+    }
+
+    #[test]
+    fn a_splice_names_only_the_lines_that_change_and_keeps_their_breaks() {
+        let text = "solve x ~ 1:\r\n  x = 2\n  // why\r\nend\n";
+        let mut document = document(text);
+        let splice = document
+            .plan(
+                0,
+                4,
+                &["solve x ~ 1:", "  x = 3", "  x2 = 1", "  // why", "end"],
+            )
+            .expect("plan");
+        assert_eq!(splice.first, 1);
+        assert_eq!(splice.before.len(), 1);
+        assert_eq!(splice.after.len(), 2);
+        document.apply(&splice).expect("apply");
+        assert_eq!(
+            document.text(),
+            "solve x ~ 1:\r\n  x = 3\n  x2 = 1\r\n  // why\r\nend\n"
+        );
+        // Applied twice, the second is refused: its lines are gone.
+        assert_eq!(document.apply(&splice), Err(EditError::Stale { line: 1 }));
+        document.apply(&splice.inverse()).expect("undo");
+        assert_eq!(document.text(), text);
+        assert_eq!(document.plan(0, 1, &["a\nb"]), Err(EditError::LineBreak));
+        assert!(document.plan(3, 2, &[]).is_err());
+        assert!(document.plan(0, 0, &[]).expect("plan").is_empty());
     }
 
     #[test]
@@ -634,19 +833,20 @@ mod tests {
     }
 
     #[test]
-    fn header_lines_are_not_edited() {
-        let text = "+++\ntitle = \"t\"\n+++\nx = 1\n";
-        let parsed = syntax::parse(text);
-        let document = Document::open(text, parsed.header, &parsed.statements);
-        assert_eq!(document.body_start(), 3);
+    fn header_lines_are_not_edited_one_at_a_time_and_are_found_whole() {
+        let text = "// job 12\n+++\ntitle = \"t\"\n+++\nx = 1\n";
+        let document = document(text);
+        assert_eq!(document.body_start(), 4);
+        assert_eq!(document.header_lines(), Some(1..4));
         assert_eq!(
-            document.check_edit(1, Some("y")),
-            Err(EditError::InHeader { line: 1 })
+            document.check_body_lines(2, 1),
+            Err(EditError::InHeader { line: 2 })
         );
+        assert!(document.check_body_lines(4, 1).is_ok());
         assert_eq!(
-            document.check_edit(3, Some("a\nb")),
-            Err(EditError::LineBreak)
+            document.check_body_lines(4, 2),
+            Err(EditError::NoSuchLine { line: 5 })
         );
-        assert!(document.check_edit(3, Some("x = 2")).is_ok());
+        assert_eq!(Document::open("x = 1\n", None, &[]).header_lines(), None);
     }
 }

@@ -378,6 +378,12 @@ fn carriage_returns_only(source: &str) -> Option<Diagnostic> {
     )
 }
 
+/// Whether a line opens a block (`solve`, `case`, `simulate`), whose lines
+/// run to a line `end`.
+pub fn is_block_head(text: &str) -> bool {
+    opens_block(text)
+}
+
 /// Whether a line opens or closes a `+++` header block.
 pub fn is_header_delimiter(text: &str) -> bool {
     text.trim() == "+++"

@@ -3,6 +3,7 @@
 //! (save, keep a recovery copy, quit) that the event loop carries out and
 //! answers with further messages.
 
+use std::collections::VecDeque;
 use std::path::{Path, PathBuf};
 
 use ratatui::crossterm::event::{KeyEvent, KeyModifiers, MouseButton, MouseEvent, MouseEventKind};
@@ -14,8 +15,11 @@ use super::keys::{Action, Scope, action_for};
 use super::layout::{Areas, areas};
 use super::strings as text;
 use super::theme::Theme;
-use crate::eval::{CellField, FieldEditor, Finding, LiveSheet, Row};
+use crate::eval::{
+    CellField, EditError, FieldEditor, Finding, LiveSheet, Row, Splice, WrittenLine,
+};
 use crate::sheet::CellId;
+use crate::syntax;
 use crate::units::DisplaySystem;
 
 /// Something that happened: a key, the mouse, a new terminal size, or the
@@ -174,38 +178,158 @@ impl Question {
     }
 }
 
-/// What a line edit is changing.
+/// What an edit is changing.
 #[derive(Clone, Debug)]
 pub enum EditTarget {
     /// One field of a cell.
     Field(CellId, Box<FieldEditor>),
-    /// The whole line.
+    /// A one-line statement's whole line.
     Line,
-    /// A new line, inserted for this edit.
+    /// New lines, inserted for this edit.
     NewLine,
+    /// A block's lines, from its first line to its `end`.
+    Block,
+    /// The `+++` header block, or a new one.
+    Header,
 }
 
-/// A line being edited. Every keystroke is applied to the sheet at once,
-/// so results update while typing; Esc puts the line back as it was.
+/// An edit in progress over some consecutive lines of the file: one line,
+/// a block's lines, or the header. Every keystroke is applied to the sheet
+/// at once, so results update while typing; Esc puts the lines back as
+/// they were.
 #[derive(Clone, Debug)]
 pub struct EditSession {
     /// What is edited.
     pub target: EditTarget,
-    /// The 0-based line of the file being edited.
-    pub line: usize,
-    /// The line as it was (none for a new line).
-    pub before: Option<String>,
-    /// The text typed so far.
+    /// The first 0-based line of the file the edit covers.
+    pub first: usize,
+    /// The lines as they were when the edit began (none for new lines).
+    pub original: Vec<WrittenLine>,
+    /// How many lines of the file the edit covers now.
+    pub n_lines: usize,
+    /// The lines above the cursor's, in order.
+    pub above: Vec<String>,
+    /// The line with the cursor (for a field, the field's text).
     pub input: Input,
+    /// The lines below the cursor's, in order.
+    pub below: VecDeque<String>,
     /// What the prompt says.
     pub prompt: &'static str,
 }
 
 impl EditSession {
-    fn line_text(&self) -> String {
+    /// The lines as typed so far (for a field, its line with the field put in).
+    pub fn texts(&self) -> Vec<String> {
         match &self.target {
-            EditTarget::Field(_, editor) => editor.line_with(self.input.value()),
-            EditTarget::Line | EditTarget::NewLine => self.input.value().to_string(),
+            EditTarget::Field(_, editor) => vec![editor.line_with(self.input.value())],
+            _ => self.lines().map(str::to_string).collect(),
+        }
+    }
+
+    /// The lines the editor shows, in order.
+    pub fn lines(&self) -> impl Iterator<Item = &str> {
+        self.above
+            .iter()
+            .map(String::as_str)
+            .chain(std::iter::once(self.input.value()))
+            .chain(self.below.iter().map(String::as_str))
+    }
+
+    /// How many lines the editor shows.
+    pub fn n_shown(&self) -> usize {
+        self.above.len() + 1 + self.below.len()
+    }
+
+    /// The 0-based line of the editor the cursor is on.
+    pub fn cursor_row(&self) -> usize {
+        self.above.len()
+    }
+
+    /// Whether this is an editor of several lines, where Enter breaks the
+    /// line rather than keeping the edit: for a block or the header, once
+    /// a line was broken, and for a line typed as a block's first line.
+    pub fn is_multiline(&self) -> bool {
+        match self.target {
+            EditTarget::Block | EditTarget::Header => true,
+            EditTarget::Field(..) => false,
+            EditTarget::Line | EditTarget::NewLine => {
+                self.n_shown() > 1 || syntax::is_block_head(self.input.value())
+            }
+        }
+    }
+
+    fn is_changed(&self) -> bool {
+        let texts = self.texts();
+        texts.len() != self.original.len()
+            || texts
+                .iter()
+                .zip(&self.original)
+                .any(|(typed, line)| *typed != line.text)
+    }
+
+    /// The byte where the cursor is in the cursor's line.
+    fn cursor_byte(&self) -> usize {
+        let value = self.input.value();
+        value
+            .char_indices()
+            .nth(self.input.cursor())
+            .map_or(value.len(), |(at, _)| at)
+    }
+
+    fn at_line_end(&self) -> bool {
+        self.input.cursor() == self.input.value().chars().count()
+    }
+
+    /// Enter in a block: the cursor's line is cut in two at the cursor.
+    fn break_line(&mut self) {
+        let value = self.input.value();
+        let (left, right) = value.split_at(self.cursor_byte());
+        let (left, right) = (left.to_string(), right.to_string());
+        self.above.push(left);
+        self.input = Input::new(right).with_cursor(0);
+    }
+
+    /// The cursor to the line above, keeping its column; on the first line,
+    /// to its start.
+    fn line_up(&mut self) {
+        let column = self.input.cursor();
+        match self.above.pop() {
+            Some(line) => {
+                let current =
+                    std::mem::replace(&mut self.input, Input::new(line).with_cursor(column));
+                self.below.push_front(current.value().to_string());
+            }
+            None => self.input = self.input.clone().with_cursor(0),
+        }
+    }
+
+    /// The cursor to the line below, keeping its column; on the last line,
+    /// to its end.
+    fn line_down(&mut self) {
+        let column = self.input.cursor();
+        match self.below.pop_front() {
+            Some(line) => {
+                let current =
+                    std::mem::replace(&mut self.input, Input::new(line).with_cursor(column));
+                self.above.push(current.value().to_string());
+            }
+            None => self.input = Input::new(self.input.value().to_string()),
+        }
+    }
+
+    /// Backspace at the start of a line: it joins the line above.
+    fn join_above(&mut self) {
+        if let Some(line) = self.above.pop() {
+            let column = line.chars().count();
+            self.input = Input::new(line + self.input.value()).with_cursor(column);
+        }
+    }
+
+    /// Delete at the end of a line: the line below joins it.
+    fn join_below(&mut self) {
+        if let Some(line) = self.below.pop_front() {
+            let column = self.input.cursor();
+            self.input = Input::new(self.input.value().to_string() + &line).with_cursor(column);
         }
     }
 }
@@ -250,38 +374,10 @@ pub enum Mode {
     Ask(Question),
 }
 
-/// One undoable edit of the file, by line.
-#[derive(Clone, Debug, PartialEq, Eq)]
-pub enum Change {
-    /// A line's text changed.
-    Replace {
-        /// 0-based line.
-        line: usize,
-        /// The text before.
-        before: String,
-        /// The text after.
-        after: String,
-    },
-    /// A line was inserted.
-    Insert {
-        /// 0-based line.
-        line: usize,
-        /// Its text.
-        text: String,
-    },
-    /// A line was removed.
-    Remove {
-        /// 0-based line.
-        line: usize,
-        /// Its text.
-        text: String,
-    },
-}
-
 /// Undo and redo, and where the file was last saved.
 #[derive(Clone, Debug, Default)]
 pub struct History {
-    changes: Vec<Change>,
+    changes: Vec<Splice>,
     /// How many changes are applied.
     done: usize,
     /// `done` when the text last matched the file on disk; `None` if never.
@@ -289,7 +385,7 @@ pub struct History {
 }
 
 impl History {
-    fn record(&mut self, change: Change) {
+    fn record(&mut self, change: Splice) {
         self.changes.truncate(self.done);
         if self.saved.is_some_and(|saved| saved > self.done) {
             self.saved = None;
@@ -306,6 +402,13 @@ impl History {
     /// Number of changes that can be redone.
     pub fn redoable(&self) -> usize {
         self.changes.len() - self.done
+    }
+
+    /// The last change made (or redone) and not undone.
+    pub fn last_change(&self) -> Option<&Splice> {
+        self.done
+            .checked_sub(1)
+            .and_then(|index| self.changes.get(index))
     }
 }
 
@@ -429,7 +532,7 @@ impl App {
     /// Whether the text differs from the file on disk.
     pub fn is_dirty(&self) -> bool {
         let typing = match &self.mode {
-            Mode::Editing(session) => session.before.as_deref() != Some(&session.line_text()),
+            Mode::Editing(session) => session.is_changed(),
             _ => false,
         };
         typing || self.history.saved != Some(self.history.done)
@@ -586,36 +689,54 @@ impl App {
         self.select_statement(statement);
     }
 
-    /// The 0-based line a new line goes to: below the selected row.
+    /// The 0-based line a new line goes to: below the selected row (after
+    /// a block's `end`).
     fn insertion_line(&self) -> usize {
         let below = self
             .selected_statement()
             .map_or(self.live.document().n_lines(), |s| {
-                self.live.statement_line(s) + 1
+                self.live.statement_lines(s).end
             });
         below.max(self.live.document().editable_from())
     }
 
+    /// Starts editing the `n_lines` lines of the file from `first`, showing
+    /// `shown` in the editor with the cursor on line `row` at `column`
+    /// (characters; `None`: the line's end).
     fn start_edit(
         &mut self,
         target: EditTarget,
-        line: usize,
-        initial: String,
+        first: usize,
+        n_lines: usize,
+        shown: Vec<String>,
+        (row, column): (usize, Option<usize>),
         prompt: &'static str,
     ) {
-        let before = match target {
-            EditTarget::NewLine => None,
-            _ => self.live.document().line_text(line).map(str::to_string),
+        let original = self.live.document().written_lines(first..first + n_lines);
+        let mut below: VecDeque<String> = shown.into();
+        let row = row.min(below.len().saturating_sub(1));
+        let above: Vec<String> = below.drain(..row).collect();
+        let line = below.pop_front().unwrap_or_default();
+        let input = match column {
+            Some(column) => Input::new(line).with_cursor(column),
+            None => Input::new(line),
         };
         let session = EditSession {
             target,
-            line,
-            before,
-            input: Input::new(initial),
+            first,
+            original,
+            n_lines,
+            above,
+            input,
+            below,
             prompt,
         };
         self.message = None;
         self.mode = Mode::Editing(Box::new(session));
+        if n_lines == 0 {
+            // New lines: they go into the file at once, as typed.
+            self.apply_typing();
+        }
     }
 
     fn edit_field(&mut self, field: CellField) {
@@ -641,29 +762,92 @@ impl App {
         self.start_edit(
             EditTarget::Field(cell.id, Box::new(editor)),
             line,
-            initial,
+            1,
+            vec![initial],
+            (0, None),
             prompt,
         );
     }
 
+    /// Edits the selected statement as text: its line, or all of a block's
+    /// lines.
     fn edit_line(&mut self) {
         let Some(statement) = self.selected_statement() else {
             return;
         };
-        let line = self.live.statement_line(statement);
-        let initial = self.live.statement_text(statement).to_string();
-        self.start_edit(EditTarget::Line, line, initial, text::EDIT_LINE);
+        let lines = self.live.statement_lines(statement);
+        let shown: Vec<String> = self
+            .live
+            .document()
+            .written_lines(lines.clone())
+            .into_iter()
+            .map(|line| line.text)
+            .collect();
+        let (target, prompt) = if lines.len() > 1 {
+            (EditTarget::Block, text::EDIT_BLOCK)
+        } else {
+            (EditTarget::Line, text::EDIT_LINE)
+        };
+        self.start_edit(target, lines.start, lines.len(), shown, (0, None), prompt);
+    }
+
+    /// Edits the `+++` header as a block of lines; a sheet without one gets
+    /// [`text::NEW_HEADER`] at its top, to fill in. The cursor starts in
+    /// the title.
+    fn edit_header(&mut self) {
+        let (first, n_lines, shown): (usize, usize, Vec<String>) =
+            match self.live.document().header_lines() {
+                Some(lines) => {
+                    let shown = self
+                        .live
+                        .document()
+                        .written_lines(lines.clone())
+                        .into_iter()
+                        .map(|line| line.text)
+                        .collect();
+                    (lines.start, lines.len(), shown)
+                }
+                None => (
+                    0,
+                    0,
+                    text::NEW_HEADER
+                        .iter()
+                        .map(|line| line.to_string())
+                        .collect(),
+                ),
+            };
+        let cursor = title_cursor(&shown);
+        self.start_edit(
+            EditTarget::Header,
+            first,
+            n_lines,
+            shown,
+            cursor,
+            text::EDIT_HEADER,
+        );
     }
 
     fn add_line(&mut self, initial: &str, prompt: &'static str) {
         let line = self.insertion_line();
-        match self.live.insert_line(line, "") {
-            Ok(()) => self.start_edit(EditTarget::NewLine, line, initial.to_string(), prompt),
-            Err(error) => self.say(error.to_string()),
+        self.start_edit(
+            EditTarget::NewLine,
+            line,
+            0,
+            vec![initial.to_string()],
+            (0, None),
+            prompt,
+        );
+    }
+
+    /// Applies a change to the sheet. A header edit that changes the
+    /// significant figures shows the new number.
+    fn apply_splice(&mut self, splice: &Splice) -> Result<(), EditError> {
+        let sig_figs = self.live.header().sig_figs;
+        self.live.apply(splice)?;
+        if self.live.header().sig_figs != sig_figs {
+            self.sig_figs = self.live.header().sig_figs;
         }
-        if let Mode::Editing(_) = self.mode {
-            self.apply_typing();
-        }
+        Ok(())
     }
 
     /// Applies the text typed so far to the sheet.
@@ -671,51 +855,83 @@ impl App {
         let Mode::Editing(session) = &self.mode else {
             return;
         };
-        let (line, text) = (session.line, session.line_text());
-        if let Err(error) = self.live.replace_line(line, &text) {
-            self.say(error.to_string());
+        let (first, n_lines, texts) = (session.first, session.n_lines, session.texts());
+        let lines: Vec<&str> = texts.iter().map(String::as_str).collect();
+        let result = self
+            .live
+            .document()
+            .plan(first, n_lines, &lines)
+            .and_then(|splice| self.apply_splice(&splice));
+        match result {
+            Ok(()) => {
+                if let Mode::Editing(session) = &mut self.mode {
+                    session.n_lines = texts.len();
+                }
+            }
+            Err(error) => self.say(error.to_string()),
         }
-        self.select_line(line);
+        self.select_line(first);
     }
 
     fn finish_edit(&mut self, keep: bool) -> Vec<Effect> {
         let Mode::Editing(session) = std::mem::replace(&mut self.mode, Mode::Browse) else {
             return Vec::new();
         };
-        let after = session.line_text();
-        let line = session.line;
-        let result = match (&session.before, keep) {
-            (None, false) => self.live.remove_line(line),
-            (None, true) if after.trim().is_empty() => self.live.remove_line(line),
-            (Some(before), false) => self.live.replace_line(line, before),
-            (Some(before), true) if *before == after => Ok(()),
-            (Some(before), true) => {
-                self.history.record(Change::Replace {
-                    line,
-                    before: before.clone(),
-                    after: after.clone(),
-                });
-                Ok(())
-            }
-            (None, true) => {
-                self.history.record(Change::Insert {
-                    line,
-                    text: after.clone(),
-                });
-                Ok(())
-            }
+        let first = session.first;
+        let current = self
+            .live
+            .document()
+            .written_lines(first..first + session.n_lines);
+        let blank = current.iter().all(|line| line.text.trim().is_empty());
+        // A new line, a block or a header kept with nothing in it goes;
+        // a one-line statement kept blank stays a blank line.
+        let removes =
+            keep && blank && !matches!(session.target, EditTarget::Field(..) | EditTarget::Line);
+        let untouched_new_header = matches!(session.target, EditTarget::Header)
+            && session.original.is_empty()
+            && current
+                .iter()
+                .map(|line| line.text.as_str())
+                .eq(text::NEW_HEADER.iter().copied());
+        let kept = if !keep || untouched_new_header {
+            session.original.clone()
+        } else if removes {
+            Vec::new()
+        } else {
+            current.clone()
         };
-        if let Err(error) = result {
-            self.say(error.to_string());
+        let settle = Splice {
+            first,
+            before: current,
+            after: kept.clone(),
         }
-        if keep
-            && !after.trim().is_empty()
-            && self.live.statement_at_line(line).is_none()
-            && line < self.live.document().n_lines()
-        {
-            self.say(text::COMMENT_ADDED);
+        .trimmed();
+        let result = self.apply_splice(&settle);
+        let change = Splice {
+            first,
+            before: session.original,
+            after: kept,
         }
-        self.select_line(line.min(self.live.document().n_lines().saturating_sub(1)));
+        .trimmed();
+        match result {
+            Err(error) => self.say(error.to_string()),
+            Ok(()) if !keep => {}
+            Ok(()) if untouched_new_header => self.say(text::NO_HEADER_ADDED),
+            Ok(()) => {
+                let one_line = change.after.len() == 1
+                    && !matches!(session.target, EditTarget::Header)
+                    && !change.after[0].text.trim().is_empty();
+                if removes && !change.before.is_empty() {
+                    self.say(text::deleted_lines(change.before.len()));
+                } else if one_line && self.live.statement_at_line(change.first).is_none() {
+                    self.say(text::COMMENT_ADDED);
+                }
+                if !change.is_empty() {
+                    self.history.record(change);
+                }
+            }
+        }
+        self.select_line(first.min(self.live.document().n_lines().saturating_sub(1)));
         self.recovery_effects()
     }
 
@@ -743,20 +959,22 @@ impl App {
         }
     }
 
+    /// Deletes the selected statement: its line, or all of a block's lines.
     fn delete_selected(&mut self) -> Vec<Effect> {
         let Some(statement) = self.selected_statement() else {
             self.say(text::NOTHING_TO_DELETE);
             return Vec::new();
         };
-        let line = self.live.statement_line(statement);
-        let removed = self.live.statement_text(statement).to_string();
-        match self.live.remove_line(line) {
-            Ok(()) => {
-                self.history.record(Change::Remove {
-                    line,
-                    text: removed,
-                });
-                self.say(text::DELETED);
+        let lines = self.live.statement_lines(statement);
+        let result = self
+            .live
+            .document()
+            .plan(lines.start, lines.len(), &[])
+            .and_then(|splice| self.apply_splice(&splice).map(|()| splice));
+        match result {
+            Ok(splice) => {
+                self.say(text::deleted_lines(splice.before.len()));
+                self.history.record(splice);
                 let row = self.selected;
                 self.select(row);
                 self.recovery_effects()
@@ -769,21 +987,12 @@ impl App {
     }
 
     fn undo(&mut self) -> Vec<Effect> {
-        let Some(change) = self
-            .history
-            .done
-            .checked_sub(1)
-            .and_then(|index| self.history.changes.get(index).cloned())
-        else {
+        let Some(change) = self.history.last_change().cloned() else {
             self.say(text::NOTHING_TO_UNDO);
             return Vec::new();
         };
-        let (result, line) = match &change {
-            Change::Replace { line, before, .. } => (self.live.replace_line(*line, before), *line),
-            Change::Insert { line, .. } => (self.live.remove_line(*line), *line),
-            Change::Remove { line, text } => (self.live.insert_line(*line, text), *line),
-        };
-        self.after_history_step(result, line, -1, text::UNDONE)
+        let result = self.apply_splice(&change.inverse());
+        self.after_history_step(result, change.first, -1, text::UNDONE)
     }
 
     fn redo(&mut self) -> Vec<Effect> {
@@ -791,17 +1000,13 @@ impl App {
             self.say(text::NOTHING_TO_REDO);
             return Vec::new();
         };
-        let (result, line) = match &change {
-            Change::Replace { line, after, .. } => (self.live.replace_line(*line, after), *line),
-            Change::Insert { line, text } => (self.live.insert_line(*line, text), *line),
-            Change::Remove { line, .. } => (self.live.remove_line(*line), *line),
-        };
-        self.after_history_step(result, line, 1, text::REDONE)
+        let result = self.apply_splice(&change);
+        self.after_history_step(result, change.first, 1, text::REDONE)
     }
 
     fn after_history_step(
         &mut self,
-        result: Result<(), crate::eval::EditError>,
+        result: Result<(), EditError>,
         line: usize,
         step: isize,
         done: &str,
@@ -903,6 +1108,7 @@ impl App {
             Action::EditDescription => self.edit_field(CellField::Description),
             Action::EditName => self.edit_field(CellField::Name),
             Action::EditLine => self.edit_line(),
+            Action::EditHeader => self.edit_header(),
             Action::AddCell => self.add_line("", text::ADD_CELL),
             Action::AddHeading => self.add_line("# ", text::ADD_HEADING),
             Action::AddNote => self.add_line("> ", text::ADD_NOTE),
@@ -980,9 +1186,49 @@ impl App {
     }
 
     fn editor_key(&mut self, key: &KeyEvent) -> Vec<Effect> {
-        let request = match action_for(Scope::Editor, key) {
-            Some(Action::Keep) => return self.finish_edit(true),
+        let action = action_for(Scope::Editor, key);
+        let Mode::Editing(session) = &mut self.mode else {
+            return Vec::new();
+        };
+        let at_start = session.input.cursor() == 0;
+        let at_end = session.at_line_end();
+        let request = match action {
+            Some(Action::KeepAll) => return self.finish_edit(true),
+            Some(Action::Keep) if !session.is_multiline() => return self.finish_edit(true),
             Some(Action::Cancel) => return self.finish_edit(false),
+            Some(Action::Keep) => {
+                session.break_line();
+                self.apply_typing();
+                return vec![self.lint_request()];
+            }
+            Some(Action::LineUp) => {
+                session.line_up();
+                return Vec::new();
+            }
+            Some(Action::LineDown) => {
+                session.line_down();
+                return Vec::new();
+            }
+            Some(Action::CursorLeft) if at_start && !session.above.is_empty() => {
+                session.line_up();
+                session.input = Input::new(session.input.value().to_string());
+                return Vec::new();
+            }
+            Some(Action::CursorRight) if at_end && !session.below.is_empty() => {
+                session.line_down();
+                session.input = session.input.clone().with_cursor(0);
+                return Vec::new();
+            }
+            Some(Action::DeleteBack) if at_start && !session.above.is_empty() => {
+                session.join_above();
+                self.apply_typing();
+                return vec![self.lint_request()];
+            }
+            Some(Action::DeleteForward) if at_end && !session.below.is_empty() => {
+                session.join_below();
+                self.apply_typing();
+                return vec![self.lint_request()];
+            }
             Some(Action::CursorLeft) => InputRequest::GoToPrevChar,
             Some(Action::CursorRight) => InputRequest::GoToNextChar,
             Some(Action::CursorStart) => InputRequest::GoToStart,
@@ -994,9 +1240,6 @@ impl App {
                 Some(c) => InputRequest::InsertChar(c),
                 None => return Vec::new(),
             },
-        };
-        let Mode::Editing(session) = &mut self.mode else {
-            return Vec::new();
         };
         let changed = session
             .input
@@ -1161,7 +1404,9 @@ impl App {
         let areas = self.areas();
         match event.kind {
             MouseEventKind::Down(MouseButton::Left) => {
-                if let Some(row) = areas.sheet_row_at(position) {
+                if areas.title.contains(position) {
+                    self.edit_header();
+                } else if let Some(row) = areas.sheet_row_at(position) {
                     let row = self.scroll + row;
                     if row < self.n_rows() {
                         self.focus = Focus::Sheet;
@@ -1183,6 +1428,27 @@ impl App {
             MouseEventKind::ScrollUp => self.select(self.selected.saturating_sub(WHEEL_ROWS)),
             _ => {}
         }
+    }
+}
+
+/// Where the cursor starts in a header: in the title's value (before its
+/// closing quote), else at the end of the line after the opening `+++`.
+fn title_cursor(lines: &[String]) -> (usize, Option<usize>) {
+    let title = lines
+        .iter()
+        .position(|line| line.trim_start().starts_with("title"));
+    match title {
+        Some(row) => {
+            let line = lines[row].trim_end();
+            let length = line.chars().count();
+            let column = if line.ends_with('"') && length > 0 {
+                length - 1
+            } else {
+                length
+            };
+            (row, Some(column))
+        }
+        None => (1, None),
     }
 }
 

@@ -28,7 +28,7 @@ impl Scope {
         match self {
             Scope::Sheet => "in the sheet",
             Scope::Links => "in the detail pane's links (Tab)",
-            Scope::Editor => "while editing a line",
+            Scope::Editor => "while editing (a line, a block's lines or the header)",
             Scope::Find => "finding a cell",
             Scope::Findings => "in the findings list",
             Scope::Help => "in this help",
@@ -73,8 +73,10 @@ pub enum Action {
     EditDescription,
     /// Rename a cell.
     EditName,
-    /// Edit the whole line as text.
+    /// Edit the whole line as text, or a block's lines.
     EditLine,
+    /// Edit the `+++` header (or add one).
+    EditHeader,
     /// Add a cell after the selected row.
     AddCell,
     /// Add a heading after the selected row.
@@ -113,8 +115,10 @@ pub enum Action {
     Jump,
     /// Close the overlay or leave the links.
     Close,
-    /// Keep the edit.
+    /// Keep the edit; in a block or the header, break the line.
     Keep,
+    /// Keep the edit, a block's or the header's too.
+    KeepAll,
     /// Undo the edit in progress and close the editor.
     Cancel,
     /// Cursor one character left.
@@ -125,6 +129,10 @@ pub enum Action {
     CursorStart,
     /// Cursor to the end.
     CursorEnd,
+    /// Cursor to the line above (on the first line, to its start).
+    LineUp,
+    /// Cursor to the line below (on the last line, to its end).
+    LineDown,
     /// Delete the character before the cursor.
     DeleteBack,
     /// Delete the character under the cursor.
@@ -166,6 +174,13 @@ const fn ctrl(c: char) -> Key {
     Key {
         code: KeyCode::Char(c),
         modifiers: KeyModifiers::CONTROL,
+    }
+}
+
+const fn alt(code: KeyCode) -> Key {
+    Key {
+        code,
+        modifiers: KeyModifiers::ALT,
     }
 }
 
@@ -212,7 +227,7 @@ pub const BINDINGS: &[Binding] = &[
         S::Sheet,
         &[plain(K::Enter)],
         A::EditMain,
-        "edit: a cell's formula, else the line",
+        "edit: a cell's formula, else the line or the block",
     ),
     bind(S::Sheet, &[ch('=')], A::EditFormula, "edit the formula"),
     bind(S::Sheet, &[ch('[')], A::EditUnit, "edit the unit"),
@@ -232,9 +247,20 @@ pub const BINDINGS: &[Binding] = &[
         S::Sheet,
         &[ch('e')],
         A::EditLine,
-        "edit the whole line as text",
+        "edit the whole line, or a block's lines, as text",
     ),
-    bind(S::Sheet, &[ch('a')], A::AddCell, "add a cell below"),
+    bind(
+        S::Sheet,
+        &[ch('T')],
+        A::EditHeader,
+        "edit the +++ header: title, revision… (adds one)",
+    ),
+    bind(
+        S::Sheet,
+        &[ch('a')],
+        A::AddCell,
+        "add a cell below (after a block's end)",
+    ),
     bind(S::Sheet, &[ch('h')], A::AddHeading, "add a heading below"),
     bind(S::Sheet, &[ch('t')], A::AddNote, "add a note (text) below"),
     bind(S::Sheet, &[ch('c')], A::AddCheck, "add a check below"),
@@ -242,7 +268,7 @@ pub const BINDINGS: &[Binding] = &[
         S::Sheet,
         &[ch('x'), plain(K::Delete)],
         A::Delete,
-        "delete the row's line",
+        "delete the row (a block: all of its lines)",
     ),
     bind(S::Sheet, &[ch('<')], A::Undo, "undo"),
     bind(S::Sheet, &[ch('>')], A::Redo, "redo"),
@@ -306,12 +332,35 @@ pub const BINDINGS: &[Binding] = &[
         A::JumpBack,
         "back to where the last jump came from",
     ),
-    bind(S::Editor, &[plain(K::Enter)], A::Keep, "keep the edit"),
+    bind(
+        S::Editor,
+        &[plain(K::Enter)],
+        A::Keep,
+        "keep the edit; in a block or header: new line",
+    ),
+    bind(
+        S::Editor,
+        &[ctrl('s'), alt(K::Enter)],
+        A::KeepAll,
+        "keep the edit, a block's or the header's too",
+    ),
     bind(
         S::Editor,
         &[plain(K::Esc)],
         A::Cancel,
         "undo this edit and close",
+    ),
+    bind(
+        S::Editor,
+        &[plain(K::Up)],
+        A::LineUp,
+        "line above (on the first line: its start)",
+    ),
+    bind(
+        S::Editor,
+        &[plain(K::Down)],
+        A::LineDown,
+        "line below (on the last line: its end)",
     ),
     bind(S::Editor, &[plain(K::Left)], A::CursorLeft, "cursor left"),
     bind(
@@ -336,15 +385,20 @@ pub const BINDINGS: &[Binding] = &[
         S::Editor,
         &[plain(K::Backspace)],
         A::DeleteBack,
-        "delete before the cursor",
+        "delete before the cursor, or join the line above",
     ),
     bind(
         S::Editor,
         &[plain(K::Delete)],
         A::DeleteForward,
-        "delete under the cursor",
+        "delete under the cursor, or join the line below",
     ),
-    bind(S::Editor, &[ctrl('u')], A::ClearField, "clear the field"),
+    bind(
+        S::Editor,
+        &[ctrl('u')],
+        A::ClearField,
+        "clear the field (in a block: the line)",
+    ),
     bind(S::Find, &[plain(K::Up)], A::Up, "previous match"),
     bind(S::Find, &[plain(K::Down)], A::Down, "next match"),
     bind(S::Find, &[plain(K::Enter)], A::Jump, "go to the match"),
@@ -452,8 +506,19 @@ impl Key {
             KeyCode::Char(c) => c.to_string(),
             other => format!("{other:?}"),
         };
+        // A letter held with Ctrl or Alt is written as on the key: Ctrl+S.
+        let held = self
+            .modifiers
+            .intersects(KeyModifiers::CONTROL | KeyModifiers::ALT);
+        let name = if held && matches!(self.code, KeyCode::Char(_)) {
+            name.to_uppercase()
+        } else {
+            name
+        };
         if self.modifiers.contains(KeyModifiers::CONTROL) {
             format!("Ctrl+{name}")
+        } else if self.modifiers.contains(KeyModifiers::ALT) {
+            format!("Alt+{name}")
         } else {
             name
         }
@@ -506,5 +571,22 @@ mod tests {
         assert_eq!(action_for(Scope::Sheet, &event), Some(Action::Undo));
         let control = KeyEvent::new(KeyCode::Char('s'), KeyModifiers::CONTROL);
         assert_eq!(action_for(Scope::Sheet, &control), None);
+        let header = KeyEvent::new(KeyCode::Char('T'), KeyModifiers::SHIFT);
+        assert_eq!(action_for(Scope::Sheet, &header), Some(Action::EditHeader));
+    }
+
+    #[test]
+    fn the_block_editor_hint_names_the_keys_bound() {
+        let keep = key_for(Scope::Editor, Action::KeepAll);
+        assert_eq!(keep, "Ctrl+S");
+        assert!(
+            crate::tui::strings::EDIT_BLOCK_KEYS.contains(&format!("{keep} keep")),
+            "{}",
+            crate::tui::strings::EDIT_BLOCK_KEYS
+        );
+        let alt_enter = KeyEvent::new(KeyCode::Enter, KeyModifiers::ALT);
+        assert_eq!(action_for(Scope::Editor, &alt_enter), Some(Action::KeepAll));
+        let enter = KeyEvent::new(KeyCode::Enter, KeyModifiers::NONE);
+        assert_eq!(action_for(Scope::Editor, &enter), Some(Action::Keep));
     }
 }

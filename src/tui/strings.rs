@@ -114,6 +114,19 @@ pub const EDIT_DESCRIPTION: &str = "description (empty: none)";
 pub const EDIT_NAME: &str = "new name";
 /// Editing a whole line.
 pub const EDIT_LINE: &str = "line";
+/// Editing a block's lines.
+pub const EDIT_BLOCK: &str = "block";
+/// Editing the header.
+pub const EDIT_HEADER: &str = "header";
+/// The header a sheet without one gets to fill in. Other keys: project,
+/// date, checked_by, display ("SI" or "FPS"), sig_figs, case_results.
+pub const NEW_HEADER: &[&str] = &[
+    "+++",
+    "title = \"\"",
+    "revision = \"\"",
+    "prepared_by = \"\"",
+    "+++",
+];
 /// Adding a cell.
 pub const ADD_CELL: &str = "new cell  name [unit] = formula \"description\"";
 /// Adding a heading.
@@ -124,6 +137,8 @@ pub const ADD_NOTE: &str = "new note";
 pub const ADD_CHECK: &str = "new check  check A <= B \"label\"";
 /// How an edit ends.
 pub const EDIT_KEYS: &str = "Enter keep · Esc undo this edit";
+/// How an edit of several lines ends.
+pub const EDIT_BLOCK_KEYS: &str = "Enter new line · Ctrl+S keep · Esc undo this edit";
 
 /// Questions.
 pub const ASK_QUIT: &str =
@@ -166,13 +181,13 @@ pub const OPENING_CAUTION: &str =
 pub const NO_FINDINGS: &str = "no findings";
 /// No cell matches.
 pub const NO_MATCH: &str = "no cell by that name";
-/// Deleted.
-pub const DELETED: &str = "deleted (< undoes)";
+/// A new header kept as it came, with nothing typed.
+pub const NO_HEADER_ADDED: &str = "no header added: nothing was typed into it";
 /// The line cannot be deleted.
 pub const NOTHING_TO_DELETE: &str = "nothing to delete";
 /// Shown in an empty sheet.
 pub const EMPTY_SHEET: &str =
-    "An empty sheet: Enter or a adds a cell, h a heading, t a note, c a check.";
+    "Empty sheet: Enter or a adds a cell; h heading, t note, c check, T header.";
 /// Help footer.
 pub const HELP_FOOTER: &str = "Esc or ? closes · ↑↓ scroll";
 
@@ -192,6 +207,29 @@ pub fn check_name(index: usize) -> String {
 /// A line by its number: `line 12`.
 pub fn line_name(line: usize) -> String {
     format!("line {line}")
+}
+
+/// Lines by their numbers: `lines 12–15`, or `line 12`.
+pub fn lines_name(first: usize, last: usize) -> String {
+    if first >= last {
+        line_name(first)
+    } else {
+        format!("lines {first}–{last}")
+    }
+}
+
+/// Where the cursor is in an editor of several lines: `line 2 of 4`.
+pub fn line_of(row: usize, n_lines: usize) -> String {
+    format!("line {row} of {n_lines}")
+}
+
+/// What a delete did: `deleted (< undoes)`, `deleted 4 lines (< undoes)`.
+pub fn deleted_lines(n_lines: usize) -> String {
+    if n_lines == 1 {
+        "deleted (< undoes)".to_string()
+    } else {
+        format!("deleted {n_lines} lines (< undoes)")
+    }
 }
 
 /// `1 error`, `3 warnings`: the one plural rule of every front end.

@@ -9,7 +9,7 @@ use ratatui::text::{Line, Span};
 use ratatui::widgets::{Block, Borders, Clear, Paragraph};
 use unicode_width::{UnicodeWidthChar, UnicodeWidthStr};
 
-use super::app::{App, Focus, Link, Mode, UnitsView};
+use super::app::{App, EditSession, Focus, Link, Mode, UnitsView};
 use super::keys::{BINDINGS, HINTS, Scope, key_for};
 use super::layout::{Areas, areas};
 use super::strings as text;
@@ -27,6 +27,11 @@ pub fn view(app: &App, frame: &mut Frame) {
     draw_title(app, frame, areas.title);
     draw_sheet(app, frame, areas.sheet);
     draw_detail(app, frame, areas.detail);
+    if let Mode::Editing(session) = app.mode()
+        && session.is_multiline()
+    {
+        draw_lines_editor(app, frame, areas.detail, session);
+    }
     draw_status(app, frame, areas.status);
     draw_bottom(app, frame, areas.bottom);
     match app.mode() {
@@ -173,10 +178,16 @@ fn mark_of(live: &LiveSheet, index: usize, row: &Row<'_>) -> &'static str {
 
 fn draw_title(app: &App, frame: &mut Frame, area: Rect) {
     let header = app.live().header();
-    let title = header.title.as_deref().unwrap_or(text::UNTITLED);
+    // A header being filled in may hold empty fields for a moment.
+    let title = header
+        .title
+        .as_deref()
+        .filter(|title| !title.trim().is_empty())
+        .unwrap_or(text::UNTITLED);
     let revision = header
         .revision
         .as_deref()
+        .filter(|revision| !revision.trim().is_empty())
         .map(|revision| format!(" · rev {revision}"))
         .unwrap_or_default();
     let state = if app.is_dirty() {
@@ -296,7 +307,11 @@ fn draw_sheet(app: &App, frame: &mut Frame, area: Rect) {
             Row::Note { text } | Row::Review { text } => {
                 spans.push(Span::styled(fit(text.trim(), wide), theme.note()))
             }
-            Row::Invalid { text } => spans.push(Span::raw(fit(text.trim(), wide))),
+            // A block that does not parse is shown by its first line.
+            Row::Invalid { text } => spans.push(Span::raw(fit(
+                text.lines().next().unwrap_or_default().trim(),
+                wide,
+            ))),
             Row::Block { head } => spans.push(Span::styled(fit(head.trim(), wide), theme.label())),
         }
         let mut line = Line::from(spans);
@@ -702,8 +717,8 @@ fn detail(app: &App, inner: Rect) -> Detail {
             detail.links(app, inner, text::LABEL_USES, &uses);
         }
         Row::Block { .. } => {
-            let line = live.statement_line(statement) + 1;
-            detail.title = text::line_name(line);
+            let lines = live.statement_lines(statement);
+            detail.title = text::lines_name(lines.start + 1, lines.end);
             for id in live.block_cells(statement) {
                 let cell = live.cell(id);
                 detail.labelled(
@@ -716,15 +731,17 @@ fn detail(app: &App, inner: Rect) -> Detail {
             }
         }
         Row::Heading { .. } | Row::Note { .. } | Row::Review { .. } | Row::Invalid { .. } => {
-            let line = live.statement_line(statement) + 1;
-            detail.title = text::line_name(line);
-            detail.labelled(
-                theme,
-                text::LABEL_LINE,
-                live.statement_text(statement).to_string(),
-                Style::default(),
-                width,
-            );
+            let lines = live.statement_lines(statement);
+            detail.title = text::lines_name(lines.start + 1, lines.end);
+            for (index, line) in live.statement_text(statement).lines().enumerate() {
+                detail.labelled(
+                    theme,
+                    if index == 0 { text::LABEL_LINE } else { "" },
+                    line.to_string(),
+                    Style::default(),
+                    width,
+                );
+            }
         }
     }
     detail.findings(theme, &findings, width);
@@ -889,10 +906,10 @@ fn draw_status(app: &App, frame: &mut Frame, area: Rect) {
     ];
     let used: usize = spans.iter().map(|span| span.width()).sum();
     let width = usize::from(area.width);
-    let hint = if matches!(app.mode(), Mode::Editing(_)) {
-        text::EDIT_KEYS
-    } else {
-        text::HINT_HELP
+    let hint = match app.mode() {
+        Mode::Editing(session) if session.is_multiline() => text::EDIT_BLOCK_KEYS,
+        Mode::Editing(_) => text::EDIT_KEYS,
+        _ => text::HINT_HELP,
     };
     if used + hint.width() < width {
         spans.push(Span::raw(" ".repeat(width - used - hint.width())));
@@ -905,6 +922,35 @@ fn draw_bottom(app: &App, frame: &mut Frame, area: Rect) {
     let theme = app.theme();
     let width = usize::from(area.width);
     match app.mode() {
+        Mode::Editing(session) if session.is_multiline() => {
+            // The lines are in the editor above; here, where the cursor is
+            // and the first finding on the lines edited.
+            let first = session.first + 1;
+            let last = session.first + session.n_shown();
+            let finding = app
+                .live()
+                .findings()
+                .into_iter()
+                .find(|finding| (first..=last).contains(&finding.line));
+            let mut spans = vec![
+                Span::styled(format!("{} › ", session.prompt), theme.label()),
+                Span::raw(text::line_of(session.cursor_row() + 1, session.n_shown())),
+            ];
+            if let Some(finding) = finding {
+                let style = match finding.severity {
+                    Severity::Error => theme.bad(),
+                    Severity::Warning => theme.warning(),
+                    Severity::Info => Style::default(),
+                };
+                spans.push(Span::raw(" · "));
+                spans.push(Span::styled(
+                    format!("{}: {}", text::line_name(finding.line), finding.message),
+                    style,
+                ));
+            }
+            let line = Line::from(spans);
+            frame.render_widget(Paragraph::new(fit_line(line, width)), area);
+        }
         Mode::Editing(session) => {
             let prompt = format!("{} › ", session.prompt);
             let prompt = fit(&prompt, width / 2);
@@ -941,6 +987,84 @@ fn draw_bottom(app: &App, frame: &mut Frame, area: Rect) {
     }
 }
 
+/// `line` cut to `width` columns.
+fn fit_line(line: Line<'static>, width: usize) -> Line<'static> {
+    let mut used = 0;
+    let mut spans = Vec::new();
+    for span in line.spans {
+        let room = width.saturating_sub(used);
+        if room == 0 {
+            break;
+        }
+        let fitted = fit(&span.content, room);
+        used += fitted.width();
+        spans.push(Span::styled(fitted, span.style));
+    }
+    Line::from(spans)
+}
+
+/// The editor of several lines (a block's, the header's), over the detail
+/// pane: as tall as the lines, up to the pane, each line with its number
+/// in the file, and the keys that end the edit on its lower border; it
+/// scrolls to keep the cursor's line in view.
+fn draw_lines_editor(app: &App, frame: &mut Frame, pane: Rect, session: &EditSession) {
+    let theme = app.theme();
+    let n_shown = session.n_shown();
+    let wanted = u16::try_from(n_shown + 2).unwrap_or(u16::MAX);
+    let area = Rect::new(pane.x, pane.y, pane.width, wanted.min(pane.height));
+    let title = format!(
+        " {} · {} ",
+        session.prompt,
+        text::lines_name(session.first + 1, session.first + n_shown)
+    );
+    let block = Block::bordered()
+        .title(title)
+        .title_bottom(Line::styled(
+            format!(" {} ", text::EDIT_BLOCK_KEYS),
+            theme.key(),
+        ))
+        .border_style(theme.label());
+    let inner = block.inner(area);
+    let rows = usize::from(inner.height).max(1);
+    let cursor_row = session.cursor_row();
+    let scroll = (cursor_row + 1).saturating_sub(rows);
+    let gutter = (session.first + n_shown).to_string().len() + 1;
+    let room = usize::from(inner.width).saturating_sub(gutter).max(1);
+    let mut lines = Vec::with_capacity(rows);
+    let mut cursor = None;
+    for (index, text) in session.lines().enumerate().skip(scroll).take(rows) {
+        let number = Span::styled(
+            format!("{:>width$} ", session.first + index + 1, width = gutter - 1),
+            theme.quiet(),
+        );
+        let shown = if index == cursor_row {
+            let shift = session.input.visual_scroll(room);
+            cursor = Some((
+                gutter + session.input.visual_cursor().saturating_sub(shift),
+                index - scroll,
+            ));
+            Span::styled(
+                fit(&text.chars().skip(shift).collect::<String>(), room),
+                theme.input(),
+            )
+        } else {
+            Span::raw(fit(text, room))
+        };
+        lines.push(Line::from(vec![number, shown]));
+    }
+    frame.render_widget(Clear, area);
+    frame.render_widget(Paragraph::new(lines).block(block), area);
+    if let Some((column, row)) = cursor {
+        frame.set_cursor_position(Position::new(
+            inner.x
+                + u16::try_from(column)
+                    .unwrap_or(inner.width)
+                    .min(inner.width.saturating_sub(1)),
+            inner.y + u16::try_from(row).unwrap_or(0),
+        ));
+    }
+}
+
 /// The most used keys, as many as fit.
 fn hints(theme: Theme, width: usize) -> Line<'static> {
     let mut spans = Vec::new();
@@ -964,14 +1088,23 @@ fn overlay_block(title: String) -> Block<'static> {
 
 /// The help text: every binding, by scope, then the caution.
 pub fn help_lines(theme: Theme, width: usize) -> Vec<Line<'static>> {
+    let keys_of = |binding: &super::keys::Binding| {
+        let keys: Vec<String> = binding.keys.iter().map(|key| key.label()).collect();
+        format!("  {}", keys.join(" "))
+    };
+    // The keys column fits the longest keys, with two blanks after them.
+    let keys_width = BINDINGS
+        .iter()
+        .map(|binding| keys_of(binding).width() + 2)
+        .max()
+        .unwrap_or(16);
     let mut lines = Vec::new();
     for scope in Scope::ALL {
         lines.push(Line::styled(scope.title().to_string(), theme.heading()));
         for binding in BINDINGS.iter().filter(|binding| binding.scope == scope) {
-            let keys: Vec<String> = binding.keys.iter().map(|key| key.label()).collect();
             lines.push(Line::from(vec![
-                Span::styled(pad(&format!("  {}", keys.join(" ")), 16), theme.key()),
-                Span::raw(fit(binding.help, width.saturating_sub(16))),
+                Span::styled(pad(&keys_of(binding), keys_width), theme.key()),
+                Span::raw(fit(binding.help, width.saturating_sub(keys_width))),
             ]));
         }
     }
