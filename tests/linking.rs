@@ -70,3 +70,59 @@ fn findings_of_a_large_sheet_come_in_file_order() {
     assert_eq!(lines, broken_lines);
     assert_eq!(si(&evaluated, "c19999"), 19999.0);
 }
+
+#[test]
+fn a_decomposed_name_is_the_cell_written_precomposed() {
+    // "é" as U+0065 U+0301 and as U+00E9: one name in normalization form C
+    // (Unicode UAX #15), so the formula uses the cell, with no finding.
+    let evaluated = run("cafe\u{301} = 2 kg\nW [N] = caf\u{e9} * g0\ncheck W <= 30 N\n");
+    assert!(
+        codes(&evaluated).iter().all(|c| *c != "undefined-name"),
+        "{:?}",
+        codes(&evaluated)
+    );
+    assert!((si(&evaluated, "W") - 2.0 * 9.80665).abs() < 1e-12);
+    // Defined once each way, it is defined twice.
+    let twice = run("cafe\u{301} = 2 kg\ncaf\u{e9} = 3 kg\n");
+    assert!(codes(&twice).contains(&"duplicate-name"));
+}
+
+#[test]
+fn a_check_on_a_look_alike_decoy_is_flagged_beside_the_real_cell() {
+    // The decoy `Fо` has a Cyrillic о (U+043E); its check passes while the
+    // real `Fo` is 30 kN. TR 39's skeletons of the two names are equal.
+    let evaluated =
+        run("Fo = 30 kN\nF\u{43e} = 20 kN\nWLL = 25 kN\ncheck F\u{43e} <= WLL\nz = Fo * 2\n");
+    let found = codes(&evaluated);
+    assert!(found.contains(&"confusable-names"), "{found:?}");
+    assert!(found.contains(&"mixed-script-name"), "{found:?}");
+    let warning = evaluated
+        .diagnostics
+        .iter()
+        .find(|d| d.code.as_str() == "confusable-names")
+        .expect("the finding");
+    assert_eq!(
+        evaluated.lines.line_of(warning.span.start()),
+        1,
+        "the decoy's line"
+    );
+    assert!(warning.message.contains("U+043E"), "{}", warning.message);
+}
+
+#[test]
+fn greek_with_latin_and_ascii_look_alikes_are_left_alone() {
+    // Engineering names mix Greek and Latin (μ_s, σ_max, Δx); ASCII pairs
+    // such as m1 and ml are the sheet's own business.
+    let evaluated =
+        run("μ_s = 0.3\nσ_max = 2 MPa\nΔx = 1 m\nm1 = 2 kg\nml = 3 kg\nl1 = 1\nll = 2\n");
+    let found = codes(&evaluated);
+    assert!(
+        !found
+            .iter()
+            .any(|c| *c == "confusable-names" || *c == "mixed-script-name"),
+        "{found:?}"
+    );
+    // The micro sign and the Greek mu read alike.
+    let micro = run("μ_s = 0.3\n\u{b5}_s = 0.2\n");
+    assert!(codes(&micro).contains(&"confusable-names"));
+}

@@ -397,3 +397,54 @@ fn edit_a_solve_block_in_its_editor_keep_it_with_ctrl_s_and_save_one_line() {
     );
     assert_eq!(saved.len(), original.len());
 }
+
+#[test]
+fn a_termination_signal_gives_the_terminal_back_and_keeps_the_typed_text() {
+    let directory = tempfile::tempdir().expect("a temporary directory");
+    let file = directory.path().join("cart.heft");
+    let original = include_str!("../sheets/cart_train.heft");
+    std::fs::write(&file, original).expect("the demo sheet is copied");
+    let mut heft = Session::start(&file);
+    heft.wait_for("Parts-cart train");
+    let on_screen = |heft: &Session| {
+        heft.screen
+            .lock()
+            .map(|parser| {
+                let screen = parser.screen();
+                (
+                    screen.alternate_screen(),
+                    screen.mouse_protocol_mode() != vt100::MouseProtocolMode::None,
+                )
+            })
+            .unwrap_or_default()
+    };
+    assert_eq!(
+        on_screen(&heft),
+        (true, true),
+        "the notebook took the screen and the mouse"
+    );
+    heft.send("f");
+    heft.send("F_draw");
+    heft.send(ENTER);
+    heft.send("=");
+    heft.send(CLEAR_FIELD);
+    heft.send("252 lbf");
+    heft.wait_for("252 lbf");
+    let pid = heft.child.process_id().expect("heft's process id");
+    let status = std::process::Command::new("kill")
+        .args(["-TERM", &pid.to_string()])
+        .status()
+        .expect("kill runs");
+    assert!(status.success());
+    assert!(!heft.wait_exit(), "stopped by a signal is not a clean exit");
+    std::thread::sleep(Duration::from_millis(200));
+    assert_eq!(
+        on_screen(&heft),
+        (false, false),
+        "the main screen and the mouse are given back"
+    );
+    let copy = directory.path().join(".cart.heft.heft-unsaved");
+    let kept = std::fs::read_to_string(&copy).expect("the recovery copy");
+    assert!(kept.contains("F_draw = 252 lbf"), "{kept}");
+    assert_eq!(std::fs::read_to_string(&file).expect("sheet"), original);
+}

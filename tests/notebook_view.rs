@@ -343,3 +343,55 @@ fn a_block_and_a_new_header_in_the_editor_of_several_lines_at_80_by_24() {
         header.areas().detail.x + 1 + 2 + 9 + "Bench hoist hook".len() as u16
     );
 }
+
+/// The hostile corpus's sheet with controls in every text field, drawn with
+/// every row selected and the findings and help open: no cell of the
+/// screen holds a character a terminal would obey (C0, DEL, C1, the
+/// bidirectional controls, line and paragraph separators).
+#[test]
+fn sheet_text_never_reaches_the_screen_as_a_control() {
+    let text = std::fs::read_to_string("tests/sheets/hostile/controls_everywhere.heft")
+        .expect("the corpus sheet");
+    let obeyed = |c: char| {
+        c.is_control()
+            || matches!(c, '\u{061C}' | '\u{200E}' | '\u{200F}' | '\u{202A}'..='\u{202E}' | '\u{2066}'..='\u{2069}' | '\u{2028}' | '\u{2029}')
+    };
+    for (width, height) in [(80, 24), (160, 48)] {
+        let mut notebook = app(&text, width, height, true);
+        let mut terminal = Terminal::new(TestBackend::new(width, height)).expect("a test terminal");
+        let mut screens = 0;
+        let mut shown = String::new();
+        let mut look = |notebook: &App| {
+            terminal
+                .draw(|frame| view(notebook, frame))
+                .expect("the notebook draws");
+            for cell in terminal.backend().buffer().content() {
+                assert!(
+                    !cell.symbol().chars().any(obeyed),
+                    "{:?} drawn at {width}×{height}",
+                    cell.symbol()
+                );
+                shown.push_str(cell.symbol());
+            }
+            screens += 1;
+        };
+        look(&notebook);
+        for _ in 0..40 {
+            keys(&mut notebook, &[KeyCode::Down]);
+            look(&notebook);
+        }
+        for key in ['!', '?', 'T'] {
+            keys(&mut notebook, &[KeyCode::Char(key)]);
+            look(&notebook);
+            keys(&mut notebook, &[KeyCode::Esc]);
+        }
+        assert!(screens > 40);
+        // The hostile text itself was on screen, around its controls.
+        for words in ["tension", "rope holds", "pass", "cm0gLXJmIH4="] {
+            assert!(
+                shown.contains(words),
+                "`{words}` never drawn at {width}×{height}"
+            );
+        }
+    }
+}

@@ -50,6 +50,10 @@ pub enum Code {
     BadCall,
     /// Two cells with the same name.
     DuplicateName,
+    /// Two names a reader could take for one another (Unicode TR 39).
+    ConfusableNames,
+    /// A name that mixes scripts (other than Latin with Greek).
+    MixedScriptName,
     /// Cells that depend on each other in a loop.
     Cycle,
     /// Quantities of different dimensions combined where they must agree.
@@ -138,6 +142,8 @@ impl Code {
             Code::UndefinedName => "undefined-name",
             Code::BadCall => "bad-call",
             Code::DuplicateName => "duplicate-name",
+            Code::ConfusableNames => "confusable-names",
+            Code::MixedScriptName => "mixed-script-name",
             Code::Cycle => "cycle",
             Code::DimensionMismatch => "dimension-mismatch",
             Code::DeclaredUnitMismatch => "declared-unit-mismatch",
@@ -173,7 +179,7 @@ impl Code {
     }
 
     /// Every code, for documentation and tests.
-    pub const ALL: [Code; 39] = [
+    pub const ALL: [Code; 41] = [
         Code::ParseError,
         Code::EncodingError,
         Code::HeaderError,
@@ -182,6 +188,8 @@ impl Code {
         Code::UndefinedName,
         Code::BadCall,
         Code::DuplicateName,
+        Code::ConfusableNames,
+        Code::MixedScriptName,
         Code::Cycle,
         Code::DimensionMismatch,
         Code::DeclaredUnitMismatch,

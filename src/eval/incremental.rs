@@ -162,14 +162,17 @@ impl LiveSheet {
             diagnostics,
         } = syntax::parse(text);
         let document = Document::open(text, header, &statements);
-        // Each parse error belongs to the statement it lies in; the rest to the header.
+        // Each parse error belongs to the statement it lies in; the rest to
+        // the header (and to the sheet as a whole: a second finding in one
+        // statement, such as a CR-only file's, is kept there, not dropped).
         let mut parse_diagnostics = vec![None; statements.len()];
         let mut header_diagnostics = Vec::new();
         for diagnostic in diagnostics {
             let index = statements.partition_point(|s| s.span.start() <= diagnostic.span.start());
             match index.checked_sub(1) {
                 Some(index)
-                    if diagnostic.span.start() <= statements[index].span.end()
+                    if parse_diagnostics[index].is_none()
+                        && diagnostic.span.start() <= statements[index].span.end()
                         && header
                             .is_none_or(|block| diagnostic.span.start() >= block.span.end()) =>
                 {

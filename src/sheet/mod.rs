@@ -278,6 +278,8 @@ impl Sheet {
             }
         }
 
+        lookalike_names(&names, &statements, &cells, &mut diagnostics);
+
         // A cell named like a constant (`g0 = 9.81 m/s^2`) stands for it in
         // every formula, also those resolved before the cell was entered.
         if units::CONSTANTS
@@ -764,6 +766,69 @@ fn cycle_text(names: &[String]) -> String {
 }
 
 /// The defined name or constant most like `name`.
+/// Warns of names a reader could take for one another, and of names that
+/// mix scripts ([`NameTable::lookalikes`]): a check on a decoy `Fо` (with
+/// a Cyrillic `о`) must not pass unnoticed beside the real `Fo`.
+fn lookalike_names(
+    names: &NameTable,
+    statements: &[Statement],
+    cells: &[CellOrigin],
+    diagnostics: &mut Vec<Diagnostic>,
+) {
+    let lookalikes = names.lookalikes();
+    let name_of = |id: CellId| decl(statements, cells[id]).name;
+    for (first, other) in lookalikes.confusable {
+        let (first, other) = (name_of(first), name_of(other));
+        diagnostics.push(
+            Diagnostic::warning(
+                Code::ConfusableNames,
+                other.span,
+                format!(
+                    "`{}` reads like `{}` but is another cell ({})",
+                    other.text,
+                    first.text,
+                    code_points(&other.text)
+                ),
+            )
+            .with_label(
+                first.span,
+                format!("`{}` ({})", first.text, code_points(&first.text)),
+            )
+            .with_help("give the two cells names that differ at a glance"),
+        );
+    }
+    for id in lookalikes.mixed_scripts {
+        let name = name_of(id);
+        diagnostics.push(
+            Diagnostic::warning(
+                Code::MixedScriptName,
+                name.span,
+                format!(
+                    "`{}` mixes letters of different scripts ({})",
+                    name.text,
+                    code_points(&name.text)
+                ),
+            )
+            .with_help("write the name in one script (Latin with Greek is fine)"),
+        );
+    }
+}
+
+/// The code points of a name's characters that are not ASCII, to tell
+/// look-alikes apart in a message (`о U+043E`).
+fn code_points(name: &str) -> String {
+    let points: Vec<String> = name
+        .chars()
+        .filter(|c| !c.is_ascii())
+        .map(|c| format!("{c} U+{:04X}", u32::from(c)))
+        .collect();
+    if points.is_empty() {
+        "all ASCII".to_string()
+    } else {
+        points.join(", ")
+    }
+}
+
 fn did_you_mean(name: &str, names: &NameTable) -> Option<String> {
     let candidates = names
         .keys()

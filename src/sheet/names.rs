@@ -10,6 +10,9 @@
 //! time. The entry a formula's name leads to is usually one defined a few
 //! lines above, already in cache.
 
+use std::borrow::Cow;
+use std::collections::HashMap;
+use std::collections::hash_map::Entry;
 use std::hash::BuildHasher;
 use std::ops::Index;
 
@@ -54,7 +57,8 @@ impl NameTable {
 
     /// The cell named `name`, if there is one.
     pub fn get(&self, name: &str) -> Option<&CellId> {
-        self.find(hash(name), name)
+        let name = canonical(name);
+        self.find(hash(&name), &name)
             .ok()
             .map(|entry| &self.entries[entry].1)
     }
@@ -82,7 +86,7 @@ impl NameTable {
     /// Starts loading the slot `name` would be found in, so that entering
     /// or looking up the name a little later does not wait for memory.
     pub fn prefetch(&self, name: &str) {
-        let slot = (hash(name) >> self.shift) as usize;
+        let slot = (hash(&canonical(name)) >> self.shift) as usize;
         #[cfg(target_arch = "x86_64")]
         // SAFETY: a prefetch is only a hint: it never faults, whatever the
         // address, and SSE (which provides it) is part of every x86-64.
@@ -105,12 +109,13 @@ impl NameTable {
         if (self.entries.len() + 1) * 2 > self.slots.len() {
             self.grow();
         }
-        let name_hash = hash(name);
-        match self.find(name_hash, name) {
+        let name = canonical(name);
+        let name_hash = hash(&name);
+        match self.find(name_hash, &name) {
             Ok(first) => Err(self.entries[first].1),
             Err(slot) => {
                 self.slots[slot] = packed(name_hash, self.entries.len());
-                self.entries.push((name.into(), id));
+                self.entries.push((name.as_ref().into(), id));
                 Ok(())
             }
         }
@@ -133,10 +138,82 @@ impl NameTable {
         self.shift = shift;
     }
 
-    /// Every name, in the order added.
+    /// Every name, in the order added (in Unicode normalization form C).
     pub fn keys(&self) -> impl Iterator<Item = &str> {
         self.entries.iter().map(|(name, _)| name.as_str())
     }
+
+    /// Names a reader could take for one another, when any name is not
+    /// plain ASCII: pairs of distinct names with one Unicode TR 39
+    /// skeleton, at least one of them not ASCII (`Fо` with a Cyrillic `о`
+    /// and `Fo`; ASCII pairs such as `m1` and `ml` are left alone), and
+    /// names that mix scripts ([`mixes_scripts`]). Empty for an ASCII sheet.
+    pub fn lookalikes(&self) -> Lookalikes {
+        let mut found = Lookalikes::default();
+        if self.entries.iter().all(|(name, _)| name.is_ascii()) {
+            return found;
+        }
+        // The first cell of each skeleton, and whether its name is ASCII.
+        let mut by_skeleton: HashMap<String, (CellId, bool)> = HashMap::new();
+        for (name, id) in &self.entries {
+            found
+                .mixed_scripts
+                .extend(mixes_scripts(name).then_some(*id));
+            let skeleton: String = unicode_security::skeleton(name).collect();
+            match by_skeleton.entry(skeleton) {
+                Entry::Occupied(first) => {
+                    let (first, first_is_ascii) = *first.get();
+                    if !(name.is_ascii() && first_is_ascii) {
+                        found.confusable.push((first, *id));
+                    }
+                }
+                Entry::Vacant(slot) => {
+                    slot.insert((*id, name.is_ascii()));
+                }
+            }
+        }
+        found
+    }
+}
+
+/// What [`NameTable::lookalikes`] found.
+#[derive(Clone, Debug, Default, PartialEq, Eq)]
+pub struct Lookalikes {
+    /// Pairs of cells whose names read alike: the one defined first, then
+    /// the other.
+    pub confusable: Vec<(CellId, CellId)>,
+    /// Cells whose names mix scripts.
+    pub mixed_scripts: Vec<CellId>,
+}
+
+/// `name` in Unicode normalization form C (UAX #15), so a name typed with a
+/// decomposed `é` is the cell written with the precomposed one; borrowed
+/// when it is already (every ASCII name is).
+pub fn canonical(name: &str) -> Cow<'_, str> {
+    use unicode_normalization::{IsNormalized, UnicodeNormalization, is_nfc_quick};
+    if name.is_ascii() || is_nfc_quick(name.chars()) == IsNormalized::Yes {
+        Cow::Borrowed(name)
+    } else {
+        Cow::Owned(name.nfc().collect())
+    }
+}
+
+/// Whether `name` mixes writing systems (its letters come from more than
+/// one script, digits and `_` aside), other than Latin with Greek, which
+/// engineering names mix as a matter of course (`μ_s`, `σ_max`, `Δx`).
+pub fn mixes_scripts(name: &str) -> bool {
+    use unicode_script::{Script, UnicodeScript};
+    let mut scripts: Vec<Script> = name
+        .chars()
+        .map(|c| c.script())
+        .filter(|script| !matches!(script, Script::Common | Script::Inherited | Script::Unknown))
+        .collect();
+    scripts.sort_unstable_by_key(|script| script.full_name());
+    scripts.dedup();
+    scripts.len() > 1
+        && !scripts
+            .iter()
+            .all(|s| matches!(s, Script::Latin | Script::Greek))
 }
 
 impl Index<&str> for NameTable {

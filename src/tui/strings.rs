@@ -2,6 +2,8 @@
 
 /// The program's name in the title bar.
 pub const APP_NAME: &str = "heft";
+/// Said on leaving after a termination signal.
+pub const STOPPED_BY_SIGNAL: &str = "the notebook was stopped by a signal; unsaved work is kept beside the sheet and offered when it is opened again";
 /// Title of a sheet whose header gives none.
 pub const UNTITLED: &str = "(untitled sheet)";
 /// Marks in the title bar for the file's state.

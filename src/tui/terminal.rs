@@ -1,8 +1,13 @@
 //! The event loop: the real terminal, its events, and the effects that
-//! need I/O. The terminal is restored on every exit, panics included.
+//! need I/O. The terminal is restored on every exit: quitting, an error, a
+//! panic, and a termination signal (SIGTERM, SIGHUP, SIGINT, SIGQUIT), on
+//! which the unsaved text is kept in the recovery copy first. Only a signal
+//! no program can catch (`kill -9`) leaves the terminal as it was.
 
 use std::io::{self, IsTerminal};
 use std::path::{Path, PathBuf};
+use std::sync::Arc;
+use std::sync::atomic::{AtomicBool, Ordering};
 use std::sync::mpsc::{self, Receiver, Sender};
 use std::time::{Duration, Instant};
 
@@ -27,6 +32,13 @@ pub fn run(path: &Path, colour: bool) -> io::Result<()> {
     }
     let (session, opened) = Session::start(path)?;
     let mut upkeep = Upkeep::new(&session);
+    let stop = Arc::new(AtomicBool::new(false));
+    for signal in signal_hook::consts::TERM_SIGNALS
+        .iter()
+        .chain(&[signal_hook::consts::SIGHUP])
+    {
+        signal_hook::flag::register(*signal, Arc::clone(&stop))?;
+    }
     let mut terminal = ratatui::try_init()?;
     // ratatui's hook leaves raw mode and the alternate screen; also give
     // the mouse back, then report the panic as usual.
@@ -46,7 +58,14 @@ pub fn run(path: &Path, colour: bool) -> io::Result<()> {
     if let Effect::Lint { revision, text } = app.lint_request() {
         linter.request(revision, text);
     }
-    let outcome = event_loop(&mut terminal, &mut app, &session, &linter, &mut upkeep);
+    let outcome = event_loop(
+        &mut terminal,
+        &mut app,
+        &session,
+        &linter,
+        &mut upkeep,
+        &stop,
+    );
     let _ = execute!(io::stdout(), DisableMouseCapture);
     ratatui::try_restore()?;
     outcome
@@ -116,10 +135,17 @@ fn event_loop(
     session: &Session,
     linter: &Linter,
     upkeep: &mut Upkeep,
+    stop: &AtomicBool,
 ) -> io::Result<()> {
     loop {
         terminal.draw(|frame| view(app, frame))?;
         let message = loop {
+            if stop.load(Ordering::Relaxed) {
+                // Keep what is typed, then leave through the normal exit,
+                // which gives the terminal back.
+                let _ = keep_or_drop(app.recovery_effect(), session);
+                return Err(io::Error::other(strings::STOPPED_BY_SIGNAL));
+            }
             // First, so that a stream of keys does not put it off.
             if let Some(message) = upkeep.run_due(app, session) {
                 break message;
