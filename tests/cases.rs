@@ -588,3 +588,30 @@ fn an_interval_power_holds_the_exact_power() {
         );
     }
 }
+
+#[test]
+fn a_tolerance_analysis_beyond_its_bound_is_unknown_never_passed() {
+    // A chain of toleranced inputs whose (input, cell) pairs exceed the
+    // bound: the checks they reach are unknown with the reason, and a check
+    // no tolerance reaches is still judged.
+    use heftsheet::eval::{CheckStatus, MAX_TOLERANCE_PAIRS};
+    let n_inputs = 2_400;
+    let mut source = String::from("s_0 = 0 kg\n");
+    for k in 1..=n_inputs {
+        source.push_str(&format!(
+            "m_{k} = 10 kg ± 1 %\ns_{k} = s_{} + m_{k}\n",
+            k - 1
+        ));
+    }
+    source.push_str(&format!(
+        "check s_{n_inputs} <= 1e6 kg\nq = 1 kg\ncheck q <= 2 kg\n"
+    ));
+    let sheet = run(&source);
+    assert!(n_inputs * sheet.n_cells() > MAX_TOLERANCE_PAIRS);
+    assert_eq!(sheet.checks[0].status, CheckStatus::Unknown);
+    assert_eq!(sheet.checks[0].passed(), None);
+    assert_eq!(sheet.checks[1].status, CheckStatus::Passed);
+    assert!(common::codes(&sheet).contains(&"check-unknown"));
+    assert_eq!(sheet.summary().passed, 1);
+    assert!(!sheet.is_clean());
+}

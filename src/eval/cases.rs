@@ -62,6 +62,12 @@ pub(super) fn case_results(sheet: &Sheet, diagnostics: &mut Vec<Diagnostic>) -> 
     chosen
 }
 
+/// The most (toleranced input, cell) pairs the tolerance analysis follows:
+/// its memory and time grow with their product (about 200 bytes a pair,
+/// measured 2026-12-03), so a sheet past this bound (1 GB) gets unknown
+/// worst cases with the reason rather than exhausting the machine.
+pub const MAX_TOLERANCE_PAIRS: usize = 5_000_000;
+
 impl Evaluator<'_> {
     /// Ranges of every cell, the chosen ones refined to their corners, and
     /// every check judged at its worst case (a check that fails there
@@ -75,10 +81,29 @@ impl Evaluator<'_> {
         chosen: &[CellId],
         case: Option<&str>,
     ) -> CellRanges {
+        let n_cells = self.sheet.cells.len();
+        let n_toleranced = (0..n_cells)
+            .filter(|&cell| self.spreads[cell].is_some())
+            .count();
+        if n_toleranced.saturating_mul(n_cells) > MAX_TOLERANCE_PAIRS {
+            // Past the bound, the worst case is not looked for: every check
+            // a toleranced input reaches is unknown, and says why.
+            let reached = self.reached_by(&self.corner_inputs());
+            for (index, result) in checks.iter_mut().enumerate() {
+                if result.holds.is_some()
+                    && self.sheet.check_uses[index].iter().any(|&id| reached[id])
+                {
+                    result.worst_unknown = Some(format!(
+                        "the sheet has {n_toleranced} toleranced inputs and {n_cells} cells, and following each input through each cell ({} pairs) is beyond heft's limit of {MAX_TOLERANCE_PAIRS} pairs",
+                        n_toleranced.saturating_mul(n_cells)
+                    ));
+                }
+            }
+            return CellRanges::default();
+        }
         let Some(ranges) = self.ranges() else {
             return CellRanges::default();
         };
-        let n_cells = self.sheet.cells.len();
         let mut cell_ranges: Vec<Option<CellRange>> = (0..n_cells)
             .map(|id| self.range_of(&ranges, RangeOf::Cell(id), chosen.contains(&id)))
             .collect();

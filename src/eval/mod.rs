@@ -19,6 +19,7 @@ mod solve;
 mod vectors;
 mod verdict;
 
+pub use cases::MAX_TOLERANCE_PAIRS;
 pub use explain::{format_result, format_value};
 pub use incremental::{
     CellField, EditError, FieldEditor, Finding, LineEnding, LiveSheet, Row, Splice, WrittenLine,
