@@ -212,3 +212,33 @@ fn deep_components_units_and_long_bodies_are_refused_cleanly() {
         "the nesting limit is named"
     );
 }
+
+#[test]
+fn a_solve_block_past_the_unknown_limit_is_refused_not_attempted() {
+    // One unknown more than the limit, in a chain that is trivially
+    // solvable: refused with its own code and the block's place, every
+    // unknown an error, nothing half-solved.
+    use heftsheet::eval::MAX_SOLVE_UNKNOWNS;
+    let n = MAX_SOLVE_UNKNOWNS + 1;
+    let names: Vec<String> = (0..n).map(|i| format!("x_{i} [m] ~ 1 m")).collect();
+    let mut source = format!("solve {}:\n  x_0 = 2 m\n", names.join(", "));
+    for i in 1..n {
+        source.push_str(&format!("  x_{i} = x_{} + 1 m\n", i - 1));
+    }
+    source.push_str("end\ncheck x_0 <= 3 m\n");
+    let evaluated = run(&source);
+    let found = codes(&evaluated);
+    assert!(found.contains(&"solve-too-large"), "{found:?}");
+    let refusal = evaluated
+        .diagnostics
+        .iter()
+        .find(|d| d.code.as_str() == "solve-too-large")
+        .map(|d| d.span.start());
+    assert_eq!(refusal, Some(0));
+    assert!(
+        evaluated
+            .cell("x_0")
+            .is_some_and(|c| c.status == CellStatus::Error)
+    );
+    assert_eq!(evaluated.summary().passed, 0);
+}

@@ -86,6 +86,10 @@ pub enum Code {
     NoConvergence,
     /// A solve block with more than one solution near the guess.
     SeveralRoots,
+    /// A solve block with more unknowns than heft solves at once
+    /// ([`crate::eval::MAX_SOLVE_UNKNOWNS`]): refused rather than
+    /// exhausting the machine's memory.
+    SolveTooLarge,
     /// A solve block whose solution is ill-conditioned: nearly dependent
     /// equations or a double root, so small changes move it far.
     IllConditioned,
@@ -159,6 +163,7 @@ impl Code {
             Code::SingularSystem => "singular-system",
             Code::NoConvergence => "no-convergence",
             Code::SeveralRoots => "several-roots",
+            Code::SolveTooLarge => "solve-too-large",
             Code::IllConditioned => "ill-conditioned",
             Code::BadTolerance => "bad-tolerance",
             Code::HandConversionFactor => "hand-conversion-factor",
@@ -179,7 +184,7 @@ impl Code {
     }
 
     /// Every code, for documentation and tests.
-    pub const ALL: [Code; 41] = [
+    pub const ALL: [Code; 42] = [
         Code::ParseError,
         Code::EncodingError,
         Code::HeaderError,
@@ -205,6 +210,7 @@ impl Code {
         Code::SingularSystem,
         Code::NoConvergence,
         Code::SeveralRoots,
+        Code::SolveTooLarge,
         Code::IllConditioned,
         Code::BadTolerance,
         Code::HandConversionFactor,

@@ -31,6 +31,7 @@ pub use model::{
 };
 pub use run_model::{PlotSeries, RunColumn, RunEvent, RunReport, RunRow, RunStatus, StateSlots};
 pub use simulate::{DEFAULT_RELATIVE_TOLERANCE, MAX_STEPS};
+pub use solve::MAX_SOLVE_UNKNOWNS;
 pub use verdict::{Summary, count};
 
 use std::cell::{Cell, RefCell};

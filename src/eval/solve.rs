@@ -29,6 +29,11 @@ const TOLERANCE: f64 = 1e-12;
 const VERIFIED: f64 = 1e-9;
 /// Newton iterations before giving up.
 const MAX_ITERATIONS: usize = 100;
+/// The most unknowns one solve block may have: the solver's Jacobian is
+/// dense, so memory grows with the square of the unknowns and time with
+/// the cube (2,000 unknowns: 32 MB a matrix, about 40 s; 20,000 would need
+/// 3.2 GB a matrix and aborted on allocation, measured 2026-12-03).
+pub const MAX_SOLVE_UNKNOWNS: usize = 2_000;
 /// Condition number beyond which the Jacobian counts as singular (fewer
 /// than four of the sixteen significant digits of a double survive).
 const SINGULAR: f64 = 1e12;
@@ -140,6 +145,19 @@ impl Evaluator<'_> {
         unknowns: &[CellId],
         report: &mut SolveReport,
     ) -> Result<(), Stop> {
+        if unknowns.len() > MAX_SOLVE_UNKNOWNS {
+            return Err(Stop::Fail(Box::new(
+                Diagnostic::error(
+                    Code::SolveTooLarge,
+                    block.head,
+                    format!(
+                        "this block has {}; heft solves at most {MAX_SOLVE_UNKNOWNS} at once",
+                        super::count(unknowns.len(), "unknown")
+                    ),
+                )
+                .with_help("split the block into smaller blocks that solve in turn, or write the chain as ordinary cells"),
+            )));
+        }
         // Units, dimensions and starting values of the unknowns.
         let mut dimensions = Vec::with_capacity(unknowns.len());
         let mut guess = Vec::with_capacity(unknowns.len());
