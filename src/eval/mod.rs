@@ -30,7 +30,7 @@ pub use model::{
     SolveReport, SolveStatus, Spread, Unsettled,
 };
 pub use run_model::{PlotSeries, RunColumn, RunEvent, RunReport, RunRow, RunStatus, StateSlots};
-pub use simulate::{DEFAULT_RELATIVE_TOLERANCE, MAX_STEPS};
+pub use simulate::{DEFAULT_RELATIVE_TOLERANCE, MAX_KEPT_COEFFICIENTS, MAX_STEPS, step_limit};
 pub use solve::MAX_SOLVE_UNKNOWNS;
 pub use verdict::{Summary, count};
 

@@ -34,9 +34,18 @@ use crate::units::{Dimension, DisplayUnit, Quantity, Value, VectorQuantity, pick
 pub const DEFAULT_RELATIVE_TOLERANCE: f64 = 1e-6;
 /// Tightest and loosest relative tolerance accepted.
 const RELATIVE_TOLERANCE_RANGE: (f64, f64) = (1e-13, 1e-2);
-/// Most accepted steps of one run (a step keeps 11 numbers per state
-/// component for the dense output, so this bounds a run's memory).
+/// Most accepted steps of one run.
 pub const MAX_STEPS: usize = 2_000_000;
+/// Most dense-output coefficients one run keeps (five per state component
+/// per step, 8 bytes each: 256 MB). A run of many components gets fewer
+/// steps than [`MAX_STEPS`], so memory stays bounded: 40 components over
+/// 2,000,000 steps aborted on allocation before (measured 2026-12-03).
+pub const MAX_KEPT_COEFFICIENTS: usize = 32_000_000;
+
+/// The most steps a run of `n_components` state components may take.
+pub fn step_limit(n_components: usize) -> usize {
+    MAX_STEPS.min(MAX_KEPT_COEFFICIENTS / (5 * n_components.max(1)))
+}
 /// Most rows of a run's table.
 const MAX_TABLE_ROWS: usize = 1000;
 /// Intervals of a table without `every` or `at`.
@@ -482,7 +491,7 @@ impl<'a> Evaluator<'a> {
         let settings = Settings {
             relative_tolerance: relative,
             absolute_tolerance,
-            max_steps: MAX_STEPS,
+            max_steps: step_limit(layout.n_slots),
             error_control: ErrorControl::PerUnitTime,
             events: block
                 .events
@@ -1122,11 +1131,11 @@ impl<'a> Evaluator<'a> {
                 ),
             )
             .with_help("a state may be growing without bound, or a rate may jump; check the rates near that time, or stop the run before it with `stop when …`"),
-            Failure::TooManySteps { t } => Diagnostic::error(
+            Failure::TooManySteps { t, limit } => Diagnostic::error(
                 Code::IntegrationFailed,
                 block.head,
                 format!(
-                    "the run took more than {MAX_STEPS} steps and reached only t = {}",
+                    "the run took more than {limit} steps (the most heft keeps for a run of this size) and reached only t = {}",
                     at(t)
                 ),
             )

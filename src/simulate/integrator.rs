@@ -168,6 +168,8 @@ pub enum Failure {
     TooManySteps {
         /// How far the run got.
         t: f64,
+        /// The limit it reached.
+        limit: usize,
     },
     /// A rate was infinite or not a number.
     NotFinite {
@@ -385,7 +387,10 @@ pub fn integrate<S: System>(
 
     loop {
         if run.stats.accepted >= settings.max_steps {
-            run.outcome = Outcome::Failed(Failure::TooManySteps { t });
+            run.outcome = Outcome::Failed(Failure::TooManySteps {
+                t,
+                limit: settings.max_steps,
+            });
             return run;
         }
         let last = t + 1.01 * h >= t_end;
