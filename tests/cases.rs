@@ -615,3 +615,77 @@ fn a_tolerance_analysis_beyond_its_bound_is_unknown_never_passed() {
     assert_eq!(sheet.summary().passed, 1);
     assert!(!sheet.is_clean());
 }
+
+#[test]
+fn load_cases_share_the_tolerance_bound_and_the_ones_past_it_are_unknown() {
+    // Each analysis follows 1,000 toleranced inputs through 2,001 cells:
+    // the sheet as written and the first cases fit in the bound, the
+    // later cases do not, and their checks are unknown, never passed.
+    use heftsheet::eval::{CheckStatus, MAX_TOLERANCE_PAIRS};
+    let n_inputs = 1_000;
+    let mut source = String::from("s_0 = 0 kg\n");
+    for k in 1..=n_inputs {
+        source.push_str(&format!(
+            "m_{k} = 10 kg ± 1 %\ns_{k} = s_{} + m_{k}\n",
+            k - 1
+        ));
+    }
+    source.push_str(&format!("check s_{n_inputs} <= 1e6 kg\n"));
+    let n_cases = 6;
+    for case in 0..n_cases {
+        source.push_str(&format!(
+            "case c{case}:\n  m_1 = {} kg ± 2 %\nend\n",
+            11 + case
+        ));
+    }
+    let sheet = run(&source);
+    let pairs = n_inputs * sheet.n_cells();
+    let fitting = MAX_TOLERANCE_PAIRS / pairs; // analyses within the bound
+    assert!(fitting >= 2 && fitting < n_cases + 1, "{fitting}");
+    let judged: Vec<CheckStatus> = sheet.cases.iter().map(|c| c.checks[0].status).collect();
+    for (index, status) in judged.iter().enumerate() {
+        // the as-written analysis is the first; case `index` is analysis index + 2
+        let expected = if index + 2 <= fitting {
+            CheckStatus::Passed
+        } else {
+            CheckStatus::Unknown
+        };
+        assert_eq!(*status, expected, "case c{index}: {judged:?}");
+    }
+    assert_eq!(sheet.checks[0].status, CheckStatus::Unknown);
+    assert_eq!(sheet.summary().passed, 0);
+}
+
+#[test]
+fn a_case_whose_worst_case_is_unknown_is_unknown_in_the_case_table_too() {
+    // Twelve toleranced inputs reach a solved result in the case as well:
+    // the case's own verdict (the case table, JSON, report, notebook) is
+    // unknown, like the sheet's, never passed.
+    use heftsheet::eval::CheckStatus;
+    let mut source = String::from("m = 10 kg ± 1 %\n");
+    let names: Vec<String> = (0..11).map(|k| format!("p_{k}")).collect();
+    for name in &names {
+        source.push_str(&format!("{name} = 1 kg ± 1 %\n"));
+    }
+    source.push_str(&format!(
+        "solve T [N] ~ 500:\n  2 * T = (m + {}) * g0\nend\ncheck T <= 5 kN\ncase heavy:\n  m = 12 kg\nend\n",
+        names.join(" + ")
+    ));
+    let sheet = run(&source);
+    let in_case = &sheet.cases[0].checks[0];
+    assert_eq!(in_case.holds, Some(true));
+    assert!(in_case.worst_unknown.is_some());
+    assert_eq!(in_case.status, CheckStatus::Unknown);
+    assert_eq!(sheet.checks[0].status, CheckStatus::Unknown);
+    let path = std::env::temp_dir().join(format!("heft-case-unknown-{}.heft", std::process::id()));
+    std::fs::write(&path, &source).unwrap();
+    let (code, json, _) = common::heft(&["check", "--json", path.to_str().unwrap()]);
+    std::fs::remove_file(&path).ok();
+    assert_eq!(code, 1);
+    let json: serde_json::Value = serde_json::from_str(&json).unwrap();
+    assert_eq!(json["cases"][0]["checks"][0]["status"], "unknown");
+    assert_eq!(
+        json["cases"][0]["checks"][0]["passed"],
+        serde_json::Value::Null
+    );
+}

@@ -62,11 +62,13 @@ pub(super) fn case_results(sheet: &Sheet, diagnostics: &mut Vec<Diagnostic>) -> 
     chosen
 }
 
-/// The most (toleranced input, cell) pairs the tolerance analysis follows:
-/// its memory and time grow with their product (about 200 bytes a pair,
-/// measured 2026-12-03), so a sheet past this bound (1 GB) gets unknown
-/// worst cases with the reason rather than exhausting the machine.
-pub const MAX_TOLERANCE_PAIRS: usize = 5_000_000;
+/// The most (toleranced input, cell) pairs the tolerance analyses of one
+/// sheet follow, as written and in all its load cases together: memory
+/// grows with the pairs of one analysis (about 100 bytes a pair) and time
+/// with all of them (about 0.2 µs a pair), measured 2026-12-03. Past the
+/// bound (about 1 GB and 2 s), the worst cases not yet looked for are
+/// unknown with the reason rather than exhausting the machine.
+pub const MAX_TOLERANCE_PAIRS: usize = 10_000_000;
 
 impl Evaluator<'_> {
     /// Ranges of every cell, the chosen ones refined to their corners, and
@@ -80,27 +82,35 @@ impl Evaluator<'_> {
         checks: &mut [CheckResult],
         chosen: &[CellId],
         case: Option<&str>,
+        budget: &mut usize,
     ) -> CellRanges {
         let n_cells = self.sheet.cells.len();
         let n_toleranced = (0..n_cells)
             .filter(|&cell| self.spreads[cell].is_some())
             .count();
-        if n_toleranced.saturating_mul(n_cells) > MAX_TOLERANCE_PAIRS {
+        let pairs = n_toleranced.saturating_mul(n_cells);
+        if pairs > *budget {
             // Past the bound, the worst case is not looked for: every check
             // a toleranced input reaches is unknown, and says why.
             let reached = self.reached_by(&self.corner_inputs());
+            let spent = MAX_TOLERANCE_PAIRS - *budget;
+            let earlier = if spent > 0 {
+                format!(", after {spent} pairs spent on the sheet's other analyses")
+            } else {
+                String::new()
+            };
             for (index, result) in checks.iter_mut().enumerate() {
                 if result.holds.is_some()
                     && self.sheet.check_uses[index].iter().any(|&id| reached[id])
                 {
                     result.worst_unknown = Some(format!(
-                        "the sheet has {n_toleranced} toleranced inputs and {n_cells} cells, and following each input through each cell ({} pairs) is beyond heft's limit of {MAX_TOLERANCE_PAIRS} pairs",
-                        n_toleranced.saturating_mul(n_cells)
+                        "following {n_toleranced} toleranced inputs through {n_cells} cells ({pairs} pairs{earlier}) is beyond heft's limit of {MAX_TOLERANCE_PAIRS} pairs a sheet"
                     ));
                 }
             }
             return CellRanges::default();
         }
+        *budget -= pairs;
         let Some(ranges) = self.ranges() else {
             return CellRanges::default();
         };
@@ -348,11 +358,13 @@ impl Evaluator<'_> {
     /// and the notebook: tolerances, load cases, then every check's verdict.
     pub(super) fn judge_sheet(&mut self, checks: &mut [CheckResult]) -> SheetJudgement {
         let case_results = case_results(self.sheet, &mut self.diagnostics);
+        let mut budget = MAX_TOLERANCE_PAIRS;
         let CellRanges {
             scalars: ranges,
             vectors: vector_ranges,
-        } = self.apply_tolerances(checks, &case_results, None);
-        let (cases, case_diagnostics) = evaluate_cases(self.sheet, self.source, &case_results);
+        } = self.apply_tolerances(checks, &case_results, None, &mut budget);
+        let (cases, case_diagnostics) =
+            evaluate_cases(self.sheet, self.source, &case_results, &mut budget);
         self.diagnostics.extend(case_diagnostics);
         super::verdict::judge(self.sheet, checks, &cases, &mut self.diagnostics);
         let governing = governing(checks, &cases);
@@ -442,6 +454,7 @@ pub(super) fn evaluate_cases(
     sheet: &Sheet,
     source: &str,
     chosen: &[CellId],
+    budget: &mut usize,
 ) -> (Vec<CaseOutcome>, Vec<Diagnostic>) {
     let mut outcomes = Vec::new();
     let mut diagnostics = Vec::new();
@@ -487,7 +500,7 @@ pub(super) fn evaluate_cases(
             .map(|index| evaluator.evaluate_check(index))
             .collect();
         let ranges = evaluator
-            .apply_tolerances(&mut checks, chosen, Some(&case.name.text))
+            .apply_tolerances(&mut checks, chosen, Some(&case.name.text), budget)
             .scalars;
         // Keep what is new in this case: errors in its overrides and its
         // failed checks (named with the case); the rest repeats the sheet's.
@@ -515,6 +528,13 @@ pub(super) fn evaluate_cases(
             .collect();
         outcome.checks = checks
             .into_iter()
+            .enumerate()
+            .map(|(index, mut check)| {
+                // This case's own verdict, by the one rule: a worst case
+                // it could not establish makes it unknown, never passed.
+                super::verdict::judge_check(sheet, index, &mut check, &[]);
+                check
+            })
             .map(|check| CaseCheck {
                 status: check.status,
                 holds: check.holds,
