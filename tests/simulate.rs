@@ -1209,7 +1209,7 @@ fn a_run_keeps_a_bounded_number_of_coefficients_whatever_its_size() {
     assert_eq!(step_limit(2), MAX_STEPS);
     for n in [1, 2, 7, 40, 80, 1_000, 5_000, 100_000] {
         let steps = step_limit(n);
-        assert!(steps >= 1 && steps <= MAX_STEPS, "{n}: {steps}");
+        assert!((1..=MAX_STEPS).contains(&steps), "{n}: {steps}");
         assert!(steps * 5 * n <= MAX_KEPT_COEFFICIENTS, "{n}: {steps}");
     }
     assert!(step_limit(80) < MAX_STEPS);
