@@ -126,3 +126,31 @@ fn greek_with_latin_and_ascii_look_alikes_are_left_alone() {
     let micro = run("μ_s = 0.3\n\u{b5}_s = 0.2\n");
     assert!(codes(&micro).contains(&"confusable-names"));
 }
+
+#[test]
+fn greek_symbols_beside_latin_letters_are_meant_but_greek_capitals_drawn_as_latin_are_not() {
+    // An angle α beside an acceleration a, Poisson's ν beside a speed v, a
+    // density ρ beside a pressure p: small Greek letters are symbols.
+    let symbols = run("a = 2 m/s^2
+α = 25 deg
+v = 1 m/s
+ν = 0.3
+p = 1 kPa
+ρ = 1000 kg/m^3
+");
+    assert!(
+        !codes(&symbols).contains(&"confusable-names"),
+        "{:?}",
+        codes(&symbols)
+    );
+    // A Greek capital Alpha (U+0391) and omicron (U+03BF) look exactly like
+    // Latin A and o: decoys.
+    for decoy in ["T_\u{391} = 2 kN\n", "F\u{3bf} = 2 kN\n"] {
+        let sheet = run(&format!("T_A = 1 kN\nFo = 1 kN\n{decoy}"));
+        assert!(
+            codes(&sheet).contains(&"confusable-names"),
+            "{decoy}: {:?}",
+            codes(&sheet)
+        );
+    }
+}

@@ -1514,41 +1514,26 @@ fn block_op() -> impl Strategy<Value = BlockOp> {
 }
 
 fn press_editor_key(app: &mut App, key: &EditorKey) {
-    match key {
+    let code = match key {
         EditorKey::Type(text) => {
             type_text(app, text);
-        }
-        EditorKey::Enter => {
-            press(app, KeyCode::Enter);
-        }
-        EditorKey::Backspace => {
-            press(app, KeyCode::Backspace);
-        }
-        EditorKey::Delete => {
-            press(app, KeyCode::Delete);
-        }
-        EditorKey::Up => {
-            press(app, KeyCode::Up);
-        }
-        EditorKey::Down => {
-            press(app, KeyCode::Down);
-        }
-        EditorKey::Left => {
-            press(app, KeyCode::Left);
-        }
-        EditorKey::Right => {
-            press(app, KeyCode::Right);
-        }
-        EditorKey::Home => {
-            press(app, KeyCode::Home);
-        }
-        EditorKey::End => {
-            press(app, KeyCode::End);
+            return;
         }
         EditorKey::ClearLine => {
             update(app, ctrl('u'));
+            return;
         }
-    }
+        EditorKey::Enter => KeyCode::Enter,
+        EditorKey::Backspace => KeyCode::Backspace,
+        EditorKey::Delete => KeyCode::Delete,
+        EditorKey::Up => KeyCode::Up,
+        EditorKey::Down => KeyCode::Down,
+        EditorKey::Left => KeyCode::Left,
+        EditorKey::Right => KeyCode::Right,
+        EditorKey::Home => KeyCode::Home,
+        EditorKey::End => KeyCode::End,
+    };
+    press(app, code);
 }
 
 /// A text's lines as (text, break); the last break is "" in a file

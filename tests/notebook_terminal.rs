@@ -69,6 +69,13 @@ impl Session {
             .unwrap_or_default()
     }
 
+    /// Finds the cell `name` and selects it.
+    fn go_to(&mut self, name: &str) {
+        self.send("f");
+        self.send(name);
+        self.send(ENTER);
+    }
+
     /// Waits until the screen shows `text`.
     #[track_caller]
     fn wait_for(&mut self, text: &str) {
@@ -144,29 +151,31 @@ fn names_in(directory: &std::path::Path) -> Vec<String> {
     names
 }
 
+/// A demo sheet's text copied to `name` in a fresh temporary folder.
+fn demo_copy(name: &str, text: &str) -> (tempfile::TempDir, std::path::PathBuf) {
+    let directory = tempfile::tempdir().expect("a temporary directory");
+    let file = directory.path().join(name);
+    std::fs::write(&file, text).expect("the demo sheet is copied");
+    (directory, file)
+}
+
 const ENTER: &str = "\r";
 const CLEAR_FIELD: &str = "\u{15}";
 
 #[test]
 fn edit_an_input_watch_the_result_change_and_save_one_line() {
-    let directory = tempfile::tempdir().expect("a temporary directory");
-    let file = directory.path().join("skid_lift.heft");
     let original = include_str!("../sheets/skid_lift.heft");
-    std::fs::write(&file, original).expect("the demo sheet is copied");
+    let (directory, file) = demo_copy("skid_lift.heft", original);
 
     let mut heft = Session::start(&file);
     heft.wait_for("Compressor skid lift");
     // Bring T_up into view: T_up = m_tot (g0 + a_up)
     // = 1892 kg × (9.80665 + 0.35) m/s² = 19.22 kN (Newton's second law).
-    heft.send("f");
-    heft.send("T_up");
-    heft.send(ENTER);
+    heft.go_to("T_up");
     heft.wait_for("19.22 kN");
 
     // Its input a_up is on screen too; edit it there.
-    heft.send("f");
-    heft.send("a_up");
-    heft.send(ENTER);
+    heft.go_to("a_up");
     heft.send("=");
     heft.send(CLEAR_FIELD);
     heft.send("0.5 m/s^2");
@@ -208,16 +217,12 @@ fn edit_an_input_watch_the_result_change_and_save_one_line() {
 
 #[test]
 fn quitting_with_unsaved_changes_asks_and_a_kept_copy_survives_a_kill() {
-    let directory = tempfile::tempdir().expect("a temporary directory");
-    let file = directory.path().join("cart.heft");
     let original = include_str!("../sheets/cart_train.heft");
-    std::fs::write(&file, original).expect("the demo sheet is copied");
+    let (directory, file) = demo_copy("cart.heft", original);
 
     let mut heft = Session::start(&file);
     heft.wait_for("Parts-cart train");
-    heft.send("f");
-    heft.send("F_draw");
-    heft.send(ENTER);
+    heft.go_to("F_draw");
     heft.send("=");
     heft.send(CLEAR_FIELD);
     heft.send("240 lbf");
@@ -248,16 +253,12 @@ fn quitting_with_unsaved_changes_asks_and_a_kept_copy_survives_a_kill() {
 
 #[test]
 fn text_typed_without_enter_survives_a_kill() {
-    let directory = tempfile::tempdir().expect("a temporary directory");
-    let file = directory.path().join("cart.heft");
     let original = include_str!("../sheets/cart_train.heft");
-    std::fs::write(&file, original).expect("the demo sheet is copied");
+    let (directory, file) = demo_copy("cart.heft", original);
 
     let mut heft = Session::start(&file);
     heft.wait_for("Parts-cart train");
-    heft.send("f");
-    heft.send("F_draw");
-    heft.send(ENTER);
+    heft.go_to("F_draw");
     heft.send("=");
     heft.send(CLEAR_FIELD);
     heft.send("251 lbf");
@@ -285,10 +286,8 @@ fn text_typed_without_enter_survives_a_kill() {
 
 #[test]
 fn two_notebooks_on_one_sheet_are_told_of_each_other_and_lose_nothing() {
-    let directory = tempfile::tempdir().expect("a temporary directory");
-    let file = directory.path().join("hoist.heft");
     let original = include_str!("../sheets/skid_lift.heft");
-    std::fs::write(&file, original).expect("the demo sheet is copied");
+    let (directory, file) = demo_copy("hoist.heft", original);
 
     let mut first = Session::start(&file);
     first.wait_for("Compressor skid lift");
@@ -299,9 +298,7 @@ fn two_notebooks_on_one_sheet_are_told_of_each_other_and_lose_nothing() {
 
     // Each changes a different input and keeps it (Enter).
     for (heft, value) in [(&mut second, "0.6 m/s^2"), (&mut first, "0.4 m/s^2")] {
-        heft.send("f");
-        heft.send("a_up");
-        heft.send(ENTER);
+        heft.go_to("a_up");
         heft.send("=");
         heft.send(CLEAR_FIELD);
         heft.send(value);
@@ -346,19 +343,15 @@ const KEEP: &str = "\u{13}";
 
 #[test]
 fn edit_a_solve_block_in_its_editor_keep_it_with_ctrl_s_and_save_one_line() {
-    let directory = tempfile::tempdir().expect("a temporary directory");
-    let file = directory.path().join("clamp.heft");
     let original = include_str!("../sheets/lift_slide_clamp.heft");
-    std::fs::write(&file, original).expect("the demo sheet is copied");
+    let (_directory, file) = demo_copy("clamp.heft", original);
 
     let mut heft = Session::start(&file);
     heft.wait_for("Jaw clamp force");
     // The solve block gives N_req = SF m (g0 + a) / (2 μ)
     // = 2 × 11.7934 kg × 13.00665 m/s² / 0.5 = 613.6 N (26 lbm = 11.7934 kg,
     // the 1959 pound; closed form).
-    heft.send("f");
-    heft.send("N_req");
-    heft.send(ENTER);
+    heft.go_to("N_req");
     heft.wait_for("613.6 N");
     heft.send("e");
     heft.wait_for("block · lines 28–30");
@@ -400,10 +393,8 @@ fn edit_a_solve_block_in_its_editor_keep_it_with_ctrl_s_and_save_one_line() {
 
 #[test]
 fn a_termination_signal_gives_the_terminal_back_and_keeps_the_typed_text() {
-    let directory = tempfile::tempdir().expect("a temporary directory");
-    let file = directory.path().join("cart.heft");
     let original = include_str!("../sheets/cart_train.heft");
-    std::fs::write(&file, original).expect("the demo sheet is copied");
+    let (directory, file) = demo_copy("cart.heft", original);
     let mut heft = Session::start(&file);
     heft.wait_for("Parts-cart train");
     let on_screen = |heft: &Session| {
@@ -423,9 +414,7 @@ fn a_termination_signal_gives_the_terminal_back_and_keeps_the_typed_text() {
         (true, true),
         "the notebook took the screen and the mouse"
     );
-    heft.send("f");
-    heft.send("F_draw");
-    heft.send(ENTER);
+    heft.go_to("F_draw");
     heft.send("=");
     heft.send(CLEAR_FIELD);
     heft.send("252 lbf");

@@ -144,8 +144,9 @@ impl NameTable {
     }
 
     /// Names a reader could take for one another, when any name is not
-    /// plain ASCII: pairs of distinct names with one Unicode TR 39
-    /// skeleton, at least one of them not ASCII (`Fо` with a Cyrillic `о`
+    /// plain ASCII: pairs of distinct names with one reading ([`reading`]:
+    /// the Unicode TR 39 skeleton, Greek symbols aside), at least one of
+    /// them not ASCII (`Fо` with a Cyrillic `о`
     /// and `Fo`; ASCII pairs such as `m1` and `ml` are left alone), and
     /// names that mix scripts ([`mixes_scripts`]). Empty for an ASCII sheet.
     pub fn lookalikes(&self) -> Lookalikes {
@@ -159,7 +160,7 @@ impl NameTable {
             found
                 .mixed_scripts
                 .extend(mixes_scripts(name).then_some(*id));
-            let skeleton: String = unicode_security::skeleton(name).collect();
+            let skeleton = reading(name);
             match by_skeleton.entry(skeleton) {
                 Entry::Occupied(first) => {
                     let (first, first_is_ascii) = *first.get();
@@ -174,6 +175,25 @@ impl NameTable {
         }
         found
     }
+}
+
+/// How a name reads: its Unicode TR 39 skeleton, except that the small
+/// Greek letters engineers write as symbols (`α` for an angle beside `a`
+/// for an acceleration, `ν` beside `v`, `ρ` beside `p`) stand for
+/// themselves. The Greek capitals drawn like Latin ones (`Α`, `Β`, `Ε`, …),
+/// omicron and the micro sign are read as their skeletons, so they still
+/// count as look-alikes.
+fn reading(name: &str) -> String {
+    let mut text = String::with_capacity(name.len());
+    for c in name.chars() {
+        if ('α'..='ω').contains(&c) && c != 'ο' || matches!(c, 'ϑ' | 'ϕ' | 'ϵ') {
+            text.push(c);
+        } else {
+            let mut buffer = [0; 4];
+            text.extend(unicode_security::skeleton(c.encode_utf8(&mut buffer)));
+        }
+    }
+    text
 }
 
 /// What [`NameTable::lookalikes`] found.
