@@ -341,3 +341,56 @@ proptest! {
         let _ = std::fs::remove_dir_all(&dir);
     }
 }
+
+#[test]
+fn a_file_of_carriage_returns_alone_is_said_to_be_one() {
+    // Line breaks written as CR alone (old Mac files): heft reads one line
+    // and says why, rather than an unexplained parse error.
+    let evaluated = heftsheet::eval::evaluate_source("m = 4 kg\rW [N] = m * g0\rcheck W <= 50 N\r");
+    let finding = evaluated
+        .diagnostics
+        .iter()
+        .find(|d| d.code.as_str() == "encoding-error")
+        .expect("the file's line breaks are named");
+    assert!(
+        finding.message.contains("carriage return alone"),
+        "{}",
+        finding.message
+    );
+    assert_eq!(evaluated.summary().passed, 0);
+}
+
+#[test]
+fn findings_on_a_very_long_line_show_an_excerpt_and_count_the_rest() {
+    // 10,000 undefined names on one 69 KB line: each finding shows the text
+    // around its own name, three per line are drawn and the rest counted,
+    // so the output stays small (it was 1 GB: the whole line per finding).
+    let names: Vec<String> = (0..10_000).map(|k| format!("u{k}")).collect();
+    let dir = temp_dir("long-line");
+    std::fs::write(
+        dir.join("long.heft"),
+        format!("x = max({})\n", names.join(", ")),
+    )
+    .unwrap();
+    let outcome = heft_in(&dir, &["check", "long.heft"], TIME_BOUND);
+    assert_eq!(outcome.code, 1);
+    let shown = String::from_utf8_lossy(&outcome.stdout).into_owned()
+        + &String::from_utf8_lossy(&outcome.stderr);
+    assert!(shown.len() < 200_000, "{} bytes", shown.len());
+    // Every line of the findings is short (the sheet's own table row
+    // shows the formula as written, whole).
+    let findings = &shown[shown.find("error[").expect("a finding")..];
+    assert!(findings.lines().all(|line| line.chars().count() < 400));
+    assert_eq!(shown.matches("error[undefined-name]").count(), 3);
+    assert!(
+        shown.contains("9997 more"),
+        "{}",
+        &shown[shown.len().saturating_sub(2000)..]
+    );
+    // The JSON lists every one.
+    let json = heft_in(&dir, &["check", "--json", "long.heft"], TIME_BOUND);
+    let json: serde_json::Value = serde_json::from_slice(&json.stdout).unwrap();
+    let listed = json["diagnostics"].as_array().map_or(0, Vec::len);
+    assert_eq!(listed, 10_000);
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -1754,3 +1754,21 @@ proptest! {
         prop_assert_eq!(app.live().text(), last, "redo all the way");
     }
 }
+
+#[test]
+fn a_byte_order_mark_is_read_past_and_kept_through_an_edit() {
+    // A sheet saved by an editor that writes a UTF-8 byte-order mark: the
+    // header reads, the mark is no finding, and an edit keeps it in place.
+    let text = "\u{feff}+++\ntitle = \"Marked\"\n+++\nm = 4 kg\nW [N] = m * g0\n";
+    let mut app = app_for(text);
+    assert_eq!(app.live().n_findings(), 0, "{:?}", app.live().findings());
+    assert_eq!(app.live().header().title.as_deref(), Some("Marked"));
+    select_cell(&mut app, "m");
+    press(&mut app, KeyCode::Enter);
+    clear_field(&mut app);
+    type_text(&mut app, "5 kg");
+    press(&mut app, KeyCode::Enter);
+    let edited = app.live().text();
+    assert_eq!(edited, text.replace("m = 4 kg", "m = 5 kg"));
+    assert!(edited.starts_with('\u{feff}'));
+}
