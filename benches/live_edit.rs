@@ -18,7 +18,7 @@ fn one_input_edit(c: &mut Criterion) {
     heftsheet::allocator::configure();
     let mut live = LiveSheet::open(&sectioned_sheet(1000));
     assert_eq!(live.n_cells(), 100_000);
-    assert_eq!(live.count(heftsheet::diag::Severity::Error), 0);
+    assert_eq!(live.count(heftsheet::base::Severity::Error), 0);
     let input = live.cell_named("m500").expect("the input of section 500");
     let mut group = c.benchmark_group("live_edit");
     let mut flip = false;

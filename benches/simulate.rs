@@ -8,7 +8,7 @@
 use std::time::Duration;
 
 use criterion::{Criterion, Throughput, criterion_group, criterion_main};
-use heftsheet::simulate::{ErrorControl, Settings, System, integrate};
+use heftsheet::numeric::{ErrorControl, Settings, System, integrate};
 
 #[global_allocator]
 static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;

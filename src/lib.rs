@@ -1,33 +1,34 @@
 //! heft: unit-checked calculation sheets for Newton's-second-law work.
 //!
-//! The pipeline is parse → AST → dependency graph → evaluate → present:
-//! [`syntax`] turns text into statements, [`sheet`] reads the header and
-//! orders the cells by their dependencies, [`eval`] computes every cell with
-//! its dimension checked at each operation (values in [`units`]), and
-//! [`cli`] presents the result. [`diag`] carries every finding as data.
-//! [`audit`] reads the evaluated sheet for the mistakes dimensions miss
-//! (lints) and lists every conversion for the checker.
-//! [`pipeline`] is the one function every command runs; [`cli`] presents
-//! the result; [`tui`] is the terminal notebook that edits a sheet and
-//! recomputes it live. [`diag`] carries every finding as data.
+//! The modules, in pipeline order: [`base`] (spans, line numbers,
+//! diagnostics as data, the one renderer, the one door to a terminal) and
+//! [`numeric`] (number types and the integrator, plain `f64`s) import
+//! nothing of the crate; [`units`] holds dimensions, quantities and the
+//! exact catalog; [`syntax`] turns text into statements; [`sheet`] reads
+//! the header, links names and orders the cells by their dependencies;
+//! [`eval`] computes every cell with its dimension checked at each
+//! operation, solves and simulates blocks, follows tolerances and load
+//! cases, and judges every check; [`audit`] reads the evaluated sheet for
+//! the mistakes dimensions miss; [`pipeline`] is the one function every
+//! command runs. [`review`] and [`diff`] read the evaluated model; [`plot`],
+//! [`report`], [`cli`] and [`tui`] (the terminal notebook that edits a sheet
+//! and recomputes it live) present it.
 
 pub mod allocator;
 pub mod audit;
-pub mod cases;
+pub mod base;
 pub mod cli;
-pub mod diag;
 pub mod diff;
 pub mod eval;
+pub mod numeric;
 pub mod pipeline;
 pub mod plot;
 pub mod report;
 pub mod review;
 pub mod sheet;
-pub mod simulate;
 pub mod syntax;
 pub mod tui;
 pub mod units;
-pub mod visible;
 
 /// The caution every output for people carries: heft supports the
 /// engineer's judgment and the independent check, never replaces them.
@@ -38,15 +39,15 @@ or the local equivalent), the manufacturers' ratings, and licensed engineering p
 
 /// Reads a sheet file's bytes as text: invalid UTF-8 is replaced (so the
 /// rest of the sheet is still checked) and reported at its first byte.
-pub fn decode_source(bytes: &[u8]) -> (String, Option<diag::Diagnostic>) {
+pub fn decode_source(bytes: &[u8]) -> (String, Option<base::Diagnostic>) {
     match std::str::from_utf8(bytes) {
         Ok(text) => (text.to_string(), None),
         Err(error) => {
             let at = error.valid_up_to();
             let text = String::from_utf8_lossy(bytes).into_owned();
-            let diagnostic = diag::Diagnostic::error(
-                diag::Code::EncodingError,
-                syntax::Span::new(at, at + 1),
+            let diagnostic = base::Diagnostic::error(
+                base::Code::EncodingError,
+                base::Span::new(at, at + 1),
                 format!(
                     "the file is not valid UTF-8 from byte {at} on; those bytes are shown as �"
                 ),

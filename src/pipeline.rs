@@ -5,7 +5,7 @@
 //! [`run_bytes`], so no two can disagree on a finding, a fix or a verdict; the notebook evaluates edits incrementally and is
 //! held to the same counts by `tests/oracles.rs`.
 
-use crate::diag::Diagnostic;
+use crate::base::Diagnostic;
 use crate::eval::{self, Evaluated};
 
 /// Parses, links, evaluates and lints a sheet's text, and checks every fix

@@ -140,7 +140,7 @@ fn the_audit_text_of_a_mixed_sheet() {
             .join("tests/sheets/audit/bad/gravity_9_81_and_32_2.heft"),
     )
     .expect("corpus sheet");
-    let evaluated = heftsheet::audit::check_source(&source);
+    let evaluated = heftsheet::pipeline::run(&source);
     let text = heftsheet::cli::audit_text("gravity_9_81_and_32_2.heft", &evaluated);
     insta::assert_snapshot!(text);
 }

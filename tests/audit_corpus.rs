@@ -10,8 +10,8 @@ mod common;
 use std::collections::BTreeMap;
 use std::fs;
 
-use heftsheet::audit::check_source;
-use heftsheet::diag::{Code, Severity};
+use heftsheet::base::{Code, Severity};
+use heftsheet::pipeline::run as check_source;
 
 /// (line, code) → how many times, as `heft check` reports them.
 fn produced(source: &str) -> BTreeMap<(usize, String), usize> {

@@ -5,8 +5,9 @@
 
 mod common;
 
-use heftsheet::audit::{ConversionKind, Exactness, GravityKind, check_source, conversion_audit};
-use heftsheet::diag::{Code, Severity};
+use heftsheet::audit::{ConversionKind, Exactness, GravityKind, conversion_audit};
+use heftsheet::base::{Code, Severity};
+use heftsheet::pipeline::run as check_source;
 
 /// Relative agreement demanded of figures quoted to 4 significant digits.
 const FOUR_DIGITS: f64 = 5e-4;

@@ -1,8 +1,9 @@
 //! The lints and the conversion audit never panic and never change a value,
 //! whatever the sheet: random token soups of the words the lints look for.
 
-use heftsheet::audit::{check_source, conversion_audit};
+use heftsheet::audit::conversion_audit;
 use heftsheet::eval::evaluate_source;
+use heftsheet::pipeline::run as check_source;
 use proptest::prelude::*;
 
 /// Words, numbers and units the lints react to, and glue between them.

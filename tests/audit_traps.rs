@@ -6,8 +6,8 @@
 
 mod common;
 
-use heftsheet::audit::check_source;
-use heftsheet::diag::{Code, Diagnostic};
+use heftsheet::base::{Code, Diagnostic};
+use heftsheet::pipeline::run as check_source;
 use heftsheet::units::{UnitSystem, catalog};
 
 fn findings(source: &str, code: Code) -> Vec<Diagnostic> {

@@ -121,7 +121,7 @@ fn rendered_diagnostics_point_at_the_right_characters() {
     let source = "θ = 30°\nμ = 0.3 \"µ measured\"\nF [N] = μ * θ + 5 kg\n";
     let evaluated = heftsheet::eval::evaluate_source(source);
     let text =
-        heftsheet::diag::render::render(&evaluated.diagnostics, "unicode.heft", source, false);
+        heftsheet::base::render::render(&evaluated.diagnostics, "unicode.heft", source, false);
     insta::assert_snapshot!(text);
 }
 

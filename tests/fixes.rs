@@ -7,7 +7,7 @@
 
 mod common;
 
-use heftsheet::diag::{Code, Diagnostic, Severity};
+use heftsheet::base::{Code, Diagnostic, Severity};
 use heftsheet::eval::Evaluated;
 use heftsheet::pipeline;
 
@@ -84,7 +84,7 @@ fn the_one_fix(source: &str, line: usize) -> (String, String) {
 /// shows: within half a unit of the last figure.
 #[track_caller]
 fn assert_shown_to_four_figures(shown: f64, exact: f64) {
-    let digits = exact.abs().log10().floor() as i32;
+    let digits = libm::log10(exact.abs()).floor() as i32;
     let half_unit = 0.5 * 10f64.powi(digits - 3);
     assert!(
         (shown - exact).abs() <= half_unit * (1.0 + 1e-9),

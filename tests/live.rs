@@ -2,7 +2,7 @@
 //! byte outside the edited line, and an edited sheet always has exactly the
 //! results that evaluating its text from scratch gives.
 
-use heftsheet::diag::Code;
+use heftsheet::base::Code;
 use heftsheet::eval::{CellField, CellStatus, EditError, LiveSheet, evaluate_source};
 use proptest::prelude::*;
 
@@ -498,7 +498,7 @@ fn splices_over_blocks_and_the_header_match_a_full_evaluation_and_undo_exactly()
     let finding = live
         .findings()
         .into_iter()
-        .find(|f| f.code == heftsheet::diag::Code::ParseError)
+        .find(|f| f.code == heftsheet::base::Code::ParseError)
         .expect("the broken equation's finding");
     assert_eq!(finding.line, lines.start + 2);
     live.apply(&broken.inverse()).expect("undo");

@@ -302,7 +302,7 @@ fn audit_lints_show_once_linted_and_only_for_the_text_they_were_run_on() {
         .cell_statement(app.live().cell_named("m_rig").expect("m_rig"));
     let lint = findings
         .iter()
-        .find(|finding| finding.code == heftsheet::diag::Code::HandConversionFactor)
+        .find(|finding| finding.code == heftsheet::base::Code::HandConversionFactor)
         .unwrap_or_else(|| panic!("no hand-typed factor lint in {findings:#?}"));
     assert_eq!(lint.statement, Some(statement));
     assert_eq!(lint.line, app.live().statement_line(statement) + 1);
@@ -310,7 +310,7 @@ fn audit_lints_show_once_linted_and_only_for_the_text_they_were_run_on() {
         app.live()
             .statement_findings(statement)
             .iter()
-            .any(|finding| finding.code == heftsheet::diag::Code::HandConversionFactor)
+            .any(|finding| finding.code == heftsheet::base::Code::HandConversionFactor)
     );
     // The next edit drops them until the new text is linted.
     press(&mut app, KeyCode::Char('<'));
@@ -1095,7 +1095,7 @@ fn adding_on_a_block_row_inserts_after_its_end() {
     // The block still reads as it did: its unknown is solved as before.
     assert_eq!(value_of(&app, "N_req"), unknown);
     assert!(value_of(&app, "N_spare") > 0.0);
-    assert_eq!(app.live().count(heftsheet::diag::Severity::Error), 0);
+    assert_eq!(app.live().count(heftsheet::base::Severity::Error), 0);
 }
 
 #[test]
@@ -1198,7 +1198,7 @@ fn a_block_that_does_not_parse_stays_as_typed_and_is_marked() {
     assert!(matches!(app.live().row(statement), Row::Block { .. }));
     assert_eq!(
         app.live().statement_severity(statement),
-        Some(heftsheet::diag::Severity::Error)
+        Some(heftsheet::base::Severity::Error)
     );
     // A block whose head does not parse is kept whole too, marked as an
     // invalid row shown by its first line, and x still deletes all of it.

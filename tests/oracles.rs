@@ -24,9 +24,9 @@ mod common;
 
 use std::path::{Path, PathBuf};
 
+use heftsheet::base::Span;
 use heftsheet::eval::{CellStatus, CheckStatus, Evaluated, LiveSheet, RangeMethod};
 use heftsheet::pipeline;
-use heftsheet::syntax::Span;
 use heftsheet::syntax::ast::{Target, Tolerance};
 use proptest::prelude::*;
 
@@ -474,7 +474,7 @@ fn value_of(evaluated: &Evaluated, name: &str) -> Option<f64> {
 /// Whether the sheet evaluated without an error other than failed checks.
 fn no_errors(evaluated: &Evaluated) -> bool {
     evaluated.diagnostics.iter().all(|d| {
-        d.severity != heftsheet::diag::Severity::Error || d.code.as_str() == "check-failed"
+        d.severity != heftsheet::base::Severity::Error || d.code.as_str() == "check-failed"
     })
 }
 

@@ -138,7 +138,7 @@ proptest! {
             prop_assert!(text.is_char_boundary(diagnostic.span.start().min(text.len())));
         }
         // Rendering must not panic either.
-        let _ = heftsheet::diag::render::render(&evaluated.diagnostics, "soup.heft", &text, false);
+        let _ = heftsheet::base::render::render(&evaluated.diagnostics, "soup.heft", &text, false);
     }
 }
 

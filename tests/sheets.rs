@@ -8,7 +8,7 @@ mod common;
 use std::collections::BTreeMap;
 use std::fs;
 
-use heftsheet::diag::Severity;
+use heftsheet::base::Severity;
 use heftsheet::eval::evaluate_source;
 
 fn produced(source: &str) -> BTreeMap<(usize, String), usize> {
@@ -21,7 +21,7 @@ fn found_at_least(source: &str, severity: Severity) -> BTreeMap<(usize, String),
 
 /// What `heft check` reports, the audit's lints included.
 fn found_with_lints(source: &str, severity: Severity) -> BTreeMap<(usize, String), usize> {
-    findings(&heftsheet::audit::check_source(source), severity)
+    findings(&heftsheet::pipeline::run(source), severity)
 }
 
 fn findings(
@@ -100,11 +100,11 @@ fn every_error_code_is_exercised_by_the_corpus() {
                 .map(|(_, code)| code),
         );
     }
-    for code in heftsheet::diag::Code::ALL {
-        if code == heftsheet::diag::Code::EncodingError {
+    for code in heftsheet::base::Code::ALL {
+        if code == heftsheet::base::Code::EncodingError {
             continue; // needs invalid bytes; covered in tests/robustness.rs
         }
-        if code == heftsheet::diag::Code::SolveTooLarge {
+        if code == heftsheet::base::Code::SolveTooLarge {
             continue; // needs a 2,001-unknown block; covered in tests/robustness.rs
         }
         assert!(

@@ -11,7 +11,7 @@ use std::cell::RefCell;
 
 use super::context::{Context, Owner};
 use super::rewrite::evaluate_rewritten;
-use crate::diag::{Code, Diagnostic, Fix, FixValue};
+use crate::base::{Code, Diagnostic, Fix, FixValue};
 use crate::sheet::CellId;
 use crate::syntax::ast::{Expr, ExprKind, Target, UnitExpr};
 use crate::units::{self, Dimension, format_significant};

@@ -5,9 +5,9 @@ use std::cell::RefCell;
 
 use rustc_hash::FxHashMap;
 
+use crate::base::Span;
 use crate::eval::{CellStatus, Evaluated};
 use crate::sheet::{CellId, Sheet};
-use crate::syntax::Span;
 use crate::syntax::ast::{Expr, ExprKind, NameRef, Target, UnitExpr};
 use crate::units::{
     self, Dimension, DisplaySystem, Quantity, ResolvedUnit, format_significant, pick_unit,

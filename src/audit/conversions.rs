@@ -8,8 +8,8 @@ use rustc_hash::FxHashMap;
 use super::context::{Context, Owner};
 use super::gravity::{self, GravityUse};
 use super::hand_factors;
+use crate::base::Span;
 use crate::eval::{CellStatus, Evaluated};
-use crate::syntax::Span;
 use crate::syntax::ast::{ExprKind, UnitExpr};
 use crate::units::{self, Dimension, ExactFactor, UnitSystem, catalog};
 

@@ -16,9 +16,9 @@
 use rayon::prelude::*;
 use rustc_hash::FxHashMap;
 
-use crate::diag::{Code, Diagnostic, Fix, FixValue, Severity};
+use crate::base::LineIndex;
+use crate::base::{Code, Diagnostic, Fix, FixValue, Severity};
 use crate::eval::{CellStatus, Evaluated, evaluate_source, format_value};
-use crate::syntax::LineIndex;
 use crate::units::{DisplayUnit, Quantity, Value, pick_unit};
 
 /// At most this many fixes are checked for one sheet: each costs an
@@ -399,7 +399,7 @@ impl Place {
     /// The formula cell or check side whose statement holds byte `at` (none
     /// inside a solve or simulate block).
     fn at(fixed: &Evaluated, at: usize) -> Option<Place> {
-        let within = |span: crate::syntax::Span| span.start() <= at && at <= span.end();
+        let within = |span: crate::base::Span| span.start() <= at && at <= span.end();
         let sheet = fixed.sheet();
         if let Some(cell) = fixed
             .cells()

@@ -5,8 +5,8 @@
 
 use super::context::{Context, Owner};
 use super::hand_factors::HandFactorUse;
+use crate::base::Span;
 use crate::sheet::CellId;
-use crate::syntax::Span;
 use crate::syntax::ast::{Expr, ExprKind, Target, UnitExpr};
 use crate::units::{self, Dimension, STANDARD_GRAVITY};
 

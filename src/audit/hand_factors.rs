@@ -358,7 +358,7 @@ fn rounded(value: f64, figures: usize) -> f64 {
     if value == 0.0 || !value.is_finite() {
         return value;
     }
-    let exponent = value.abs().log10().floor() as i32 - (figures as i32 - 1);
+    let exponent = libm::log10(value.abs()).floor() as i32 - (figures as i32 - 1);
     let scale = 10f64.powi(exponent.abs());
     if exponent >= 0 {
         (value / scale).round() * scale
@@ -403,7 +403,7 @@ fn matching(value: f64, written: &str) -> Vec<(&'static HandFactor, bool)> {
     let list = listed();
     // A rounding to `figures` figures lies within half a unit of its last
     // figure of the exact value.
-    let half_unit = 0.5 * 10f64.powi(value.abs().log10().floor() as i32 - figures as i32 + 1);
+    let half_unit = 0.5 * 10f64.powi(libm::log10(value.abs()).floor() as i32 - figures as i32 + 1);
     let (low, high) = (value - half_unit * 1.000_001, value + half_unit * 1.000_001);
     let first = list.partition_point(|listed| listed.value < low);
     let mut found: Vec<(&'static Listed, f64)> = list[first..]

@@ -8,8 +8,8 @@ use super::gravity::{self, GravityKind, GravityUse, same_value};
 use super::hand_factors::{self, Family, HandFactorUse};
 use super::rewrite::evaluate_rewritten;
 use super::roles::{Evidence, Role, role_of};
-use crate::diag::{Code, Diagnostic, Fix};
-use crate::syntax::Span;
+use crate::base::Span;
+use crate::base::{Code, Diagnostic, Fix};
 use crate::syntax::ast::{BinaryOp, Expr, ExprKind};
 use crate::units::{self, Dimension, Quantity, STANDARD_GRAVITY, UnitSystem, format_significant};
 

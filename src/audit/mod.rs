@@ -10,7 +10,7 @@
 //! The lints are kept out of [`crate::eval::evaluate_source`] on purpose:
 //! evaluation reports what is wrong for certain; lints report what is
 //! probably wrong, from names, descriptions and familiar numbers.
-//! [`check_source`] is the whole pipeline with the lints added and every
+//! [`crate::pipeline::run`] is the whole pipeline with the lints added and every
 //! fix verified ([`verify_fixes`]), which every command uses.
 
 mod angles;
@@ -30,7 +30,7 @@ pub use fixes::{MAX_CHECKED_FIXES, MIN_CHECKED_FIXES, checked_fixes, verify_fixe
 pub use gravity::{GravityKind, GravityUse, Typed};
 pub use hand_factors::{Family, HandFactor, hand_factors};
 
-use crate::diag::Diagnostic;
+use crate::base::Diagnostic;
 use crate::eval::Evaluated;
 
 /// Every lint finding for an evaluated sheet, sorted by position.
@@ -61,10 +61,4 @@ pub fn format_relative(relative: f64) -> String {
         "{sign}{} %",
         crate::units::format_significant(relative * 100.0, 2)
     )
-}
-
-/// Parses, links, evaluates and lints a sheet, with its fixes verified:
-/// [`crate::pipeline::run`], what every command reports.
-pub fn check_source(source: &str) -> Evaluated {
-    crate::pipeline::run(source)
 }

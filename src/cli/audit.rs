@@ -13,10 +13,10 @@ use super::{EXIT_CLEAN, EXIT_FINDINGS, load_sheet, print};
 use crate::audit::{
     ConversionAudit, ConversionEntry, ConversionKind, Exactness, conversion_audit, format_relative,
 };
-use crate::diag::{Severity, render::render};
+use crate::base::visible::visible;
+use crate::base::{Severity, render::render};
 use crate::eval::{Evaluated, count};
 use crate::units::format_significant;
-use crate::visible::visible;
 
 /// The version of the audit's JSON schema; bumped only for incompatible changes.
 pub const SCHEMA: &str = "heft-audit/1";

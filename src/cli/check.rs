@@ -8,14 +8,14 @@ use std::path::Path;
 use anstyle::{AnsiColor, Style};
 
 use super::{EXIT_CLEAN, EXIT_FINDINGS, EXIT_USAGE, eprint, json, load_sheet, print, runs};
-use crate::diag::{Severity, render::render};
+use crate::base::visible::{visible, visible_output};
+use crate::base::{Severity, render::render};
 use crate::eval::{
     CellStatus, CheckStatus, Evaluated, OutlineItem, RangeMethod, SolveStatus, format_result,
     format_value,
 };
 use crate::units::Value;
 use crate::units::format_significant;
-use crate::visible::{visible, visible_output};
 
 /// What `heft check` prints.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]

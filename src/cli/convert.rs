@@ -5,7 +5,7 @@ use std::fmt::Write as _;
 use std::io;
 
 use super::{EXIT_CLEAN, EXIT_USAGE, print};
-use crate::diag::render::render;
+use crate::base::render::render;
 use crate::eval;
 use crate::syntax::ast::{ExprKind, UnitExpr};
 use crate::units::{self, ExactFactor, Quantity, catalog};

@@ -2,9 +2,9 @@
 
 use serde::Serialize;
 
-use crate::diag::Diagnostic;
+use crate::base::Diagnostic;
+use crate::base::LineIndex;
 use crate::eval::Evaluated;
-use crate::syntax::LineIndex;
 
 /// The version of the JSON schema; bumped only for incompatible changes.
 pub const SCHEMA: &str = "heft-check/1";
@@ -225,13 +225,13 @@ pub(super) struct JsonDiagnostic<'a> {
 
 /// A JSON document as pretty text ending in a line break, every hidden
 /// control in its strings written as a `\uXXXX` escape
-/// ([`crate::visible::visible_json`]), so the text reads back exact and
+/// ([`crate::base::visible::visible_json`]), so the text reads back exact and
 /// shows safely.
 pub fn text(report: &impl Serialize) -> String {
     let mut text = serde_json::to_string_pretty(report)
         .unwrap_or_else(|error| format!("{{\"error\": \"{error}\"}}"));
     text.push('\n');
-    crate::visible::visible_json(&text).into_owned()
+    crate::base::visible::visible_json(&text).into_owned()
 }
 
 /// Serializes an evaluated sheet.

@@ -205,7 +205,7 @@ fn load_sheet(path: &Path) -> io::Result<crate::eval::Evaluated> {
             format!("cannot read {}: {error}", path.display()),
         )
     })?;
-    if bytes.len() > crate::syntax::MAX_SOURCE_LEN {
+    if bytes.len() > crate::base::MAX_SOURCE_LEN {
         return Err(io::Error::new(
             io::ErrorKind::InvalidData,
             format!("{} is larger than 4 GiB", path.display()),
@@ -216,15 +216,15 @@ fn load_sheet(path: &Path) -> io::Result<crate::eval::Evaluated> {
 
 /// Writes a command's text to standard output, every hidden control shown
 /// as an escape and only heft's own colour sequences kept
-/// ([`crate::visible::visible_output`]). JSON is already safe
+/// ([`crate::base::visible::visible_output`]). JSON is already safe
 /// ([`json::text`]) and passes through unchanged.
 fn print(text: &str, colour: bool) -> io::Result<()> {
     let mut stdout = io::stdout().lock();
-    stdout.write_all(crate::visible::visible_output(text, colour).as_bytes())?;
+    stdout.write_all(crate::base::visible::visible_output(text, colour).as_bytes())?;
     stdout.flush()
 }
 
 /// Writes a message to standard error, as [`print`] does.
 fn eprint(text: &str, colour: bool) {
-    let _ = io::stderr().write_all(crate::visible::visible_output(text, colour).as_bytes());
+    let _ = io::stderr().write_all(crate::base::visible::visible_output(text, colour).as_bytes());
 }

@@ -128,7 +128,7 @@ pub fn review_text(evaluated: &Evaluated) -> String {
         }
     }
     // No colour here: the whole block is sheet text and plain words.
-    crate::visible::visible_output(&out, false).into_owned()
+    crate::base::visible::visible_output(&out, false).into_owned()
 }
 
 /// What a mark is about, in words.

@@ -5,8 +5,8 @@ use std::fmt::Write as _;
 
 use serde::Serialize;
 
+use crate::base::LineIndex;
 use crate::eval::{Evaluated, RunReport, RunStatus, format_value};
-use crate::syntax::LineIndex;
 use crate::units::{Value, format_significant};
 
 /// The one-line summary of how a run went, without its head.

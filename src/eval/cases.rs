@@ -10,7 +10,7 @@ use super::model::{
 };
 use super::ranges::RangeOf;
 use super::{CellStatus, Evaluator, SheetJudgement};
-use crate::diag::{Code, Diagnostic};
+use crate::base::{Code, Diagnostic};
 use crate::sheet::{CellId, NodeId, Sheet};
 use crate::syntax::ast::{ExprKind, NameRef, Target};
 use crate::units;

@@ -9,7 +9,7 @@
 
 use super::model::{CellRange, CheckRange, CheckResult, RangeMethod};
 use super::{CellStatus, Evaluator};
-use crate::diag::Severity;
+use crate::base::Severity;
 use crate::sheet::{CellId, Node};
 use crate::units::Value;
 

@@ -1,8 +1,8 @@
 //! Diagnostics for quantities that do not fit together, with the
 //! mass-versus-weight case spelled out and a fix with its number.
 
-use crate::diag::{Code, Diagnostic, Fix};
-use crate::syntax::Span;
+use crate::base::Span;
+use crate::base::{Code, Diagnostic, Fix};
 use crate::units::{
     Dimension, DisplaySystem, DisplayUnit, Quantity, Value, format_significant, pick_unit,
 };

@@ -6,8 +6,8 @@ use std::sync::Arc;
 use super::explain::{Operand, mismatch};
 use super::functions::{self, Apply, CallError, function};
 use super::{Evaluation, Evaluator};
-use crate::diag::{Code, Diagnostic};
-use crate::syntax::Span;
+use crate::base::Span;
+use crate::base::{Code, Diagnostic};
 use crate::syntax::ast::{BinaryOp, Expr, ExprKind, NameRef, Target, UnitExpr};
 use crate::units::{self, Quantity, QuantityError, ResolvedUnit, UnitErrorKind, Value, ValueError};
 

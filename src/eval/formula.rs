@@ -115,7 +115,7 @@ impl Evaluated {
     }
 
     fn term(&self, expr: &Expr) -> Term {
-        let text = |span: crate::syntax::Span| span.text(&self.source).to_string();
+        let text = |span: crate::base::Span| span.text(&self.source).to_string();
         match &expr.kind {
             // Slopes and vector components read best as written.
             ExprKind::Number(_) | ExprKind::Slope { .. } | ExprKind::Component { .. } => {

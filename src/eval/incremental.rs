@@ -14,15 +14,16 @@
 //! exactly where evaluating its text from scratch does.
 
 use super::{CellResult, CellStatus, CheckResult, Evaluator, Spread};
-use crate::diag::{Code, Diagnostic, Severity};
+use crate::base::{Code, Diagnostic, Severity};
+use crate::base::{LineIndex, Span};
 use crate::sheet::edit::{self, Document};
 use crate::sheet::{
     CellId, CellOrigin, Header, Item, MAX_SUGGESTIONS, Node, Sheet, read_header, resolve_names,
 };
+use crate::syntax;
 use crate::syntax::ast::{
     BinaryOp, CellDef, CheckDef, Expr, ExprKind, Statement, StatementKind, Target,
 };
-use crate::syntax::{self, LineIndex, Span};
 use crate::units::{self, DisplaySystem, DisplayUnit, Value, pick_unit};
 
 pub use crate::sheet::edit::{CellField, EditError, FieldEditor, LineEnding, Splice, WrittenLine};

@@ -41,9 +41,9 @@ use rustc_hash::FxHashMap;
 
 use explain::{DeclaredMismatch, Operand, Style, declared_mismatch, mismatch};
 
-use crate::diag::{Code, Diagnostic};
+use crate::base::LineIndex;
+use crate::base::{Code, Diagnostic};
 use crate::sheet::{CellId, Item, NodeId, Sheet};
-use crate::syntax::LineIndex;
 use crate::syntax::ast::{
     Comparison, Expr, ExprKind, NameRef, Override, StatementKind, Target, Tolerance, UnitExpr,
 };

@@ -1,12 +1,12 @@
 //! The evaluated sheet: plain data that every presentation (CLI, JSON,
 //! notebook, report) reads. Nothing here refers to the syntax tree.
 
-use crate::diag::{Diagnostic, Severity};
+use crate::base::{Diagnostic, Severity};
 use std::sync::Arc;
 
+use crate::base::{LineIndex, Span};
 use crate::sheet::{CellId, Header, Sheet};
 use crate::syntax::ast::Comparison;
-use crate::syntax::{LineIndex, Span};
 use crate::units::{DisplayUnit, Quantity, Value, VectorQuantity};
 
 /// The state of a cell after evaluation.
@@ -254,7 +254,7 @@ pub struct EquationReport {
     /// for each component of a vector equation.
     pub text: String,
     /// Where it is written.
-    pub span: crate::syntax::Span,
+    pub span: crate::base::Span,
     /// Left minus right at the solution, in SI units.
     pub residual: Option<Quantity>,
     /// The unit the residual is shown in.
@@ -267,7 +267,7 @@ pub struct SolveReport {
     /// The block's statement index.
     pub statement: usize,
     /// The whole block.
-    pub span: crate::syntax::Span,
+    pub span: crate::base::Span,
     /// Its unknowns' cells.
     pub unknowns: Vec<CellId>,
     /// Its equations (vector equations give one per component).

@@ -11,8 +11,9 @@
 
 use super::Evaluator;
 use super::model::{CellRange, CheckRange, RangeMethod, Sensitivity};
-use super::program::{Input, Number, Program};
-use crate::cases::{Dual, Interval};
+use super::program::{Input, Program};
+use crate::numeric::Number;
+use crate::numeric::{Dual, Interval};
 use crate::sheet::{CellId, Node};
 use crate::syntax::ast::{Comparison, NameRef, Target};
 use crate::units::Value;

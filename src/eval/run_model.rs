@@ -4,9 +4,9 @@
 
 use std::sync::Arc;
 
+use crate::base::Span;
+use crate::numeric::{Stats, Trajectory};
 use crate::sheet::CellId;
-use crate::simulate::{Stats, Trajectory};
-use crate::syntax::Span;
 use crate::units::{Dimension, DisplayUnit, Value};
 
 /// How a run ended.

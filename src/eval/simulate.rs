@@ -16,14 +16,14 @@ use super::explain::{Operand, mismatch};
 use super::program::{CompileError, Input, Op, Program};
 use super::run_model::{PlotSeries, RunColumn, RunEvent, RunReport, RunRow, RunStatus, StateSlots};
 use super::{CellStatus, Evaluation, Evaluator};
-use crate::cases::Dual;
-use crate::diag::{Code, Diagnostic};
-use crate::sheet::CellId;
-use crate::simulate::{
+use crate::base::Span;
+use crate::base::{Code, Diagnostic};
+use crate::numeric::Dual;
+use crate::numeric::{
     self, Condition, ErrorControl, EventKind, Failure, Objective, Outcome, Settings, Stats, System,
     Trajectory,
 };
-use crate::syntax::Span;
+use crate::sheet::CellId;
 use crate::syntax::ast::{
     BinaryOp, Comparison, Expr, ExprKind, NameRef, RunPoint, RunQuery, SimulateBlock, TableRows,
     Target,
@@ -517,7 +517,7 @@ impl<'a> Evaluator<'a> {
                 stack: Vec::with_capacity(16),
                 error: None,
             };
-            let run = simulate::integrate(&mut system, start, end, &y0, &settings);
+            let run = numeric::integrate(&mut system, start, end, &y0, &settings);
             (run, system.error)
         };
         report.stats = run.stats;
@@ -1206,7 +1206,7 @@ impl<'a> Evaluator<'a> {
         report: &mut RunReport,
         layout: &Layout,
         trajectory: &Trajectory,
-        hits: &[simulate::EventHit],
+        hits: &[numeric::EventHit],
         table_times: &Option<(Vec<f64>, bool)>,
         columns: Vec<(String, Source<'_>)>,
     ) {

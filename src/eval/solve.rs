@@ -15,8 +15,8 @@ use super::explain::{Operand, mismatch};
 use super::model::{EquationReport, SolveReport, SolveStatus};
 use super::program::{CompileError, Input, Program};
 use super::{CellStatus, Evaluator};
-use crate::cases::Dual;
-use crate::diag::{Code, Diagnostic, Severity};
+use crate::base::{Code, Diagnostic, Severity};
+use crate::numeric::Dual;
 use crate::sheet::CellId;
 use crate::syntax::ast::{BinaryOp, Equation, Expr, ExprKind, NameRef, SolveBlock, Target};
 use crate::units::{Dimension, DisplayUnit, Quantity, Value, pick_unit};
@@ -1028,7 +1028,7 @@ fn singular_extremes(values: &DVector<f64>) -> (f64, f64) {
 
 /// The warning for a solution of condition number `condition`.
 fn ill_conditioned(block: &SolveBlock, condition: f64, names: &str) -> Diagnostic {
-    let lost = condition.log10().round();
+    let lost = libm::log10(condition).round();
     Diagnostic::new(
         Severity::Warning,
         Code::IllConditioned,

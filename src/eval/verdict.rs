@@ -6,7 +6,7 @@
 //! through [`Summary`], so none can disagree with another.
 
 use super::model::{CaseOutcome, CheckResult, CheckStatus, Place, Unsettled};
-use crate::diag::{Code, Diagnostic, Severity};
+use crate::base::{Code, Diagnostic, Severity};
 use crate::sheet::Sheet;
 
 impl Place {

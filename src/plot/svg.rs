@@ -3,7 +3,7 @@
 //! would serve with font handling and more dependencies than it needs; here
 //! the output is plain, byte-identical across machines, and easy to embed.
 
-use crate::report::html::escape;
+use crate::base::visible::escape_markup as escape;
 use std::fmt::Write as _;
 
 /// Width of the drawing, in SVG user units (pixels).
@@ -60,7 +60,7 @@ pub fn nice_ticks(low: f64, high: f64, target: usize) -> Vec<f64> {
         high += pad;
     }
     let raw = (high - low) / target.max(1) as f64;
-    let magnitude = 10f64.powf(raw.log10().floor());
+    let magnitude = libm::pow(10.0, libm::log10(raw).floor());
     let step = [1.0, 2.0, 5.0, 10.0]
         .into_iter()
         .map(|factor| factor * magnitude)

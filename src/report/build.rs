@@ -10,12 +10,12 @@ use super::model::{
     TitleBlock, Tone,
 };
 use super::svg;
-use crate::diag::Diagnostic;
+use crate::base::Diagnostic;
+use crate::base::Span;
 use crate::eval::{
     CellResult, CellStatus, CheckResult, CheckStatus, Evaluated, OutlineItem, SolveStatus,
 };
 use crate::review::{Changes, Mark, MarkTarget, Review, SignOffState};
-use crate::syntax::Span;
 use crate::units::{catalog, format_significant};
 
 /// Builds the report of an evaluated sheet.

@@ -14,24 +14,7 @@ use super::model::{
     Tone,
 };
 
-/// Escapes text for HTML (and SVG) element content and quoted attribute
-/// values; hidden controls (which would reorder or vanish from the page)
-/// are shown as escapes ([`crate::visible`]).
-pub fn escape(text: &str) -> String {
-    let text = crate::visible::visible(text);
-    let mut out = String::with_capacity(text.len() + 8);
-    for c in text.chars() {
-        match c {
-            '&' => out.push_str("&amp;"),
-            '<' => out.push_str("&lt;"),
-            '>' => out.push_str("&gt;"),
-            '"' => out.push_str("&quot;"),
-            '\'' => out.push_str("&#39;"),
-            _ => out.push(c),
-        }
-    }
-    out
-}
+pub use crate::base::visible::escape_markup as escape;
 
 /// Text as a quoted CSS string for the page header: every character but
 /// letters, digits, spaces and `.,-` is written as a CSS hex escape, so

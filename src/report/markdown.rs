@@ -13,10 +13,10 @@ use super::model::{
 /// line breaks become spaces,
 /// the `:` of `://`, every `@` and the `.` of `www.` are escaped so no address in the
 /// sheet's text is turned into a link (GitHub-flavoured autolinks), and
-/// hidden controls are shown as escapes ([`crate::visible`]).
+/// hidden controls are shown as escapes ([`crate::base::visible`]).
 pub fn escape(text: &str) -> String {
     let text = text.replace(['\n', '\r'], " ");
-    let text = crate::visible::visible(&text);
+    let text = crate::base::visible::visible(&text);
     let mut out = String::with_capacity(text.len() + 8);
     for (at, c) in text.char_indices() {
         match c {

@@ -52,7 +52,7 @@ pub fn free_body(diagram: &FreeBody) -> Figure {
         .forces
         .iter()
         .chain(diagram.resultant.as_ref())
-        .map(|force| force.x.hypot(force.y))
+        .map(|force| libm::hypot(force.x, force.y))
         .filter(|magnitude| magnitude.is_finite())
         .fold(0.0_f64, f64::max);
     let mut svg = String::new();
@@ -93,7 +93,7 @@ pub fn free_body(diagram: &FreeBody) -> Figure {
 
 /// An arrow starting at the edge of the body along the force's direction.
 fn arrow(svg: &mut String, force: &ForceArrow, largest: f64, colour: &str, dashed: bool) {
-    let magnitude = force.x.hypot(force.y);
+    let magnitude = libm::hypot(force.x, force.y);
     if !magnitude.is_finite() || magnitude == 0.0 || largest == 0.0 {
         return;
     }

@@ -16,8 +16,9 @@
 
 use std::ops::Range;
 
+use crate::base::{MAX_SOURCE_LEN, Span};
 use crate::syntax::ast::{CellDef, Statement};
-use crate::syntax::{self, HeaderBlock, MAX_SOURCE_LEN, Span};
+use crate::syntax::{self, HeaderBlock};
 
 /// The line break after a line.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]

@@ -3,8 +3,9 @@
 use serde::Deserialize;
 use toml::Spanned;
 
-use crate::diag::{Code, Diagnostic};
-use crate::syntax::{HeaderBlock, Span};
+use crate::base::Span;
+use crate::base::{Code, Diagnostic};
+use crate::syntax::HeaderBlock;
 use crate::units::DisplaySystem;
 
 /// Default number of significant digits shown.

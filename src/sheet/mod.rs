@@ -11,12 +11,13 @@ pub use graph::{EvaluationOrder, evaluation_order};
 pub use header::{DEFAULT_SIG_FIGS, Header, read_header};
 pub use names::NameTable;
 
-use crate::diag::{Code, Diagnostic};
+use crate::base::Span;
+use crate::base::{Code, Diagnostic};
 use crate::syntax::ast::{
     BodyDef, CaseBlock, CellDef, CheckDef, Description, Expr, ExprKind, Ident, Override,
     SimulateBlock, SolveBlock, Statement, StatementKind, Target, Tolerance, UnitExpr,
 };
-use crate::syntax::{self, ParsedSheet, Span};
+use crate::syntax::{self, ParsedSheet};
 use crate::units;
 
 /// Index of a cell in [`Sheet::cells`].

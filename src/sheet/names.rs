@@ -144,11 +144,11 @@ impl NameTable {
     }
 
     /// Names a reader could take for one another, when any name is not
-    /// plain ASCII: pairs of distinct names with one reading ([`reading`]:
+    /// plain ASCII: pairs of distinct names with one reading (`reading`:
     /// the Unicode TR 39 skeleton, Greek symbols aside), at least one of
     /// them not ASCII (`Fо` with a Cyrillic `о`
     /// and `Fo`; ASCII pairs such as `m1` and `ml` are left alone), and
-    /// names that mix scripts ([`mixes_scripts`]). Empty for an ASCII sheet.
+    /// names that mix scripts (`mixes_scripts`). Empty for an ASCII sheet.
     pub fn lookalikes(&self) -> Lookalikes {
         let mut found = Lookalikes::default();
         if self.entries.iter().all(|(name, _)| name.is_ascii()) {

@@ -5,8 +5,8 @@
 use rustc_hash::{FxHashMap as HashMap, FxHashSet as HashSet};
 
 use super::{CellId, CellOrigin};
-use crate::diag::{Code, Diagnostic};
-use crate::syntax::Span;
+use crate::base::Span;
+use crate::base::{Code, Diagnostic};
 use crate::syntax::ast::{Expr, ExprKind, Ident, RunPoint, Statement, StatementKind, Target};
 
 /// Every expression of a statement, mutably.

@@ -3,7 +3,7 @@
 
 use compact_str::CompactString;
 
-use super::Span;
+use crate::base::Span;
 
 /// One statement of a sheet, with the span of its line.
 #[derive(Clone, Debug, PartialEq)]

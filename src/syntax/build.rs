@@ -6,7 +6,6 @@ use std::sync::LazyLock;
 use pest::iterators::{Pair, Pairs};
 use pest::pratt_parser::{Assoc, Op, PrattParser};
 
-use super::Span;
 use super::ast::{
     BinaryOp, BodyDef, CellDef, CheckDef, Comparison, Description, Equation, EventDef, Expr,
     ExprKind, Ident, InitialValue, NameRef, Override, PlotDef, ReviewKind, ReviewMark, RunPoint,
@@ -14,6 +13,7 @@ use super::ast::{
     ToleranceDef, UnitExpr, UnitFactor, Unknown,
 };
 use super::parser::Rule;
+use crate::base::Span;
 
 /// Operator precedence, lowest first; `^` binds tightest and groups to the
 /// right, so `-2^2` is `-(2^2)` and `2^3^2` is `2^(3^2)`.

@@ -5,10 +5,8 @@ pub mod ast;
 mod build;
 mod parser;
 mod simulate;
-mod span;
 mod split;
 
-pub use span::{LineColumn, LineIndex, MAX_SOURCE_LEN, Span};
 pub use split::{
     HeaderBlock, MAX_NESTING, MAX_OPERATORS, ParsedSheet, is_block_head, is_block_line,
     is_header_delimiter, is_statement_line, parse, parse_expression, parse_line, parse_unit,

@@ -3,7 +3,7 @@
 
 use pest::error::{ErrorVariant, InputLocation};
 
-use super::Span;
+use crate::base::Span;
 
 /// The parser generated from the grammar.
 #[derive(pest_derive::Parser)]

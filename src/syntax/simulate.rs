@@ -8,7 +8,7 @@ use super::ast::{SimulateBlock, StatementKind};
 use super::build::{self, SimulateLine};
 use super::parser::{HeftParser, Rule, describe_error};
 use super::split::{BlockLines, check_limits};
-use crate::diag::{Code, Diagnostic};
+use crate::base::{Code, Diagnostic};
 
 /// What a line inside a simulate block may be.
 const LINE_HELP: &str = "a simulate block's lines are `x' = rate`, `x(0) = value`, `stop when a >= b`, \
@@ -45,7 +45,7 @@ pub(super) fn parse_simulate_block(
             // Keep the block so its lines are still checked; it cannot run.
             let placeholder = |at: usize| crate::syntax::ast::Expr {
                 kind: crate::syntax::ast::ExprKind::Invalid,
-                span: crate::syntax::Span::new(at, at),
+                span: crate::base::Span::new(at, at),
             };
             complete = false;
             (

@@ -6,9 +6,10 @@ use std::sync::{Mutex, PoisonError};
 use pest::Parser;
 
 use super::ast::{CaseBlock, CellDef, Expr, ExprKind, SolveBlock, Statement, StatementKind};
+use super::build;
 use super::parser::{HeftParser, Rule, describe_error};
-use super::{Span, build};
-use crate::diag::{Code, Diagnostic};
+use crate::base::Span;
+use crate::base::{Code, Diagnostic};
 
 /// Deepest bracket nesting a statement may have. pest and the tree walkers
 /// recurse once per level, so the limit keeps any input from overflowing the
@@ -203,7 +204,7 @@ fn opens_block(text: &str) -> bool {
 /// lines, and gathering each block up to its `end`.
 fn gather_statements(source: &str, lines: impl Iterator<Item = Line>) -> Vec<RawStatement> {
     // At most one statement per line: counting lines first allocates once.
-    let mut statements = Vec::with_capacity(super::span::line_count(source));
+    let mut statements = Vec::with_capacity(crate::base::span::line_count(source));
     let mut lines = lines.filter(|line| is_statement_line(&source[line.start..line.end]));
     while let Some(line) = lines.next() {
         let span = Span::new(line.start, line.end);

@@ -449,7 +449,7 @@ fn read_sheet(target: &Path) -> io::Result<(String, Option<Fingerprint>)> {
 }
 
 fn text_of(path: &Path, bytes: Vec<u8>) -> io::Result<String> {
-    if bytes.len() > crate::syntax::MAX_SOURCE_LEN {
+    if bytes.len() > crate::base::MAX_SOURCE_LEN {
         return Err(io::Error::new(
             io::ErrorKind::InvalidData,
             format!("{} is larger than 4 GiB", path.display()),

@@ -2,7 +2,7 @@
 //! update, audit its findings, and save it back as plain text.
 //!
 //! Elm-shaped: one [`App`] model, one closed [`Message`] enum, an
-//! [`update`] without I/O that returns [`Effect`]s, and a pure [`view`].
+//! [`update`] without I/O that returns [`Effect`]s, and a pure [`view()`](fn@view).
 //! File I/O ([`files`]) and the terminal ([`terminal`]) live in the event
 //! loop only. Words are in [`strings`], keys in [`keys`], colours in
 //! [`theme`], screen areas in [`layout`].

@@ -14,7 +14,7 @@ use super::keys::{BINDINGS, HINTS, Scope, key_for};
 use super::layout::{Areas, areas};
 use super::strings as text;
 use super::theme::Theme;
-use crate::diag::Severity;
+use crate::base::Severity;
 use crate::eval::{
     CellResult, CellStatus, CheckResult, CheckStatus, Finding, LiveSheet, Row, format_result,
     format_value,

@@ -121,7 +121,7 @@ impl Dimension {
             .map(|(_, name)| *name)
     }
 
-    /// The name if known, otherwise "a quantity in <SI units>".
+    /// The name if known, otherwise "a quantity in `<SI units>`".
     pub fn describe(self) -> String {
         match self.name() {
             Some(name) => name.to_string(),

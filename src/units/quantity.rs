@@ -85,14 +85,14 @@ impl Quantity {
         }
         let power = exponent.si;
         if self.dimension.is_dimensionless() {
-            return Ok(Quantity::number(self.si.powf(power)));
+            return Ok(Quantity::number(libm::pow(self.si, power)));
         }
         let dimension = power_dimension(self.dimension, power).ok_or(QuantityError::BadExponent)?;
         let si = if power.fract() == 0.0 && power.abs() <= f64::from(i32::MAX) {
             // Integer powers by repeated multiplication stay exact where powf may not.
             self.si.powi(power as i32)
         } else {
-            self.si.powf(power)
+            libm::pow(self.si, power)
         };
         Ok(Quantity::new(si, dimension))
     }

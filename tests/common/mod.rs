@@ -120,7 +120,7 @@ pub fn expected_findings(source: &str) -> std::collections::BTreeMap<(usize, Str
 /// unless there is exactly one).
 #[track_caller]
 pub fn the_hand_typed_conversion(source: &str) -> heftsheet::audit::ConversionEntry {
-    let audit = heftsheet::audit::conversion_audit(&heftsheet::audit::check_source(source));
+    let audit = heftsheet::audit::conversion_audit(&heftsheet::pipeline::run(source));
     let mut typed: Vec<_> = audit
         .conversions
         .into_iter()

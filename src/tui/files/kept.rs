@@ -59,7 +59,7 @@ pub fn read(path: &Path) -> Result<Option<String>, Refusal> {
     };
     let metadata = file.metadata().map_err(Refusal::Unreadable)?;
     check(&metadata)?;
-    let limit = crate::syntax::MAX_SOURCE_LEN as u64;
+    let limit = crate::base::MAX_SOURCE_LEN as u64;
     let mut bytes = Vec::new();
     file.take(limit + 1)
         .read_to_end(&mut bytes)
@@ -91,7 +91,7 @@ fn check(metadata: &fs::Metadata) -> Result<(), Refusal> {
     if names > 1 {
         return Err(Refusal::OtherNames(names));
     }
-    if metadata.len() > crate::syntax::MAX_SOURCE_LEN as u64 {
+    if metadata.len() > crate::base::MAX_SOURCE_LEN as u64 {
         return Err(Refusal::TooLarge);
     }
     Ok(())

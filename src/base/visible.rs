@@ -130,6 +130,25 @@ fn push_escape(out: &mut String, c: char) {
     let _ = write!(out, "\\u{{{:x}}}", u32::from(c));
 }
 
+/// Escapes text for HTML (and SVG) element content and quoted attribute
+/// values; hidden controls (which would reorder or vanish from the page)
+/// are shown as escapes ([`visible`]).
+pub fn escape_markup(text: &str) -> String {
+    let text = visible(text);
+    let mut out = String::with_capacity(text.len() + 8);
+    for c in text.chars() {
+        match c {
+            '&' => out.push_str("&amp;"),
+            '<' => out.push_str("&lt;"),
+            '>' => out.push_str("&gt;"),
+            '"' => out.push_str("&quot;"),
+            '\'' => out.push_str("&#39;"),
+            _ => out.push(c),
+        }
+    }
+    out
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

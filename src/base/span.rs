@@ -112,7 +112,7 @@ impl LineIndex {
 
 /// How many lines `source` has (one more than its line breaks), for sizing
 /// what holds one item per line before filling it.
-pub(super) fn line_count(source: &str) -> usize {
+pub fn line_count(source: &str) -> usize {
     source.bytes().filter(|&byte| byte == b'\n').count() + 1
 }
 

@@ -147,6 +147,8 @@ pub fn golden_section(
 }
 
 #[cfg(test)]
+// The tests' reference values use std's functions, independent of libm.
+#[allow(clippy::disallowed_methods)]
 mod tests {
     use super::*;
 

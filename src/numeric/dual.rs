@@ -2,7 +2,7 @@
 //! carried through every operation by the chain rule. `Dual<f64>` gives exact
 //! derivatives at a point; `Dual<Interval>` encloses a derivative over a box.
 
-use crate::eval::program::{Binary, Number, Unary};
+use super::number::{Binary, Number, Unary};
 
 /// `value + derivative·ε` with ε² = 0.
 #[derive(Clone, Copy, Debug, PartialEq)]

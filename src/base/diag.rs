@@ -1,10 +1,8 @@
 //! Diagnostics as data: every problem heft finds, with its stable code, its
 //! place in the source and the fix it suggests. Rendering for people lives in
-//! [`render`], the one place that turns a [`Diagnostic`] into text.
+//! [`super::render`], the one place that turns a [`Diagnostic`] into text.
 
-pub mod render;
-
-use crate::syntax::Span;
+use super::span::Span;
 
 /// How serious a finding is.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord, Hash)]

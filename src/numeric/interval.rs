@@ -2,7 +2,7 @@
 //! result by one unit in the last place each way, so the true value of a
 //! formula over a box of inputs is always inside the computed interval.
 
-use crate::eval::program::{Binary, Number, Unary};
+use super::number::{Binary, Number, Unary};
 
 /// A closed interval `[lo, hi]`; `lo > hi` never happens, NaN marks an
 /// undefined result (a square root of a wholly negative interval, …).

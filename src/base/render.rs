@@ -1,8 +1,8 @@
 //! The one place diagnostics become text: source line, caret, code, help.
 //!
-//! Each diagnostic is drawn by codespan-reporting against an [`Excerpt`] of
+//! Each diagnostic is drawn by codespan-reporting against an `Excerpt` of
 //! the sheet: only the lines its labels touch, with hidden controls shown
-//! as escapes ([`crate::visible`]) and a line longer than
+//! as escapes ([`super::visible`]) and a line longer than
 //! [`LONG_LINE_CHARS`] cut to the text around each label, so a finding on a
 //! 70 KB line prints a few lines, not the whole line. The excerpt keeps the
 //! real line and column numbers. Findings of one code on one line beyond
@@ -18,8 +18,8 @@ use codespan_reporting::diagnostic::{
 use codespan_reporting::files::{self, Files};
 use codespan_reporting::term::{self, Config, Styles, StylesWriter, termcolor};
 
+use super::visible::{is_hidden_control, visible};
 use super::{Code, Diagnostic, Severity};
-use crate::visible::{is_hidden_control, visible};
 
 /// A source line longer than this (in characters, escapes counted) is
 /// shown as the text around each label.

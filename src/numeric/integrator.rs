@@ -421,10 +421,10 @@ pub fn integrate<S: System>(
         if per_unit_time {
             error *= span / h;
         }
-        let fac11 = error.powf(exponent - BETA * 0.75);
+        let fac11 = libm::pow(error, exponent - BETA * 0.75);
         if error <= 1.0 {
             // Accepted.
-            let mut fac = fac11 / fac_old.powf(BETA);
+            let mut fac = fac11 / libm::pow(fac_old, BETA);
             fac = (fac / SAFETY).clamp(1.0 / FAC_MAX, 1.0 / FAC_MIN);
             let mut h_new = h / fac;
             fac_old = error.max(1e-4);
@@ -643,12 +643,14 @@ fn initial_step<S: System>(
     let h_second = if largest <= 1e-15 || !largest.is_finite() {
         (1e-6 * span).max(h * 1e-3)
     } else {
-        (0.01 / largest).powf(0.2)
+        libm::pow(0.01 / largest, 0.2)
     };
     (100.0 * h).min(h_second).min(span)
 }
 
 #[cfg(test)]
+// The tests' reference values use std's functions, independent of libm.
+#[allow(clippy::disallowed_methods)]
 mod tests {
     use super::*;
 
