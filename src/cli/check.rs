@@ -293,7 +293,7 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
                     };
                     let utilization = check
                         .utilization
-                        .map(|u| format!("   utilization {} %", format_significant(u * 100.0, 3)))
+                        .map(|u| format!("   utilization {}", crate::units::percent(u)))
                         .unwrap_or_default();
                     let worst = check
                         .worst
@@ -305,8 +305,8 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
                                 _ => "",
                             };
                             format!(
-                                ", {} % at the worst case of the tolerances{found}",
-                                format_significant(u * 100.0, 3)
+                                ", {} at the worst case of the tolerances{found}",
+                                crate::units::percent(u)
                             )
                         })
                         .unwrap_or_default();

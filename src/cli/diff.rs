@@ -157,7 +157,7 @@ pub fn text(diff: &RevisionDiff, old_name: &str, new_name: &str) -> String {
         for check in &diff.checks {
             let status = |s: Option<&str>| s.unwrap_or("(none)").to_string();
             let utilization =
-                |u: Option<f64>| u.map_or_else(|| "—".to_string(), crate::report::utilization_text);
+                |u: Option<f64>| u.map_or_else(|| "—".to_string(), crate::units::percent);
             let flag = if check.status_changed() {
                 "  STATUS CHANGED"
             } else {

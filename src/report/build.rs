@@ -251,9 +251,7 @@ impl<'a> Builder<'a> {
         for (index, check) in evaluated.checks.iter().enumerate() {
             let governing = evaluated.governing.get(index).copied().flatten();
             let entry = |status: CheckStatus, utilization: Option<f64>, governs: bool| {
-                let number = utilization.map_or("—".to_string(), |u| {
-                    format!("{} %", format_significant(u * 100.0, 3))
-                });
+                let number = utilization.map_or("—".to_string(), crate::units::percent);
                 let verdict = match status {
                     CheckStatus::Passed => "pass",
                     CheckStatus::Failed => "FAIL",
@@ -658,9 +656,9 @@ impl<'a> Builder<'a> {
             utilization: match check.worst.as_ref().and_then(|w| w.worst_utilization) {
                 Some(worst) => Some(format!(
                     "{} (worst case of the tolerances)",
-                    utilization_text(worst)
+                    crate::units::percent(worst)
                 )),
-                None => check.utilization.map(utilization_text),
+                None => check.utilization.map(crate::units::percent),
             },
             verdict,
             tone,
@@ -895,11 +893,6 @@ fn collect_units(term: &crate::eval::formula::Term, out: &mut BTreeSet<String>) 
         Term::Call { args, .. } => args.iter().for_each(|arg| collect_units(arg, out)),
         Term::Number(_) | Term::Name { value: None, .. } | Term::Invalid(_) => {}
     }
-}
-
-/// A utilization as a percentage: `76.9 %`.
-pub fn utilization_text(utilization: f64) -> String {
-    format!("{} %", format_significant(utilization * 100.0, 3))
 }
 
 fn finding_text(diagnostic: &Diagnostic) -> String {

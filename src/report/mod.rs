@@ -12,7 +12,7 @@ pub mod math;
 pub mod model;
 pub mod svg;
 
-pub use build::{document, short_fingerprint, stale_summary, utilization_text};
+pub use build::{document, short_fingerprint, stale_summary};
 
 use crate::eval::Evaluated;
 use crate::review::Review;

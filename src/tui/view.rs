@@ -347,7 +347,7 @@ fn check_text(check: &CheckResult) -> String {
 fn utilization_text(check: &CheckResult) -> String {
     check
         .utilization
-        .map(|u| format!("{} %", format_significant(u * 100.0, 3)))
+        .map(crate::units::percent)
         .unwrap_or_else(|| text::NO_VALUE.to_string())
 }
 
@@ -666,9 +666,7 @@ fn detail(app: &App, inner: Rect) -> Detail {
             if let Some(worst) = &check.worst {
                 let utilization = worst
                     .worst_utilization
-                    .map_or(text::NO_VALUE.to_string(), |u| {
-                        format!("{} %", format_significant(u * 100.0, 3))
-                    });
+                    .map_or(text::NO_VALUE.to_string(), crate::units::percent);
                 detail.labelled(
                     theme,
                     text::LABEL_WORST,
@@ -685,9 +683,7 @@ fn detail(app: &App, inner: Rect) -> Detail {
                     let in_case = case.checks.get(index)?;
                     let utilization = in_case
                         .governing_utilization()
-                        .map_or(text::NO_VALUE.to_string(), |u| {
-                            format!("{} %", format_significant(u * 100.0, 3))
-                        });
+                        .map_or(text::NO_VALUE.to_string(), crate::units::percent);
                     let governs =
                         judgement.governing.get(index).copied().flatten() == Some(case_index);
                     Some(format!(

@@ -227,6 +227,12 @@ fn fps_base_units(dimension: Dimension) -> DisplayUnit {
     }
 }
 
+/// A fraction as a percentage to three significant figures, the one way
+/// every output shows a utilization or a share: `0.769` → `76.9 %`.
+pub fn percent(fraction: f64) -> String {
+    format!("{} %", format_significant(fraction * 100.0, 3))
+}
+
 /// `value` rounded to `sig_figs` significant digits, without trailing zeros
 /// after the decimal point (a value as the user wrote it, or in a message);
 /// scientific notation outside 1e-4 ≤ |v| < 1e9.

@@ -13,7 +13,8 @@ mod value;
 pub use catalog::{AMBIGUOUS, Ambiguity, Catalog, UnitDef, UnitSystem, catalog, sources};
 pub use dimension::{BASE_NAMES, Dimension, SI_BASE_SYMBOLS};
 pub use display::{
-    DisplaySystem, DisplayUnit, correctly_rounded, format_figures, format_significant, pick_unit,
+    DisplaySystem, DisplayUnit, correctly_rounded, format_figures, format_significant, percent,
+    pick_unit,
 };
 pub use factor::ExactFactor;
 pub use quantity::{Quantity, QuantityError};
