@@ -147,8 +147,9 @@ fn the_audit_text_of_a_mixed_sheet() {
 
 #[test]
 fn the_readme_example_is_what_heft_audit_prints() {
-    let readme = std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("README.md"))
-        .expect("README");
+    let readme =
+        std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("docs/audit.md"))
+            .expect("README");
     let section = readme
         .split("## Auditing a sheet")
         .nth(1)
