@@ -2,7 +2,7 @@
 //! of `benches/evaluate.rs`, beside the evaluation they follow, so the
 //! figures compare directly.
 //!
-//! Run with `cargo bench --bench audit`; figures are recorded in README.
+//! Run with `cargo bench --bench audit`; figures are recorded in docs/performance.md.
 
 #[path = "generated.rs"]
 #[allow(dead_code)]

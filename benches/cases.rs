@@ -1,7 +1,7 @@
 //! Load cases and tolerances: a 10,000-cell sheet with ± 3 % on five inputs
 //! and five load cases, against the same sheet plain.
 //!
-//! Run with `cargo bench --bench cases`; figures are recorded in README.
+//! Run with `cargo bench --bench cases`; figures are recorded in docs/performance.md.
 
 use criterion::{Criterion, criterion_group, criterion_main};
 

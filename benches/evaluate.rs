@@ -1,6 +1,6 @@
 //! Parse + link + evaluate a generated sheet of 100,000 and 1,000,000 cells.
 //!
-//! Run with `cargo bench --bench evaluate`; figures are recorded in README.
+//! Run with `cargo bench --bench evaluate`; figures are recorded in docs/performance.md.
 
 use criterion::{BenchmarkId, Criterion, Throughput, criterion_group, criterion_main};
 

@@ -1,7 +1,7 @@
 //! Incremental recompute: one input edited in a 100,000-cell sheet, where
 //! the input feeds 99 cells (so the edit evaluates 100 cells).
 //!
-//! Run with `cargo bench --bench live_edit`; figures are recorded in README.
+//! Run with `cargo bench --bench live_edit`; figures are recorded in docs/performance.md.
 
 use criterion::{Criterion, criterion_group, criterion_main};
 use heftsheet::eval::{CellField, LiveSheet};

@@ -2,7 +2,7 @@
 //! for one key (with its recompute) and a full draw on ratatui's
 //! TestBackend at 160×48.
 //!
-//! Run with `cargo bench --bench notebook_frame`; figures are recorded in README.
+//! Run with `cargo bench --bench notebook_frame`; figures are recorded in docs/performance.md.
 
 use criterion::{Criterion, criterion_group, criterion_main};
 use heftsheet::tui::files::{self, Fingerprint, Opened};

@@ -3,7 +3,7 @@
 //! programs), and a whole sheet integrating 10,000 periods of an undamped
 //! oscillator.
 //!
-//! Run with `cargo bench --bench simulate`; figures are recorded in README.
+//! Run with `cargo bench --bench simulate`; figures are recorded in docs/performance.md.
 
 use std::time::Duration;
 

@@ -2,7 +2,7 @@
 //! and a 10-unknown nonlinear one (a chain of hardening springs), each parsed,
 //! solved and evaluated as a whole sheet.
 //!
-//! Run with `cargo bench --bench solve`; figures are recorded in README.
+//! Run with `cargo bench --bench solve`; figures are recorded in docs/performance.md.
 
 use criterion::{Criterion, criterion_group, criterion_main};
 
