@@ -13,6 +13,20 @@
 //! command runs. [`review`] and [`diff`] read the evaluated model; [`plot`],
 //! [`report`], [`cli`] and [`tui`] (the terminal notebook that edits a sheet
 //! and recomputes it live) present it.
+//!
+//! A sheet's results as typed quantities, from a program:
+//!
+//! ```
+//! use uom::si::f64::{Force, Mass};
+//! use uom::si::force::kilonewton;
+//!
+//! let sheet = heftsheet::pipeline::run("m_load = 1850 kg\nW = m_load * g0\n");
+//! let weight: Force = sheet.quantity("W").expect("W is a computed force");
+//! // W = m g0 = 1850 kg × 9.80665 m/s² (CGPM standard gravity) = 18.1423 kN.
+//! assert!((weight.get::<kilonewton>() - 18.142_302_5).abs() < 1e-9);
+//! // A force is not a mass: the dimension is checked.
+//! assert!(sheet.quantity::<Mass>("W").is_none());
+//! ```
 
 pub mod allocator;
 pub mod audit;

@@ -614,6 +614,14 @@ impl Evaluated {
         self.sheet.names.get(name).map(|&id| self.cell_at(id))
     }
 
+    /// The value of the cell `name` as a uom quantity (`Force`, `Mass`, …):
+    /// `None` if there is no such cell, its value could not be computed, or
+    /// its dimension is not `T`'s.
+    pub fn quantity<T: crate::units::TypedQuantity>(&self, name: &str) -> Option<T> {
+        let cell = self.cell(name).filter(|cell| cell.status == CellStatus::Ok)?;
+        cell.value?.to_typed()
+    }
+
     /// Number of diagnostics of this severity.
     pub fn count(&self, severity: Severity) -> usize {
         self.diagnostics
