@@ -4,6 +4,7 @@
 //! presentation reads.
 
 mod cases;
+mod conversion;
 mod corners;
 mod explain;
 mod expr;
@@ -19,7 +20,12 @@ mod solve;
 mod vectors;
 mod verdict;
 
+/// The operators and comparisons the evaluated model's formulas and checks
+/// carry ([`formula::Term`], [`CheckResult::comparison`]): the syntax's own,
+/// so presentation reads them here and never the syntax tree.
+pub use crate::syntax::ast::{BinaryOp, Comparison};
 pub use cases::MAX_TOLERANCE_PAIRS;
+pub use conversion::{Conversion, ConversionError, WrittenConversion, convert};
 pub use explain::{format_result, format_value};
 pub use incremental::{
     CellField, EditError, FieldEditor, Finding, LineEnding, LiveSheet, Row, Splice, WrittenLine,
@@ -45,7 +51,7 @@ use crate::base::LineIndex;
 use crate::base::{Code, Diagnostic};
 use crate::sheet::{CellId, Item, NodeId, Sheet};
 use crate::syntax::ast::{
-    Comparison, Expr, ExprKind, NameRef, Override, StatementKind, Target, Tolerance, UnitExpr,
+    Expr, ExprKind, NameRef, Override, StatementKind, Target, Tolerance, UnitExpr,
 };
 use crate::units::{self, DisplayUnit, Quantity, ResolvedUnit, Value, pick_unit};
 

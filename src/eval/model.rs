@@ -618,7 +618,9 @@ impl Evaluated {
     /// `None` if there is no such cell, its value could not be computed, or
     /// its dimension is not `T`'s.
     pub fn quantity<T: crate::units::TypedQuantity>(&self, name: &str) -> Option<T> {
-        let cell = self.cell(name).filter(|cell| cell.status == CellStatus::Ok)?;
+        let cell = self
+            .cell(name)
+            .filter(|cell| cell.status == CellStatus::Ok)?;
         cell.value?.to_typed()
     }
 

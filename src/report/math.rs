@@ -3,7 +3,7 @@
 
 use super::model::{Piece, Rich};
 use crate::eval::formula::{ShownValue, Term};
-use crate::syntax::ast::{BinaryOp, Comparison};
+use crate::eval::{BinaryOp, Comparison};
 
 /// A name with the part after its first `_` as a subscript; further `_`
 /// separate subscripts with commas (`F_pin_max` → F with "pin,max").
