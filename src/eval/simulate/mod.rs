@@ -316,33 +316,7 @@ impl<'a> Evaluator<'a> {
         let first_cell = cells.first().copied().unwrap_or_default();
         self.refuse_run_names(block, first_cell, cells.len())?;
 
-        // The time range.
-        let start = self.time_value(&block.start, "start")?;
-        let end = self.time_value(&block.end, "end")?;
-        if end <= start {
-            return Err(Box::new(
-                Diagnostic::error(
-                    Code::BadSimulation,
-                    block.end.span,
-                    format!(
-                        "the run must end after it starts: `{}` is not later than `{}`",
-                        block.end.span.text(self.source),
-                        block.start.span.text(self.source)
-                    ),
-                )
-                .with_help("write `simulate t from 0 s to 10 s:` with the end after the start"),
-            ));
-        }
-        if !(end - start).is_finite() {
-            return Err(Box::new(
-                Diagnostic::error(
-                    Code::BadSimulation,
-                    block.end.span,
-                    "the run is too long to represent: its length overflows",
-                )
-                .with_help("give a run length a calculation needs: seconds to hours"),
-            ));
-        }
+        let (start, end) = self.time_range(block)?;
         report.range = Some((start, end));
         report.time_display = self
             .written_unit(&block.end)
@@ -373,40 +347,7 @@ impl<'a> Evaluator<'a> {
         for (index, value) in initial.iter().enumerate() {
             self.values[first_cell + 1 + index] = Some(*value);
         }
-        report.states = block
-            .states
-            .iter()
-            .enumerate()
-            .map(|(index, state)| {
-                let (dimension, first, n) = layout.states[index];
-                let display = self
-                    .initial_expr(block, index)
-                    .and_then(|expr| self.written_unit(expr))
-                    .unwrap_or_else(|| {
-                        pick_unit(dimension, initial[index].magnitude_si(), self.style.system)
-                    });
-                StateSlots {
-                    cell: first_cell + 1 + index,
-                    column: RunColumn {
-                        label: state.name.text.to_string(),
-                        display,
-                        dimension,
-                    },
-                    first,
-                    n_components: n,
-                    start: self
-                        .initial_expr(block, index)
-                        .map(|expr| expr.span.text(self.source).to_string())
-                        .unwrap_or_default(),
-                    start_description: block
-                        .initial_values
-                        .iter()
-                        .find(|initial| initial.name.text == state.name.text)
-                        .and_then(|initial| initial.description.as_ref())
-                        .map(|description| description.text.clone()),
-                }
-            })
-            .collect();
+        report.states = self.state_slots(block, &layout, &initial);
 
         // Rates: each one the state's dimension per time, checked at the start.
         for (index, state) in block.states.iter().enumerate() {
@@ -414,37 +355,7 @@ impl<'a> Evaluator<'a> {
             self.check_rate(block, index, initial[index], rate)?;
         }
 
-        // Conditions: two scalars of one dimension.
-        for event in &block.events {
-            let lhs = self.eval(&event.lhs)?;
-            let rhs = self.eval(&event.rhs)?;
-            if lhs.vector().is_some() || rhs.vector().is_some() {
-                return Err(Box::new(
-                    Diagnostic::error(
-                        Code::DimensionMismatch,
-                        event.span,
-                        "a condition compares scalars, not vectors",
-                    )
-                    .with_help("compare a magnitude or a component: mag(r) >= 2 m, r.y <= 0 m"),
-                ));
-            }
-            if lhs.dimension() != rhs.dimension() {
-                return Err(Box::new(mismatch(
-                    "compare",
-                    &Operand {
-                        span: event.lhs.span,
-                        text: event.lhs.span.text(self.source),
-                        value: lhs,
-                    },
-                    &Operand {
-                        span: event.rhs.span,
-                        text: event.rhs.span.text(self.source),
-                        value: rhs,
-                    },
-                    self.style,
-                )));
-            }
-        }
+        self.check_conditions(block)?;
 
         // Tolerances and output choices.
         let (relative, absolute) = self.tolerances(block, &initial)?;
@@ -453,63 +364,12 @@ impl<'a> Evaluator<'a> {
         let columns = self.output_sources(block, true)?;
         let series = self.output_sources(block, false)?;
 
-        // Compile what can be compiled, once, with dimensions checked.
-        let mut rates = Vec::with_capacity(block.states.len());
-        for state in &block.states {
-            rates.push(match self.compile_over_run(&state.rate, &layout)? {
-                Some(program) => match program.ops() {
-                    [Op::Input(input)] => Formula::Input(*input as usize),
-                    _ => Formula::Compiled(program),
-                },
-                None => Formula::Interpreted(&state.rate),
-            });
-        }
-        let mut events = Vec::with_capacity(block.events.len());
-        for event in &block.events {
-            let (lhs, rhs, sign) = match event.comparison {
-                Comparison::AtLeast | Comparison::Above => (&event.lhs, &event.rhs, 1.0),
-                Comparison::AtMost | Comparison::Below => (&event.lhs, &event.rhs, -1.0),
-            };
-            let (first, second) = if sign > 0.0 { (lhs, rhs) } else { (rhs, lhs) };
-            let difference = Expr {
-                span: event.span,
-                kind: ExprKind::Binary {
-                    op: BinaryOp::Subtract,
-                    lhs: Box::new(first.clone()),
-                    rhs: Box::new(second.clone()),
-                },
-            };
-            events.push(match self.compile_over_run(&difference, &layout)? {
-                Some(program) => EventFormula::Compiled(program),
-                None => EventFormula::Interpreted { lhs, rhs, sign },
-            });
-        }
+        let (rates, events) = self.compile_run(block, &layout)?;
         report.compiled = rates
             .iter()
             .all(|rate| !matches!(rate, Formula::Interpreted(_)));
 
-        let mut absolute_tolerance = vec![0.0; layout.n_slots];
-        for (index, &(_, first, n)) in layout.states.iter().enumerate() {
-            absolute_tolerance[first..first + n].fill(absolute[index]);
-        }
-        let settings = Settings {
-            relative_tolerance: relative,
-            absolute_tolerance,
-            max_steps: step_limit(layout.n_slots),
-            error_control: ErrorControl::PerUnitTime,
-            events: block
-                .events
-                .iter()
-                .map(|event| Condition {
-                    kind: if event.stops {
-                        EventKind::Stop
-                    } else {
-                        EventKind::Record
-                    },
-                    strict: event.comparison.is_strict(),
-                })
-                .collect(),
-        };
+        let settings = run_settings(block, &layout, relative, &absolute);
 
         let (run, system_error) = {
             let mut system = SheetSystem {
@@ -570,6 +430,190 @@ impl<'a> Evaluator<'a> {
         );
         report.plot = self.plot_series(report, &layout, &trajectory, series);
         Ok(())
+    }
+
+    /// The run's start and end, in seconds: the end after the start, the
+    /// length finite.
+    fn time_range(&self, block: &SimulateBlock) -> Result<(f64, f64), Box<Diagnostic>> {
+        let start = self.time_value(&block.start, "start")?;
+        let end = self.time_value(&block.end, "end")?;
+        if end <= start {
+            return Err(Box::new(
+                Diagnostic::error(
+                    Code::BadSimulation,
+                    block.end.span,
+                    format!(
+                        "the run must end after it starts: `{}` is not later than `{}`",
+                        block.end.span.text(self.source),
+                        block.start.span.text(self.source)
+                    ),
+                )
+                .with_help("write `simulate t from 0 s to 10 s:` with the end after the start"),
+            ));
+        }
+        if !(end - start).is_finite() {
+            return Err(Box::new(
+                Diagnostic::error(
+                    Code::BadSimulation,
+                    block.end.span,
+                    "the run is too long to represent: its length overflows",
+                )
+                .with_help("give a run length a calculation needs: seconds to hours"),
+            ));
+        }
+        Ok((start, end))
+    }
+
+    /// Each state's slots in the run's numbers, its column, and its starting
+    /// value as written.
+    fn state_slots(
+        &self,
+        block: &SimulateBlock,
+        layout: &Layout,
+        initial: &[Value],
+    ) -> Vec<StateSlots> {
+        let first_cell = layout.first_cell;
+        block
+            .states
+            .iter()
+            .enumerate()
+            .map(|(index, state)| {
+                let (dimension, first, n) = layout.states[index];
+                let display = self
+                    .initial_expr(block, index)
+                    .and_then(|expr| self.written_unit(expr))
+                    .unwrap_or_else(|| {
+                        pick_unit(dimension, initial[index].magnitude_si(), self.style.system)
+                    });
+                StateSlots {
+                    cell: first_cell + 1 + index,
+                    column: RunColumn {
+                        label: state.name.text.to_string(),
+                        display,
+                        dimension,
+                    },
+                    first,
+                    n_components: n,
+                    start: self
+                        .initial_expr(block, index)
+                        .map(|expr| expr.span.text(self.source).to_string())
+                        .unwrap_or_default(),
+                    start_description: block
+                        .initial_values
+                        .iter()
+                        .find(|initial| initial.name.text == state.name.text)
+                        .and_then(|initial| initial.description.as_ref())
+                        .map(|description| description.text.clone()),
+                }
+            })
+            .collect()
+    }
+
+    /// Each condition compares two scalars of one dimension.
+    fn check_conditions(&self, block: &SimulateBlock) -> Result<(), Box<Diagnostic>> {
+        for event in &block.events {
+            let lhs = self.eval(&event.lhs)?;
+            let rhs = self.eval(&event.rhs)?;
+            if lhs.vector().is_some() || rhs.vector().is_some() {
+                return Err(Box::new(
+                    Diagnostic::error(
+                        Code::DimensionMismatch,
+                        event.span,
+                        "a condition compares scalars, not vectors",
+                    )
+                    .with_help("compare a magnitude or a component: mag(r) >= 2 m, r.y <= 0 m"),
+                ));
+            }
+            if lhs.dimension() != rhs.dimension() {
+                return Err(Box::new(mismatch(
+                    "compare",
+                    &Operand {
+                        span: event.lhs.span,
+                        text: event.lhs.span.text(self.source),
+                        value: lhs,
+                    },
+                    &Operand {
+                        span: event.rhs.span,
+                        text: event.rhs.span.text(self.source),
+                        value: rhs,
+                    },
+                    self.style,
+                )));
+            }
+        }
+        Ok(())
+    }
+
+    /// The rates and conditions compiled over the run's numbers where they
+    /// can be (once, dimensions checked), interpreted where they cannot.
+    fn compile_run<'b>(
+        &self,
+        block: &'b SimulateBlock,
+        layout: &Layout,
+    ) -> Result<(Vec<Formula<'b>>, Vec<EventFormula<'b>>), Box<Diagnostic>> {
+        let mut rates = Vec::with_capacity(block.states.len());
+        for state in &block.states {
+            rates.push(match self.compile_over_run(&state.rate, layout)? {
+                Some(program) => match program.ops() {
+                    [Op::Input(input)] => Formula::Input(*input as usize),
+                    _ => Formula::Compiled(program),
+                },
+                None => Formula::Interpreted(&state.rate),
+            });
+        }
+        let mut events = Vec::with_capacity(block.events.len());
+        for event in &block.events {
+            let (lhs, rhs, sign) = match event.comparison {
+                Comparison::AtLeast | Comparison::Above => (&event.lhs, &event.rhs, 1.0),
+                Comparison::AtMost | Comparison::Below => (&event.lhs, &event.rhs, -1.0),
+            };
+            let (first, second) = if sign > 0.0 { (lhs, rhs) } else { (rhs, lhs) };
+            let difference = Expr {
+                span: event.span,
+                kind: ExprKind::Binary {
+                    op: BinaryOp::Subtract,
+                    lhs: Box::new(first.clone()),
+                    rhs: Box::new(second.clone()),
+                },
+            };
+            events.push(match self.compile_over_run(&difference, layout)? {
+                Some(program) => EventFormula::Compiled(program),
+                None => EventFormula::Interpreted { lhs, rhs, sign },
+            });
+        }
+        Ok((rates, events))
+    }
+}
+
+/// The integrator's settings for a block: its tolerances per state slot,
+/// the step limit for its size, and its conditions.
+fn run_settings(
+    block: &SimulateBlock,
+    layout: &Layout,
+    relative: f64,
+    absolute: &[f64],
+) -> Settings {
+    let mut absolute_tolerance = vec![0.0; layout.n_slots];
+    for (index, &(_, first, n)) in layout.states.iter().enumerate() {
+        absolute_tolerance[first..first + n].fill(absolute[index]);
+    }
+    Settings {
+        relative_tolerance: relative,
+        absolute_tolerance,
+        max_steps: step_limit(layout.n_slots),
+        error_control: ErrorControl::PerUnitTime,
+        events: block
+            .events
+            .iter()
+            .map(|event| Condition {
+                kind: if event.stops {
+                    EventKind::Stop
+                } else {
+                    EventKind::Record
+                },
+                strict: event.comparison.is_strict(),
+            })
+            .collect(),
     }
 }
 
