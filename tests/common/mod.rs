@@ -1,5 +1,7 @@
 //! Helpers shared by the integration tests: one place that runs a sheet
-//! through the public API, so a refactor touches one function.
+//! through the public API, so a refactor touches one function. Each test
+//! binary (`tests/AREA/main.rs`) takes this file in with
+//! `#[path = "../common/mod.rs"] mod common;` and uses the part it needs.
 
 #![allow(dead_code)]
 
