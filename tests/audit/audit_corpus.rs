@@ -8,7 +8,6 @@
 use crate::common;
 
 use std::collections::BTreeMap;
-use std::fs;
 
 use heftsheet::base::{Code, Severity};
 use heftsheet::pipeline::run as check_source;
@@ -63,7 +62,7 @@ fn the_corpus_is_found_with_full_precision_and_recall() {
     let mut per_code: BTreeMap<String, (usize, usize, usize)> = BTreeMap::new();
     let mut failures = Vec::new();
     for path in bad.iter().chain(&clean) {
-        let source = fs::read_to_string(path).unwrap_or_default();
+        let source = common::read_file(path);
         let (want, got) = (common::expected_findings(&source), produced(&source));
         let (tp, fp, fn_) = score(&want, &got);
         true_positives += tp;
@@ -122,7 +121,7 @@ fn the_corpus_is_found_with_full_precision_and_recall() {
 fn every_lint_is_exercised_by_the_mistaken_sheets() {
     let mut seen = std::collections::BTreeSet::new();
     for path in common::sheets_in("tests/sheets/audit/bad") {
-        let source = fs::read_to_string(&path).unwrap_or_default();
+        let source = common::read_file(&path);
         seen.extend(
             common::expected_findings(&source)
                 .into_keys()
@@ -143,7 +142,7 @@ fn clean_sheets_and_demo_sheets_give_no_warning() {
     paths.extend(common::sheets_in("tests/sheets/ok"));
     paths.extend(common::sheets_in("sheets"));
     for path in paths {
-        let source = fs::read_to_string(&path).unwrap_or_default();
+        let source = common::read_file(&path);
         let evaluated = check_source(&source);
         let loud: Vec<String> = evaluated
             .diagnostics
@@ -158,7 +157,7 @@ fn clean_sheets_and_demo_sheets_give_no_warning() {
 #[test]
 fn clean_sheets_mix_si_and_fps_units() {
     for path in common::sheets_in("tests/sheets/audit/clean") {
-        let source = fs::read_to_string(&path).unwrap_or_default();
+        let source = common::read_file(&path);
         let audit = heftsheet::audit::conversion_audit(&check_source(&source));
         let systems: Vec<&str> = audit.systems.iter().map(|s| s.system.label()).collect();
         assert!(

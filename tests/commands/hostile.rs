@@ -3,6 +3,8 @@
 //! its own with exit code 0, 1 or 2 within a time bound, and nothing from a
 //! sheet reaches the terminal or a text file as a control sequence.
 
+use crate::common;
+
 use std::io::Read;
 use std::path::{Path, PathBuf};
 use std::process::{Command, Stdio};
@@ -127,12 +129,7 @@ fn assert_shows_safely(bytes: &[u8], colour: bool, what: &str) {
 }
 
 fn corpus() -> Vec<PathBuf> {
-    let mut sheets: Vec<PathBuf> = std::fs::read_dir("tests/sheets/hostile")
-        .expect("the hostile corpus is there")
-        .map(|entry| entry.expect("a readable corpus entry").path())
-        .filter(|path| path.extension().is_some_and(|e| e == "heft"))
-        .collect();
-    sheets.sort();
+    let sheets = common::sheets_in("tests/sheets/hostile");
     assert!(sheets.len() >= 7, "the corpus shrank: {sheets:?}");
     sheets
 }

@@ -150,29 +150,10 @@ fn a_fix_that_would_convert_a_second_time_is_not_offered() {
     }
 }
 
-/// Every sheet of the repository: the corpora, the demo sheets, examples.
+/// Every sheet of the repository: the demo sheets, and the corpora and
+/// fixtures under `tests/`.
 fn every_sheet() -> Vec<std::path::PathBuf> {
-    let mut paths = Vec::new();
-    let root = std::path::Path::new(env!("CARGO_MANIFEST_DIR"));
-    let mut folders = vec![
-        root.join("sheets"),
-        root.join("tests"),
-        root.join("examples"),
-    ];
-    while let Some(folder) = folders.pop() {
-        let Ok(entries) = std::fs::read_dir(&folder) else {
-            continue;
-        };
-        for path in entries.filter_map(|entry| entry.ok().map(|e| e.path())) {
-            if path.is_dir() {
-                folders.push(path);
-            } else if path.extension().is_some_and(|ext| ext == "heft") {
-                paths.push(path);
-            }
-        }
-    }
-    paths.sort();
-    paths
+    common::sheets_below(&["sheets", "tests"])
 }
 
 /// Errors (verdicts aside) and hand-typed factors of `line` (0-based).
@@ -201,9 +182,7 @@ fn every_fix_offered_in_the_repository_fixes_its_line() {
     let mut n_fixes = 0;
     let mut failures = Vec::new();
     for path in every_sheet() {
-        let Ok(source) = std::fs::read_to_string(&path) else {
-            continue;
-        };
+        let source = common::read_file(&path);
         n_sheets += 1;
         let evaluated = pipeline::run(&source);
         let mut fixed_lines: std::collections::BTreeMap<usize, String> = Default::default();

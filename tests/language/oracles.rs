@@ -22,7 +22,7 @@
 
 use crate::common;
 
-use std::path::{Path, PathBuf};
+use std::path::PathBuf;
 
 use heftsheet::base::Span;
 use heftsheet::eval::{CellStatus, CheckStatus, Evaluated, LiveSheet, RangeMethod};
@@ -806,35 +806,13 @@ fn the_generated_oracles_run_enough_cases() {
 
 /// Every `.heft` file under the repository's sheet folders.
 fn repository_sheets() -> Vec<PathBuf> {
-    let root = Path::new(env!("CARGO_MANIFEST_DIR"));
-    let mut found = Vec::new();
-    let mut folders = vec![root.join("sheets"), root.join("tests/sheets")];
-    while let Some(folder) = folders.pop() {
-        let entries = std::fs::read_dir(&folder)
-            .unwrap_or_else(|error| panic!("cannot read {}: {error}", folder.display()));
-        for entry in entries {
-            let path = entry
-                .unwrap_or_else(|error| panic!("cannot list {}: {error}", folder.display()))
-                .path();
-            if path.is_dir() {
-                folders.push(path);
-            } else if path.extension().is_some_and(|e| e == "heft") {
-                found.push(path);
-            }
-        }
-    }
-    found.sort();
+    let found = common::sheets_below(&["sheets", "tests/sheets"]);
     assert!(
         found.len() > 50,
         "expected the corpus, found {}",
         found.len()
     );
     found
-}
-
-fn read(path: &Path) -> String {
-    std::fs::read_to_string(path)
-        .unwrap_or_else(|error| panic!("cannot read {}: {error}", path.display()))
 }
 
 /// `source` with each span replaced by its text (spans must not overlap).
@@ -899,7 +877,7 @@ fn case_written_in(evaluated: &Evaluated, index: usize) -> String {
 fn repository_load_cases_equal_their_overrides_written_in() {
     let mut compared = 0;
     for path in repository_sheets() {
-        let evaluated = pipeline::run(&read(&path));
+        let evaluated = pipeline::run(&common::read_file(&path));
         for (index, case) in evaluated.cases.iter().enumerate() {
             if !case.evaluated {
                 continue;
@@ -953,7 +931,7 @@ fn every_command_and_the_notebook_agree_on_every_sheet() {
     let out_dir = tempfile::tempdir().expect("a temporary folder");
     let mut sheets = 0;
     for path in repository_sheets() {
-        let text = read(&path);
+        let text = common::read_file(&path);
         let evaluated = pipeline::run(&text);
         let summary = evaluated.summary();
         let file = path.to_string_lossy().to_string();
@@ -1016,7 +994,7 @@ fn every_command_and_the_notebook_agree_on_every_sheet() {
             if summary.is_clean() { 0 } else { 1 },
             "{name}: report exit code"
         );
-        let markdown = read(&report);
+        let markdown = common::read_file(&report);
         assert!(
             markdown.contains(&summary.line()),
             "{name}: the report's summary is not `{}`",
@@ -1280,7 +1258,11 @@ proptest! {
 fn every_repository_solution_satisfies_its_equations_from_any_start() {
     let mut repository = SolveCounts::default();
     for path in repository_sheets() {
-        solve_oracle(&read(&path), &path.display().to_string(), &mut repository);
+        solve_oracle(
+            &common::read_file(&path),
+            &path.display().to_string(),
+            &mut repository,
+        );
     }
     // The generated blocks, counted the same way over fixed seeds.
     let mut generated = SolveCounts::default();

@@ -6,7 +6,6 @@
 use crate::common;
 
 use std::collections::BTreeMap;
-use std::fs;
 
 use heftsheet::base::Severity;
 use heftsheet::eval::evaluate_source;
@@ -52,7 +51,7 @@ fn clean_sheets_have_no_findings() {
         paths.len()
     );
     for path in paths {
-        let source = fs::read_to_string(&path).unwrap_or_default();
+        let source = common::read_file(&path);
         let found = found_with_lints(&source, Severity::Warning);
         assert!(
             found.is_empty(),
@@ -68,7 +67,7 @@ fn broken_sheets_give_exactly_their_annotated_codes() {
     assert!(!paths.is_empty());
     let mut failures = Vec::new();
     for path in &paths {
-        let source = fs::read_to_string(path).unwrap_or_default();
+        let source = common::read_file(path);
         let expected = common::expected_findings(&source);
         assert!(
             !expected.is_empty(),
@@ -93,7 +92,7 @@ fn every_error_code_is_exercised_by_the_corpus() {
     let mut paths = common::sheets_in("tests/sheets/err");
     paths.extend(common::sheets_in("tests/sheets/audit/bad"));
     for path in paths {
-        let source = fs::read_to_string(&path).unwrap_or_default();
+        let source = common::read_file(&path);
         seen.extend(
             common::expected_findings(&source)
                 .into_keys()

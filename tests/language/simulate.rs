@@ -665,25 +665,18 @@ fn the_first_peak_of_a_damped_oscillation_is_located_to_the_tolerance() {
 /// outcome against a direct evaluation of its truth.
 mod oracle {
     use super::{evaluate_clean, spring_sheet, throw_sheet};
+    use crate::common;
     use heftsheet::base::Code;
     use heftsheet::eval::{Evaluated, RunReport, RunStatus, evaluate_source};
     use heftsheet::syntax::ast::{Expr, ExprKind};
     use heftsheet::units::{Dimension, Value};
-    use std::path::Path;
 
     /// The repository's sheets with simulate blocks.
     fn repository_sheets() -> Vec<(String, String)> {
-        let root = Path::new(env!("CARGO_MANIFEST_DIR"));
         let mut sheets = Vec::new();
         for folder in ["sheets", "tests/sheets/ok"] {
-            let mut paths: Vec<_> = std::fs::read_dir(root.join(folder))
-                .expect("a sheet folder")
-                .filter_map(|entry| entry.ok().map(|entry| entry.path()))
-                .filter(|path| path.extension().is_some_and(|e| e == "heft"))
-                .collect();
-            paths.sort();
-            for path in paths {
-                let text = std::fs::read_to_string(&path).expect("a sheet");
+            for path in common::sheets_in(folder) {
+                let text = common::read_file(&path);
                 if text
                     .lines()
                     .any(|line| line.trim_start().starts_with("simulate "))

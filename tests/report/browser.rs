@@ -115,7 +115,7 @@ fn printed_demo_reports_show_every_result_and_check() {
             .and_then(|stem| stem.to_str())
             .unwrap_or("sheet")
             .to_string();
-        let source = std::fs::read_to_string(&path).expect("demo sheet");
+        let source = common::read_file(&path);
         let evaluated = evaluate_source(&source);
         let document = report::document(&evaluated, &Review::of(&evaluated));
         let printed = print_to_text(&name, &report::html::write(&document));
@@ -153,10 +153,9 @@ fn printed_demo_reports_show_every_result_and_check() {
 
 #[test]
 fn printed_hostile_text_shows_as_text_and_runs_nothing() {
-    let source = std::fs::read_to_string(
-        Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/hostile_text.heft"),
-    )
-    .expect("hostile sheet");
+    let source = common::read_file(
+        &Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/hostile_text.heft"),
+    );
     let html = report::render(&evaluate_source(&source), Format::Html);
     let printed = print_to_text("hostile", &html);
     for shown in [

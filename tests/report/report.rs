@@ -29,7 +29,7 @@ fn markdown_reports_of_the_demo_sheets() {
     let paths = common::sheets_in("sheets");
     assert!(paths.len() >= 3, "expected the three demo sheets");
     for path in paths {
-        let source = std::fs::read_to_string(&path).expect("demo sheet");
+        let source = common::read_file(&path);
         let markdown = report::render(&evaluate_source(&source), Format::Markdown);
         let name = path
             .file_stem()
