@@ -1,7 +1,11 @@
 //! Helpers shared by the integration tests: one place that runs a sheet
-//! through the public API, so a refactor touches one function.
+//! through the public API, so a refactor touches one function. Each test
+//! binary (`tests/AREA/main.rs`) takes this file in with
+//! `#[path = "../common/mod.rs"] mod common;` and uses the part it needs.
 
 #![allow(dead_code)]
+
+use std::path::{Path, PathBuf};
 
 use heftsheet::eval::{CellStatus, Evaluated, evaluate_source};
 
@@ -86,14 +90,58 @@ pub fn heft(args: &[&str]) -> (i32, String, String) {
     )
 }
 
+/// The text of the file at `path`. Panics naming the path when it cannot be
+/// read, so an unreadable corpus sheet fails its test instead of passing as
+/// an empty one.
+#[track_caller]
+pub fn read_file(path: &Path) -> String {
+    std::fs::read_to_string(path)
+        .unwrap_or_else(|error| panic!("cannot read {}: {error}", path.display()))
+}
+
+/// The entries of `folder`; panics naming the folder when it or an entry
+/// cannot be read.
+fn entries_of(folder: &Path) -> Vec<PathBuf> {
+    std::fs::read_dir(folder)
+        .unwrap_or_else(|error| panic!("cannot read {}: {error}", folder.display()))
+        .map(|entry| {
+            entry
+                .unwrap_or_else(|error| panic!("cannot list {}: {error}", folder.display()))
+                .path()
+        })
+        .collect()
+}
+
+fn is_sheet(path: &Path) -> bool {
+    path.extension().is_some_and(|ext| ext == "heft")
+}
+
 /// The `.heft` files in `dir` (relative to the crate), sorted.
-pub fn sheets_in(dir: &str) -> Vec<std::path::PathBuf> {
-    let root = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join(dir);
-    let mut paths: Vec<std::path::PathBuf> = std::fs::read_dir(&root)
-        .unwrap_or_else(|e| panic!("{}: {e}", root.display()))
-        .filter_map(|entry| entry.ok().map(|e| e.path()))
-        .filter(|path| path.extension().is_some_and(|ext| ext == "heft"))
+pub fn sheets_in(dir: &str) -> Vec<PathBuf> {
+    let root = Path::new(env!("CARGO_MANIFEST_DIR")).join(dir);
+    let mut paths: Vec<PathBuf> = entries_of(&root)
+        .into_iter()
+        .filter(|path| is_sheet(path))
         .collect();
+    paths.sort();
+    paths
+}
+
+/// The `.heft` files in `dirs` (relative to the crate) and every folder
+/// below them, sorted.
+pub fn sheets_below(dirs: &[&str]) -> Vec<PathBuf> {
+    let root = Path::new(env!("CARGO_MANIFEST_DIR"));
+    let mut folders: Vec<PathBuf> = dirs.iter().map(|dir| root.join(dir)).collect();
+    let mut paths = Vec::new();
+    while let Some(folder) = folders.pop() {
+        for path in entries_of(&folder) {
+            if path.is_dir() {
+                folders.push(path);
+            } else if is_sheet(&path) {
+                paths.push(path);
+            }
+        }
+    }
     paths.sort();
     paths
 }
