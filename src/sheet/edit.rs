@@ -291,6 +291,36 @@ impl Document {
         text
     }
 
+    /// Whether the last line is empty and has no break of its own (a line
+    /// just added at the end of a file without a final break): the text
+    /// then ends in the break of the line before, which the text read
+    /// afresh takes for a final break (`A\n` is one line).
+    pub fn ends_in_unbroken_empty_line(&self) -> bool {
+        !self.final_break
+            && self
+                .lines
+                .last()
+                .is_some_and(|line| line.text.start() == line.text.end())
+    }
+
+    /// Puts back the empty last line without a break that
+    /// [`Document::ends_in_unbroken_empty_line`] found, after the same text
+    /// was read afresh; does nothing unless the text ends in a break.
+    pub fn restore_unbroken_empty_line(&mut self) {
+        if !self.final_break {
+            return;
+        }
+        let text = self.append("");
+        self.lines.push(DocumentLine {
+            text,
+            ending: self.newline,
+        });
+        self.final_break = false;
+        if self.header_unclosed {
+            self.body_start = self.lines.len();
+        }
+    }
+
     /// Number of lines.
     pub fn n_lines(&self) -> usize {
         self.lines.len()

@@ -1772,3 +1772,29 @@ fn a_byte_order_mark_is_read_past_and_kept_through_an_edit() {
     assert_eq!(edited, text.replace("m = 4 kg", "m = 5 kg"));
     assert!(edited.starts_with('\u{feff}'));
 }
+
+#[test]
+fn a_line_added_after_the_last_of_a_file_without_a_final_break_undoes_to_the_same_bytes() {
+    // The sheet with blocks is read afresh on every edit; the new, still
+    // empty last line of a file without a final break must survive that
+    // (it was dropped, the typed text refused and a stray break left).
+    let with_blocks = every_kind_variant(1);
+    for text in [
+        "m = 1 kg\r\nW = m * g0",
+        "m = 1 kg\nW = m * g0",
+        "m = 1 kg\r\nW = m * g0\r\n",
+        "",
+        with_blocks.as_str(),
+    ] {
+        let mut app = app_for(text);
+        press(&mut app, KeyCode::End);
+        press_char(&mut app, 'a');
+        type_text(&mut app, "x = 2");
+        press(&mut app, KeyCode::Enter);
+        let added = app.live().text();
+        assert!(added.trim_end().ends_with("x = 2"), "{added:?}");
+        assert_eq!(app.history().undoable(), 1);
+        press_char(&mut app, '<');
+        assert_eq!(app.live().text(), text, "after adding {added:?}");
+    }
+}

@@ -163,7 +163,13 @@ impl LiveSheet {
     pub(super) fn reopen(&mut self) {
         let text = self.document.text();
         let revision = self.revision;
+        // A line just added at the end of a file without a final break is
+        // empty and unbroken; the text read afresh would drop it.
+        let unbroken_empty_end = self.document.ends_in_unbroken_empty_line();
         *self = LiveSheet::open(&text);
+        if unbroken_empty_end {
+            self.document.restore_unbroken_empty_line();
+        }
         self.revision = revision;
     }
 
