@@ -7,6 +7,8 @@
 
 use ratatui::style::{Color, Modifier, Style};
 
+use crate::base::Severity;
+
 /// The styles the notebook draws with.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub struct Theme {
@@ -69,6 +71,16 @@ impl Theme {
     /// Error and failure marks.
     pub fn bad(self) -> Style {
         self.paint(Color::Red, Modifier::BOLD)
+    }
+
+    /// A finding of this severity: errors as failures, warnings as
+    /// warnings, information plain.
+    pub fn severity(self, severity: Severity) -> Style {
+        match severity {
+            Severity::Error => self.bad(),
+            Severity::Warning => self.warning(),
+            Severity::Info => Style::default(),
+        }
     }
 
     /// Blocked marks.
