@@ -3,7 +3,7 @@
 //! every check; then every fix a finding offers is verified. Every command
 //! (`check`, `report`, `audit`, `signoff`, `diff`) calls [`run`] or
 //! [`run_bytes`], so no two can disagree on a finding, a fix or a verdict; the notebook evaluates edits incrementally and is
-//! held to the same counts by `tests/oracles.rs`.
+//! held to the same counts by `tests/language/oracles.rs`.
 
 use crate::base::Diagnostic;
 use crate::eval::{self, Evaluated};

@@ -19,6 +19,13 @@ const LAYERS: [&str; 14] = [
 /// Modules that use nothing of the crate at all.
 const SELF_CONTAINED: [&str; 2] = ["base", "numeric"];
 
+/// Presentation: it reads the evaluated model (`eval`, `review`, `diff`,
+/// `audit`), never the syntax tree.
+const PRESENTATION: [&str; 4] = ["plot", "report", "tui", "cli"];
+
+/// The longest a source file may be.
+const MAX_FILE_LINES: usize = 1000;
+
 fn rust_files(dir: &Path, found: &mut Vec<PathBuf>) {
     let entries = fs::read_dir(dir).unwrap_or_else(|error| panic!("{}: {error}", dir.display()));
     for entry in entries {
@@ -130,6 +137,40 @@ fn modules_use_only_the_layers_below_them() {
         wrong.is_empty(),
         "uses against the layering:\n{}",
         wrong.join("\n")
+    );
+}
+
+#[test]
+fn presentation_never_reads_the_syntax_tree() {
+    let uses = uses();
+    let wrong: Vec<String> = PRESENTATION
+        .iter()
+        .filter_map(|module| {
+            let place = uses.get(*module)?.get("syntax")?;
+            Some(format!("{module} uses syntax ({place})"))
+        })
+        .collect();
+    assert!(wrong.is_empty(), "{}", wrong.join("\n"));
+}
+
+#[test]
+fn no_source_file_is_over_a_thousand_lines() {
+    let src = Path::new(env!("CARGO_MANIFEST_DIR")).join("src");
+    let mut files = Vec::new();
+    rust_files(&src, &mut files);
+    let long: Vec<String> = files
+        .iter()
+        .filter_map(|file| {
+            let text = fs::read_to_string(file)
+                .unwrap_or_else(|error| panic!("{}: {error}", file.display()));
+            let n = text.lines().count();
+            (n > MAX_FILE_LINES).then(|| format!("{} has {n} lines", file.display()))
+        })
+        .collect();
+    assert!(
+        long.is_empty(),
+        "split these into modules of named parts:\n{}",
+        long.join("\n")
     );
 }
 

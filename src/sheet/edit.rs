@@ -169,6 +169,13 @@ impl std::fmt::Display for EditError {
 
 impl std::error::Error for EditError {}
 
+/// Whether a line opens a block (`solve`, `case`, `simulate`), whose lines
+/// run to a line `end`: how an editor of the document knows that a line
+/// being typed will take the lines after it.
+pub fn opens_block(line: &str) -> bool {
+    syntax::is_block_head(line)
+}
+
 /// A sheet's text as lines, with the arena their spans point into.
 #[derive(Clone, Debug)]
 pub struct Document {

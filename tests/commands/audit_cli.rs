@@ -146,10 +146,10 @@ fn the_audit_text_of_a_mixed_sheet() {
 }
 
 #[test]
-fn the_readme_example_is_what_heft_audit_prints() {
+fn the_documented_audit_example_is_what_heft_audit_prints() {
     let readme =
         std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("docs/audit.md"))
-            .expect("README");
+            .expect("docs/audit.md");
     let section = readme
         .split("## Auditing a sheet")
         .nth(1)
@@ -169,6 +169,6 @@ fn the_readme_example_is_what_heft_audit_prints() {
     assert_eq!(
         String::from_utf8_lossy(&output.stdout).trim(),
         printed.trim(),
-        "README's example output is stale"
+        "docs/audit.md's example output is stale"
     );
 }

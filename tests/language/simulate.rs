@@ -1031,14 +1031,14 @@ mod oracle {
     /// first time it becomes true is where x reaches the threshold moving
     /// towards the side where it holds (the start itself when x starts on
     /// the threshold and a strict condition holds at once after; and, as
-    /// README says, a change sooner than the time resolution of the run
+    /// docs/language.md says, a change sooner than the time resolution of the run
     /// after its start counts as at the start).
     #[test]
     fn conditions_at_their_threshold_agree_with_their_direct_truth() {
         let threshold = 1.5_f64;
         let span = 2.0_f64;
         let tolerance = 1e-9;
-        // The shortest time the run resolves (README: ten units in the last
+        // The shortest time the run resolves (docs/language.md: ten units in the last
         // place of the run's length).
         let resolution = 10.0 * f64::EPSILON * span;
         let offsets = [
@@ -1116,7 +1116,7 @@ mod oracle {
                         // How sharply the change can be timed: to the
                         // tolerance, and no sooner than the computed x has
                         // moved by its last digits (from rest that takes a
-                        // while: README, "how a condition is decided").
+                        // while: docs/language.md, "how a condition is decided").
                         let digits = motion.time_to_move(8.0 * f64::EPSILON * h.abs());
                         let window = tolerance * span + digits;
                         let expected = match becomes_true {

@@ -10,7 +10,7 @@
 //! evaluate nothing; a check edit evaluates that check. Anything else (a
 //! rename, a cell added or removed, a new dependency that breaks the order)
 //! relinks the sheet and evaluates it whole. Both paths run the same
-//! evaluator, and `tests/live.rs` checks that an edited sheet always ends up
+//! evaluator, and `tests/notebook/live.rs` checks that an edited sheet always ends up
 //! exactly where evaluating its text from scratch does.
 
 mod edits;

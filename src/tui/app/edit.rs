@@ -14,7 +14,6 @@ use super::super::strings as text;
 use super::{App, Effect, Mode, typed_char};
 use crate::eval::{CellField, FieldEditor, Row, Splice, WrittenLine};
 use crate::sheet::CellId;
-use crate::syntax;
 
 /// What an edit is changing.
 #[derive(Clone, Debug)]
@@ -91,7 +90,7 @@ impl EditSession {
             EditTarget::Block | EditTarget::Header => true,
             EditTarget::Field(..) => false,
             EditTarget::Line | EditTarget::NewLine => {
-                self.n_shown() > 1 || syntax::is_block_head(self.input.value())
+                self.n_shown() > 1 || crate::sheet::edit::opens_block(self.input.value())
             }
         }
     }
