@@ -34,6 +34,18 @@ fn opened(text: &str) -> Opened {
     }
 }
 
+/// The notebook on a file that does not exist yet.
+fn new_sheet_app() -> App {
+    let opened = Opened {
+        path: "new.heft".into(),
+        text: String::new(),
+        disk: None,
+        recovery: Vec::new(),
+        notices: Vec::new(),
+    };
+    App::new(opened, Rect::new(0, 0, 80, 24), Theme::new(false))
+}
+
 fn app_for(text: &str) -> App {
     App::new(opened(text), Rect::new(0, 0, 80, 24), Theme::new(false))
 }
@@ -729,17 +741,7 @@ fn kept_work_from_a_crash_is_offered_and_restored() {
 
 #[test]
 fn a_new_file_starts_empty_and_grows() {
-    let mut app = App::new(
-        Opened {
-            path: "new.heft".into(),
-            text: String::new(),
-            disk: None,
-            recovery: Vec::new(),
-            notices: Vec::new(),
-        },
-        Rect::new(0, 0, 80, 24),
-        Theme::new(false),
-    );
+    let mut app = new_sheet_app();
     assert!(app.is_new_file());
     assert!(app.live().rows().is_empty());
     press(&mut app, KeyCode::Enter);
@@ -1246,17 +1248,7 @@ fn a_new_line_that_opens_a_block_grows_into_a_block_editor() {
 
 #[test]
 fn a_new_sheet_gets_a_header_with_t_and_its_title_shows() {
-    let mut app = App::new(
-        Opened {
-            path: "new.heft".into(),
-            text: String::new(),
-            disk: None,
-            recovery: Vec::new(),
-            notices: Vec::new(),
-        },
-        Rect::new(0, 0, 80, 24),
-        Theme::new(false),
-    );
+    let mut app = new_sheet_app();
     // Esc leaves nothing behind; kept untouched, nothing is added either.
     press_char(&mut app, 'T');
     assert!(session(&app).is_multiline());

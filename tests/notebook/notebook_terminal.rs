@@ -151,6 +151,18 @@ fn names_in(directory: &std::path::Path) -> Vec<String> {
     names
 }
 
+/// The lines that differ between two texts of the same length in lines:
+/// (1-based line, before, after).
+fn changed_lines<'a>(before: &'a str, after: &'a str) -> Vec<(usize, &'a str, &'a str)> {
+    before
+        .lines()
+        .zip(after.lines())
+        .enumerate()
+        .filter(|(_, (old, new))| old != new)
+        .map(|(line, (old, new))| (line + 1, old, new))
+        .collect()
+}
+
 /// A demo sheet's text copied to `name` in a fresh temporary folder.
 fn demo_copy(name: &str, text: &str) -> (tempfile::TempDir, std::path::PathBuf) {
     let directory = tempfile::tempdir().expect("a temporary directory");
@@ -193,13 +205,7 @@ fn edit_an_input_watch_the_result_change_and_save_one_line() {
     assert!(heft.wait_exit(), "heft exits cleanly");
 
     let saved = std::fs::read_to_string(&file).expect("the saved sheet");
-    let changed: Vec<(usize, &str, &str)> = original
-        .lines()
-        .zip(saved.lines())
-        .enumerate()
-        .filter(|(_, (before, after))| before != after)
-        .map(|(line, (before, after))| (line + 1, before, after))
-        .collect();
+    let changed = changed_lines(original, &saved);
     assert_eq!(
         changed,
         vec![(
@@ -373,13 +379,7 @@ fn edit_a_solve_block_in_its_editor_keep_it_with_ctrl_s_and_save_one_line() {
     assert!(heft.wait_exit(), "heft exits cleanly");
 
     let saved = std::fs::read_to_string(&file).expect("the saved sheet");
-    let changed: Vec<(usize, &str, &str)> = original
-        .lines()
-        .zip(saved.lines())
-        .enumerate()
-        .filter(|(_, (before, after))| before != after)
-        .map(|(line, (before, after))| (line + 1, before, after))
-        .collect();
+    let changed = changed_lines(original, &saved);
     assert_eq!(
         changed,
         vec![(
