@@ -167,6 +167,12 @@ impl<T: Number> Number for Dual<T> {
                     None => self.derivative.either(other.derivative),
                 }
             }
+            // (a a' + b b') / hypot(a, b); at the origin hypot has a kink,
+            // like |x| at 0, and its slope is taken as 0 there (as the
+            // slope of |x| is), not 0/0.
+            Binary::Hypot if value.certainly_less(T::constant(f64::MIN_POSITIVE)) => {
+                T::constant(0.0)
+            }
             Binary::Hypot => self
                 .value
                 .mul(self.derivative)
@@ -181,5 +187,30 @@ impl<T: Number> Number for Dual<T> {
             }
         };
         Dual { value, derivative }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn hypot_has_a_slope_everywhere_and_zero_at_the_origin() {
+        let along = |value: f64| Dual {
+            value,
+            derivative: 1.0,
+        };
+        // d/dt hypot(3 + t, 4) = 3 / 5 at t = 0 (closed form).
+        let away = along(3.0).apply2(
+            Dual {
+                value: 4.0,
+                derivative: 0.0,
+            },
+            Binary::Hypot,
+        );
+        assert!((away.derivative - 0.6).abs() < 1e-15);
+        // At the origin: 0, like the slope of |x| at 0, never NaN.
+        let origin = along(0.0).apply2(along(0.0), Binary::Hypot);
+        assert_eq!((origin.value, origin.derivative), (0.0, 0.0));
     }
 }

@@ -486,6 +486,14 @@ fn close(a: f64, b: f64, relative: f64, scale: f64) -> bool {
 /// The tolerance oracle on one generated sheet; returns how many point
 /// evaluations it made, or `None` if the sheet was skipped (it does not
 /// evaluate cleanly at its nominal values).
+#[test]
+fn the_derivative_of_hypot_at_the_origin_is_a_number() {
+    // A generated sheet (this seed) with hypot(c_0, c_0) where c_0 is
+    // exactly 0: the derivative pass gave NaN against a central difference
+    // of 0.
+    tolerance_oracle(14_116_750_542_929_918_072);
+}
+
 fn tolerance_oracle(seed: u64) -> Option<usize> {
     let mut generated = Generated::new(seed, false);
     let first = pipeline::run(&generated.text(None));
