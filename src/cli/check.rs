@@ -155,7 +155,27 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
     ));
     let _ = writeln!(out, "{}", painter.paint(DIM, &facts.join(" · ")));
 
-    // Which heading each cell sits under, to print headings in dependency order.
+    write_cells(&mut out, evaluated, &painter);
+
+    write_checks(&mut out, evaluated, &painter);
+
+    write_cases(&mut out, evaluated, &painter);
+    write_sensitivities(&mut out, evaluated, &painter);
+    out.push_str(&super::review::review_text(evaluated));
+
+    if !evaluated.diagnostics.is_empty() {
+        let _ = writeln!(out);
+        out.push_str(&render(&evaluated.diagnostics, file_name, source, colour));
+    }
+
+    write_summary(&mut out, evaluated, &painter);
+    let _ = writeln!(out, "\n{}", painter.paint(DIM, &wrap(crate::CAUTION, 78)));
+    out
+}
+
+/// Which heading each cell sits under (its position in the outline), to
+/// print headings in dependency order.
+fn section_of_cells(evaluated: &Evaluated) -> Vec<Option<usize>> {
     let mut section_of = vec![None; evaluated.n_cells()];
     let mut current = None;
     for (position, item) in evaluated.outline.iter().enumerate() {
@@ -177,6 +197,14 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
             _ => {}
         }
     }
+    section_of
+}
+
+/// The cells in dependency order under their headings, with each solve
+/// block and run before its first cell.
+fn write_cells(out: &mut String, evaluated: &Evaluated, painter: &Painter) {
+    let sig_figs = evaluated.header().sig_figs;
+    let section_of = section_of_cells(evaluated);
     let name_width = evaluated
         .cells()
         .map(|c| c.name.chars().count())
@@ -199,21 +227,21 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
             printed_section = section_of[id];
             if let Some(position) = printed_section {
                 let first_time = seen_sections.insert(position);
-                write_section(&mut out, evaluated, position, first_time, &painter);
+                write_section(out, evaluated, position, first_time, painter);
             }
         }
         if let Some(report) = cell.solved_by
             && cell.solved_by != printed_block
         {
             printed_block = cell.solved_by;
-            write_solve_block(&mut out, evaluated, report, &painter);
+            write_solve_block(out, evaluated, report, painter);
         }
         let range = evaluated.ranges.get(id).and_then(Option::as_ref);
         if let Some(run) = evaluated.run_of(id)
             && Some(run) != printed_run
         {
             printed_run = Some(run);
-            runs::write_run(&mut out, evaluated, run, &|text| painter.paint(BOLD, text));
+            runs::write_run(out, evaluated, run, &|text| painter.paint(BOLD, text));
         }
         let value = match (cell.status, cell.any_value()) {
             (CellStatus::Ok, Some(value)) => {
@@ -267,7 +295,11 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
             );
         }
     }
+}
 
+/// Every check with its sides, utilization, verdict and label.
+fn write_checks(out: &mut String, evaluated: &Evaluated, painter: &Painter) {
+    let sig_figs = evaluated.header().sig_figs;
     if !evaluated.checks.is_empty() {
         let _ = writeln!(out, "\n{}", painter.paint(BOLD, "Checks"));
         for check in &evaluated.checks {
@@ -337,16 +369,10 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
             );
         }
     }
+}
 
-    write_cases(&mut out, evaluated, &painter);
-    write_sensitivities(&mut out, evaluated, &painter);
-    out.push_str(&super::review::review_text(evaluated));
-
-    if !evaluated.diagnostics.is_empty() {
-        let _ = writeln!(out);
-        out.push_str(&render(&evaluated.diagnostics, file_name, source, colour));
-    }
-
+/// The counts, then every check that is not passed and where.
+fn write_summary(out: &mut String, evaluated: &Evaluated, painter: &Painter) {
     let summary = evaluated.summary();
     let style = if summary.is_clean() { PASS } else { FAIL };
     let _ = writeln!(out, "\n{}", painter.paint(style, &summary.line()));
@@ -366,8 +392,6 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
             visible(&verdict)
         );
     }
-    let _ = writeln!(out, "\n{}", painter.paint(DIM, &wrap(crate::CAUTION, 78)));
-    out
 }
 
 /// The load-case table: the chosen results and every check per case, with
