@@ -237,7 +237,38 @@ pub fn text(report: &impl Serialize) -> String {
 /// Serializes an evaluated sheet.
 pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> String {
     let lines = &evaluated.lines;
-    let cells = evaluated
+    let cells = json_cells(evaluated);
+    let checks = json_checks(evaluated);
+    let cases = json_cases(evaluated);
+    let solves = json_solves(evaluated);
+    let summary = evaluated.summary();
+    let report = Report {
+        schema: SCHEMA,
+        file: file_name,
+        title: evaluated.header().title.as_deref(),
+        revision: evaluated.header().revision.as_deref(),
+        display: evaluated.header().display.label(),
+        sig_figs: evaluated.header().sig_figs,
+        clean: summary.is_clean(),
+        summary: summary.into(),
+        cells,
+        checks,
+        solves,
+        cases,
+        runs: super::runs::json_runs(evaluated, lines),
+        diagnostics: evaluated
+            .diagnostics
+            .iter()
+            .map(|d| diagnostic(d, source, lines))
+            .collect(),
+        review: review(evaluated),
+    };
+    super::json::text(&report)
+}
+
+/// Every cell: value, unit, dimension, range, sensitivities.
+fn json_cells(evaluated: &Evaluated) -> Vec<Cell<'_>> {
+    evaluated
         .cells()
         .map(|cell| {
             let ok = cell.status == crate::eval::CellStatus::Ok;
@@ -304,8 +335,13 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
                 },
             }
         })
-        .collect();
-    let checks = evaluated
+        .collect()
+}
+
+/// Every check: sides, utilization, verdict and where it comes from.
+fn json_checks(evaluated: &Evaluated) -> Vec<Check<'_>> {
+    let lines = &evaluated.lines;
+    evaluated
         .checks
         .iter()
         .enumerate()
@@ -336,8 +372,13 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
                     .map(|case| evaluated.cases[case].name.as_str())
             }),
         })
-        .collect();
-    let cases = evaluated
+        .collect()
+}
+
+/// Every load case: its results and its checks.
+fn json_cases(evaluated: &Evaluated) -> Vec<JsonCase<'_>> {
+    let lines = &evaluated.lines;
+    evaluated
         .cases
         .iter()
         .map(|case| JsonCase {
@@ -386,8 +427,13 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
                 })
                 .collect(),
         })
-        .collect();
-    let solves = evaluated
+        .collect()
+}
+
+/// Every solve block: status, unknowns, equations and residuals.
+fn json_solves(evaluated: &Evaluated) -> Vec<Solve<'_>> {
+    let lines = &evaluated.lines;
+    evaluated
         .solves
         .iter()
         .map(|solve| Solve {
@@ -415,30 +461,7 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
                 })
                 .collect(),
         })
-        .collect();
-    let summary = evaluated.summary();
-    let report = Report {
-        schema: SCHEMA,
-        file: file_name,
-        title: evaluated.header().title.as_deref(),
-        revision: evaluated.header().revision.as_deref(),
-        display: evaluated.header().display.label(),
-        sig_figs: evaluated.header().sig_figs,
-        clean: summary.is_clean(),
-        summary: summary.into(),
-        cells,
-        checks,
-        solves,
-        cases,
-        runs: super::runs::json_runs(evaluated, lines),
-        diagnostics: evaluated
-            .diagnostics
-            .iter()
-            .map(|d| diagnostic(d, source, lines))
-            .collect(),
-        review: review(evaluated),
-    };
-    super::json::text(&report)
+        .collect()
 }
 
 /// A place where a check fails or could not be established.
