@@ -26,6 +26,11 @@ const PRESENTATION: [&str; 4] = ["plot", "report", "tui", "cli"];
 /// The longest a source file may be.
 const MAX_FILE_LINES: usize = 1000;
 
+/// The crate's `src/` folder.
+fn src_dir() -> PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR")).join("src")
+}
+
 fn rust_files(dir: &Path, found: &mut Vec<PathBuf>) {
     let entries = fs::read_dir(dir).unwrap_or_else(|error| panic!("{}: {error}", dir.display()));
     for entry in entries {
@@ -41,7 +46,7 @@ fn rust_files(dir: &Path, found: &mut Vec<PathBuf>) {
 /// For each top-level module, the crate paths its code uses, with one
 /// place each is used.
 fn uses() -> BTreeMap<String, BTreeMap<String, String>> {
-    let src = Path::new(env!("CARGO_MANIFEST_DIR")).join("src");
+    let src = src_dir();
     let mut files = Vec::new();
     rust_files(&src, &mut files);
     let mut uses: BTreeMap<String, BTreeMap<String, String>> = BTreeMap::new();
@@ -98,7 +103,7 @@ fn uses() -> BTreeMap<String, BTreeMap<String, String>> {
 
 #[test]
 fn every_top_level_module_is_in_the_layer_list() {
-    let src = Path::new(env!("CARGO_MANIFEST_DIR")).join("src");
+    let src = src_dir();
     for entry in fs::read_dir(&src).expect("src") {
         let path = entry.expect("an entry").path();
         let name = path
@@ -155,7 +160,7 @@ fn presentation_never_reads_the_syntax_tree() {
 
 #[test]
 fn no_source_file_is_over_a_thousand_lines() {
-    let src = Path::new(env!("CARGO_MANIFEST_DIR")).join("src");
+    let src = src_dir();
     let mut files = Vec::new();
     rust_files(&src, &mut files);
     let long: Vec<String> = files

@@ -3,7 +3,7 @@
 //! every unit involved. Read from the syntax here, so the command only
 //! formats them.
 
-use super::{evaluate_expression, evaluate_unit};
+use super::{evaluate_parsed, evaluate_unit};
 use crate::base::Diagnostic;
 use crate::syntax::ast::{ExprKind, UnitExpr};
 use crate::units::{self, Dimension, ExactFactor, Quantity};
@@ -53,7 +53,8 @@ pub enum ConversionError {
 
 /// Converts `quantity_text` (`"3 slug"`, `"(2 kN) / g0"`) to `unit_text`.
 pub fn convert(quantity_text: &str, unit_text: &str) -> Result<Conversion, ConversionError> {
-    let value = evaluate_expression(quantity_text).map_err(ConversionError::Quantity)?;
+    let expr = crate::syntax::parse_expression(quantity_text).map_err(ConversionError::Quantity)?;
+    let value = evaluate_parsed(&expr, quantity_text).map_err(ConversionError::Quantity)?;
     let (target, resolved) = evaluate_unit(unit_text).map_err(ConversionError::Unit)?;
     if value.dimension != resolved.dimension {
         return Err(ConversionError::Mismatch {
@@ -61,12 +62,11 @@ pub fn convert(quantity_text: &str, unit_text: &str) -> Result<Conversion, Conve
             target: resolved.dimension,
         });
     }
-    let expr = crate::syntax::parse_expression(quantity_text).ok();
     let mut symbols: Vec<String> = Vec::new();
     let mut written = None;
-    if let Some(ExprKind::Quantity {
+    if let ExprKind::Quantity {
         number_span, unit, ..
-    }) = expr.as_ref().map(|expr| &expr.kind)
+    } = &expr.kind
         && let (Some(from), Some(to)) = (exact(unit), exact(&target))
     {
         let number = number_span.text(quantity_text).to_string();
@@ -79,7 +79,7 @@ pub fn convert(quantity_text: &str, unit_text: &str) -> Result<Conversion, Conve
             result,
         });
         symbols.extend(unit.factors.iter().map(|f| f.symbol.to_string()));
-    } else if let Some(expr) = &expr {
+    } else {
         expr.walk(&mut |node| {
             if let ExprKind::Quantity { unit, .. } | ExprKind::UnitValue(unit) = &node.kind {
                 symbols.extend(unit.factors.iter().map(|f| f.symbol.to_string()));

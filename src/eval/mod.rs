@@ -101,10 +101,14 @@ pub struct SheetJudgement {
 /// Evaluates one expression on its own, with the built-in constants but no
 /// cells (`heft convert "100 lbm * g0" lbf`). Vectors are refused.
 pub fn evaluate_expression(text: &str) -> Result<Quantity, Diagnostic> {
-    let expr = crate::syntax::parse_expression(text)?;
+    evaluate_parsed(&crate::syntax::parse_expression(text)?, text)
+}
+
+/// [`evaluate_expression`] of an expression already parsed from `text`.
+fn evaluate_parsed(expr: &Expr, text: &str) -> Result<Quantity, Diagnostic> {
     let (sheet, source) = (Arc::new(Sheet::parse("")), Arc::from(text));
     match Evaluator::new(&sheet, &source)
-        .eval(&expr)
+        .eval(expr)
         .map_err(|diagnostic| *diagnostic)?
     {
         Value::Scalar(quantity) => Ok(quantity),

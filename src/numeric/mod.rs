@@ -28,4 +28,4 @@ pub use integrator::{
 pub use interval::Interval;
 pub use number::{Binary, Number, Unary};
 pub use roots::{find_crossing, golden_section};
-pub use trajectory::{Objective, Trajectory};
+pub use trajectory::{COEFFICIENTS, Objective, Trajectory};

@@ -27,7 +27,7 @@ impl<F: FnMut(f64, &[f64]) -> f64> Objective for F {
 }
 
 /// Coefficients of one step's polynomial per state component.
-pub(super) const COEFFICIENTS: usize = 5;
+pub const COEFFICIENTS: usize = 5;
 
 /// A run's states over time: step boundaries and, per step, the dense-output
 /// coefficients of every component.

@@ -659,16 +659,15 @@ fn lookalike_names(
 /// The code points of a name's characters that are not ASCII, to tell
 /// look-alikes apart in a message (`о U+043E`), each named once.
 fn code_points(name: &str) -> String {
-    let mut seen = Vec::new();
-    let points: Vec<String> = name
-        .chars()
-        .filter(|c| {
-            !c.is_ascii() && !seen.contains(c) && {
-                seen.push(*c);
-                true
-            }
-        })
-        .map(|c| format!("{c} U+{:04X}", u32::from(c)))
+    let mut shown: Vec<char> = Vec::new();
+    for c in name.chars().filter(|c| !c.is_ascii()) {
+        if !shown.contains(&c) {
+            shown.push(c);
+        }
+    }
+    let points: Vec<String> = shown
+        .iter()
+        .map(|&c| format!("{c} U+{:04X}", u32::from(c)))
         .collect();
     if points.is_empty() {
         "all ASCII".to_string()

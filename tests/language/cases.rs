@@ -593,6 +593,19 @@ fn an_interval_power_holds_the_exact_power() {
     }
 }
 
+/// `n` toleranced masses summed in a chain (`s_k = s_{k-1} + m_k`), so
+/// every input reaches every later sum: n inputs over 2n + 1 cells.
+fn toleranced_chain(n: usize) -> String {
+    let mut source = String::from("s_0 = 0 kg\n");
+    for k in 1..=n {
+        source.push_str(&format!(
+            "m_{k} = 10 kg ± 1 %\ns_{k} = s_{} + m_{k}\n",
+            k - 1
+        ));
+    }
+    source
+}
+
 #[test]
 fn a_tolerance_analysis_beyond_its_bound_is_unknown_never_passed() {
     // A chain of toleranced inputs whose (input, cell) pairs exceed the
@@ -600,13 +613,7 @@ fn a_tolerance_analysis_beyond_its_bound_is_unknown_never_passed() {
     // no tolerance reaches is still judged.
     use heftsheet::eval::{CheckStatus, MAX_TOLERANCE_PAIRS};
     let n_inputs = 2_400;
-    let mut source = String::from("s_0 = 0 kg\n");
-    for k in 1..=n_inputs {
-        source.push_str(&format!(
-            "m_{k} = 10 kg ± 1 %\ns_{k} = s_{} + m_{k}\n",
-            k - 1
-        ));
-    }
+    let mut source = toleranced_chain(n_inputs);
     source.push_str(&format!(
         "check s_{n_inputs} <= 1e6 kg\nq = 1 kg\ncheck q <= 2 kg\n"
     ));
@@ -627,13 +634,7 @@ fn load_cases_share_the_tolerance_bound_and_the_ones_past_it_are_unknown() {
     // later cases do not, and their checks are unknown, never passed.
     use heftsheet::eval::{CheckStatus, MAX_TOLERANCE_PAIRS};
     let n_inputs = 1_000;
-    let mut source = String::from("s_0 = 0 kg\n");
-    for k in 1..=n_inputs {
-        source.push_str(&format!(
-            "m_{k} = 10 kg ± 1 %\ns_{k} = s_{} + m_{k}\n",
-            k - 1
-        ));
-    }
+    let mut source = toleranced_chain(n_inputs);
     source.push_str(&format!("check s_{n_inputs} <= 1e6 kg\n"));
     let n_cases = 6;
     for case in 0..n_cases {

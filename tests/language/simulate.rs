@@ -1199,15 +1199,19 @@ mod oracle {
 
 #[test]
 fn a_run_keeps_a_bounded_number_of_coefficients_whatever_its_size() {
-    // Five dense-output coefficients per component per step: the step
-    // limit keeps their number under the bound for any number of
+    // The trajectory keeps COEFFICIENTS numbers per component per step:
+    // the step limit keeps their number under the bound for any number of
     // components, and a small run keeps the full step limit.
     use heftsheet::eval::{MAX_KEPT_COEFFICIENTS, MAX_STEPS, step_limit};
+    use heftsheet::numeric::COEFFICIENTS;
     assert_eq!(step_limit(2), MAX_STEPS);
     for n in [1, 2, 7, 40, 80, 1_000, 5_000, 100_000] {
         let steps = step_limit(n);
         assert!((1..=MAX_STEPS).contains(&steps), "{n}: {steps}");
-        assert!(steps * 5 * n <= MAX_KEPT_COEFFICIENTS, "{n}: {steps}");
+        assert!(
+            steps * COEFFICIENTS * n <= MAX_KEPT_COEFFICIENTS,
+            "{n}: {steps}"
+        );
     }
     assert!(step_limit(80) < MAX_STEPS);
 }

@@ -40,15 +40,16 @@ pub const DEFAULT_RELATIVE_TOLERANCE: f64 = 1e-6;
 const RELATIVE_TOLERANCE_RANGE: (f64, f64) = (1e-13, 1e-2);
 /// Most accepted steps of one run.
 pub const MAX_STEPS: usize = 2_000_000;
-/// Most dense-output coefficients one run keeps (five per state component
-/// per step, 8 bytes each: 256 MB). A run of many components gets fewer
+/// Most dense-output coefficients one run keeps
+/// ([`numeric::COEFFICIENTS`] per state component per step, 8 bytes each:
+/// 256 MB). A run of many components gets fewer
 /// steps than [`MAX_STEPS`], so memory stays bounded: 40 components over
 /// 2,000,000 steps aborted on allocation before (measured 2026-12-03).
 pub const MAX_KEPT_COEFFICIENTS: usize = 32_000_000;
 
 /// The most steps a run of `n_components` state components may take.
 pub fn step_limit(n_components: usize) -> usize {
-    MAX_STEPS.min(MAX_KEPT_COEFFICIENTS / (5 * n_components.max(1)))
+    MAX_STEPS.min(MAX_KEPT_COEFFICIENTS / (numeric::COEFFICIENTS * n_components.max(1)))
 }
 /// Most rows of a run's table.
 const MAX_TABLE_ROWS: usize = 1000;
