@@ -220,7 +220,7 @@ pub fn canonical(name: &str) -> Cow<'_, str> {
 
 /// Whether `name` mixes writing systems (its letters come from more than
 /// one script, digits and `_` aside), other than Latin with Greek, which
-/// engineering names mix as a matter of course (`μ_s`, `σ_max`, `Δx`).
+/// engineering names mix as a rule (`μ_s`, `σ_max`, `Δx`).
 pub fn mixes_scripts(name: &str) -> bool {
     use unicode_script::{Script, UnicodeScript};
     let mut scripts: Vec<Script> = name
