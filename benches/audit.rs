@@ -20,14 +20,14 @@ fn lints_against_evaluation(c: &mut Criterion) {
     heftsheet::allocator::configure();
     let n_cells = 100_000usize;
     let source = generated_sheet(n_cells);
-    let evaluated = heftsheet::eval::evaluate_source(&source);
+    let evaluated = heftsheet::blocks::evaluate_source(&source);
     assert!(evaluated.diagnostics.is_empty());
     assert!(heftsheet::audit::lint(&evaluated).is_empty());
     let mut group = c.benchmark_group("audit_100000");
     group.sample_size(10);
     group.throughput(Throughput::Elements(n_cells as u64));
     group.bench_function("parse_and_evaluate", |b| {
-        b.iter(|| heftsheet::eval::evaluate_source(&source))
+        b.iter(|| heftsheet::blocks::evaluate_source(&source))
     });
     group.bench_function("lints", |b| b.iter(|| heftsheet::audit::lint(&evaluated)));
     group.bench_function("conversion_audit", |b| {

@@ -16,7 +16,7 @@ fn cases(c: &mut Criterion) {
     heftsheet::allocator::configure();
     let plain = generated::generated_sheet(10_000);
     let with_cases = generated::generated_sheet_with_cases(10_000, 5);
-    let evaluated = heftsheet::eval::evaluate_source(&with_cases);
+    let evaluated = heftsheet::blocks::evaluate_source(&with_cases);
     assert!(
         evaluated.diagnostics.is_empty(),
         "{:?}",
@@ -27,10 +27,10 @@ fn cases(c: &mut Criterion) {
     let mut group = c.benchmark_group("cases");
     group.sample_size(20);
     group.bench_function("plain_10000_cells", |b| {
-        b.iter(|| heftsheet::eval::evaluate_source(&plain))
+        b.iter(|| heftsheet::blocks::evaluate_source(&plain))
     });
     group.bench_function("tolerances_and_5_cases_10000_cells", |b| {
-        b.iter(|| heftsheet::eval::evaluate_source(&with_cases))
+        b.iter(|| heftsheet::blocks::evaluate_source(&with_cases))
     });
     group.finish();
 }

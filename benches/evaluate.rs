@@ -21,7 +21,7 @@ fn parse_and_evaluate(c: &mut Criterion) {
     for n_cells in [100_000usize, 1_000_000] {
         let source = generated_sheet(n_cells);
         assert!(
-            heftsheet::eval::evaluate_source(&source)
+            heftsheet::blocks::evaluate_source(&source)
                 .diagnostics
                 .is_empty()
         );
@@ -31,7 +31,7 @@ fn parse_and_evaluate(c: &mut Criterion) {
             &source,
             // Freeing the result is not part of parsing and evaluating (the
             // CLI exits without it); criterion drops it outside the timing.
-            |b, source| b.iter_with_large_drop(|| heftsheet::eval::evaluate_source(source)),
+            |b, source| b.iter_with_large_drop(|| heftsheet::blocks::evaluate_source(source)),
         );
     }
     group.finish();

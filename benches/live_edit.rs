@@ -4,7 +4,7 @@
 //! Run with `cargo bench --bench live_edit`; figures are recorded in docs/performance.md.
 
 use criterion::{Criterion, criterion_group, criterion_main};
-use heftsheet::eval::{CellField, LiveSheet};
+use heftsheet::live::{CellField, LiveSheet};
 
 mod common;
 use common::sectioned_sheet;

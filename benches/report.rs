@@ -8,7 +8,7 @@
 use std::path::Path;
 
 use criterion::{BenchmarkId, Criterion, criterion_group, criterion_main};
-use heftsheet::eval::evaluate_source;
+use heftsheet::blocks::evaluate_source;
 use heftsheet::report::{self, Format};
 
 /// The binary uses mimalloc; measure with the same allocator and settings

@@ -41,7 +41,7 @@ fn oscillator_sheet(periods: u32, tolerance: &str) -> String {
 
 /// Evaluates a sheet once, checks it ran clean, and returns its step count.
 fn steps_of(sheet: &str, energy_tolerance: f64) -> u64 {
-    let evaluated = heftsheet::eval::evaluate_source(sheet);
+    let evaluated = heftsheet::blocks::evaluate_source(sheet);
     assert!(
         evaluated.diagnostics.is_empty(),
         "{:?}",
@@ -91,14 +91,14 @@ fn simulate(c: &mut Criterion) {
     let sheet = oscillator_sheet(1000, "1e-6");
     group.throughput(Throughput::Elements(steps_of(&sheet, 1e-6)));
     group.bench_function("sheet_two_state_1000_periods", |b| {
-        b.iter(|| heftsheet::eval::evaluate_source(&sheet))
+        b.iter(|| heftsheet::blocks::evaluate_source(&sheet))
     });
 
     group.sample_size(10);
     let sheet = oscillator_sheet(10_000, "1e-4");
     group.throughput(Throughput::Elements(steps_of(&sheet, 1e-4)));
     group.bench_function("sheet_oscillator_10000_periods", |b| {
-        b.iter(|| heftsheet::eval::evaluate_source(&sheet))
+        b.iter(|| heftsheet::blocks::evaluate_source(&sheet))
     });
     group.finish();
 }

@@ -68,7 +68,7 @@ fn solve(c: &mut Criterion) {
         ("linear_50_unknowns", cart_train(50)),
         ("nonlinear_10_unknowns", spring_chain(10)),
     ] {
-        let evaluated = heftsheet::eval::evaluate_source(&sheet);
+        let evaluated = heftsheet::blocks::evaluate_source(&sheet);
         assert!(
             evaluated.diagnostics.is_empty(),
             "{name}: {:?}",
@@ -79,7 +79,7 @@ fn solve(c: &mut Criterion) {
             heftsheet::eval::SolveStatus::Solved
         );
         group.bench_function(name, |b| {
-            b.iter(|| heftsheet::eval::evaluate_source(&sheet))
+            b.iter(|| heftsheet::blocks::evaluate_source(&sheet))
         });
     }
     group.finish();

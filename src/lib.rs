@@ -6,11 +6,14 @@
 //! nothing of the crate; [`units`] holds dimensions, quantities and the
 //! exact catalog; [`syntax`] turns text into statements; [`sheet`] reads
 //! the header, links names and orders the cells by their dependencies;
-//! [`eval`] computes every cell with its dimension checked at each
-//! operation, solves and simulates blocks, follows tolerances and load
-//! cases, and judges every check; [`audit`] reads the evaluated sheet for
-//! the mistakes dimensions miss; [`pipeline`] is the one function every
-//! command runs. [`review`] and [`diff`] read the evaluated model; [`plot`],
+//! [`eval`] computes every cell and check with its dimension checked at
+//! each operation, and holds the evaluated model's types; [`blocks`] holds
+//! the block kinds (solve, simulate, and tolerances with load cases) and
+//! the evaluation of a whole sheet, node by node; [`audit`] reads the
+//! evaluated sheet for the mistakes dimensions miss; [`pipeline`] is the
+//! one function every command runs; [`live`] is the notebook's sheet,
+//! edited line by line and recomputed incrementally. [`review`] and
+//! [`diff`] read the evaluated model; [`plot`],
 //! [`report`], [`cli`] and [`tui`] (the terminal notebook that edits a sheet
 //! and recomputes it live) present it.
 //!
@@ -31,9 +34,11 @@
 pub mod allocator;
 pub mod audit;
 pub mod base;
+pub mod blocks;
 pub mod cli;
 pub mod diff;
 pub mod eval;
+pub mod live;
 pub mod numeric;
 pub mod pipeline;
 pub mod plot;

@@ -6,13 +6,13 @@
 //! held to the same counts by `tests/language/oracles.rs`.
 
 use crate::base::Diagnostic;
-use crate::eval::{self, Evaluated};
+use crate::eval::Evaluated;
 
 /// Parses, links, evaluates and lints a sheet's text, and checks every fix
 /// a finding offers by evaluating the sheet with it applied
 /// ([`crate::audit::verify_fixes`]) before it becomes the finding's help.
 pub fn run(source: &str) -> Evaluated {
-    let mut evaluated = eval::evaluate_source(source);
+    let mut evaluated = crate::blocks::evaluate_source(source);
     crate::audit::add_lints(&mut evaluated);
     crate::audit::verify_fixes(&mut evaluated);
     evaluated
@@ -43,7 +43,7 @@ pub struct Linted {
 
 /// The lints and the verified fixes of `source` (see [`Linted`]).
 pub fn lint(source: &str) -> Linted {
-    let mut evaluated = eval::evaluate_source(source);
+    let mut evaluated = crate::blocks::evaluate_source(source);
     let n_evaluation = evaluated.diagnostics.len();
     let offers_fix: Vec<bool> = evaluated
         .diagnostics

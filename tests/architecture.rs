@@ -11,9 +11,9 @@ use std::path::{Path, PathBuf};
 /// use only the modules before it. Items of the crate root (`CAUTION`,
 /// `decode_source`, `allocator`) may be used by any module but `base`
 /// and `numeric`.
-const LAYERS: [&str; 14] = [
-    "base", "numeric", "units", "syntax", "sheet", "eval", "audit", "pipeline", "review", "diff",
-    "plot", "report", "tui", "cli",
+const LAYERS: [&str; 16] = [
+    "base", "numeric", "units", "syntax", "sheet", "eval", "blocks", "audit", "pipeline", "live",
+    "review", "diff", "plot", "report", "tui", "cli",
 ];
 
 /// Modules that use nothing of the crate at all.
@@ -197,4 +197,42 @@ fn the_reader_sees_the_uses_it_must_judge() {
             "{module} → {target} not seen"
         );
     }
+}
+
+/// The ways code names a block kind: its statement, its linked item, its
+/// node in the dependency order.
+const BLOCK_KIND_NAMES: [&str; 8] = [
+    "StatementKind::Solve",
+    "StatementKind::Simulate",
+    "StatementKind::Case",
+    "Item::Solve",
+    "Item::Simulate",
+    "Item::Case",
+    "Node::Solve",
+    "Node::Simulate",
+];
+
+/// The core evaluator computes cells and checks and runs no block: the
+/// blocks (`src/blocks/`) are handed their nodes. Only the model's data
+/// types (`model.rs`, `run_model.rs`) hold a block's report.
+#[test]
+fn the_core_evaluator_names_no_block_kind() {
+    let mut files = Vec::new();
+    rust_files(&src_dir().join("eval"), &mut files);
+    assert!(!files.is_empty());
+    let mut named = Vec::new();
+    for file in files {
+        let text =
+            fs::read_to_string(&file).unwrap_or_else(|error| panic!("{}: {error}", file.display()));
+        for (number, line) in text.lines().enumerate() {
+            for kind in BLOCK_KIND_NAMES.iter().filter(|kind| line.contains(*kind)) {
+                named.push(format!("{}:{}: {kind}", file.display(), number + 1));
+            }
+        }
+    }
+    assert!(
+        named.is_empty(),
+        "the core evaluator names a block kind:\n{}",
+        named.join("\n")
+    );
 }

@@ -18,7 +18,8 @@ use rustc_hash::FxHashMap;
 
 use crate::base::LineIndex;
 use crate::base::{Code, Diagnostic, Fix, FixValue, Severity};
-use crate::eval::{CellStatus, Evaluated, evaluate_source, format_value};
+use crate::blocks::evaluate_source;
+use crate::eval::{CellStatus, Evaluated, format_value};
 use crate::units::{DisplayUnit, Quantity, Value, pick_unit};
 
 /// At most this many fixes are checked for one sheet: each costs an

@@ -7,7 +7,7 @@
 //! its values) and produces data: lint findings as [`Diagnostic`]s and the
 //! [`ConversionAudit`]. Presentation lives in `cli`.
 //!
-//! The lints are kept out of [`crate::eval::evaluate_source`] on purpose:
+//! The lints are kept out of [`crate::blocks::evaluate_source`] on purpose:
 //! evaluation reports what is wrong for certain; lints report what is
 //! probably wrong, from names, descriptions and familiar numbers.
 //! [`crate::pipeline::run`] is the whole pipeline with the lints added and every

@@ -6,7 +6,8 @@
 use std::fmt::Write as _;
 
 use super::context::{Context, Owner};
-use crate::eval::{CellStatus, evaluate_source};
+use crate::blocks::evaluate_source;
+use crate::eval::CellStatus;
 use crate::units::Quantity;
 
 /// The value of `formula` (heft expression text) where `owner` stands, or

@@ -85,7 +85,7 @@ pub enum Code {
     /// A solve block with more than one solution near the guess.
     SeveralRoots,
     /// A solve block with more unknowns than heft solves at once
-    /// ([`crate::eval::MAX_SOLVE_UNKNOWNS`]): refused rather than
+    /// ([`crate::blocks::MAX_SOLVE_UNKNOWNS`]): refused rather than
     /// exhausting the machine's memory.
     SolveTooLarge,
     /// A solve block whose solution is ill-conditioned: nearly dependent

@@ -12,8 +12,17 @@ use crate::syntax::ast::{BinaryOp, Expr, ExprKind, NameRef, Target, UnitExpr};
 use crate::units::{self, Quantity, QuantityError, ResolvedUnit, UnitErrorKind, Value, ValueError};
 
 impl<'a> Evaluator<'a> {
+    /// The value of a run's time or state while a point of its run is probed.
+    pub(crate) fn probed(&self, id: crate::sheet::CellId) -> Option<Value> {
+        let (first, len) = self.probe_range.get()?;
+        if id < first || id >= first + len {
+            return None;
+        }
+        self.probe_values.borrow().get(id - first).copied()
+    }
+
     /// Evaluates an expression, checking dimensions at every operation.
-    pub(super) fn eval(&self, expr: &Expr) -> Evaluation {
+    pub(crate) fn eval(&self, expr: &Expr) -> Evaluation {
         let value = match &expr.kind {
             ExprKind::Number(value) => Value::Scalar(Quantity::number(*value)),
             ExprKind::Quantity { value, unit, .. } => {
@@ -84,7 +93,7 @@ impl<'a> Evaluator<'a> {
                 function: name,
                 args,
             } => self.call(&name.text, name.span, args, expr.span)?,
-            ExprKind::RunQuery(query) => self.run_query(query, expr.span)?,
+            ExprKind::RunQuery(query) => (self.run_query)(self, query, expr.span)?,
         };
         if value.is_finite() {
             Ok(value)
@@ -338,7 +347,7 @@ impl<'a> Evaluator<'a> {
         })
     }
 
-    pub(super) fn resolve_unit(&self, unit: &UnitExpr) -> Result<ResolvedUnit, Box<Diagnostic>> {
+    pub(crate) fn resolve_unit(&self, unit: &UnitExpr) -> Result<ResolvedUnit, Box<Diagnostic>> {
         let text = unit.span.text(self.source);
         if let Some(resolved) = self.unit_cache.borrow().get(text) {
             return Ok(*resolved);
@@ -349,7 +358,7 @@ impl<'a> Evaluator<'a> {
     }
 
     /// One shared copy of each unit text a sheet displays.
-    pub(super) fn shared_text(&self, text: &'a str) -> Arc<str> {
+    pub(crate) fn shared_text(&self, text: &'a str) -> Arc<str> {
         Arc::clone(
             self.unit_texts
                 .borrow_mut()

@@ -1,44 +1,34 @@
-//! Evaluation: walks the sheet's nodes (cells and solve blocks) in
-//! dependency order, checks the dimension at every operation, attaches source
-//! spans to every error, and produces the plain [`Evaluated`] model that
-//! presentation reads.
+//! The core evaluator: computes a cell's formula and a check's verdict with
+//! the dimension checked at every operation and a source span on every
+//! error, compiles formulas into programs, and holds the evaluated model's
+//! types that analysis and presentation read. It runs no block: the whole
+//! sheet's evaluation, which hands each solve, simulate and case node to its
+//! block kind, is [`crate::blocks::evaluate`].
 
-mod cases;
 mod conversion;
-mod corners;
-mod explain;
+pub(crate) mod explain;
 mod expr;
 pub mod formula;
 pub mod functions;
-mod incremental;
-mod model;
+pub(crate) mod model;
 pub mod program;
-mod ranges;
-mod run_model;
-mod simulate;
-mod solve;
+pub(crate) mod run_model;
 mod vectors;
-mod verdict;
+pub(crate) mod verdict;
 
 /// The operators and comparisons the evaluated model's formulas and checks
 /// carry ([`formula::Term`], [`CheckResult::comparison`]): the syntax's own,
 /// so presentation reads them here and never the syntax tree.
 pub use crate::syntax::ast::{BinaryOp, Comparison};
-pub use cases::MAX_TOLERANCE_PAIRS;
 pub use conversion::{Conversion, ConversionError, WrittenConversion, convert};
 pub use explain::{format_result, format_value};
-pub use incremental::{
-    CellField, EditError, FieldEditor, Finding, LineEnding, LiveSheet, Row, Splice, WrittenLine,
-};
 pub use model::{
     CaseCheck, CaseOutcome, CaseValue, CellRange, CellResult, CellStatus, CheckRange, CheckResult,
     CheckStatus, EquationReport, Evaluated, FreeBody, OutlineItem, Place, RangeMethod, Sensitivity,
     SolveReport, SolveStatus, Spread, Unsettled,
 };
 pub use run_model::{PlotSeries, RunColumn, RunEvent, RunReport, RunRow, RunStatus, StateSlots};
-pub use simulate::{DEFAULT_RELATIVE_TOLERANCE, MAX_KEPT_COEFFICIENTS, MAX_STEPS, step_limit};
-pub use solve::MAX_SOLVE_UNKNOWNS;
-pub use verdict::{Summary, count};
+pub use verdict::{Summary, count, utilization_note};
 
 use std::cell::{Cell, RefCell};
 use std::sync::Arc;
@@ -47,55 +37,31 @@ use rustc_hash::FxHashMap;
 
 use explain::{DeclaredMismatch, Operand, Style, declared_mismatch, mismatch};
 
-use crate::base::LineIndex;
+use crate::base::Span;
 use crate::base::{Code, Diagnostic};
-use crate::sheet::{CellId, Item, NodeId, Sheet};
+use crate::sheet::{CellId, NodeId, Sheet};
 use crate::syntax::ast::{
-    Expr, ExprKind, NameRef, Override, StatementKind, Target, Tolerance, UnitExpr,
+    Expr, ExprKind, NameRef, Override, RunQuery, Target, Tolerance, UnitExpr,
 };
 use crate::units::{self, DisplayUnit, Quantity, ResolvedUnit, Value, pick_unit};
 
-type Evaluation = Result<Value, Box<Diagnostic>>;
+/// A value, or the diagnostic that explains why there is none.
+pub(crate) type Evaluation = Result<Value, Box<Diagnostic>>;
 
-/// Parses, links and evaluates a sheet's source text in one call.
-pub fn evaluate_source(source: &str) -> Evaluated {
-    evaluate(Arc::new(Sheet::parse(source)), Arc::from(source))
-}
+/// How an expression reading a finished run (`v at stop`, `max of x`) is
+/// answered: the simulate block kind supplies it (see
+/// `blocks::evaluator`), so the core evaluator runs no block itself.
+pub(crate) type RunQueryAnswer =
+    for<'e, 'q> fn(&'q Evaluator<'e>, &'q RunQuery, Span) -> Evaluation;
 
-/// Evaluates every cell, solve block and check of a linked sheet, then
-/// judges every check as written, at the worst case of its tolerances and
-/// in every load case.
-pub fn evaluate(sheet: Arc<Sheet>, source: Arc<str>) -> Evaluated {
-    let mut evaluator = Evaluator::new(&sheet, &source);
-    evaluator.run_nodes();
-    let mut checks: Vec<CheckResult> = (0..sheet.checks.len())
-        .map(|index| evaluator.evaluate_check(index))
-        .collect();
-    let judged = evaluator.judge_sheet(&mut checks);
-    let mut evaluated = evaluator.finish(checks, &sheet, &source);
-    evaluated.ranges = judged.ranges;
-    evaluated.vector_ranges = judged.vector_ranges;
-    evaluated.cases = judged.cases;
-    evaluated.case_results = judged.case_results;
-    evaluated.governing = judged.governing;
-    evaluated
-}
-
-/// What the sheet gives as a whole, beyond each cell: ranges over the
-/// tolerances, the load cases, and which case governs each check.
-#[derive(Clone, Debug, Default)]
-pub struct SheetJudgement {
-    /// Each cell's range over the tolerances (empty when no cell has one).
-    pub ranges: Vec<Option<CellRange>>,
-    /// Each vector cell's range by component (SI lowest and highest),
-    /// found at the corners of the tolerances, by cell id.
-    pub vector_ranges: Vec<(CellId, Vec<(f64, f64)>)>,
-    /// The load cases, in file order.
-    pub cases: Vec<CaseOutcome>,
-    /// The cells tabulated for every case.
-    pub case_results: Vec<CellId>,
-    /// For each check, the case that governs it.
-    pub governing: Vec<Option<usize>>,
+/// The answer where no block kind is attached (a lone expression, as in
+/// `heft convert`): there is no run to read.
+fn no_run_to_read(_: &Evaluator<'_>, _: &RunQuery, span: Span) -> Evaluation {
+    Err(Box::new(Diagnostic::error(
+        Code::BadRunQuery,
+        span,
+        "this value names no state of a simulate block",
+    )))
 }
 
 /// Evaluates one expression on its own, with the built-in constants but no
@@ -143,39 +109,41 @@ pub(crate) fn comparison_holds(comparison: Comparison, a: f64, b: f64) -> bool {
 }
 
 /// The evaluation in progress: values and statuses by cell.
-struct Evaluator<'a> {
-    sheet: &'a Sheet,
-    source: &'a str,
+pub(crate) struct Evaluator<'a> {
+    pub(crate) sheet: &'a Sheet,
+    pub(crate) source: &'a str,
     /// Units already looked up, by their text: a sheet repeats a few units
     /// many times.
-    unit_cache: RefCell<FxHashMap<&'a str, ResolvedUnit>>,
+    pub(crate) unit_cache: RefCell<FxHashMap<&'a str, ResolvedUnit>>,
     /// Display texts already shared, by their text.
-    unit_texts: RefCell<FxHashMap<&'a str, Arc<str>>>,
-    style: Style,
-    values: Vec<Option<Value>>,
-    statuses: Vec<CellStatus>,
+    pub(crate) unit_texts: RefCell<FxHashMap<&'a str, Arc<str>>>,
+    pub(crate) style: Style,
+    pub(crate) values: Vec<Option<Value>>,
+    pub(crate) statuses: Vec<CellStatus>,
     /// Each cell's tolerance, as offsets below and above its value.
-    spreads: Vec<Option<Spread>>,
+    pub(crate) spreads: Vec<Option<Spread>>,
     /// Formulas replaced by the load case being evaluated.
-    overrides: FxHashMap<CellId, &'a Override>,
+    pub(crate) overrides: FxHashMap<CellId, &'a Override>,
     /// The node order of the load case being evaluated, whose overrides may
     /// use cells the sheet's own order puts later; `None`: the sheet's.
-    case_order: Option<Vec<NodeId>>,
+    pub(crate) case_order: Option<Vec<NodeId>>,
     /// Toleranced inputs held at one value (SI) while the sheet is evaluated
     /// at a corner of the tolerances.
-    pins: FxHashMap<CellId, f64>,
-    solves: Vec<SolveReport>,
-    diagnostics: Vec<Diagnostic>,
+    pub(crate) pins: FxHashMap<CellId, f64>,
+    pub(crate) solves: Vec<SolveReport>,
+    pub(crate) diagnostics: Vec<Diagnostic>,
     /// Simulate blocks' runs, in evaluation order.
-    runs: Vec<RunReport>,
+    pub(crate) runs: Vec<RunReport>,
     /// While a point of a run is probed: the run's first cell and number of
     /// cells (time and states), whose values `probe_values` then holds.
-    probe_range: Cell<Option<(CellId, usize)>>,
-    probe_values: RefCell<Vec<Value>>,
+    pub(crate) probe_range: Cell<Option<(CellId, usize)>>,
+    pub(crate) probe_values: RefCell<Vec<Value>>,
+    /// How a run query is answered.
+    pub(crate) run_query: RunQueryAnswer,
 }
 
 impl<'a> Evaluator<'a> {
-    fn new(sheet: &'a Sheet, source: &'a str) -> Self {
+    pub(crate) fn new(sheet: &'a Sheet, source: &'a str) -> Self {
         let n_cells = sheet.cells.len();
         let mut evaluator = Evaluator::resume(
             sheet,
@@ -192,7 +160,7 @@ impl<'a> Evaluator<'a> {
     /// (the notebook's): nothing per cell is allocated, so re-evaluating a
     /// few cells of a large sheet costs only those cells. Starts with no
     /// diagnostics.
-    fn resume(
+    pub(crate) fn resume(
         sheet: &'a Sheet,
         source: &'a str,
         values: Vec<Option<Value>>,
@@ -219,10 +187,17 @@ impl<'a> Evaluator<'a> {
             runs: Vec::new(),
             probe_range: Cell::new(None),
             probe_values: RefCell::new(Vec::new()),
+            run_query: no_run_to_read,
         }
     }
 
-    fn evaluate_cell(&mut self, id: CellId) {
+    /// The same evaluator, answering run queries with `answer`.
+    pub(crate) fn answering_run_queries(mut self, answer: RunQueryAnswer) -> Self {
+        self.run_query = answer;
+        self
+    }
+
+    pub(crate) fn evaluate_cell(&mut self, id: CellId) {
         if self.sheet.broken[id] {
             self.statuses[id] = CellStatus::Error;
             return;
@@ -248,12 +223,12 @@ impl<'a> Evaluator<'a> {
     }
 
     /// A cell's value in SI units, if it has a scalar one.
-    fn scalar_si(&self, id: CellId) -> Option<f64> {
+    pub(crate) fn scalar_si(&self, id: CellId) -> Option<f64> {
         self.values[id].and_then(|v| v.scalar()).map(|q| q.si)
     }
 
     /// The failed cell at the root of whatever stops these uses, if any.
-    fn blocker(&self, uses: &[CellId]) -> Option<CellId> {
+    pub(crate) fn blocker(&self, uses: &[CellId]) -> Option<CellId> {
         uses.iter().find_map(|&used| match self.statuses[used] {
             CellStatus::Ok => None,
             CellStatus::Error => Some(used),
@@ -261,7 +236,7 @@ impl<'a> Evaluator<'a> {
         })
     }
 
-    fn compute_cell(&mut self, id: CellId) -> Evaluation {
+    pub(crate) fn compute_cell(&mut self, id: CellId) -> Evaluation {
         let cell = self.sheet.cell(id);
         let (expr, tolerance) = match self.overrides.get(&id) {
             Some(replacement) => (Some(&replacement.expr), replacement.tolerance.as_deref()),
@@ -295,7 +270,7 @@ impl<'a> Evaluator<'a> {
     /// The nominal value and spread of a cell with a tolerance: `± 3 %` is
     /// relative, `± 0.05 m` absolute, `.. 1900 kg` makes the formula the lower
     /// bound and the midpoint the nominal value.
-    fn apply_tolerance(
+    pub(crate) fn apply_tolerance(
         &self,
         value: Value,
         tolerance: &Tolerance,
@@ -377,7 +352,7 @@ impl<'a> Evaluator<'a> {
     }
 
     /// Fails unless `value` has the dimension of the declared `unit`.
-    fn check_declared(
+    pub(crate) fn check_declared(
         &self,
         name: &str,
         unit: &UnitExpr,
@@ -404,7 +379,10 @@ impl<'a> Evaluator<'a> {
     }
 
     /// Every force listed on a body must be a force vector.
-    fn check_forces(&self, body: &crate::syntax::ast::BodyDef) -> Result<(), Box<Diagnostic>> {
+    pub(crate) fn check_forces(
+        &self,
+        body: &crate::syntax::ast::BodyDef,
+    ) -> Result<(), Box<Diagnostic>> {
         for force in &body.forces {
             let Some(&id) = self.sheet.names.get(force.text.as_str()) else {
                 continue;
@@ -435,7 +413,7 @@ impl<'a> Evaluator<'a> {
         Ok(())
     }
 
-    fn evaluate_check(&mut self, index: usize) -> CheckResult {
+    pub(crate) fn evaluate_check(&mut self, index: usize) -> CheckResult {
         let check = self.sheet.check(index);
         let span = self.sheet.check_span(index);
         let mut result = CheckResult {
@@ -529,7 +507,7 @@ impl<'a> Evaluator<'a> {
                     format!("{text} = {value}")
                 }
             };
-            let utilization = cases::utilization_note(result.utilization);
+            let utilization = utilization_note(result.utilization);
             let label = result
                 .label
                 .as_deref()
@@ -554,7 +532,12 @@ impl<'a> Evaluator<'a> {
 
     /// A check shows its values in the unit of whichever side is a cell with
     /// a declared unit, else in the display system's unit.
-    fn check_display_unit(&self, lhs: &Expr, rhs: &Expr, value: Quantity) -> DisplayUnit {
+    pub(crate) fn check_display_unit(
+        &self,
+        lhs: &Expr,
+        rhs: &Expr,
+        value: Quantity,
+    ) -> DisplayUnit {
         [lhs, rhs]
             .into_iter()
             .find_map(|side| match &side.kind {
@@ -574,78 +557,8 @@ impl<'a> Evaluator<'a> {
             .unwrap_or_else(|| pick_unit(value.dimension, value.si, self.style.system))
     }
 
-    fn finish(
-        mut self,
-        checks: Vec<CheckResult>,
-        sheet: &Arc<Sheet>,
-        source: &Arc<str>,
-    ) -> Evaluated {
-        let lines = LineIndex::new(source);
-        let (displays, inputs) = self.display_units();
-        // A statement the outline cannot show as what it should be.
-        let invalid = |index: usize| OutlineItem::Invalid {
-            span: sheet.statements[index].span,
-        };
-        let mut outline = Vec::with_capacity(sheet.items.len());
-        outline.extend(
-            sheet
-                .items
-                .iter()
-                .filter(|item| !matches!(item, Item::Review(_)))
-                .map(|item| match *item {
-                    Item::Heading(index) => match &sheet.statements[index].kind {
-                        StatementKind::Heading { level, text } => OutlineItem::Heading {
-                            level: *level,
-                            text: text.clone(),
-                        },
-                        _ => invalid(index),
-                    },
-                    Item::Note(index) => match &sheet.statements[index].kind {
-                        StatementKind::Note { text } => OutlineItem::Note { text: text.clone() },
-                        _ => invalid(index),
-                    },
-                    Item::Cell(id) => OutlineItem::Cell(id),
-                    Item::Check(index) => OutlineItem::Check(index),
-                    Item::Case(statement) => OutlineItem::Case(statement),
-                    Item::Solve(statement) => self
-                        .solves
-                        .iter()
-                        .position(|report| report.statement == statement)
-                        .map_or_else(|| invalid(statement), OutlineItem::Solve),
-                    Item::Invalid(index) | Item::Review(index) => invalid(index),
-                    Item::Simulate(statement) => self
-                        .runs
-                        .iter()
-                        .position(|report| report.statement == statement)
-                        .map_or_else(|| invalid(statement), OutlineItem::Simulate),
-                }),
-        );
-        let mut diagnostics = std::mem::take(&mut self.diagnostics);
-        diagnostics.sort_by_key(|diagnostic| (diagnostic.span.start(), diagnostic.code));
-        Evaluated {
-            sheet: Arc::clone(sheet),
-            source: Arc::clone(source),
-            values: std::mem::take(&mut self.values),
-            statuses: std::mem::take(&mut self.statuses),
-            spreads: std::mem::take(&mut self.spreads),
-            displays,
-            inputs,
-            checks,
-            solves: std::mem::take(&mut self.solves),
-            ranges: Vec::new(),
-            vector_ranges: Vec::new(),
-            cases: Vec::new(),
-            case_results: Vec::new(),
-            governing: Vec::new(),
-            runs: std::mem::take(&mut self.runs),
-            outline,
-            diagnostics,
-            lines,
-        }
-    }
-
     /// Every cell's display unit and whether it is an input, by id.
-    fn display_units(&self) -> (Vec<DisplayUnit>, Vec<bool>) {
+    pub(crate) fn display_units(&self) -> (Vec<DisplayUnit>, Vec<bool>) {
         (0..self.values.len())
             .map(|id| self.display_unit(id, self.values[id]))
             .unzip()
@@ -654,7 +567,7 @@ impl<'a> Evaluator<'a> {
     /// The unit a cell is shown in, and whether it is an input: a declared unit
     /// wins; an input written as one quantity (`1850 kg`) shows as written;
     /// everything else gets the display system's readable unit.
-    fn display_unit(&self, id: CellId, value: Option<Value>) -> (DisplayUnit, bool) {
+    pub(crate) fn display_unit(&self, id: CellId, value: Option<Value>) -> (DisplayUnit, bool) {
         let cell = self.sheet.cell(id);
         let literal_unit = match cell
             .expr

@@ -477,16 +477,16 @@ fn tolerance_span(tolerance: &crate::syntax::ast::Tolerance) -> Span {
 /// and its source, and lends out [`CellResult`] views of each cell.
 #[derive(Clone, Debug)]
 pub struct Evaluated {
-    pub(super) sheet: Arc<Sheet>,
-    pub(super) source: Arc<str>,
+    pub(crate) sheet: Arc<Sheet>,
+    pub(crate) source: Arc<str>,
     /// Per cell, by id (the evaluator's columns, moved, not copied): the
     /// value if it could be computed, the status, the spread of a cell with
     /// a tolerance, the unit the value is shown in, whether it is an input.
-    pub(super) values: Vec<Option<Value>>,
-    pub(super) statuses: Vec<CellStatus>,
-    pub(super) spreads: Vec<Option<Spread>>,
-    pub(super) displays: Vec<DisplayUnit>,
-    pub(super) inputs: Vec<bool>,
+    pub(crate) values: Vec<Option<Value>>,
+    pub(crate) statuses: Vec<CellStatus>,
+    pub(crate) spreads: Vec<Option<Spread>>,
+    pub(crate) displays: Vec<DisplayUnit>,
+    pub(crate) inputs: Vec<bool>,
     /// Checks, in file order.
     pub checks: Vec<CheckResult>,
     /// Solve blocks, in evaluation order.
@@ -651,7 +651,7 @@ impl Evaluated {
 
 /// A cell's formula as written, its tolerance included; `(solved)` or
 /// `(simulated)` for a cell a block gives.
-pub(super) fn formula_text<'s>(sheet: &Sheet, id: CellId, source: &'s str) -> &'s str {
+pub(crate) fn formula_text<'s>(sheet: &Sheet, id: CellId, source: &'s str) -> &'s str {
     match (sheet.cell(id).expr, sheet.tolerance(id)) {
         (Some(expr), Some(tolerance)) => expr.span.to(tolerance_span(tolerance)).text(source),
         (Some(expr), None) => expr.span.text(source),

@@ -137,6 +137,17 @@ impl From<Box<Diagnostic>> for CompileError {
 }
 
 impl Evaluator<'_> {
+    /// Every cell named in a formula is an input of its program.
+    pub(crate) fn input_for(&self, name: &NameRef) -> Option<Input> {
+        let crate::syntax::ast::Target::Cell(id) = name.target else {
+            return None;
+        };
+        Some(Input {
+            index: u32::try_from(id).ok()?,
+            sample: self.values[id]?.scalar()?,
+        })
+    }
+
     /// Compiles `expr` with the names for which `input_of` gives an input
     /// reading from the inputs slice; every other name is a constant (its
     /// current value). Dimensions are checked here, once.

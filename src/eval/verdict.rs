@@ -32,7 +32,7 @@ impl Place {
 
 /// Judges every check over the sheet as written and every load case, and
 /// adds a `check-unknown` error for each check some place could not settle.
-pub(super) fn judge(
+pub(crate) fn judge(
     sheet: &Sheet,
     checks: &mut [CheckResult],
     cases: &[CaseOutcome],
@@ -47,7 +47,7 @@ pub(super) fn judge(
 }
 
 /// Sets one check's verdict, failures and unknown places.
-pub(super) fn judge_check(
+pub(crate) fn judge_check(
     sheet: &Sheet,
     index: usize,
     check: &mut CheckResult,
@@ -281,6 +281,18 @@ impl Summary {
 /// `1 cell`, `2 cells`, `0 errors`.
 pub fn count(n: usize, noun: &str) -> String {
     format!("{n} {noun}{}", if n == 1 { "" } else { "s" })
+}
+
+/// ` (utilization 107.9 %)`, or nothing.
+pub fn utilization_note(utilization: Option<f64>) -> String {
+    utilization
+        .map(|u| {
+            format!(
+                " (utilization {} %)",
+                crate::units::format_significant(u * 100.0, 4)
+            )
+        })
+        .unwrap_or_default()
 }
 
 #[cfg(test)]

@@ -257,7 +257,7 @@ fn twelve_counts_as_a_factor_only_between_feet_and_inches() {
 fn the_lints_leave_evaluation_alone() {
     // The lints add findings; values are those of the evaluator alone.
     let source = "m = 480 kg\nW = m * 9.81\n";
-    let plain = heftsheet::eval::evaluate_source(source);
+    let plain = heftsheet::blocks::evaluate_source(source);
     let linted = check_source(source);
     let value = |e: &heftsheet::eval::Evaluated| e.cell("W").and_then(|c| c.value).map(|v| v.si);
     assert_eq!(value(&plain), value(&linted));

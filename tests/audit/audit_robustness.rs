@@ -2,7 +2,7 @@
 //! whatever the sheet: random token soups of the words the lints look for.
 
 use heftsheet::audit::conversion_audit;
-use heftsheet::eval::evaluate_source;
+use heftsheet::blocks::evaluate_source;
 use heftsheet::pipeline::run as check_source;
 use proptest::prelude::*;
 

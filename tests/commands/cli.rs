@@ -119,7 +119,7 @@ fn convert_prints_the_exact_factor_chain() {
 fn rendered_diagnostics_point_at_the_right_characters() {
     // A line with θ, µ and ° before the error: carets must count characters.
     let source = "θ = 30°\nμ = 0.3 \"µ measured\"\nF [N] = μ * θ + 5 kg\n";
-    let evaluated = heftsheet::eval::evaluate_source(source);
+    let evaluated = heftsheet::blocks::evaluate_source(source);
     let text =
         heftsheet::base::render::render(&evaluated.diagnostics, "unicode.heft", source, false);
     insta::assert_snapshot!(text);
@@ -131,7 +131,7 @@ fn the_text_report_of_a_broken_sheet() {
         Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/sheets/err/blocked_chain.heft"),
     )
     .expect("corpus sheet");
-    let evaluated = heftsheet::eval::evaluate_source(&source);
+    let evaluated = heftsheet::blocks::evaluate_source(&source);
     let text = heftsheet::cli::check_text("blocked_chain.heft", &source, &evaluated);
     insta::assert_snapshot!(text);
 }

@@ -267,7 +267,7 @@ fn a_hostile_file_name_is_shown_escaped() {
 
 #[test]
 fn descriptions_keep_every_backslash_but_their_escapes() {
-    let evaluated = heftsheet::eval::evaluate_source(
+    let evaluated = heftsheet::blocks::evaluate_source(
         "m = 4 kg \"scale C:\\new\\table, \\\"tared\\\", 1\\\\2\"\n",
     );
     let cell = evaluated.cell("m").expect("the cell m");
@@ -343,7 +343,8 @@ proptest! {
 fn a_file_of_carriage_returns_alone_is_said_to_be_one() {
     // Line breaks written as CR alone (old Mac files): heft reads one line
     // and says why, rather than an unexplained parse error.
-    let evaluated = heftsheet::eval::evaluate_source("m = 4 kg\rW [N] = m * g0\rcheck W <= 50 N\r");
+    let evaluated =
+        heftsheet::blocks::evaluate_source("m = 4 kg\rW [N] = m * g0\rcheck W <= 50 N\r");
     let finding = evaluated
         .diagnostics
         .iter()

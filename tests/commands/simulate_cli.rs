@@ -132,7 +132,7 @@ fn the_text_report_of_a_hoist_run_up() {
         std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("sheets/hoist_runup.heft"),
     )
     .expect("demo sheet");
-    let evaluated = heftsheet::eval::evaluate_source(&source);
+    let evaluated = heftsheet::blocks::evaluate_source(&source);
     let text = heftsheet::cli::check_text("hoist_runup.heft", &source, &evaluated);
     insta::assert_snapshot!(text);
 }

@@ -7,7 +7,8 @@
 
 use std::path::{Path, PathBuf};
 
-use heftsheet::eval::{CellStatus, Evaluated, evaluate_source};
+use heftsheet::blocks::evaluate_source;
+use heftsheet::eval::{CellStatus, Evaluated};
 
 /// Evaluates `source` and returns the model.
 #[track_caller]

@@ -511,7 +511,7 @@ fn a_check_failing_only_in_a_load_case_fails_the_sheet_everywhere() {
         report.contains("FAIL (in case \\`jerk\\` at the worst case of its tolerances)"),
         "{report}"
     );
-    let mut live = heftsheet::eval::LiveSheet::open(source);
+    let mut live = heftsheet::live::LiveSheet::open(source);
     let revision = live.revision();
     live.set_lints(revision, source, &heftsheet::audit::lint(&sheet));
     assert_eq!(live.summary().failed, 1);
@@ -611,7 +611,8 @@ fn a_tolerance_analysis_beyond_its_bound_is_unknown_never_passed() {
     // A chain of toleranced inputs whose (input, cell) pairs exceed the
     // bound: the checks they reach are unknown with the reason, and a check
     // no tolerance reaches is still judged.
-    use heftsheet::eval::{CheckStatus, MAX_TOLERANCE_PAIRS};
+    use heftsheet::blocks::MAX_TOLERANCE_PAIRS;
+    use heftsheet::eval::CheckStatus;
     let n_inputs = 2_400;
     let mut source = toleranced_chain(n_inputs);
     source.push_str(&format!(
@@ -632,7 +633,8 @@ fn load_cases_share_the_tolerance_bound_and_the_ones_past_it_are_unknown() {
     // Each analysis follows 1,000 toleranced inputs through 2,001 cells:
     // the sheet as written and the first cases fit in the bound, the
     // later cases do not, and their checks are unknown, never passed.
-    use heftsheet::eval::{CheckStatus, MAX_TOLERANCE_PAIRS};
+    use heftsheet::blocks::MAX_TOLERANCE_PAIRS;
+    use heftsheet::eval::CheckStatus;
     let n_inputs = 1_000;
     let mut source = toleranced_chain(n_inputs);
     source.push_str(&format!("check s_{n_inputs} <= 1e6 kg\n"));

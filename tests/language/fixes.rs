@@ -289,7 +289,7 @@ fn the_notebook_shows_the_verified_fix_once_linted_and_no_unchecked_one_before()
         .iter()
         .map(|d| (d.code, d.help.clone()))
         .collect();
-    let mut live = heftsheet::eval::LiveSheet::open(source);
+    let mut live = heftsheet::live::LiveSheet::open(source);
     // Before the lint thread answers, the declared-unit error offers no fix.
     let unchecked = live.findings();
     assert!(unchecked.iter().all(|f| f.help.is_none()), "{unchecked:#?}");

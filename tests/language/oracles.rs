@@ -25,7 +25,8 @@ use crate::common;
 use std::path::PathBuf;
 
 use heftsheet::base::Span;
-use heftsheet::eval::{CellStatus, CheckStatus, Evaluated, LiveSheet, RangeMethod};
+use heftsheet::eval::{CellStatus, CheckStatus, Evaluated, RangeMethod};
+use heftsheet::live::LiveSheet;
 use heftsheet::pipeline;
 use heftsheet::syntax::ast::{Target, Tolerance};
 use proptest::prelude::*;
@@ -1019,7 +1020,7 @@ fn every_command_and_the_notebook_agree_on_every_sheet() {
 
         let mut live = LiveSheet::open(&text);
         let revision = live.revision();
-        let lints = heftsheet::audit::lint(&heftsheet::eval::evaluate_source(&text));
+        let lints = heftsheet::audit::lint(&heftsheet::blocks::evaluate_source(&text));
         live.set_lints(revision, &text, &lints);
         assert_eq!(live.summary(), summary, "{name}: the notebook's counts");
         sheets += 1;

@@ -1,6 +1,7 @@
 //! Algebraic properties of units and quantities, checked on random input.
 
-use heftsheet::eval::{evaluate_expression, evaluate_source, evaluate_unit};
+use heftsheet::blocks::evaluate_source;
+use heftsheet::eval::{evaluate_expression, evaluate_unit};
 use heftsheet::units::{Dimension, Quantity, catalog};
 use proptest::prelude::*;
 

@@ -4,7 +4,8 @@
 use crate::common;
 
 use common::{codes, run, si};
-use heftsheet::eval::{CellStatus, evaluate_source};
+use heftsheet::blocks::evaluate_source;
+use heftsheet::eval::CellStatus;
 use proptest::prelude::*;
 
 #[test]
@@ -218,7 +219,7 @@ fn a_solve_block_past_the_unknown_limit_is_refused_not_attempted() {
     // One unknown more than the limit, in a chain that is trivially
     // solvable: refused with its own code and the block's place, every
     // unknown an error, nothing half-solved.
-    use heftsheet::eval::MAX_SOLVE_UNKNOWNS;
+    use heftsheet::blocks::MAX_SOLVE_UNKNOWNS;
     let n = MAX_SOLVE_UNKNOWNS + 1;
     let names: Vec<String> = (0..n).map(|i| format!("x_{i} [m] ~ 1 m")).collect();
     let mut source = format!("solve {}:\n  x_0 = 2 m\n", names.join(", "));

@@ -8,7 +8,7 @@ use crate::common;
 use std::collections::BTreeMap;
 
 use heftsheet::base::Severity;
-use heftsheet::eval::evaluate_source;
+use heftsheet::blocks::evaluate_source;
 
 fn produced(source: &str) -> BTreeMap<(usize, String), usize> {
     found_at_least(source, Severity::Info)

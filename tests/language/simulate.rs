@@ -8,7 +8,8 @@
 #![allow(clippy::disallowed_methods)]
 
 use heftsheet::base::{Code, Severity};
-use heftsheet::eval::{Evaluated, RunStatus, evaluate_source};
+use heftsheet::blocks::evaluate_source;
+use heftsheet::eval::{Evaluated, RunStatus};
 
 /// g0, exactly (3rd CGPM, 1901).
 const G0: f64 = 9.80665;
@@ -408,7 +409,7 @@ fn run_queries_read_points_extremes_and_work_inside_formulas_and_checks() {
 }
 
 mod hostile {
-    use heftsheet::eval::evaluate_source;
+    use heftsheet::blocks::evaluate_source;
     use proptest::prelude::*;
 
     const HEADS: &[&str] = &[
@@ -667,7 +668,8 @@ mod oracle {
     use super::{evaluate_clean, spring_sheet, throw_sheet};
     use crate::common;
     use heftsheet::base::Code;
-    use heftsheet::eval::{Evaluated, RunReport, RunStatus, evaluate_source};
+    use heftsheet::blocks::evaluate_source;
+    use heftsheet::eval::{Evaluated, RunReport, RunStatus};
     use heftsheet::syntax::ast::{Expr, ExprKind};
     use heftsheet::units::{Dimension, Value};
 
@@ -1202,7 +1204,7 @@ fn a_run_keeps_a_bounded_number_of_coefficients_whatever_its_size() {
     // The trajectory keeps COEFFICIENTS numbers per component per step:
     // the step limit keeps their number under the bound for any number of
     // components, and a small run keeps the full step limit.
-    use heftsheet::eval::{MAX_KEPT_COEFFICIENTS, MAX_STEPS, step_limit};
+    use heftsheet::blocks::{MAX_KEPT_COEFFICIENTS, MAX_STEPS, step_limit};
     use heftsheet::numeric::COEFFICIENTS;
     assert_eq!(step_limit(2), MAX_STEPS);
     for n in [1, 2, 7, 40, 80, 1_000, 5_000, 100_000] {

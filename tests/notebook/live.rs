@@ -3,7 +3,9 @@
 //! results that evaluating its text from scratch gives.
 
 use heftsheet::base::Code;
-use heftsheet::eval::{CellField, CellStatus, EditError, LiveSheet, evaluate_source};
+use heftsheet::blocks::evaluate_source;
+use heftsheet::eval::CellStatus;
+use heftsheet::live::{CellField, EditError, LiveSheet};
 use proptest::prelude::*;
 
 /// Asserts that `live` agrees with a from-scratch evaluation of its text:

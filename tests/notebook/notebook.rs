@@ -1,7 +1,8 @@
 //! The notebook's state and update logic, driven by messages without a
 //! terminal: every key of the key table, and what each action must do.
 
-use heftsheet::eval::{CellStatus, LineEnding, Row, WrittenLine};
+use heftsheet::eval::CellStatus;
+use heftsheet::live::{LineEnding, Row, WrittenLine};
 use heftsheet::tui::app::{Focus, Mode, Question, UnitsView};
 use heftsheet::tui::files::{Fingerprint, KeptCopy, Opened};
 use heftsheet::tui::keys::{Action, BINDINGS, Key, Scope};
@@ -1587,7 +1588,7 @@ fn row_words(row: Row<'_>) -> String {
 fn reparses_to_the_rows_shown(app: &App) -> Result<(), TestCaseError> {
     let live = app.live();
     let text = live.text();
-    let fresh = heftsheet::eval::LiveSheet::open(&text);
+    let fresh = heftsheet::live::LiveSheet::open(&text);
     prop_assert_eq!(
         live.n_statements(),
         fresh.n_statements(),
@@ -1612,7 +1613,7 @@ fn reparses_to_the_rows_shown(app: &App) -> Result<(), TestCaseError> {
         );
     }
     prop_assert_eq!(live.header(), fresh.header());
-    let places = |sheet: &heftsheet::eval::LiveSheet| {
+    let places = |sheet: &heftsheet::live::LiveSheet| {
         let mut found: Vec<_> = sheet
             .findings()
             .into_iter()

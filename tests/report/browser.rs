@@ -13,7 +13,7 @@ use std::path::{Path, PathBuf};
 use std::process::{Command, Stdio};
 use std::time::{Duration, Instant};
 
-use heftsheet::eval::evaluate_source;
+use heftsheet::blocks::evaluate_source;
 use heftsheet::report::model::{Block, Document};
 use heftsheet::report::{self, Format};
 use heftsheet::review::Review;

@@ -6,8 +6,8 @@ use crate::common;
 
 use std::path::Path;
 
+use heftsheet::blocks::evaluate_source;
 use heftsheet::diff::{self, CellChange, CellChangeKind, RevisionDiff};
-use heftsheet::eval::evaluate_source;
 
 fn read(relative: &str) -> String {
     std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join(relative))

@@ -9,7 +9,7 @@ use crate::common;
 
 use std::path::Path;
 
-use heftsheet::eval::evaluate_source;
+use heftsheet::blocks::evaluate_source;
 use heftsheet::report::model::{Block, Document};
 use heftsheet::report::{self, Format, svg};
 use heftsheet::review::Review;

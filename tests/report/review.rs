@@ -3,7 +3,7 @@
 
 use crate::common;
 
-use heftsheet::eval::evaluate_source;
+use heftsheet::blocks::evaluate_source;
 use heftsheet::review::{self, MarkTarget, Review, SignOffState};
 use heftsheet::syntax::ast::ReviewKind;
 
@@ -250,7 +250,7 @@ fn a_cell_named_review_is_still_a_cell() {
 mod properties {
     use proptest::prelude::*;
 
-    use heftsheet::eval::evaluate_source;
+    use heftsheet::blocks::evaluate_source;
     use heftsheet::review::Review;
 
     fn fingerprint_of(source: &str) -> String {

@@ -9,7 +9,7 @@ use tui_input::Input;
 use super::super::keys::Action;
 use super::super::strings as text;
 use super::{App, Effect, FindState, FindingsState, Focus, Link, Mode, SaveGrants};
-use crate::eval::{CellField, Row};
+use crate::live::{CellField, Row};
 
 /// Rows moved by one turn of the mouse wheel.
 const WHEEL_ROWS: usize = 3;

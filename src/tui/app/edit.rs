@@ -12,7 +12,7 @@ use tui_input::{Input, InputRequest};
 use super::super::keys::{Action, Scope, action_for};
 use super::super::strings as text;
 use super::{App, Effect, Mode, typed_char};
-use crate::eval::{CellField, FieldEditor, Row, Splice, WrittenLine};
+use crate::live::{CellField, FieldEditor, Row, Splice, WrittenLine};
 use crate::sheet::CellId;
 
 /// What an edit is changing.

@@ -4,7 +4,7 @@
 
 use super::super::strings as text;
 use super::{App, Effect};
-use crate::eval::{EditError, Splice};
+use crate::live::{EditError, Splice};
 
 /// Undo and redo, and where the file was last saved.
 #[derive(Clone, Debug, Default)]

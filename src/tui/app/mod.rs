@@ -26,7 +26,7 @@ use super::keys::{Scope, action_for};
 use super::layout::{Areas, areas};
 use super::strings as text;
 use super::theme::Theme;
-use crate::eval::LiveSheet;
+use crate::live::LiveSheet;
 use crate::sheet::CellId;
 use crate::units::DisplaySystem;
 

@@ -7,7 +7,7 @@ use tui_input::{Input, InputRequest};
 use super::super::keys::{Action, Scope, action_for};
 use super::super::strings as text;
 use super::{App, Mode, typed_char};
-use crate::eval::Finding;
+use crate::live::Finding;
 use crate::sheet::CellId;
 
 /// The find overlay.

@@ -7,7 +7,7 @@ use ratatui::crossterm::event::KeyEvent;
 use super::super::keys::{Action, Scope, action_for};
 use super::super::strings as text;
 use super::{App, Effect, History, Mode};
-use crate::eval::LiveSheet;
+use crate::live::LiveSheet;
 
 /// A question the notebook is waiting on.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]

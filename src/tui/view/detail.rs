@@ -16,9 +16,8 @@ use super::super::strings as text;
 use super::super::theme::Theme;
 use super::fit::{fit, pad, pad_left, wrap};
 use super::values::{cell_value, check_text, mark_of, mark_style, shown, utilization_text};
-use crate::eval::{
-    CellField, CellResult, CellStatus, CheckResult, Finding, LiveSheet, Row, format_value,
-};
+use crate::eval::{CellResult, CellStatus, CheckResult, format_value};
+use crate::live::{CellField, Finding, LiveSheet, Row};
 use crate::sheet::CellId;
 use crate::units::{DisplaySystem, DisplayUnit, pick_unit};
 

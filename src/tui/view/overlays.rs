@@ -15,7 +15,7 @@ use super::super::theme::Theme;
 use super::fit::{fit, pad, wrap};
 use super::set_cursor;
 use super::values::cell_value;
-use crate::eval::Finding;
+use crate::live::Finding;
 
 fn overlay_block(title: String) -> Block<'static> {
     Block::bordered().title(format!(" {title} "))

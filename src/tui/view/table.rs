@@ -11,7 +11,7 @@ use super::super::app::{App, Focus};
 use super::super::strings as text;
 use super::fit::{fit, pad, pad_left};
 use super::values::{cell_value, check_text, mark_of, mark_style, utilization_text};
-use crate::eval::Row;
+use crate::live::Row;
 
 /// Column widths of the sheet table.
 struct Columns {

@@ -7,9 +7,8 @@ use super::super::app::UnitsView;
 use super::super::strings as text;
 use super::super::theme::Theme;
 use crate::base::Severity;
-use crate::eval::{
-    CellResult, CellStatus, CheckResult, CheckStatus, LiveSheet, Row, format_result, format_value,
-};
+use crate::eval::{CellResult, CellStatus, CheckResult, CheckStatus, format_result, format_value};
+use crate::live::{LiveSheet, Row};
 use crate::units::format_significant;
 
 /// A value in a display unit: `19.22 kN`.

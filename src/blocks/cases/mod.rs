@@ -2,18 +2,21 @@
 //! at, every check at the worst case of the tolerances, and each `case`
 //! evaluated with its overrides.
 
+mod corners;
+mod ranges;
+
 use rustc_hash::FxHashMap;
 
-use super::corners::{CornerInput, CornerRange, MAX_CORNER_INPUTS};
-use super::model::{
+use super::SheetJudgement;
+use crate::base::{Code, Diagnostic};
+use crate::eval::model::{
     CaseCheck, CaseOutcome, CaseValue, CellRange, CheckRange, CheckResult, CheckStatus, RangeMethod,
 };
-use super::ranges::RangeOf;
-use super::{CellStatus, Evaluator, SheetJudgement};
-use crate::base::{Code, Diagnostic};
-use crate::sheet::{CellId, NodeId, Sheet};
+use crate::eval::{CellStatus, Evaluator};
+use crate::sheet::{CellId, Sheet};
 use crate::syntax::ast::{ExprKind, NameRef, Target};
-use crate::units;
+use corners::{CornerInput, CornerRange, MAX_CORNER_INPUTS};
+use ranges::RangeOf;
 
 /// Ranges over the tolerances: of scalar cells by id (empty when no cell
 /// has a tolerance), and of vector cells by component.
@@ -233,7 +236,7 @@ impl Evaluator<'_> {
     /// sides.
     fn interval_worst_case(
         &self,
-        ranges: &super::ranges::Ranges,
+        ranges: &ranges::Ranges,
         index: usize,
         result: &CheckResult,
         reached: &[bool],
@@ -321,7 +324,7 @@ impl Evaluator<'_> {
         let Some(worst) = &result.worst else {
             return String::new();
         };
-        let utilization = utilization_note(worst.worst_utilization);
+        let utilization = crate::eval::utilization_note(worst.worst_utilization);
         let statement = format!(
             "{} {} {}",
             result.lhs_text,
@@ -356,7 +359,7 @@ impl Evaluator<'_> {
     }
     /// The steps after the nodes and checks, shared by a whole evaluation
     /// and the notebook: tolerances, load cases, then every check's verdict.
-    pub(super) fn judge_sheet(&mut self, checks: &mut [CheckResult]) -> SheetJudgement {
+    pub(crate) fn judge_sheet(&mut self, checks: &mut [CheckResult]) -> SheetJudgement {
         let case_results = case_results(self.sheet, &mut self.diagnostics);
         let mut budget = MAX_TOLERANCE_PAIRS;
         let CellRanges {
@@ -366,7 +369,7 @@ impl Evaluator<'_> {
         let (cases, case_diagnostics) =
             evaluate_cases(self.sheet, self.source, &case_results, &mut budget);
         self.diagnostics.extend(case_diagnostics);
-        super::verdict::judge(self.sheet, checks, &cases, &mut self.diagnostics);
+        crate::eval::verdict::judge(self.sheet, checks, &cases, &mut self.diagnostics);
         let governing = governing(checks, &cases);
         SheetJudgement {
             ranges,
@@ -376,41 +379,11 @@ impl Evaluator<'_> {
             governing,
         }
     }
-
-    /// Runs every node of the sheet, in the order of the load case being
-    /// evaluated (if any).
-    pub(super) fn run_nodes(&mut self) {
-        for position in 0..self.node_order().len() {
-            self.run_node(self.node_order()[position]);
-        }
-    }
-
-    /// The order nodes are evaluated in: the load case's, or the sheet's.
-    pub(super) fn node_order(&self) -> &[NodeId] {
-        self.case_order
-            .as_deref()
-            .unwrap_or(&self.sheet.order.order)
-    }
-
-    /// Runs one node: a cell, a solve block or a simulate block.
-    pub(super) fn run_node(&mut self, node: crate::sheet::NodeId) {
-        let sheet = self.sheet;
-        match &sheet.nodes[node] {
-            crate::sheet::Node::Cell(id) => self.evaluate_cell(*id),
-            crate::sheet::Node::Solve {
-                statement,
-                unknowns,
-            } => self.evaluate_solve(*statement, unknowns),
-            crate::sheet::Node::Simulate { statement, cells } => {
-                self.evaluate_simulate(*statement, cells)
-            }
-        }
-    }
 }
 
 /// Each check's worst case from the corners, or why there is none.
 fn take_corner_checks(
-    found: Vec<(usize, Result<super::corners::CornerCheck, String>)>,
+    found: Vec<(usize, Result<corners::CornerCheck, String>)>,
     checks: &mut [CheckResult],
 ) {
     for (index, outcome) in found {
@@ -424,22 +397,10 @@ fn take_corner_checks(
     }
 }
 
-/// ` (utilization 107.9 %)`, or nothing.
-pub(super) fn utilization_note(utilization: Option<f64>) -> String {
-    utilization
-        .map(|u| {
-            format!(
-                " (utilization {} %)",
-                units::format_significant(u * 100.0, 4)
-            )
-        })
-        .unwrap_or_default()
-}
-
 /// The left and right sides' values at a check's worst case.
 fn worst_side(
     comparison: crate::syntax::ast::Comparison,
-    worst: &super::model::CheckRange,
+    worst: &crate::eval::model::CheckRange,
 ) -> (f64, f64) {
     use crate::syntax::ast::Comparison;
     match comparison {
@@ -474,7 +435,7 @@ pub(super) fn evaluate_cases(
             outcomes.push(outcome);
             continue;
         }
-        let mut evaluator = Evaluator::new(sheet, source);
+        let mut evaluator = super::evaluator(sheet, source);
         let known = evaluator.diagnostics.len();
         let overrides: FxHashMap<CellId, _> = case
             .overrides
@@ -532,7 +493,7 @@ pub(super) fn evaluate_cases(
             .map(|(index, mut check)| {
                 // This case's own verdict, by the one rule: a worst case
                 // it could not establish makes it unknown, never passed.
-                super::verdict::judge_check(sheet, index, &mut check, &[]);
+                crate::eval::verdict::judge_check(sheet, index, &mut check, &[]);
                 check
             })
             .map(|check| CaseCheck {

@@ -17,9 +17,9 @@ mod edits;
 mod findings;
 mod recompute;
 
-use super::{CellResult, CellStatus, CheckResult, Evaluator, Spread};
 use crate::base::{Code, Diagnostic, Severity};
 use crate::base::{LineIndex, Span};
+use crate::eval::{CellResult, CellStatus, CheckResult, Evaluator, Spread};
 use crate::sheet::edit::{self, Document};
 use crate::sheet::{
     CellId, CellOrigin, Header, Item, MAX_SUGGESTIONS, Node, Sheet, read_header, resolve_names,
@@ -114,7 +114,7 @@ pub struct LiveSheet {
     /// Findings of blocks, tolerances and load cases (placed by their spans).
     block_findings: Vec<Diagnostic>,
     /// Ranges, load cases and governing cases of the last whole evaluation.
-    judgement: super::SheetJudgement,
+    judgement: crate::blocks::SheetJudgement,
     /// Whether every edit must evaluate the whole sheet: it has blocks,
     /// tolerances or load cases, whose results depend on the whole sheet.
     whole_sheet_only: bool,
@@ -202,7 +202,7 @@ impl LiveSheet {
             checks: Vec::new(),
             check_findings: Vec::new(),
             block_findings: Vec::new(),
-            judgement: super::SheetJudgement::default(),
+            judgement: crate::blocks::SheetJudgement::default(),
             whole_sheet_only: false,
             dependents: Vec::new(),
             check_dependents: Vec::new(),
@@ -379,7 +379,7 @@ impl LiveSheet {
             name: &cell.name.text,
             span: self.sheet.cell_span(id),
             line: self.name_line(id) + 1,
-            formula: super::model::formula_text(&self.sheet, id, arena),
+            formula: crate::eval::model::formula_text(&self.sheet, id, arena),
             description: cell.description.as_ref().map(|d| d.text.as_str()),
             declared_unit: cell.unit.is_some(),
             is_input: self.inputs[id],
@@ -503,7 +503,7 @@ impl LiveSheet {
             text.push_str(Span::new(position, expr.span.start()).text(arena));
             match (value, unit) {
                 (Some(value), Some(unit)) => {
-                    let shown = super::format_value(value, &unit, sig_figs);
+                    let shown = crate::eval::format_value(value, &unit, sig_figs);
                     let has_unit = !unit.text.is_empty();
                     let negative = value.scalar().is_some_and(|q| q.si < 0.0);
                     let needs_brackets = negative

@@ -3,9 +3,15 @@
 
 use super::*;
 
+/// Answers a run query from the sheet's finished runs; the core evaluator's
+/// [`crate::eval::RunQueryAnswer`] once `blocks::evaluator` attaches it.
+pub(crate) fn run_query(evaluator: &Evaluator<'_>, query: &RunQuery, span: Span) -> Evaluation {
+    evaluator.answer_run_query(query, span)
+}
+
 impl<'a> Evaluator<'a> {
     /// Answers a run query: `v at stop`, `x at 2 s`, `t at slow`, `max of x`.
-    pub(in crate::eval) fn run_query(&self, query: &RunQuery, span: Span) -> Evaluation {
+    fn answer_run_query(&self, query: &RunQuery, span: Span) -> Evaluation {
         let not_in_run = |message: String, help: &str| {
             Box::new(Diagnostic::error(Code::NotInRun, span, message).with_help(help))
         };

@@ -97,7 +97,7 @@ impl LiveSheet {
     /// Ranges over the tolerances, load cases and governing cases, as the
     /// whole-sheet evaluation gives them (empty for a sheet with neither
     /// tolerances nor cases).
-    pub fn judgement(&self) -> &crate::eval::SheetJudgement {
+    pub fn judgement(&self) -> &crate::blocks::SheetJudgement {
         &self.judgement
     }
 

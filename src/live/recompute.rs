@@ -106,7 +106,7 @@ impl LiveSheet {
     pub(super) fn evaluate_all(&mut self) {
         let n_cells = self.sheet.cells.len();
         let arena = self.document.arena();
-        let mut evaluator = Evaluator::new(&self.sheet, arena);
+        let mut evaluator = crate::blocks::evaluator(&self.sheet, arena);
         // The sheet's own findings are kept in `self.sheet.diagnostics`.
         evaluator.diagnostics.clear();
         self.cell_findings = vec![Vec::new(); n_cells];
@@ -134,7 +134,7 @@ impl LiveSheet {
             self.judgement = evaluator.judge_sheet(&mut checks);
             self.block_findings.append(&mut evaluator.diagnostics);
         } else {
-            self.judgement = crate::eval::SheetJudgement::default();
+            self.judgement = crate::blocks::SheetJudgement::default();
             for (index, check) in checks.iter_mut().enumerate() {
                 crate::eval::verdict::judge_check(&self.sheet, index, check, &[]);
             }
@@ -180,13 +180,13 @@ impl LiveSheet {
         }
 
         let arena = self.document.arena();
-        let mut evaluator = Evaluator::resume(
+        let mut evaluator = crate::blocks::with_blocks(Evaluator::resume(
             &self.sheet,
             arena,
             std::mem::take(&mut self.values),
             std::mem::take(&mut self.statuses),
             std::mem::take(&mut self.spreads),
-        );
+        ));
         for &id in &affected {
             evaluator.values[id] = None;
             evaluator.evaluate_cell(id);

@@ -9,13 +9,13 @@
 //! rounding), which is done for the results a checker looks at: the checks'
 //! sides and the chosen case results.
 
-use super::Evaluator;
-use super::model::{CellRange, CheckRange, RangeMethod, Sensitivity};
-use super::program::{Input, Program};
+use crate::eval::Evaluator;
+use crate::eval::model::{CellRange, CheckRange, RangeMethod, Sensitivity};
+use crate::eval::program::Program;
 use crate::numeric::Number;
 use crate::numeric::{Dual, Interval};
 use crate::sheet::{CellId, Node};
-use crate::syntax::ast::{Comparison, NameRef, Target};
+use crate::syntax::ast::Comparison;
 use crate::units::Value;
 
 /// A cell with a tolerance: a source of variation.
@@ -163,17 +163,6 @@ impl Evaluator<'_> {
             None => self.sheet.cell(id).expr?,
         };
         self.compile(expr, &|name| self.input_for(name)).ok()
-    }
-
-    /// Every cell named in a formula is an input of its program.
-    pub(super) fn input_for(&self, name: &NameRef) -> Option<Input> {
-        let Target::Cell(id) = name.target else {
-            return None;
-        };
-        Some(Input {
-            index: u32::try_from(id).ok()?,
-            sample: self.values[id]?.scalar()?,
-        })
     }
 
     /// Runs every supported cell's program in evaluation order; `tolerance`

@@ -15,11 +15,11 @@ mod newton;
 
 use nalgebra::{DMatrix, DVector};
 
-use super::explain::{Operand, mismatch};
-use super::model::{EquationReport, SolveReport, SolveStatus};
-use super::program::{CompileError, Input, Program};
-use super::{CellStatus, Evaluator};
 use crate::base::{Code, Diagnostic, Severity};
+use crate::eval::explain::{Operand, mismatch};
+use crate::eval::model::{EquationReport, SolveReport, SolveStatus};
+use crate::eval::program::{CompileError, Input, Program};
+use crate::eval::{CellStatus, Evaluator};
 use crate::numeric::Dual;
 use crate::sheet::CellId;
 use crate::syntax::ast::{BinaryOp, Equation, Expr, ExprKind, NameRef, SolveBlock, Target};
@@ -156,7 +156,7 @@ impl Evaluator<'_> {
                     block.head,
                     format!(
                         "this block has {}; heft solves at most {MAX_SOLVE_UNKNOWNS} at once",
-                        super::count(unknowns.len(), "unknown")
+                        crate::eval::count(unknowns.len(), "unknown")
                     ),
                 )
                 .with_help("split the block into smaller blocks that solve in turn, or write the chain as ordinary cells"),
@@ -217,8 +217,8 @@ impl Evaluator<'_> {
                     block.head,
                     format!(
                         "this block has {} for {} ({names}): {word} equations than unknowns",
-                        super::count(equations.len(), "equation"),
-                        super::count(unknowns.len(), "unknown"),
+                        crate::eval::count(equations.len(), "equation"),
+                        crate::eval::count(unknowns.len(), "unknown"),
                     ),
                 )
                 .with_help(if equations.len() < unknowns.len() {

@@ -7,9 +7,9 @@
 //! result that is not monotone in its inputs may go further between them,
 //! which is said wherever such a range is shown.
 
-use super::model::{CellRange, CheckRange, CheckResult, RangeMethod};
-use super::{CellStatus, Evaluator};
 use crate::base::Severity;
+use crate::eval::model::{CellRange, CheckRange, CheckResult, RangeMethod};
+use crate::eval::{CellStatus, Evaluator};
 use crate::sheet::{CellId, Node};
 use crate::units::Value;
 
@@ -151,13 +151,13 @@ impl Evaluator<'_> {
             })
             .collect();
         for corner in 0..n_corners {
-            let mut evaluator = Evaluator::resume(
+            let mut evaluator = crate::blocks::with_blocks(Evaluator::resume(
                 self.sheet,
                 self.source,
                 self.values.clone(),
                 self.statuses.clone(),
                 self.spreads.clone(),
-            );
+            ));
             evaluator.overrides = self.overrides.clone();
             evaluator.case_order = self.case_order.clone();
             evaluator.pins = inputs

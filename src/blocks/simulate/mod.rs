@@ -14,14 +14,18 @@ mod checks;
 mod outputs;
 mod queries;
 
+pub(crate) use queries::run_query;
+
 use std::sync::Arc;
 
-use super::explain::{Operand, mismatch};
-use super::program::{CompileError, Input, Op, Program};
-use super::run_model::{PlotSeries, RunColumn, RunEvent, RunReport, RunRow, RunStatus, StateSlots};
-use super::{CellStatus, Evaluation, Evaluator};
 use crate::base::Span;
 use crate::base::{Code, Diagnostic};
+use crate::eval::explain::{Operand, mismatch};
+use crate::eval::program::{CompileError, Input, Op, Program};
+use crate::eval::run_model::{
+    PlotSeries, RunColumn, RunEvent, RunReport, RunRow, RunStatus, StateSlots,
+};
+use crate::eval::{CellStatus, Evaluation, Evaluator};
 use crate::numeric::Dual;
 use crate::numeric::{
     self, Condition, ErrorControl, EventKind, Failure, Objective, Outcome, Settings, Stats, System,
@@ -213,15 +217,6 @@ enum Source<'e> {
 }
 
 impl<'a> Evaluator<'a> {
-    /// The value of a run's time or state while a point of its run is probed.
-    pub(super) fn probed(&self, id: CellId) -> Option<Value> {
-        let (first, len) = self.probe_range.get()?;
-        if id < first || id >= first + len {
-            return None;
-        }
-        self.probe_values.borrow().get(id - first).copied()
-    }
-
     /// Runs `f` with the run's time and states reading (t, y).
     fn at_point<R>(&self, layout: &Layout, t: f64, y: &[f64], f: impl FnOnce(&Self) -> R) -> R {
         let saved_range = self

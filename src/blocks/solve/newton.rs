@@ -178,7 +178,7 @@ impl<'a> Evaluator<'a> {
     /// over every cell they name and run on dual numbers) at the solution.
     /// `None` for a block with vector equations, or one whose Jacobian
     /// cannot be inverted there.
-    pub(in crate::eval) fn solve_slopes(
+    pub(crate) fn solve_slopes(
         &self,
         statement: usize,
         unknowns: &[CellId],
