@@ -42,6 +42,7 @@ pub mod live;
 pub mod numeric;
 pub mod pipeline;
 pub mod plot;
+pub mod present;
 pub mod report;
 pub mod review;
 pub mod sheet;

@@ -11,9 +11,9 @@ use std::path::{Path, PathBuf};
 /// use only the modules before it. Items of the crate root (`CAUTION`,
 /// `decode_source`, `allocator`) may be used by any module but `base`
 /// and `numeric`.
-const LAYERS: [&str; 16] = [
+const LAYERS: [&str; 17] = [
     "base", "numeric", "units", "syntax", "sheet", "eval", "blocks", "audit", "pipeline", "live",
-    "review", "diff", "plot", "report", "tui", "cli",
+    "review", "diff", "present", "plot", "report", "tui", "cli",
 ];
 
 /// Modules that use nothing of the crate at all.
@@ -21,7 +21,7 @@ const SELF_CONTAINED: [&str; 2] = ["base", "numeric"];
 
 /// Presentation: it reads the evaluated model (`eval`, `review`, `diff`,
 /// `audit`), never the syntax tree.
-const PRESENTATION: [&str; 4] = ["plot", "report", "tui", "cli"];
+const PRESENTATION: [&str; 5] = ["present", "plot", "report", "tui", "cli"];
 
 /// The longest a source file may be.
 const MAX_FILE_LINES: usize = 1000;

@@ -262,7 +262,7 @@ fn summary_line(evaluated: &Evaluated, audit: &ConversionAudit) -> String {
         audit.n_exact(),
         audit.n_rounded(),
         count(audit.n_gravity_values(), "gravity value"),
-        summary.line(),
+        crate::present::summary_line(&summary),
         count(summary.infos, "note"),
     )
 }

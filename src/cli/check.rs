@@ -323,9 +323,8 @@ fn write_checks(out: &mut String, evaluated: &Evaluated, painter: &Painter) {
                             format!("{number} {}", check.display.text)
                         }
                     };
-                    let utilization = check
-                        .utilization
-                        .map(|u| format!("   utilization {}", crate::units::percent(u)))
+                    let utilization = crate::present::utilization(check)
+                        .map(|shown| format!("   utilization {shown}"))
                         .unwrap_or_default();
                     let worst = check
                         .worst
@@ -351,7 +350,7 @@ fn write_checks(out: &mut String, evaluated: &Evaluated, painter: &Painter) {
                 }
                 _ => "could not be evaluated".to_string(),
             };
-            let verdict = check.verdict_text(&evaluated.cases);
+            let verdict = crate::present::verdict_text(check, &evaluated.cases);
             let verdict = if verdict.is_empty() || check.status == CheckStatus::Error {
                 String::new()
             } else {
@@ -375,9 +374,13 @@ fn write_checks(out: &mut String, evaluated: &Evaluated, painter: &Painter) {
 fn write_summary(out: &mut String, evaluated: &Evaluated, painter: &Painter) {
     let summary = evaluated.summary();
     let style = if summary.is_clean() { PASS } else { FAIL };
-    let _ = writeln!(out, "\n{}", painter.paint(style, &summary.line()));
+    let _ = writeln!(
+        out,
+        "\n{}",
+        painter.paint(style, &crate::present::summary_line(&summary))
+    );
     for check in &evaluated.checks {
-        let verdict = check.verdict_text(&evaluated.cases);
+        let verdict = crate::present::verdict_text(check, &evaluated.cases);
         let verdict = match check.status {
             CheckStatus::Passed => continue,
             CheckStatus::Error => "could not be evaluated".to_string(),

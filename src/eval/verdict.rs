@@ -3,7 +3,8 @@
 //! passes only where every one of these was established and holds; a place
 //! where heft could not establish it makes the check unknown, never passed.
 //! Every presentation (command line, JSON, report, notebook) counts checks
-//! through [`Summary`], so none can disagree with another.
+//! through [`Summary`], so none can disagree with another; the words for a
+//! verdict are [`crate::present`]'s.
 
 use super::model::{CaseOutcome, CheckResult, CheckStatus, Place, Unsettled};
 use crate::base::{Code, Diagnostic, Severity};
@@ -146,52 +147,6 @@ impl CheckResult {
             _ => CheckStatus::Passed,
         }
     }
-
-    /// The verdict with where it comes from: `PASS`, `FAIL (as written)`,
-    /// `FAIL (in case `estop` at the worst case of its tolerances)`,
-    /// `UNKNOWN (at the worst case of the tolerances)`, `ERROR`,
-    /// `BLOCKED`.
-    pub fn verdict_label(&self, cases: &[CaseOutcome]) -> String {
-        match self.status {
-            CheckStatus::Passed => "PASS".to_string(),
-            CheckStatus::Failed => format!("FAIL ({})", self.failing_places(cases)),
-            CheckStatus::Unknown => format!("UNKNOWN ({})", self.unknown_places(cases)),
-            CheckStatus::Error => "ERROR".to_string(),
-            CheckStatus::Blocked { .. } => "BLOCKED".to_string(),
-        }
-    }
-
-    /// Where the check fails or could not be established, in words:
-    /// "fails in case `estop` at the worst case of its tolerances". Empty
-    /// for a check that passed everywhere.
-    pub fn verdict_text(&self, cases: &[CaseOutcome]) -> String {
-        let mut parts = Vec::new();
-        if !self.fails.is_empty() {
-            parts.push(format!("fails {}", self.failing_places(cases)));
-        }
-        if !self.unknowns.is_empty() {
-            parts.push(format!("not established {}", self.unknown_places(cases)));
-        }
-        parts.join("; ")
-    }
-
-    /// "as written, in case `estop`": where it fails.
-    fn failing_places(&self, cases: &[CaseOutcome]) -> String {
-        places_text(self.fails.iter().copied(), cases)
-    }
-
-    /// Where it could not be established.
-    fn unknown_places(&self, cases: &[CaseOutcome]) -> String {
-        places_text(self.unknowns.iter().map(|u| u.place), cases)
-    }
-}
-
-/// Places in words, joined with commas.
-fn places_text(places: impl Iterator<Item = Place>, cases: &[CaseOutcome]) -> String {
-    places
-        .map(|place| place.describe(cases))
-        .collect::<Vec<_>>()
-        .join(", ")
 }
 
 /// The counts every presentation shows: cells, findings by severity, and
@@ -250,32 +205,6 @@ impl Summary {
     pub fn is_clean(&self) -> bool {
         self.errors == 0 && self.passed == self.checks
     }
-
-    /// `12 cells, 1 error, 0 warnings; 5 checks: 4 passed, 1 failed`.
-    pub fn line(&self) -> String {
-        let mut line = format!(
-            "{}, {}, {}",
-            count(self.cells, "cell"),
-            count(self.errors, "error"),
-            count(self.warnings, "warning")
-        );
-        if self.checks == 0 {
-            line.push_str("; no checks");
-            return line;
-        }
-        line.push_str(&format!(
-            "; {}: {} passed",
-            count(self.checks, "check"),
-            self.passed
-        ));
-        if self.failed > 0 {
-            line.push_str(&format!(", {} failed", self.failed));
-        }
-        if self.unknown > 0 {
-            line.push_str(&format!(", {} unknown", self.unknown));
-        }
-        line
-    }
 }
 
 /// `1 cell`, `2 cells`, `0 errors`.
@@ -293,47 +222,4 @@ pub fn utilization_note(utilization: Option<f64>) -> String {
             )
         })
         .unwrap_or_default()
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn the_summary_line_counts_in_the_singular_and_the_plural() {
-        let one = Summary {
-            cells: 1,
-            errors: 1,
-            warnings: 1,
-            infos: 0,
-            checks: 1,
-            passed: 0,
-            failed: 0,
-            unknown: 1,
-        };
-        assert_eq!(
-            one.line(),
-            "1 cell, 1 error, 1 warning; 1 check: 0 passed, 1 unknown"
-        );
-        assert!(!one.is_clean());
-        let many = Summary {
-            cells: 3,
-            checks: 2,
-            passed: 2,
-            ..Summary::default()
-        };
-        assert_eq!(
-            many.line(),
-            "3 cells, 0 errors, 0 warnings; 2 checks: 2 passed"
-        );
-        assert!(many.is_clean());
-        assert_eq!(
-            Summary {
-                cells: 2,
-                ..Summary::default()
-            }
-            .line(),
-            "2 cells, 0 errors, 0 warnings; no checks"
-        );
-    }
 }

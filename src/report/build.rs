@@ -114,7 +114,7 @@ impl<'a> Builder<'a> {
     }
 
     fn summary_line(&self) -> String {
-        self.evaluated.summary().line()
+        crate::present::summary_line(&self.evaluated.summary())
     }
 
     /// Every check at a glance, before the calculation.
@@ -639,7 +639,7 @@ impl<'a> Builder<'a> {
             }
             _ => None,
         };
-        let label = check.verdict_label(&self.evaluated.cases);
+        let label = crate::present::verdict_label(check, &self.evaluated.cases);
         let (verdict, tone) = match check.status {
             CheckStatus::Passed => (label, Tone::Good),
             CheckStatus::Failed | CheckStatus::Unknown | CheckStatus::Error => (label, Tone::Bad),

@@ -1005,9 +1005,9 @@ fn every_command_and_the_notebook_agree_on_every_sheet() {
         );
         let markdown = common::read_file(&report);
         assert!(
-            markdown.contains(&summary.line()),
+            markdown.contains(&heftsheet::present::summary_line(&summary)),
             "{name}: the report's summary is not `{}`",
-            summary.line()
+            heftsheet::present::summary_line(&summary)
         );
 
         let (code, _, _) =

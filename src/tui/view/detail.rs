@@ -364,7 +364,7 @@ impl Detail<'_> {
         self.check_cases(index);
         self.labelled(
             text::LABEL_VERDICT,
-            check.verdict_label(&live.judgement().cases),
+            crate::present::verdict_label(check, &live.judgement().cases),
             mark_style(theme, mark),
         );
     }

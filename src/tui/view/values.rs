@@ -97,8 +97,5 @@ pub(super) fn check_text(check: &CheckResult) -> String {
 
 /// `76.9 %` of the allowed, or nothing.
 pub(super) fn utilization_text(check: &CheckResult) -> String {
-    check
-        .utilization
-        .map(crate::units::percent)
-        .unwrap_or_else(|| text::NO_VALUE.to_string())
+    crate::present::utilization(check).unwrap_or_else(|| text::NO_VALUE.to_string())
 }
