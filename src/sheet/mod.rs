@@ -6,6 +6,7 @@ mod graph;
 mod header;
 mod names;
 mod passes;
+mod resolve;
 mod runs;
 
 pub use graph::{EvaluationOrder, evaluation_order};
@@ -21,6 +22,7 @@ use crate::syntax::ast::{
 use crate::syntax::{self, ParsedSheet};
 use crate::units;
 use passes::{Entered, Outline, enter_names, evaluation_nodes, outline, report_cycles};
+use resolve::{Columns, Linked, Resolved, resolve_statements};
 
 /// Index of a cell in [`Sheet::cells`].
 pub type CellId = usize;
@@ -196,164 +198,30 @@ impl Sheet {
             mut broken,
             mut uses,
             resolved_early,
-            mut reads_runs,
+            reads_runs,
         } = enter_names(&mut statements, &cells, &mut diagnostics);
 
         runs::name_run_events(&mut statements, &names, &mut diagnostics);
 
-        let mut suggestions_left = MAX_SUGGESTIONS;
-        let mut resolve_uses = |exprs: &mut dyn Iterator<Item = &mut Expr>,
-                                diagnostics: &mut Vec<Diagnostic>| {
-            let mut uses = Vec::new();
-            let ok = resolve_names(exprs, &names, &mut uses, diagnostics, &mut suggestions_left);
-            // Kept for the sheet's life: no spare capacity per cell.
-            uses.shrink_to_fit();
-            (uses, ok)
-        };
-
-        let mut next_cell = 0;
-        let mut check_uses = Vec::with_capacity(checks.len());
-        let mut broken_checks = Vec::with_capacity(checks.len());
-        let mut broken_cases = Vec::with_capacity(cases.len());
-        for statement in &mut statements {
-            let early = match statement.kind {
-                StatementKind::Cell(_) | StatementKind::Body(_) => resolved_early[next_cell],
-                _ => false,
-            };
-            reads_runs |= !early && runs::mentions_run_query(statement);
-            match &mut statement.kind {
-                StatementKind::Cell(cell) => {
-                    let id = next_cell;
-                    next_cell += 1;
-                    broken[id] |= matches!(cell.expr.kind, ExprKind::Invalid);
-                    if resolved_early[id] {
-                        continue;
-                    }
-                    let tolerance = cell.tolerance.as_deref_mut().map(Tolerance::expr_mut);
-                    let (cell_uses, ok) = resolve_uses(
-                        &mut std::iter::once(&mut cell.expr).chain(tolerance),
-                        &mut diagnostics,
-                    );
-                    broken[id] |= !ok;
-                    uses[id] = cell_uses;
-                }
-                StatementKind::Body(body) => {
-                    let id = next_cell;
-                    next_cell += 1;
-                    if resolved_early[id] {
-                        continue;
-                    }
-                    let (cell_uses, ok) = resolve_uses(
-                        &mut std::iter::once(&mut body.resultant.expr),
-                        &mut diagnostics,
-                    );
-                    broken[id] |= !ok;
-                    uses[id] = cell_uses;
-                }
-                StatementKind::Solve(block) => {
-                    let first = next_cell;
-                    next_cell += block.unknowns.len();
-                    let own: Vec<CellId> = (first..first + block.unknowns.len()).collect();
-                    let SolveBlock {
-                        unknowns,
-                        equations,
-                        complete,
-                        ..
-                    } = &mut **block;
-                    let mut exprs = equations
-                        .iter_mut()
-                        .flat_map(|equation| [&mut equation.lhs, &mut equation.rhs])
-                        .chain(
-                            unknowns
-                                .iter_mut()
-                                .filter_map(|unknown| unknown.guess.as_mut()),
-                        );
-                    let (mut block_uses, ok) = resolve_uses(&mut exprs, &mut diagnostics);
-                    block_uses.retain(|id| !own.contains(id));
-                    for id in own {
-                        broken[id] |= !ok || !*complete;
-                        uses[id] = block_uses.clone();
-                    }
-                }
-                StatementKind::Check(check) => {
-                    let (used, ok) = resolve_uses(
-                        &mut [&mut check.lhs, &mut check.rhs].into_iter(),
-                        &mut diagnostics,
-                    );
-                    check_uses.push(used);
-                    broken_checks.push(!ok);
-                }
-                StatementKind::Case(case) => {
-                    let mut ok = case.complete;
-                    for replacement in &mut case.overrides {
-                        let tolerance = replacement
-                            .tolerance
-                            .as_deref_mut()
-                            .map(Tolerance::expr_mut);
-                        let (_, resolved) = resolve_uses(
-                            &mut std::iter::once(&mut replacement.expr).chain(tolerance),
-                            &mut diagnostics,
-                        );
-                        ok &= resolved;
-                        match names.get(&replacement.cell.text).map(|&id| (id, cells[id])) {
-                            Some((id, CellOrigin::Formula { .. })) => {
-                                replacement.cell.target = Target::Cell(id)
-                            }
-                            Some((
-                                _,
-                                CellOrigin::Unknown { .. } | CellOrigin::Simulated { .. },
-                            )) => {
-                                ok = false;
-                                diagnostics.push(
-                                    Diagnostic::error(
-                                        Code::UndefinedName,
-                                        replacement.cell_span,
-                                        format!("`{}` is given by a solve or simulate block; a case cannot set it", replacement.cell.text),
-                                    )
-                                    .with_help("override the inputs the solve block uses instead"),
-                                );
-                            }
-                            None => {
-                                ok = false;
-                                let mut diagnostic = Diagnostic::error(
-                                    Code::UndefinedName,
-                                    replacement.cell_span,
-                                    format!(
-                                        "`{}` is not a cell of this sheet, so the case cannot override it",
-                                        replacement.cell.text
-                                    ),
-                                );
-                                if let Some(similar) = did_you_mean(&replacement.cell.text, &names)
-                                {
-                                    diagnostic =
-                                        diagnostic.with_help(format!("did you mean `{similar}`?"));
-                                }
-                                diagnostics.push(diagnostic);
-                            }
-                        }
-                    }
-                    broken_cases.push(!ok);
-                }
-                StatementKind::Simulate(block) => {
-                    let first = next_cell;
-                    next_cell += block.states.len() + 1;
-                    let own: Vec<CellId> = (first..=first + block.states.len()).collect();
-                    let complete = block.complete;
-                    let (mut block_uses, ok) =
-                        resolve_uses(&mut block.exprs_mut(), &mut diagnostics);
-                    block_uses.retain(|id| !own.contains(id));
-                    for id in own {
-                        broken[id] |= !ok || !complete;
-                        uses[id] = block_uses.clone();
-                    }
-                }
-                StatementKind::Heading { .. }
-                | StatementKind::Note { .. }
-                | StatementKind::Review(_)
-                | StatementKind::SignOff(_)
-                | StatementKind::Invalid => {}
-            }
-        }
+        let Resolved {
+            check_uses,
+            mut broken_checks,
+            broken_cases,
+            reads_runs,
+        } = resolve_statements(
+            &mut statements,
+            Linked {
+                names: &names,
+                cells: &cells,
+                resolved_early: &resolved_early,
+            },
+            Columns {
+                broken: &mut broken,
+                uses: &mut uses,
+            },
+            reads_runs,
+            &mut diagnostics,
+        );
         runs::link_run_queries(
             reads_runs,
             &mut statements,
