@@ -165,6 +165,104 @@ pub fn expected_findings(source: &str) -> std::collections::BTreeMap<(usize, Str
     expected
 }
 
+/// A cell's expected value, from an ok-corpus annotation
+/// `// expect: = 1.96133 m/s^2 ± 1e-8 %`.
+#[derive(Clone, Debug)]
+pub struct ExpectedValue {
+    /// The annotation after `=`, as written (for messages).
+    pub text: String,
+    /// The expected value in coherent SI units.
+    pub si: f64,
+    /// Its dimension, from the unit written (none for a plain number).
+    pub dimension: heftsheet::units::Dimension,
+    /// The relative difference allowed: the stated percentage over 100.
+    pub relative: f64,
+}
+
+/// The marker of a value annotation; the value follows it.
+pub const VALUE_MARKER: &str = "// expect: =";
+
+/// line (1-based) → expected value, from the sheet's
+/// `// expect: = NUMBER UNIT ± PERCENT %` annotations: NUMBER as Rust reads
+/// an `f64`, UNIT a coherent SI unit (`N`, `m/s^2`, `N*m`, `rad`; none for
+/// a plain number), PERCENT the relative tolerance. heft's unit parser reads
+/// only the unit, for its dimension, and the unit's factor must be exactly 1,
+/// so every number is in SI and the sheet's own unit factors are checked
+/// rather than trusted. Any other line that mentions `expect:` (a finding
+/// code, a typo) is an error, as is an annotation it cannot read; the error
+/// names the line, so a corpus sheet never passes with an annotation skipped.
+pub fn expected_values(
+    source: &str,
+) -> Result<std::collections::BTreeMap<usize, ExpectedValue>, String> {
+    let mut expected = std::collections::BTreeMap::new();
+    for (index, line) in source.lines().enumerate() {
+        let line_number = index + 1;
+        if !line.contains("expect:") {
+            continue;
+        }
+        let Some(at) = line.find(VALUE_MARKER) else {
+            return Err(format!(
+                "line {line_number}: an ok sheet expects values (`{VALUE_MARKER} 12 N ± 1e-8 %`), not `{}`",
+                line.trim()
+            ));
+        };
+        let text = line[at + VALUE_MARKER.len()..].trim();
+        let value = expected_value(text)
+            .map_err(|error| format!("line {line_number}: `{text}`: {error}"))?;
+        expected.insert(line_number, value);
+    }
+    Ok(expected)
+}
+
+/// One annotation's `NUMBER UNIT ± PERCENT %`.
+fn expected_value(text: &str) -> Result<ExpectedValue, String> {
+    let (quantity, tolerance) = text
+        .split_once('±')
+        .or_else(|| text.split_once("+/-"))
+        .ok_or("no `± PERCENT %` tolerance")?;
+    let percent = tolerance
+        .trim()
+        .strip_suffix('%')
+        .ok_or("the tolerance must be relative, in `%`")?
+        .trim();
+    let percent: f64 = percent
+        .parse()
+        .map_err(|_| format!("`{percent}` is not a number"))?;
+    if percent.is_nan() || percent <= 0.0 || percent >= 100.0 {
+        return Err(format!(
+            "a tolerance of {percent} % is not above 0 and below 100"
+        ));
+    }
+    let quantity = quantity.trim();
+    let (number, unit) = quantity.split_once(' ').unwrap_or((quantity, ""));
+    let number: f64 = number
+        .parse()
+        .map_err(|_| format!("`{number}` is not a number"))?;
+    if !number.is_finite() {
+        return Err(format!("`{number}` is not finite"));
+    }
+    let unit = unit.trim();
+    let dimension = if unit.is_empty() {
+        heftsheet::units::Dimension::NONE
+    } else {
+        let (_, resolved) = heftsheet::eval::evaluate_unit(unit)
+            .map_err(|diagnostic| format!("unit `{unit}`: {}", diagnostic.message))?;
+        if resolved.si_factor != 1.0 {
+            return Err(format!(
+                "`{unit}` is {} SI units; write the expected value in coherent SI",
+                resolved.si_factor
+            ));
+        }
+        resolved.dimension
+    };
+    Ok(ExpectedValue {
+        text: text.to_string(),
+        si: number,
+        dimension,
+        relative: percent / 100.0,
+    })
+}
+
 /// The one hand-typed conversion `heft audit` lists for `source` (panics
 /// unless there is exactly one).
 #[track_caller]
