@@ -82,6 +82,50 @@ impl Extremes {
     }
 }
 
+/// A cell's extremes by component over the corners so far, or the first
+/// corner where it had no value.
+#[derive(Clone, Default)]
+struct CellSoFar {
+    extremes: Vec<Extremes>,
+    problem: Option<String>,
+}
+
+impl CellSoFar {
+    /// Adds the cell's value at this corner, or notes (once) why it has none.
+    fn record(&mut self, evaluator: &Evaluator<'_>, id: CellId, problem: impl FnOnce() -> String) {
+        if self.problem.is_some() {
+            return;
+        }
+        match (evaluator.statuses[id], evaluator.values[id]) {
+            (CellStatus::Ok, Some(value)) => {
+                let components = match value {
+                    Value::Scalar(q) => vec![q.si],
+                    Value::Vector(v) => v.components().to_vec(),
+                };
+                self.extremes.resize(components.len(), Extremes::EMPTY);
+                for (extreme, component) in self.extremes.iter_mut().zip(components) {
+                    extreme.add(component);
+                }
+            }
+            _ => self.problem = Some(problem()),
+        }
+    }
+
+    /// The cell's range over every corner (`nominal` tells a vector cell).
+    fn range(self, nominal: Option<Value>, method: RangeMethod) -> CornerRange {
+        match (self.problem, nominal) {
+            (Some(_), _) => CornerRange::Unknown,
+            (None, Some(Value::Vector(_))) => {
+                CornerRange::Vector(self.extremes.iter().map(|e| (e.low, e.high)).collect())
+            }
+            (None, _) => match self.extremes.first() {
+                Some(extremes) => CornerRange::Scalar(extremes.range(method)),
+                None => CornerRange::Unknown,
+            },
+        }
+    }
+}
+
 /// A check's sides and verdict over the corners so far.
 struct CheckSoFar {
     lhs: Extremes,
@@ -93,6 +137,52 @@ struct CheckSoFar {
     /// The first corner where it failed.
     failed_at: Option<u64>,
     problem: Option<String>,
+}
+
+impl Default for CheckSoFar {
+    fn default() -> Self {
+        CheckSoFar {
+            lhs: Extremes::EMPTY,
+            rhs: Extremes::EMPTY,
+            worst: None,
+            holds: true,
+            failed_at: None,
+            problem: None,
+        }
+    }
+}
+
+impl CheckSoFar {
+    /// Judges the check at this corner, or notes (once) why it could not be.
+    fn record(
+        &mut self,
+        evaluator: &mut Evaluator<'_>,
+        index: usize,
+        corner: u64,
+        problem: impl FnOnce() -> String,
+    ) {
+        if self.problem.is_some() {
+            return;
+        }
+        evaluator.diagnostics.clear();
+        let result = evaluator.evaluate_check(index);
+        match (result.holds, result.lhs, result.rhs) {
+            (Some(holds), Some(lhs), Some(rhs)) => {
+                self.lhs.add(lhs.si);
+                self.rhs.add(rhs.si);
+                if !holds {
+                    self.holds = false;
+                    self.failed_at.get_or_insert(corner);
+                }
+                if let Some(u) = result.utilization
+                    && self.worst.is_none_or(|(worst, _)| u > worst)
+                {
+                    self.worst = Some((u, corner));
+                }
+            }
+            _ => self.problem = Some(problem()),
+        }
+    }
 }
 
 impl Evaluator<'_> {
@@ -137,160 +227,114 @@ impl Evaluator<'_> {
         let n_corners = 1u64 << inputs.len();
         let method = RangeMethod::Corners(n_corners as usize);
         let nodes = self.nodes_downstream_of(inputs);
-        let mut cell_extremes: Vec<Vec<Extremes>> = vec![Vec::new(); cells.len()];
-        let mut cell_problems: Vec<Option<String>> = vec![None; cells.len()];
-        let mut so_far: Vec<CheckSoFar> = checks
-            .iter()
-            .map(|_| CheckSoFar {
-                lhs: Extremes::EMPTY,
-                rhs: Extremes::EMPTY,
-                worst: None,
-                holds: true,
-                failed_at: None,
-                problem: None,
-            })
-            .collect();
+        let mut cells_so_far: Vec<CellSoFar> = vec![CellSoFar::default(); cells.len()];
+        let mut checks_so_far: Vec<CheckSoFar> =
+            checks.iter().map(|_| CheckSoFar::default()).collect();
         for corner in 0..n_corners {
-            let mut evaluator = crate::blocks::with_blocks(Evaluator::resume(
-                self.sheet,
-                self.source,
-                self.values.clone(),
-                self.statuses.clone(),
-                self.spreads.clone(),
-            ));
-            evaluator.overrides = self.overrides.clone();
-            evaluator.case_order = self.case_order.clone();
-            evaluator.pins = inputs
-                .iter()
-                .enumerate()
-                .map(|(bit, input)| (input.cell, corner_value(input, corner, bit)))
-                .collect();
-            for &node in &nodes {
-                for &id in self.sheet.nodes[node].cells() {
-                    evaluator.values[id] = None;
-                }
-                evaluator.run_node(node);
-            }
+            let mut evaluator = self.evaluated_at_corner(inputs, corner, &nodes);
             let failure = evaluator
                 .diagnostics
                 .iter()
                 .find(|d| d.severity == Severity::Error)
                 .map(|d| d.message.clone());
-            let at_corner = |reason: &str| {
+            let at_corner = |fallback: &str| {
                 format!(
-                    "at the corner where {}: {reason}",
-                    self.describe_corner(inputs, corner)
+                    "at the corner where {}: {}",
+                    self.describe_corner(inputs, corner),
+                    failure.as_deref().unwrap_or(fallback)
                 )
             };
-            for (k, &id) in cells.iter().enumerate() {
-                if cell_problems[k].is_some() {
-                    continue;
-                }
-                match (evaluator.statuses[id], evaluator.values[id]) {
-                    (CellStatus::Ok, Some(value)) => {
-                        let components = match value {
-                            Value::Scalar(q) => vec![q.si],
-                            Value::Vector(v) => v.components().to_vec(),
-                        };
-                        let extremes = &mut cell_extremes[k];
-                        extremes.resize(components.len(), Extremes::EMPTY);
-                        for (extreme, component) in extremes.iter_mut().zip(components) {
-                            extreme.add(component);
-                        }
-                    }
-                    _ => {
-                        cell_problems[k] = Some(at_corner(
-                            failure.as_deref().unwrap_or("it could not be evaluated"),
-                        ));
-                    }
-                }
+            for (state, &id) in cells_so_far.iter_mut().zip(cells) {
+                state.record(&evaluator, id, || at_corner("it could not be evaluated"));
             }
-            for (k, &index) in checks.iter().enumerate() {
-                let state = &mut so_far[k];
-                if state.problem.is_some() {
-                    continue;
-                }
-                evaluator.diagnostics.clear();
-                let result = evaluator.evaluate_check(index);
-                match (result.holds, result.lhs, result.rhs) {
-                    (Some(holds), Some(lhs), Some(rhs)) => {
-                        state.lhs.add(lhs.si);
-                        state.rhs.add(rhs.si);
-                        if !holds {
-                            state.holds = false;
-                            state.failed_at.get_or_insert(corner);
-                        }
-                        if let Some(u) = result.utilization
-                            && state.worst.is_none_or(|(worst, _)| u > worst)
-                        {
-                            state.worst = Some((u, corner));
-                        }
-                    }
-                    _ => {
-                        state.problem = Some(at_corner(
-                            failure
-                                .as_deref()
-                                .unwrap_or("the check could not be evaluated"),
-                        ));
-                    }
-                }
+            for (state, &index) in checks_so_far.iter_mut().zip(checks) {
+                state.record(&mut evaluator, index, corner, || {
+                    at_corner("the check could not be evaluated")
+                });
             }
         }
         let cells = cells
             .iter()
-            .zip(cell_extremes.into_iter().zip(cell_problems))
-            .map(|(&id, (extremes, problem))| {
-                let range = match (problem, self.values[id]) {
-                    (Some(_), _) => CornerRange::Unknown,
-                    (None, Some(Value::Vector(_))) => {
-                        CornerRange::Vector(extremes.iter().map(|e| (e.low, e.high)).collect())
-                    }
-                    (None, _) => match extremes.first() {
-                        Some(extremes) => CornerRange::Scalar(extremes.range(method)),
-                        None => CornerRange::Unknown,
-                    },
-                };
-                (id, range)
-            })
+            .zip(cells_so_far)
+            .map(|(&id, state)| (id, state.range(self.values[id], method)))
             .collect();
         let checks = checks
             .iter()
-            .zip(so_far)
-            .map(|(&index, state)| {
-                // The inputs that reach this check, to name its corner.
-                let own = self.inputs_reaching(inputs, &[], &[index]);
-                let outcome = match state.problem {
-                    Some(problem) => Err(problem),
-                    None => {
-                        let corner = state
-                            .failed_at
-                            .or(state.worst.map(|(_, corner)| corner))
-                            .unwrap_or(0);
-                        let worst_utilization = state
-                            .worst
-                            .map(|(u, _)| u)
-                            .or_else(|| base.get(index).and_then(|check| check.utilization));
-                        Ok(CornerCheck {
-                            worst: CheckRange {
-                                method,
-                                lhs: state.lhs.range(method),
-                                rhs: state.rhs.range(method),
-                                worst_utilization,
-                                passes: state.holds,
-                            },
-                            worst_corner: inputs
-                                .iter()
-                                .enumerate()
-                                .filter(|(_, input)| own.iter().any(|o| o.cell == input.cell))
-                                .map(|(bit, input)| (input.cell, corner_value(input, corner, bit)))
-                                .collect(),
-                        })
-                    }
-                };
-                (index, outcome)
-            })
+            .zip(checks_so_far)
+            .map(|(&index, state)| (index, self.corner_check(inputs, index, state, base, method)))
             .collect();
         CornerRanges { cells, checks }
+    }
+
+    /// An evaluator over the nodes `nodes` with every one of `inputs` pinned
+    /// at its value in `corner`.
+    fn evaluated_at_corner(
+        &self,
+        inputs: &[CornerInput],
+        corner: u64,
+        nodes: &[crate::sheet::NodeId],
+    ) -> Evaluator<'_> {
+        let mut evaluator = crate::blocks::with_blocks(Evaluator::resume(
+            self.sheet,
+            self.source,
+            self.values.clone(),
+            self.statuses.clone(),
+            self.spreads.clone(),
+        ));
+        evaluator.overrides = self.overrides.clone();
+        evaluator.case_order = self.case_order.clone();
+        evaluator.pins = inputs
+            .iter()
+            .enumerate()
+            .map(|(bit, input)| (input.cell, corner_value(input, corner, bit)))
+            .collect();
+        for &node in nodes {
+            for &id in self.sheet.nodes[node].cells() {
+                evaluator.values[id] = None;
+            }
+            evaluator.run_node(node);
+        }
+        evaluator
+    }
+
+    /// A check's verdict over every corner, with the corner that governs it
+    /// named by the inputs that reach it, or why there is none.
+    fn corner_check(
+        &self,
+        inputs: &[CornerInput],
+        index: usize,
+        state: CheckSoFar,
+        base: &[CheckResult],
+        method: RangeMethod,
+    ) -> Result<CornerCheck, String> {
+        if let Some(problem) = state.problem {
+            return Err(problem);
+        }
+        // The inputs that reach this check, to name its corner.
+        let own = self.inputs_reaching(inputs, &[], &[index]);
+        let corner = state
+            .failed_at
+            .or(state.worst.map(|(_, corner)| corner))
+            .unwrap_or(0);
+        let worst_utilization = state
+            .worst
+            .map(|(u, _)| u)
+            .or_else(|| base.get(index).and_then(|check| check.utilization));
+        Ok(CornerCheck {
+            worst: CheckRange {
+                method,
+                lhs: state.lhs.range(method),
+                rhs: state.rhs.range(method),
+                worst_utilization,
+                passes: state.holds,
+            },
+            worst_corner: inputs
+                .iter()
+                .enumerate()
+                .filter(|(_, input)| own.iter().any(|o| o.cell == input.cell))
+                .map(|(bit, input)| (input.cell, corner_value(input, corner, bit)))
+                .collect(),
+        })
     }
 
     /// The nodes, in evaluation order, that use one of `inputs` (directly or
