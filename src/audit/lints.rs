@@ -237,51 +237,8 @@ fn hand_conversion_factor(context: &Context<'_>, used: &HandFactorUse<'_>) -> Di
     let number = context.text(used.number.span);
     let other = context.text(used.other.span);
     let operation = context.text(used.operation.span);
-    let rewritten = |repair: Repair| match repair {
-        Repair::Remove => splice(context, used.root, used.operation.span, other),
-        Repair::UseG0 => splice(context, used.root, used.number.span, "g0"),
-        Repair::InverseG0 => {
-            let inverse = if used.op == BinaryOp::Multiply {
-                "/"
-            } else {
-                "*"
-            };
-            splice(
-                context,
-                used.root,
-                used.operation.span,
-                &format!("{other} {inverse} g0"),
-            )
-        }
-    };
-    let order: &[Repair] = if factor.is_gravity() {
-        &[Repair::UseG0, Repair::Remove, Repair::InverseG0]
-    } else {
-        &[Repair::Remove, Repair::UseG0, Repair::InverseG0]
-    };
-    let target = target_dimension(context, used.owner);
-    let candidates: Vec<(Repair, String, Option<Quantity>)> = order
-        .iter()
-        .map(|&repair| {
-            let text = rewritten(repair);
-            let value = evaluate_rewritten(context, used.owner, &text);
-            (repair, text, value)
-        })
-        .collect();
-    // The first repair that gives the dimension the place needs; with no
-    // known need, the first that gives a dimension with an everyday name.
-    let chosen = candidates
-        .iter()
-        .find(|(_, _, value)| {
-            value.is_some_and(|v| match target {
-                Some(target) => v.dimension == target,
-                None => v.dimension.name().is_some(),
-            })
-        })
-        .unwrap_or(&candidates[0]);
-    let (repair, fix, fixed_value) = chosen;
+    let (repair, fix, fixed_value) = &chosen_repair(context, used);
 
-    let other_value = evaluate_rewritten(context, used.owner, other);
     let root_text = context.text(used.root.span);
     let current = evaluate_rewritten(context, used.owner, root_text);
     let exact = factor.exact().to_f64();
@@ -314,57 +271,29 @@ fn hand_conversion_factor(context: &Context<'_>, used: &HandFactorUse<'_>) -> Di
     };
     // Whether the factor converts a bare number: then dropping the factor
     // alone would change the result, so the fix is to give the number its unit.
-    let mut converts_bare_number = false;
-    let explanation = match repair {
-        Repair::Remove => {
-            // What is already a quantity the factor converts: the operand,
-            // or one factor of it.
-            let converted = match factor.family {
-                Family::Conversion(dimension) => {
-                    hand_factors::already_converted(context, used.owner, used.other, dimension)
-                }
-                Family::Gravity | Family::Prefix => other_value
-                    .filter(|v| {
-                        !v.dimension.is_dimensionless()
-                            && Some(v.dimension) == fixed_value.map(|f| f.dimension)
-                    })
-                    .map(|_| used.other),
-            };
-            let units = used
-                .units_present
-                .map(|(from, to)| format!(" (written in {from}, shown in {to})"))
-                .unwrap_or_default();
-            let described = converted.and_then(|part| {
-                evaluate_rewritten(context, used.owner, context.text(part.span))
-                    .map(|value| (context.text(part.span), value.dimension.describe()))
-            });
-            match described {
-                Some((part, dimension)) => format!(
-                    "`{part}` is already {dimension}{units} and heft converts units exactly, so `{operation}` converts it a second time: the result is {off_by}"
+    let (explanation, converts_bare_number) = match repair {
+        Repair::Remove => removal_explanation(context, used, *fixed_value, &off_by),
+        Repair::UseG0 => (
+            match current {
+                Some(value) => format!(
+                    "a bare number has no unit, so `{root_text}` is {} ({}) where {} is wanted",
+                    value.dimension.describe(),
+                    context.show_for(used.owner, value),
+                    wanted(*fixed_value),
                 ),
-                None => {
-                    converts_bare_number = true;
-                    format!(
-                        "a bare number carries no unit, so heft cannot check this conversion; write the quantity with its unit and heft converts it exactly (as it stands the result is {off_by} if the units already convert)"
-                    )
-                }
-            }
-        }
-        Repair::UseG0 => match current {
-            Some(value) => format!(
-                "a bare number has no unit, so `{root_text}` is {} ({}) where {} is wanted",
-                value.dimension.describe(),
-                context.show_for(used.owner, value),
-                wanted(*fixed_value),
+                None => format!(
+                    "a bare number has no unit, so `{root_text}` cannot give {}",
+                    wanted(*fixed_value)
+                ),
+            },
+            false,
+        ),
+        Repair::InverseG0 => (
+            format!(
+                "a mass is weight / g0 and a weight is mass × g0; `{operation}` does neither, it gives {}",
+                current.map_or_else(|| "no value".to_string(), |v| v.dimension.describe())
             ),
-            None => format!(
-                "a bare number has no unit, so `{root_text}` cannot give {}",
-                wanted(*fixed_value)
-            ),
-        },
-        Repair::InverseG0 => format!(
-            "a mass is weight / g0 and a weight is mass × g0; `{operation}` does neither, it gives {}",
-            current.map_or_else(|| "no value".to_string(), |v| v.dimension.describe())
+            false,
         ),
     };
     let verb = if used.op == BinaryOp::Multiply {
@@ -384,6 +313,107 @@ fn hand_conversion_factor(context: &Context<'_>, used: &HandFactorUse<'_>) -> Di
         ))
     } else {
         diagnostic.with_fix(Fix::replace(used.root.span, fix.as_str()))
+    }
+}
+
+/// The repair to offer: of the rewrites in the usual order for this
+/// factor, the first that gives the dimension the place needs (with no
+/// known need, the first with an everyday name), with its text and value.
+fn chosen_repair(
+    context: &Context<'_>,
+    used: &HandFactorUse<'_>,
+) -> (Repair, String, Option<Quantity>) {
+    let factor = &used.factor;
+    let other = context.text(used.other.span);
+    let rewritten = |repair: Repair| match repair {
+        Repair::Remove => splice(context, used.root, used.operation.span, other),
+        Repair::UseG0 => splice(context, used.root, used.number.span, "g0"),
+        Repair::InverseG0 => {
+            let inverse = if used.op == BinaryOp::Multiply {
+                "/"
+            } else {
+                "*"
+            };
+            splice(
+                context,
+                used.root,
+                used.operation.span,
+                &format!("{other} {inverse} g0"),
+            )
+        }
+    };
+    let order: &[Repair] = if factor.is_gravity() {
+        &[Repair::UseG0, Repair::Remove, Repair::InverseG0]
+    } else {
+        &[Repair::Remove, Repair::UseG0, Repair::InverseG0]
+    };
+    let target = target_dimension(context, used.owner);
+    let candidates: Vec<(Repair, String, Option<Quantity>)> = order
+        .iter()
+        .map(|&repair| {
+            let text = rewritten(repair);
+            let value = evaluate_rewritten(context, used.owner, &text);
+            (repair, text, value)
+        })
+        .collect();
+    candidates
+        .iter()
+        .find(|(_, _, value)| {
+            value.is_some_and(|v| match target {
+                Some(target) => v.dimension == target,
+                None => v.dimension.name().is_some(),
+            })
+        })
+        .unwrap_or(&candidates[0])
+        .clone()
+}
+
+/// Why removing the factor is the repair: the quantity it converts is
+/// already converted — or, where it converts a bare number, that heft
+/// cannot check it (then `true`: the fix is to give the number its unit).
+fn removal_explanation(
+    context: &Context<'_>,
+    used: &HandFactorUse<'_>,
+    fixed_value: Option<Quantity>,
+    off_by: &str,
+) -> (String, bool) {
+    let factor = &used.factor;
+    let operation = context.text(used.operation.span);
+    let other_value = evaluate_rewritten(context, used.owner, context.text(used.other.span));
+    // What is already a quantity the factor converts: the operand,
+    // or one factor of it.
+    let converted = match factor.family {
+        Family::Conversion(dimension) => {
+            hand_factors::already_converted(context, used.owner, used.other, dimension)
+        }
+        Family::Gravity | Family::Prefix => other_value
+            .filter(|v| {
+                !v.dimension.is_dimensionless()
+                    && Some(v.dimension) == fixed_value.map(|f| f.dimension)
+            })
+            .map(|_| used.other),
+    };
+    let units = used
+        .units_present
+        .map(|(from, to)| format!(" (written in {from}, shown in {to})"))
+        .unwrap_or_default();
+    let described = converted.and_then(|part| {
+        evaluate_rewritten(context, used.owner, context.text(part.span))
+            .map(|value| (context.text(part.span), value.dimension.describe()))
+    });
+    match described {
+        Some((part, dimension)) => (
+            format!(
+                "`{part}` is already {dimension}{units} and heft converts units exactly, so `{operation}` converts it a second time: the result is {off_by}"
+            ),
+            false,
+        ),
+        None => (
+            format!(
+                "a bare number carries no unit, so heft cannot check this conversion; write the quantity with its unit and heft converts it exactly (as it stands the result is {off_by} if the units already convert)"
+            ),
+            true,
+        ),
     }
 }
 
