@@ -13,9 +13,9 @@
 //! evaluated sheet for the mistakes dimensions miss; [`pipeline`] is the
 //! one function every command runs; [`live`] is the notebook's sheet,
 //! edited line by line and recomputed incrementally. [`review`] and
-//! [`diff`] read the evaluated model; [`plot`],
-//! [`report`], [`cli`] and [`tui`] (the terminal notebook that edits a sheet
-//! and recomputes it live) present it.
+//! [`diff`] read the evaluated model; [`present`] words the facts every
+//! output shows once; [`plot`], [`report`], [`cli`] and [`tui`] (the
+//! terminal notebook that edits a sheet and recomputes it live) present it.
 //!
 //! A sheet's results as typed quantities, from a program:
 //!
@@ -23,13 +23,21 @@
 //! use uom::si::f64::{Force, Mass};
 //! use uom::si::force::kilonewton;
 //!
-//! let sheet = heftsheet::pipeline::run("m_load = 1850 kg\nW = m_load * g0\n");
+//! let sheet = heftsheet::run("m_load = 1850 kg\nW = m_load * g0\n");
 //! let weight: Force = sheet.quantity("W").expect("W is a computed force");
 //! // W = m g0 = 1850 kg × 9.80665 m/s² (CGPM standard gravity) = 18.1423 kN.
 //! assert!((weight.get::<kilonewton>() - 18.142_302_5).abs() < 1e-9);
 //! // A force is not a mass: the dimension is checked.
 //! assert!(sheet.quantity::<Mass>("W").is_none());
 //! ```
+
+// The entry points, for library users: the pipeline every command runs,
+// evaluation alone, the evaluated model, and the notebook's live sheet.
+pub use base::Diagnostic;
+pub use blocks::{evaluate, evaluate_source};
+pub use eval::Evaluated;
+pub use live::LiveSheet;
+pub use pipeline::{run, run_bytes};
 
 pub mod allocator;
 pub mod audit;

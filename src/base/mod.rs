@@ -3,10 +3,10 @@
 //! into text, and the one door from sheet text to a terminal. It imports
 //! nothing of the crate.
 
-pub mod diag;
+pub(crate) mod diag;
 pub mod render;
-pub mod span;
-pub mod visible;
+pub(crate) mod span;
+pub(crate) mod visible;
 
 pub use diag::{Code, Diagnostic, Fix, FixValue, Label, Severity};
 pub use span::{LineColumn, LineIndex, MAX_SOURCE_LEN, Span};

@@ -2,7 +2,7 @@
 //!
 //! Each diagnostic is drawn by codespan-reporting against an `Excerpt` of
 //! the sheet: only the lines its labels touch, with hidden controls shown
-//! as escapes ([`super::visible`]) and a line longer than
+//! as escapes (`super::visible`) and a line longer than
 //! [`LONG_LINE_CHARS`] cut to the text around each label, so a finding on a
 //! 70 KB line prints a few lines, not the whole line. The excerpt keeps the
 //! real line and column numbers. Findings of one code on one line beyond

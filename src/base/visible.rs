@@ -132,7 +132,7 @@ fn push_escape(out: &mut String, c: char) {
 
 /// Escapes text for HTML (and SVG) element content and quoted attribute
 /// values; hidden controls (which would reorder or vanish from the page)
-/// are shown as escapes ([`visible`]).
+/// are shown as escapes (`visible`).
 pub fn escape_markup(text: &str) -> String {
     let text = visible(text);
     let mut out = String::with_capacity(text.len() + 8);

@@ -8,7 +8,7 @@
 mod conversion;
 pub(crate) mod explain;
 mod expr;
-pub mod formula;
+pub(crate) mod formula;
 pub mod functions;
 pub(crate) mod model;
 pub mod program;
@@ -17,7 +17,7 @@ mod vectors;
 pub(crate) mod verdict;
 
 /// The operators and comparisons the evaluated model's formulas and checks
-/// carry ([`formula::Term`], [`CheckResult::comparison`]): the syntax's own,
+/// carry (`formula::Term`, [`CheckResult::comparison`]): the syntax's own,
 /// so presentation reads them here and never the syntax tree.
 pub use crate::syntax::ast::{BinaryOp, Comparison};
 pub use conversion::{Conversion, ConversionError, WrittenConversion, convert};

@@ -52,7 +52,7 @@ impl LiveSheet {
         self.apply(&splice)
     }
 
-    /// Applies `splice` (made with [`Document::plan`], or the inverse of
+    /// Applies `splice` (made with `Document::plan`, or the inverse of
     /// one applied before): any lines, a block's or the header's included.
     /// A change of one statement line among one-line statements is
     /// evaluated incrementally; a change that touches the header, a

@@ -1,7 +1,7 @@
 //! Incremental evaluation: a sheet that is edited line by line and
 //! recomputes only what an edit affects.
 //!
-//! [`LiveSheet`] owns the [`Document`] (the text), the linked [`Sheet`] and
+//! [`LiveSheet`] owns the `Document` (the text), the linked [`Sheet`] and
 //! every result. An edit that keeps a cell a cell of the same name, whose
 //! new formula uses only cells evaluated before it, re-resolves that one
 //! formula and re-evaluates the cell and everything downstream of it (found

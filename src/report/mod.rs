@@ -2,12 +2,12 @@
 //! checker can follow and sign, written as self-contained HTML or Markdown.
 //!
 //! [`document`] builds the format-free [`model::Document`]; [`html`] and
-//! [`markdown`] write it, each with exactly one escaping function through
+//! `markdown` write it, each with exactly one escaping function through
 //! which every piece of sheet text passes; [`svg`] draws figures.
 
 mod build;
 pub mod html;
-pub mod markdown;
+pub(crate) mod markdown;
 pub mod math;
 pub mod model;
 pub mod svg;

@@ -15,7 +15,7 @@
 //! signoff by "K. Brandt" on 2026-12-04 fingerprint <64 hex> cells m_skid:1a2b3c4d …
 //! ```
 
-pub mod fingerprint;
+pub(crate) mod fingerprint;
 
 use std::collections::{BTreeMap, HashSet};
 

@@ -49,7 +49,7 @@ struct DocumentLine {
 /// A line as written: its text and the break after it. The last line of a
 /// file without a final break still has one here (the file's usual break),
 /// so that lines keep their break wherever an edit moves them; the file's
-/// text leaves it off (see [`Document::text`]).
+/// text leaves it off (see `Document::text`).
 #[derive(Clone, Debug, PartialEq, Eq)]
 pub struct WrittenLine {
     /// The text, without its break.

@@ -1,7 +1,7 @@
 //! The sheet model: header, statements, the cells and checks they define,
 //! the dependency graph between cells and the order to evaluate them in.
 
-pub mod edit;
+pub(crate) mod edit;
 mod graph;
 mod header;
 mod names;

@@ -3,16 +3,16 @@
 //!
 //! Elm-shaped: one [`App`] model, one closed [`Message`] enum, an
 //! [`update`] without I/O that returns [`Effect`]s, and a pure [`view()`](fn@view).
-//! File I/O ([`files`]) and the terminal ([`terminal`]) live in the event
-//! loop only. Words are in [`strings`], keys in [`keys`], colours in
-//! [`theme`], screen areas in [`layout`].
+//! File I/O ([`files`]) and the terminal (`terminal`) live in the event
+//! loop only. Words are in `strings`, keys in [`keys`], colours in
+//! [`theme`], screen areas in `layout`.
 
 pub mod app;
 pub mod files;
 pub mod keys;
-pub mod layout;
-pub mod strings;
-pub mod terminal;
+pub(crate) mod layout;
+pub(crate) mod strings;
+pub(crate) mod terminal;
 pub mod theme;
 pub mod view;
 
