@@ -1,8 +1,9 @@
 //! Facts every output shows, computed once: a check's verdict in words,
-//! its utilization as shown, and the summary line. The command line, the
+//! its utilization as shown, the summary line, and a finding on one line. The command line, the
 //! JSON, the report and the notebook all take them from here, so no two can
 //! word the same fact differently.
 
+use crate::base::{Code, Diagnostic, Severity};
 use crate::eval::{CaseOutcome, CheckResult, CheckStatus, Place, Summary, count};
 use crate::units::percent;
 
@@ -81,6 +82,21 @@ pub fn summary_line(summary: &Summary) -> String {
         line.push_str(&format!(", {} unknown", summary.unknown));
     }
     line
+}
+
+/// `warning [hand-conversion-factor]`: a finding's severity and code, as
+/// every output names them.
+pub fn finding_kind(severity: Severity, code: Code) -> String {
+    format!("{} [{code}]", severity.as_str())
+}
+
+/// `warning [code]: message (help: …)`: a finding on one line.
+pub fn finding_line(diagnostic: &Diagnostic) -> String {
+    let kind = finding_kind(diagnostic.severity, diagnostic.code);
+    match &diagnostic.help {
+        Some(help) => format!("{kind}: {} (help: {help})", diagnostic.message),
+        None => format!("{kind}: {}", diagnostic.message),
+    }
 }
 
 #[cfg(test)]

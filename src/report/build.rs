@@ -10,7 +10,6 @@ use super::model::{
     TitleBlock, Tone,
 };
 use super::svg;
-use crate::base::Diagnostic;
 use crate::base::Span;
 use crate::eval::{
     CellResult, CellStatus, CheckResult, CheckStatus, Evaluated, OutlineItem, SolveStatus,
@@ -683,7 +682,7 @@ impl<'a> Builder<'a> {
             diagnostics.partition_point(|d| d.span.start() < span.end().max(span.start() + 1));
         diagnostics[first..last.max(first)]
             .iter()
-            .map(finding_text)
+            .map(crate::present::finding_line)
             .collect()
     }
 
@@ -856,7 +855,7 @@ impl<'a> Builder<'a> {
                     Rich::text(format!("{}:{}", place.line, place.column)),
                     Rich::text(diagnostic.severity.as_str()),
                     Rich(vec![Piece::Code(diagnostic.code.as_str().to_string())]),
-                    Rich::text(finding_text(diagnostic)),
+                    Rich::text(crate::present::finding_line(diagnostic)),
                 ]
             })
             .collect();
@@ -892,23 +891,6 @@ fn collect_units(term: &crate::eval::formula::Term, out: &mut BTreeSet<String>) 
         }
         Term::Call { args, .. } => args.iter().for_each(|arg| collect_units(arg, out)),
         Term::Number(_) | Term::Name { value: None, .. } | Term::Invalid(_) => {}
-    }
-}
-
-fn finding_text(diagnostic: &Diagnostic) -> String {
-    match &diagnostic.help {
-        Some(help) => format!(
-            "{} [{}]: {} (help: {help})",
-            diagnostic.severity.as_str(),
-            diagnostic.code,
-            diagnostic.message
-        ),
-        None => format!(
-            "{} [{}]: {}",
-            diagnostic.severity.as_str(),
-            diagnostic.code,
-            diagnostic.message
-        ),
     }
 }
 

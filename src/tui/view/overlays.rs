@@ -103,7 +103,10 @@ pub(super) fn draw_findings(
         .map(|(index, finding)| {
             let style = theme.severity(finding.severity);
             let place = format!("{:>5}:{:<3} ", finding.line, finding.column);
-            let kind = format!("{} [{}] ", finding.severity.as_str(), finding.code);
+            let kind = format!(
+                "{} ",
+                crate::present::finding_kind(finding.severity, finding.code)
+            );
             let rest = width.saturating_sub(place.width() + kind.width());
             let mut line = Line::from(vec![
                 Span::raw(place),
