@@ -24,17 +24,6 @@ pub enum ConversionKind {
     HandTyped,
 }
 
-impl ConversionKind {
-    /// `written`, `displayed`, `hand-typed`.
-    pub fn as_str(self) -> &'static str {
-        match self {
-            ConversionKind::Written => "written",
-            ConversionKind::Displayed => "displayed",
-            ConversionKind::HandTyped => "hand-typed",
-        }
-    }
-}
-
 /// Whether a factor is the exact value of its definition.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub enum Exactness {
@@ -49,15 +38,6 @@ pub enum Exactness {
 }
 
 impl Exactness {
-    /// `exact`, `exact-fraction`, `rounded`.
-    pub fn as_str(self) -> &'static str {
-        match self {
-            Exactness::Exact => "exact",
-            Exactness::ExactFraction => "exact-fraction",
-            Exactness::Rounded => "rounded",
-        }
-    }
-
     /// Whether the factor is exact by definition.
     pub fn is_exact(self) -> bool {
         self != Exactness::Rounded

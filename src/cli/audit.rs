@@ -5,11 +5,12 @@ use std::fmt::Write as _;
 use std::io;
 use std::path::Path;
 
+use schemars::JsonSchema;
 use serde::Serialize;
 
 use super::check::{BOLD, DIM, FAIL, PASS, Painter, sheet_facts, wrap};
 use super::json::{JsonDiagnostic, JsonSummary, diagnostic};
-use super::{EXIT_CLEAN, EXIT_FINDINGS, load_sheet, print};
+use super::{EXIT_CLEAN, EXIT_FINDINGS, json_words, load_sheet, print};
 use crate::audit::{
     ConversionAudit, ConversionEntry, ConversionKind, Exactness, conversion_audit, format_relative,
 };
@@ -267,70 +268,128 @@ fn summary_line(evaluated: &Evaluated, audit: &ConversionAudit) -> String {
     )
 }
 
-#[derive(Serialize)]
+/// `heft audit --json`: the conversion audit a checker signs.
+#[derive(Serialize, JsonSchema)]
+#[schemars(title = "heft-audit/1")]
 struct Report<'a> {
+    /// The format's name.
+    #[schemars(extend("const" = SCHEMA))]
     schema: &'static str,
+    /// The sheet file as named on the command line.
     file: &'a str,
+    /// The header's title.
     title: Option<&'a str>,
+    /// The header's project.
     project: Option<&'a str>,
+    /// The header's revision mark.
     revision: Option<&'a str>,
+    /// The header's date, as written.
     date: Option<&'a str>,
+    /// The header's preparer.
     prepared_by: Option<&'a str>,
+    /// The header's checker.
     checked_by: Option<&'a str>,
+    /// No error, no warning and every check passed (exit code 0).
     passed: bool,
+    /// The unit systems the sheet writes.
     systems: Vec<JsonSystem<'a>>,
+    /// Every value of gravitational acceleration the sheet uses.
     gravity: Vec<JsonGravity<'a>>,
+    /// Every conversion a checker should see.
     conversions: Vec<JsonConversion<'a>>,
+    /// Every finding, sorted by position.
     diagnostics: Vec<JsonDiagnostic<'a>>,
+    /// The counts.
     summary: JsonAuditSummary,
 }
 
-#[derive(Serialize)]
+/// The units of one system the sheet writes.
+#[derive(Serialize, JsonSchema)]
 struct JsonSystem<'a> {
-    system: &'static str,
+    /// The system.
+    system: json_words::UnitSystem,
+    /// Its symbols in order of first use.
     symbols: &'a [String],
+    /// How many times its units are written.
     count: usize,
 }
 
-#[derive(Serialize)]
+/// A gravity value, at the first place it is used.
+#[derive(Serialize, JsonSchema)]
 struct JsonGravity<'a> {
+    /// The line where it is first written.
     line: usize,
+    /// The column (in characters).
     column: usize,
-    kind: &'static str,
+    /// How it enters the sheet.
+    kind: json_words::GravityKind,
+    /// As written: `g0`, `lbf`, `g = 9.81 m/s^2`, `32.2 ft/s^2`, `9.81`.
     written: &'a str,
+    /// The value in m/s².
     si: f64,
+    /// (value − g0) / g0, with g0 the standard gravity.
     relative_to_g0: f64,
+    /// How many times it is used.
     count: usize,
 }
 
-#[derive(Serialize)]
+/// A conversion a checker should see.
+#[derive(Serialize, JsonSchema)]
 struct JsonConversion<'a> {
+    /// Its line.
     line: usize,
+    /// Its column (in characters).
     column: usize,
-    kind: &'static str,
+    /// How it enters the sheet.
+    kind: json_words::ConversionKind,
+    /// The cell it belongs to, or `check` for a check.
     location: &'a str,
+    /// As written: `1450 lbf`, `[kN]`, `/ 32.174`.
     written: &'a str,
+    /// The unit converted from, in heft syntax; for a hand-typed factor,
+    /// what it converts in words.
     unit: &'a str,
+    /// The value in `unit` (as written, or as shown).
     value: Option<f64>,
+    /// The value in coherent SI units (null for a hand-typed factor).
     si_value: Option<f64>,
+    /// The coherent SI unit of `si_value`.
     si_unit: &'a str,
+    /// The exact factor (the SI value of one `unit`), in full or as a fraction.
     factor_exact: &'a str,
+    /// The factor to 20 significant digits.
     factor_decimal: &'a str,
+    /// For a hand-typed factor: the number typed.
     typed_factor: Option<f64>,
-    exactness: &'static str,
+    /// Whether the factor is the exact value of its definition.
+    exactness: json_words::Exactness,
+    /// For a rounded factor: (typed − exact) / exact.
     relative_error: Option<f64>,
+    /// The definition of each unit involved.
     definitions: &'a [String],
+    /// The documents those definitions come from (no repeats).
     sources: &'a [&'static str],
 }
 
-#[derive(Serialize)]
+/// The audit's counts, then the counts every front end shows.
+#[derive(Serialize, JsonSchema)]
 struct JsonAuditSummary {
+    /// Conversions listed.
     conversions: usize,
+    /// Conversions exact by definition.
     exact: usize,
+    /// Conversions by a rounded, hand-typed factor.
     rounded: usize,
+    /// Distinct gravity values.
     gravity_values: usize,
+    /// The counts every front end shows.
     #[serde(flatten)]
     counts: JsonSummary,
+}
+
+/// The JSON Schema of `heft-audit/1`.
+pub(super) fn schema() -> String {
+    super::json::schema_text::<Report<'static>>()
 }
 
 fn json_report(file_name: &str, evaluated: &Evaluated, audit: &ConversionAudit) -> String {
@@ -351,7 +410,7 @@ fn json_report(file_name: &str, evaluated: &Evaluated, audit: &ConversionAudit) 
             .systems
             .iter()
             .map(|s| JsonSystem {
-                system: s.system.label(),
+                system: s.system.into(),
                 symbols: &s.symbols,
                 count: s.count,
             })
@@ -364,7 +423,7 @@ fn json_report(file_name: &str, evaluated: &Evaluated, audit: &ConversionAudit) 
                 JsonGravity {
                     line: position.line,
                     column: position.column,
-                    kind: g.kind.as_str(),
+                    kind: g.kind.into(),
                     written: &g.written,
                     si: g.si,
                     relative_to_g0: g.relative_to_g0(),
@@ -380,7 +439,7 @@ fn json_report(file_name: &str, evaluated: &Evaluated, audit: &ConversionAudit) 
                 JsonConversion {
                     line: position.line,
                     column: position.column,
-                    kind: c.kind.as_str(),
+                    kind: c.kind.into(),
                     location: &c.location,
                     written: &c.written,
                     unit: &c.unit,
@@ -390,7 +449,7 @@ fn json_report(file_name: &str, evaluated: &Evaluated, audit: &ConversionAudit) 
                     factor_exact: &c.factor_exact,
                     factor_decimal: &c.factor_decimal,
                     typed_factor: c.typed_factor,
-                    exactness: c.exactness.as_str(),
+                    exactness: c.exactness.into(),
                     relative_error: c.relative_error,
                     definitions: &c.definitions,
                     sources: &c.sources,

@@ -4,9 +4,10 @@ use std::fmt::Write as _;
 use std::io;
 use std::path::Path;
 
+use schemars::JsonSchema;
 use serde::Serialize;
 
-use super::{EXIT_CLEAN, EXIT_FINDINGS, load_sheet, print};
+use super::{EXIT_CLEAN, EXIT_FINDINGS, json_words, load_sheet, print};
 use crate::diff::{self, CellChangeKind, DiffValue, Edit, RevisionDiff};
 use crate::report::math;
 use crate::units::format_significant;
@@ -155,7 +156,9 @@ pub fn text(diff: &RevisionDiff, old_name: &str, new_name: &str) -> String {
     if !diff.checks.is_empty() {
         let _ = writeln!(out, "\nChecks");
         for check in &diff.checks {
-            let status = |s: Option<&str>| s.unwrap_or("(none)").to_string();
+            let status = |s: Option<diff::CheckOutcome>| {
+                s.map_or("(none)", diff::CheckOutcome::as_str).to_string()
+            };
             let utilization =
                 |u: Option<f64>| u.map_or_else(|| "—".to_string(), crate::units::percent);
             let flag = if check.status_changed() {
@@ -198,53 +201,93 @@ pub fn text(diff: &RevisionDiff, old_name: &str, new_name: &str) -> String {
     out
 }
 
-#[derive(Serialize)]
+/// `heft diff --json`: what changed between two revisions.
+#[derive(Serialize, JsonSchema)]
+#[schemars(title = "heft-diff/1")]
 struct JsonDiff<'a> {
+    /// The format's name.
+    #[schemars(extend("const" = SCHEMA))]
     schema: &'static str,
+    /// The earlier revision.
     old: JsonSide<'a>,
+    /// The later revision.
     new: JsonSide<'a>,
+    /// Whether the two have the same content (the same fingerprint; exit code 0).
     same: bool,
+    /// Cells that differ: the new revision's order first, then removed ones.
     cells: Vec<JsonCell<'a>>,
+    /// Checks whose status or utilization changed, or that came or went.
     checks: Vec<JsonCheck<'a>>,
+    /// Cells in both revisions with nothing changed.
     unchanged: usize,
 }
 
-#[derive(Serialize)]
+/// One revision.
+#[derive(Serialize, JsonSchema)]
 struct JsonSide<'a> {
+    /// The file as named on the command line.
     file: &'a str,
+    /// The header's revision mark.
     revision: Option<&'a str>,
+    /// The content fingerprint (as in `heft-check/1`'s `review`).
     fingerprint: &'a str,
 }
 
-#[derive(Serialize)]
+/// One cell that differs between the revisions.
+#[derive(Serialize, JsonSchema)]
 struct JsonCell<'a> {
+    /// The cell's name.
     name: &'a str,
-    change: &'static str,
+    /// How its definition changed (`result`: only its result moved).
+    change: json_words::CellChange,
+    /// The formula, where it changed.
     formula: Option<&'a Edit>,
+    /// The declared unit, where it changed.
     unit: Option<&'a Edit>,
+    /// The description, where it changed.
     description: Option<&'a Edit>,
+    /// The result in the old revision, if it had one.
     old: Option<JsonValue<'a>>,
+    /// The result in the new revision, if it has one.
     new: Option<JsonValue<'a>>,
+    /// (new − old) / |old| in percent, when both exist, agree in dimension
+    /// and old is not zero.
     change_percent: Option<f64>,
+    /// Whether the result's dimension changed.
     dimension_changed: bool,
+    /// For a cell whose definition did not change: the cells it uses whose
+    /// result moved.
     moved_inputs: &'a [String],
 }
 
-#[derive(Serialize)]
+/// A result in one revision.
+#[derive(Serialize, JsonSchema)]
 struct JsonValue<'a> {
+    /// The number as the sheet shows it.
     shown: String,
+    /// The unit it is shown in.
     unit: &'a str,
+    /// The value in coherent SI units.
     si: f64,
 }
 
-#[derive(Serialize)]
+/// One check that differs.
+#[derive(Serialize, JsonSchema)]
 struct JsonCheck<'a> {
+    /// The comparison as written, blanks collapsed (the new revision's, or
+    /// the old one's if it was removed).
     expression: &'a str,
+    /// The check's label.
     label: Option<&'a str>,
-    old_status: Option<&'static str>,
-    new_status: Option<&'static str>,
+    /// The outcome before (null if the check is new).
+    old_status: Option<json_words::Outcome>,
+    /// The outcome after (null if the check was removed).
+    new_status: Option<json_words::Outcome>,
+    /// Whether the outcome changed (or the check came or went).
     status_changed: bool,
+    /// The utilization before.
     old_utilization: Option<f64>,
+    /// The utilization after.
     new_utilization: Option<f64>,
 }
 
@@ -254,6 +297,11 @@ fn json_value(value: &Option<DiffValue>) -> Option<JsonValue<'_>> {
         unit: &v.shown.unit,
         si: v.si,
     })
+}
+
+/// The JSON Schema of `heft-diff/1`.
+pub(super) fn schema() -> String {
+    super::json::schema_text::<JsonDiff<'static>>()
 }
 
 /// The diff as one JSON object (`heft-diff/1`).
@@ -276,7 +324,7 @@ pub fn json(diff: &RevisionDiff, old_name: &str, new_name: &str) -> String {
             .iter()
             .map(|cell| JsonCell {
                 name: &cell.name,
-                change: cell.kind.as_str(),
+                change: cell.kind.into(),
                 formula: cell.formula.as_ref(),
                 unit: cell.unit.as_ref(),
                 description: cell.description.as_ref(),
@@ -293,8 +341,8 @@ pub fn json(diff: &RevisionDiff, old_name: &str, new_name: &str) -> String {
             .map(|check| JsonCheck {
                 expression: &check.expression,
                 label: check.label.as_deref(),
-                old_status: check.old_status,
-                new_status: check.new_status,
+                old_status: check.old_status.map(Into::into),
+                new_status: check.new_status.map(Into::into),
                 status_changed: check.status_changed(),
                 old_utilization: check.old_utilization,
                 new_utilization: check.new_utilization,

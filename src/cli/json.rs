@@ -1,7 +1,11 @@
 //! `heft check --json`: one JSON object with a stable schema.
 
+use std::collections::BTreeMap;
+
+use schemars::{JsonSchema, Schema, generate::SchemaSettings, transform::RecursiveTransform};
 use serde::Serialize;
 
+use super::json_words;
 use crate::base::Diagnostic;
 use crate::base::LineIndex;
 use crate::eval::Evaluated;
@@ -9,36 +13,62 @@ use crate::eval::Evaluated;
 /// The version of the JSON schema; bumped only for incompatible changes.
 pub const SCHEMA: &str = "heft-check/1";
 
-#[derive(Serialize)]
+/// `heft check --json`: an evaluated sheet.
+#[derive(Serialize, JsonSchema)]
+#[schemars(title = "heft-check/1")]
 struct Report<'a> {
+    /// The format's name.
+    #[schemars(extend("const" = SCHEMA))]
     schema: &'static str,
+    /// The sheet file as named on the command line.
     file: &'a str,
+    /// The header's title.
     title: Option<&'a str>,
+    /// The header's revision mark.
     revision: Option<&'a str>,
-    display: &'static str,
+    /// The unit system results are shown in when a cell declares none.
+    display: json_words::Display,
+    /// The significant figures results are shown with.
     sig_figs: u32,
+    /// No error and every check passed.
     clean: bool,
+    /// The counts every front end shows.
     summary: JsonSummary,
+    /// Every cell, in the sheet's order.
     cells: Vec<Cell<'a>>,
+    /// Every check, in the sheet's order.
     checks: Vec<Check<'a>>,
+    /// Every solve block.
     solves: Vec<Solve<'a>>,
+    /// Every load case.
     cases: Vec<JsonCase<'a>>,
+    /// Every simulate block's run.
     runs: Vec<super::runs::JsonRun<'a>>,
+    /// Every finding, sorted by position.
     diagnostics: Vec<JsonDiagnostic<'a>>,
+    /// The checker's record.
     review: JsonReview,
 }
 
 /// The counts every presentation shows (shared by `heft check` and
 /// `heft audit`).
-#[derive(Serialize)]
+#[derive(Serialize, JsonSchema)]
 pub(super) struct JsonSummary {
+    /// Cells.
     cells: usize,
+    /// Findings of severity `error`.
     errors: usize,
+    /// Findings of severity `warning`.
     warnings: usize,
+    /// Findings of severity `info`.
     infos: usize,
+    /// Checks.
     checks: usize,
+    /// Checks that passed.
     passed: usize,
+    /// Checks that failed.
     failed: usize,
+    /// Checks that could not be established (never a pass).
     unknown: usize,
 }
 
@@ -58,9 +88,10 @@ impl From<crate::eval::Summary> for JsonSummary {
 }
 
 /// A place where a check was judged.
-#[derive(Serialize)]
+#[derive(Serialize, JsonSchema)]
 struct JsonPlace<'a> {
-    place: &'static str,
+    /// Which place.
+    place: json_words::Place,
     /// The load case's name (absent for the sheet as written).
     #[serde(skip_serializing_if = "Option::is_none")]
     case: Option<&'a str>,
@@ -70,138 +101,224 @@ struct JsonPlace<'a> {
 }
 
 /// The checker's record: fingerprint, every review mark, the sign-off in force.
-#[derive(Serialize)]
+#[derive(Serialize, JsonSchema)]
 struct JsonReview {
+    /// The fingerprint of the sheet's content, which a sign-off records.
     fingerprint: String,
+    /// Every review mark, in the sheet's order.
     marks: Vec<JsonMark>,
+    /// The sign-off in force, or null.
     signoff: Option<JsonSignOff>,
 }
 
-#[derive(Serialize)]
+/// A review mark.
+#[derive(Serialize, JsonSchema)]
 struct JsonMark {
-    kind: &'static str,
+    /// What the mark says.
+    kind: json_words::MarkKind,
+    /// Whether it still needs the preparer's attention.
     open: bool,
+    /// Its line.
     line: usize,
+    /// The item it is attached to.
     about: String,
+    /// Its text, if written.
     text: Option<String>,
+    /// Who wrote it.
     by: String,
+    /// When, as written.
     on: String,
 }
 
-#[derive(Serialize)]
+/// The sign-off in force, and what changed since it was given.
+#[derive(Serialize, JsonSchema)]
 struct JsonSignOff {
+    /// The checker.
     by: String,
+    /// The date, as written.
     on: String,
+    /// Its line.
     line: usize,
+    /// Whether the sheet is still the one signed.
     current: bool,
+    /// Cells whose own line changed since (all four lists are empty when
+    /// `current`).
     changed: Vec<String>,
+    /// Cells that were not there when it was signed.
     added: Vec<String>,
+    /// Cells that were signed but are gone.
     removed: Vec<String>,
+    /// Cells whose line did not change but that use a changed or added cell.
     affected: Vec<String>,
 }
 
-#[derive(Serialize)]
+/// A cell.
+#[derive(Serialize, JsonSchema)]
 struct Cell<'a> {
+    /// Its name.
     name: &'a str,
+    /// Its line.
     line: usize,
+    /// Its formula as written.
     formula: &'a str,
+    /// Its description, if written.
     description: Option<&'a str>,
+    /// The unit it is shown in (declared, or chosen by the display system).
     unit: &'a str,
+    /// A scalar value in `unit`, rounded to 15 significant digits (null for
+    /// a vector or where there is none).
     value: Option<f64>,
+    /// The scalar value in coherent SI units.
     si: Option<f64>,
-    dimension: serde_json::Map<String, serde_json::Value>,
+    /// The exponent of each SI base quantity, those that are not zero
+    /// (empty for a plain number or where there is no value).
+    #[schemars(extend("propertyNames" = { "enum": crate::units::BASE_NAMES }))]
+    dimension: BTreeMap<&'static str, i8>,
     /// Components of a vector value, in `unit` (absent for scalars).
     #[serde(skip_serializing_if = "Option::is_none")]
     vector: Option<Vec<f64>>,
     /// Components of a vector value in SI units (absent for scalars).
     #[serde(skip_serializing_if = "Option::is_none")]
     si_vector: Option<Vec<f64>>,
-    status: &'static str,
+    /// Whether it evaluated.
+    status: json_words::CellStatus,
+    /// The failed cell at the root, for a blocked cell.
     blocked_by: Option<&'a str>,
     /// The range over the tolerances, in `unit` (absent when none).
     #[serde(skip_serializing_if = "Option::is_none")]
     range: Option<Range>,
 }
 
-#[derive(Serialize)]
+/// A result's range over its inputs' tolerances.
+#[derive(Serialize, JsonSchema)]
 struct Range {
+    /// The lower bound, in the cell's unit.
     low: f64,
+    /// The upper bound, in the cell's unit.
     high: f64,
+    /// The first-order (linearised) lower bound, where exact derivatives
+    /// are known.
     first_order_low: Option<f64>,
+    /// The first-order upper bound.
     first_order_high: Option<f64>,
+    /// Whether the bounds are exact up to rounding (`method` is
+    /// `worst-corners`).
     exact: bool,
-    /// `guaranteed`, `worst-corners` or `corners` (found at the corners,
-    /// not guaranteed between them).
-    method: &'static str,
+    /// How the bounds were found, which says what they promise.
+    method: json_words::RangeMethod,
+    /// The inputs ranked by their share of the range, largest first.
     sensitivities: Vec<JsonSensitivity>,
 }
 
-#[derive(Serialize)]
+/// How much one toleranced input moves a result.
+#[derive(Serialize, JsonSchema)]
 struct JsonSensitivity {
+    /// The input cell.
     input: String,
+    /// ∂result/∂input at the nominal point, in SI units.
     derivative_si: f64,
+    /// ∂ln result/∂ln input (null where the result or the input is zero).
     normalized: Option<f64>,
+    /// The input's share of the first-order range, from 0 to 1.
     share: f64,
 }
 
-#[derive(Serialize)]
+/// A load case.
+#[derive(Serialize, JsonSchema)]
 struct JsonCase<'a> {
+    /// Its name.
     name: &'a str,
+    /// Its label, if written.
     label: Option<&'a str>,
+    /// Its line.
     line: usize,
+    /// Whether the case could be evaluated at all.
     evaluated: bool,
+    /// The case's results.
     results: Vec<JsonCaseValue<'a>>,
+    /// Every check of the sheet, judged in this case.
     checks: Vec<JsonCaseCheck>,
 }
 
-#[derive(Serialize)]
+/// A result in a load case.
+#[derive(Serialize, JsonSchema)]
 struct JsonCaseValue<'a> {
+    /// The cell.
     name: &'a str,
+    /// The unit the values are in.
     unit: &'a str,
+    /// The value at the case's nominal inputs.
     value: Option<f64>,
+    /// The lower bound over the case's tolerances.
     low: Option<f64>,
+    /// The upper bound over the case's tolerances.
     high: Option<f64>,
 }
 
-#[derive(Serialize)]
+/// A check judged in a load case.
+#[derive(Serialize, JsonSchema)]
 struct JsonCaseCheck {
+    /// The check's line.
     line: usize,
-    status: &'static str,
+    /// Its verdict in this case.
+    status: json_words::CheckStatus,
+    /// True for `passed`, false for `failed`, else null.
     passed: Option<bool>,
+    /// Its utilization at the case's nominal values.
     utilization: Option<f64>,
+    /// At the worst case of the case's tolerances.
     worst_utilization: Option<f64>,
 }
 
-#[derive(Serialize)]
+/// A solve block.
+#[derive(Serialize, JsonSchema)]
 struct Solve<'a> {
+    /// The line of its `solve`.
     line: usize,
+    /// The cells it solves for.
     unknowns: Vec<&'a str>,
-    status: &'static str,
+    /// How it ended.
+    status: json_words::SolveStatus,
+    /// Whether the system is linear in its unknowns (solved in one step).
     linear: bool,
+    /// Newton iterations taken.
     iterations: usize,
+    /// The condition number of the scaled Jacobian at the solution.
     condition: Option<f64>,
+    /// Its equations (a vector equation gives one per component).
     equations: Vec<SolveEquation<'a>>,
 }
 
-#[derive(Serialize)]
+/// An equation of a solve block.
+#[derive(Serialize, JsonSchema)]
 struct SolveEquation<'a> {
+    /// The equation as written, with `.x`/`.y`/`.z` for a vector component.
     equation: &'a str,
+    /// Its line.
     line: usize,
+    /// Left minus right at the solution, in SI units.
     residual_si: Option<f64>,
 }
 
-#[derive(Serialize)]
+/// A check.
+#[derive(Serialize, JsonSchema)]
 struct Check<'a> {
+    /// Its line.
     line: usize,
+    /// Its label, if written.
     label: Option<&'a str>,
+    /// The comparison as written.
     expression: String,
     /// The verdict over the sheet as written, its tolerances and its cases.
-    status: &'static str,
+    status: json_words::CheckStatus,
+    /// True for `passed`, false for `failed`, else null.
     passed: Option<bool>,
     /// Everywhere the check fails.
     fails: Vec<JsonPlace<'a>>,
     /// Everywhere it could not be established, with the reason.
     unknown: Vec<JsonPlace<'a>>,
+    /// At the nominal values: left over right for `<` and `<=`, right
+    /// over left for `>` and `>=`.
     utilization: Option<f64>,
     /// At the worst case of the tolerances (absent without tolerances).
     #[serde(skip_serializing_if = "Option::is_none")]
@@ -213,14 +330,48 @@ struct Check<'a> {
 }
 
 /// A diagnostic as JSON (shared by `heft check` and `heft audit`).
-#[derive(Serialize)]
+#[derive(Serialize, JsonSchema)]
 pub(super) struct JsonDiagnostic<'a> {
-    severity: &'static str,
-    code: &'static str,
+    /// How serious it is.
+    severity: json_words::Severity,
+    /// Its stable code.
+    code: json_words::Code,
+    /// The line it points at (from 1).
     line: usize,
+    /// The column it points at (from 1, in characters).
     column: usize,
+    /// What is wrong.
     message: &'a str,
+    /// What to do about it, with a checked fix where there is one.
     help: Option<&'a str>,
+}
+
+/// The JSON Schema of an output type, for the serialized form, as pretty
+/// text ending in a line break. The descriptions are the types' doc
+/// comments, each paragraph on one line.
+pub(super) fn schema_text<T: JsonSchema>() -> String {
+    let schema = SchemaSettings::draft2020_12()
+        .for_serialize()
+        .with_transform(RecursiveTransform(one_line_paragraphs))
+        .into_generator()
+        .into_root_schema_for::<T>();
+    text(&schema)
+}
+
+/// Joins the lines a doc comment was wrapped into, keeping its paragraphs.
+fn one_line_paragraphs(schema: &mut Schema) {
+    if let Some(serde_json::Value::String(description)) = schema.get_mut("description") {
+        *description = description
+            .split("\n\n")
+            .map(|paragraph| paragraph.split('\n').collect::<Vec<_>>().join(" "))
+            .collect::<Vec<_>>()
+            .join("\n\n");
+    }
+}
+
+/// The JSON Schema of `heft-check/1`.
+pub(super) fn schema() -> String {
+    schema_text::<Report<'static>>()
 }
 
 /// A JSON document as pretty text ending in a line break, every hidden
@@ -247,7 +398,7 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
         file: file_name,
         title: evaluated.header().title.as_deref(),
         revision: evaluated.header().revision.as_deref(),
-        display: evaluated.header().display.label(),
+        display: evaluated.header().display.into(),
         sig_figs: evaluated.header().sig_figs,
         clean: summary.is_clean(),
         summary: summary.into(),
@@ -287,10 +438,7 @@ fn json_cells(evaluated: &Evaluated) -> Vec<Cell<'_>> {
                 unit: &cell.display.text,
                 value: value.map(|v| cell.display.rounded_value_of(v.si)),
                 si: value.map(|v| v.si),
-                dimension: dimension
-                    .nonzero_exponents()
-                    .map(|(name, exponent)| (name.to_string(), serde_json::Value::from(exponent)))
-                    .collect(),
+                dimension: dimension.nonzero_exponents().collect(),
                 vector: vector.map(|v| {
                     v.components()
                         .iter()
@@ -312,11 +460,7 @@ fn json_cells(evaluated: &Evaluated) -> Vec<Cell<'_>> {
                             .first_order
                             .map(|(_, high)| cell.display.rounded_value_of(high)),
                         exact: range.method == crate::eval::RangeMethod::WorstCorners,
-                        method: match range.method {
-                            crate::eval::RangeMethod::Guaranteed => "guaranteed",
-                            crate::eval::RangeMethod::WorstCorners => "worst-corners",
-                            crate::eval::RangeMethod::Corners(_) => "corners",
-                        },
+                        method: range.method.into(),
                         sensitivities: range
                             .sensitivities
                             .iter()
@@ -328,7 +472,7 @@ fn json_cells(evaluated: &Evaluated) -> Vec<Cell<'_>> {
                             })
                             .collect(),
                     }),
-                status: cell.status.as_str(),
+                status: cell.status.into(),
                 blocked_by: match cell.status {
                     crate::eval::CellStatus::Blocked { by } => Some(evaluated.cell_at(by).name),
                     _ => None,
@@ -349,7 +493,7 @@ fn json_checks(evaluated: &Evaluated) -> Vec<Check<'_>> {
             line: lines.line_of(check.span.start()) + 1,
             label: check.label.as_deref(),
             expression: check.statement(),
-            status: check.status.as_str(),
+            status: check.status.into(),
             passed: check.passed(),
             fails: check
                 .fails
@@ -416,7 +560,7 @@ fn json_cases(evaluated: &Evaluated) -> Vec<JsonCase<'_>> {
                 .zip(&case.checks)
                 .map(|(check, case_check)| JsonCaseCheck {
                     line: lines.line_of(check.span.start()) + 1,
-                    status: case_check.status.as_str(),
+                    status: case_check.status.into(),
                     passed: match case_check.status {
                         crate::eval::CheckStatus::Passed => Some(true),
                         crate::eval::CheckStatus::Failed => Some(false),
@@ -443,11 +587,7 @@ fn json_solves(evaluated: &Evaluated) -> Vec<Solve<'_>> {
                 .iter()
                 .map(|&id| evaluated.cell_at(id).name)
                 .collect(),
-            status: match solve.status {
-                crate::eval::SolveStatus::Solved => "solved",
-                crate::eval::SolveStatus::Failed => "failed",
-                crate::eval::SolveStatus::NotRun => "not-run",
-            },
+            status: solve.status.into(),
             linear: solve.linear,
             iterations: solve.iterations,
             condition: solve.condition,
@@ -470,9 +610,9 @@ fn json_place<'a>(
     place: crate::eval::Place,
     reason: Option<&'a str>,
 ) -> JsonPlace<'a> {
-    let (kind, case) = place.kind();
+    let (place, case) = json_words::Place::of(place);
     JsonPlace {
-        place: kind,
+        place,
         case: case
             .and_then(|index| evaluated.cases.get(index))
             .map(|c| c.name.as_str()),
@@ -488,8 +628,8 @@ pub(super) fn diagnostic<'a>(
 ) -> JsonDiagnostic<'a> {
     let position = lines.line_column(source, diagnostic.span.start());
     JsonDiagnostic {
-        severity: diagnostic.severity.as_str(),
-        code: diagnostic.code.as_str(),
+        severity: diagnostic.severity.into(),
+        code: json_words::Code(diagnostic.code),
         line: position.line,
         column: position.column,
         message: &diagnostic.message,
@@ -503,7 +643,7 @@ fn review(evaluated: &Evaluated) -> JsonReview {
         .marks
         .iter()
         .map(|mark| JsonMark {
-            kind: mark.kind.keyword(),
+            kind: mark.kind.into(),
             open: mark.open,
             line: mark.line,
             about: super::review::target_text(evaluated, mark.target),

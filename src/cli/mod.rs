@@ -6,6 +6,7 @@ mod check;
 mod convert;
 mod diff;
 mod json;
+mod json_words;
 mod report;
 mod review;
 mod runs;
@@ -130,6 +131,19 @@ pub fn check_text(file_name: &str, source: &str, evaluated: &crate::eval::Evalua
 /// The text report of `heft audit`, without colour (for tests and tools).
 pub fn audit_text(file_name: &str, evaluated: &crate::eval::Evaluated) -> String {
     audit::audit_text(file_name, evaluated)
+}
+
+/// The JSON Schema (draft 2020-12) of each JSON output, generated from the
+/// types that print it: its format's name (`heft-check/1`, `heft-audit/1`,
+/// `heft-diff/1`) and the schema as pretty JSON text ending in a line break.
+/// `docs/schemas/` holds these, one file per format (`heft-check-1.schema.json`
+/// for `heft-check/1`); a test fails when a committed file differs.
+pub fn json_schemas() -> [(&'static str, String); 3] {
+    [
+        (json::SCHEMA, json::schema()),
+        (audit::SCHEMA, audit::schema()),
+        (diff::SCHEMA, diff::schema()),
+    ]
 }
 
 /// Exit code: the sheet is clean.

@@ -3,8 +3,10 @@
 
 use std::fmt::Write as _;
 
+use schemars::JsonSchema;
 use serde::Serialize;
 
+use super::json_words;
 use crate::base::LineIndex;
 use crate::eval::{Evaluated, RunReport, RunStatus, format_value};
 use crate::units::{Value, format_significant};
@@ -148,62 +150,111 @@ pub fn write_run(
     }
 }
 
-/// A run in the `heft-check/1` JSON (`runs`).
-#[derive(Serialize)]
+/// A simulate block's run, in the `heft-check/1` JSON (`runs`).
+#[derive(Serialize, JsonSchema)]
 pub struct JsonRun<'a> {
+    /// The line of its `simulate`.
     line: usize,
+    /// The name of its time variable.
     time: &'a str,
+    /// The names of its states.
     states: Vec<&'a str>,
+    /// Each state's starting value as written.
     starts: Vec<JsonStart<'a>>,
-    status: &'static str,
+    /// How the run ended.
+    status: json_words::RunStatus,
+    /// The start time in seconds (null when the range could not be evaluated).
     start_s: Option<f64>,
+    /// The end time asked for, in seconds (null as `start_s`).
     end_s: Option<f64>,
+    /// Where the run ended, in seconds (null when nothing was integrated).
     final_time_s: Option<f64>,
+    /// The stop condition that ended it, as `name: condition` or
+    /// `stop: condition`.
     stopped_by: Option<String>,
+    /// Accepted integration steps.
     steps: usize,
+    /// Rejected integration steps.
     rejected_steps: usize,
+    /// Evaluations of the rates.
     evaluations: usize,
+    /// The integrator's relative tolerance.
     relative_tolerance: f64,
+    /// Whether the rates ran compiled (false: interpreted).
     compiled: bool,
+    /// Its stop conditions and named events, and when they happened.
     events: Vec<JsonEvent<'a>>,
+    /// The run's table, as `heft check` shows it.
     table: JsonTable<'a>,
 }
 
-#[derive(Serialize)]
+/// A state's starting value.
+#[derive(Serialize, JsonSchema)]
 struct JsonStart<'a> {
+    /// The state.
     state: &'a str,
+    /// Its starting value as written.
     value: &'a str,
+    /// Its description, if written.
     description: Option<&'a str>,
 }
 
-#[derive(Serialize)]
+/// A stop condition or named event.
+#[derive(Serialize, JsonSchema)]
 struct JsonEvent<'a> {
+    /// Its name, if it has one.
     name: Option<&'a str>,
+    /// The condition as written.
     condition: &'a str,
+    /// Its description, if written.
     description: Option<&'a str>,
+    /// Its line.
     line: usize,
+    /// Whether it ends the run.
     stops: bool,
+    /// Every time it happened, in seconds.
     times_s: &'a [f64],
 }
 
-#[derive(Serialize)]
+/// A run's table.
+#[derive(Serialize, JsonSchema)]
 struct JsonTable<'a> {
+    /// The unit of the rows' `time`.
     time_unit: &'a str,
+    /// The columns after the time.
     columns: Vec<JsonColumn<'a>>,
+    /// The rows.
     rows: Vec<JsonRow>,
 }
 
-#[derive(Serialize)]
+/// A column of a run's table.
+#[derive(Serialize, JsonSchema)]
 struct JsonColumn<'a> {
+    /// What it shows, as written.
     label: &'a str,
+    /// The unit its values are in.
     unit: &'a str,
 }
 
-#[derive(Serialize)]
+/// A row of a run's table.
+#[derive(Serialize, JsonSchema)]
 struct JsonRow {
+    /// The time, in the table's `time_unit`.
     time: f64,
-    values: Vec<serde_json::Value>,
+    /// One value per column, in its unit (null after the run ended).
+    values: Vec<Option<JsonRowValue>>,
+    /// The events that happened at this row.
     events: Vec<String>,
+}
+
+/// A value in a run's table: a number, or a vector's components.
+#[derive(Serialize, JsonSchema)]
+#[serde(untagged)]
+enum JsonRowValue {
+    /// A scalar.
+    Scalar(f64),
+    /// A vector's components.
+    Vector(Vec<f64>),
 }
 
 /// Every run of the sheet as JSON objects.
@@ -228,7 +279,7 @@ pub fn json_runs<'a>(evaluated: &'a Evaluated, lines: &LineIndex) -> Vec<JsonRun
                     description: state.start_description.as_deref(),
                 })
                 .collect(),
-            status: run.status.as_str(),
+            status: run.status.into(),
             start_s: run.range.map(|(start, _)| start),
             end_s: run.range.map(|(_, end)| end),
             final_time_s: run.final_time(),
@@ -273,16 +324,16 @@ pub fn json_runs<'a>(evaluated: &'a Evaluated, lines: &LineIndex) -> Vec<JsonRun
                             .iter()
                             .zip(&run.columns)
                             .map(|(value, column)| match value {
-                                Some(Value::Scalar(q)) => {
-                                    serde_json::Value::from(column.display.rounded_value_of(q.si))
-                                }
-                                Some(Value::Vector(v)) => serde_json::Value::from(
+                                Some(Value::Scalar(q)) => Some(JsonRowValue::Scalar(
+                                    column.display.rounded_value_of(q.si),
+                                )),
+                                Some(Value::Vector(v)) => Some(JsonRowValue::Vector(
                                     v.components()
                                         .iter()
                                         .map(|&c| column.display.rounded_value_of(c))
-                                        .collect::<Vec<_>>(),
-                                ),
-                                None => serde_json::Value::Null,
+                                        .collect(),
+                                )),
+                                None => None,
                             })
                             .collect(),
                         events: row

@@ -40,11 +40,11 @@ impl CellChangeKind {
 }
 
 /// An old and a new text, for a part that changed.
-#[derive(Clone, Debug, PartialEq, Eq, serde::Serialize)]
+#[derive(Clone, Debug, PartialEq, Eq, serde::Serialize, schemars::JsonSchema)]
 pub struct Edit {
-    /// Before (None when absent).
+    /// Before (`None`, in JSON `null`, where the part was absent).
     pub old: Option<String>,
-    /// After (None when absent).
+    /// After (`None`, in JSON `null`, where the part is absent).
     pub new: Option<String>,
 }
 
@@ -100,10 +100,10 @@ pub struct CheckChange {
     pub expression: String,
     /// The label.
     pub label: Option<String>,
-    /// Status before (None if the check is new).
-    pub old_status: Option<&'static str>,
-    /// Status after (None if the check was removed).
-    pub new_status: Option<&'static str>,
+    /// Outcome before (None if the check is new).
+    pub old_status: Option<CheckOutcome>,
+    /// Outcome after (None if the check was removed).
+    pub new_status: Option<CheckOutcome>,
     /// Utilization before.
     pub old_utilization: Option<f64>,
     /// Utilization after.
@@ -327,14 +327,44 @@ fn expression(check: &CheckResult) -> String {
     text.split_whitespace().collect::<Vec<_>>().join(" ")
 }
 
-/// `pass`, `FAIL`, `UNKNOWN`, `error` or `blocked`.
-pub fn status(check: &CheckResult) -> &'static str {
+/// A check's outcome in one revision: its status without the cell that
+/// blocks it, which names a cell of that revision only.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum CheckOutcome {
+    /// It passed.
+    Pass,
+    /// It failed.
+    Fail,
+    /// It could not be established somewhere: never a pass.
+    Unknown,
+    /// A side could not be evaluated.
+    Error,
+    /// A side uses a failed cell.
+    Blocked,
+}
+
+impl CheckOutcome {
+    /// `pass`, `FAIL`, `UNKNOWN`, `error` or `blocked`, as in the text and
+    /// the JSON.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            CheckOutcome::Pass => "pass",
+            CheckOutcome::Fail => "FAIL",
+            CheckOutcome::Unknown => "UNKNOWN",
+            CheckOutcome::Error => "error",
+            CheckOutcome::Blocked => "blocked",
+        }
+    }
+}
+
+/// A check's outcome.
+pub fn status(check: &CheckResult) -> CheckOutcome {
     match check.status {
-        CheckStatus::Passed => "pass",
-        CheckStatus::Failed => "FAIL",
-        CheckStatus::Unknown => "UNKNOWN",
-        CheckStatus::Error => "error",
-        CheckStatus::Blocked { .. } => "blocked",
+        CheckStatus::Passed => CheckOutcome::Pass,
+        CheckStatus::Failed => CheckOutcome::Fail,
+        CheckStatus::Unknown => CheckOutcome::Unknown,
+        CheckStatus::Error => CheckOutcome::Error,
+        CheckStatus::Blocked { .. } => CheckOutcome::Blocked,
     }
 }
 

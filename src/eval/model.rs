@@ -23,17 +23,6 @@ pub enum CellStatus {
     },
 }
 
-impl CellStatus {
-    /// `ok`, `error` or `blocked`, as in the JSON output.
-    pub fn as_str(self) -> &'static str {
-        match self {
-            CellStatus::Ok => "ok",
-            CellStatus::Error => "error",
-            CellStatus::Blocked { .. } => "blocked",
-        }
-    }
-}
-
 /// The range of a result over its inputs' tolerances, in SI units.
 #[derive(Clone, Debug, PartialEq)]
 pub struct CellRange {
@@ -325,19 +314,6 @@ impl CheckStatus {
             CheckStatus::Unknown => "unknown",
             CheckStatus::Error => "error",
             CheckStatus::Blocked { .. } => "blocked",
-        }
-    }
-}
-
-impl Place {
-    /// `as-written`, `worst-case`, `case` or `case-worst-case`, as in the
-    /// JSON, with the case's index where there is one.
-    pub fn kind(self) -> (&'static str, Option<usize>) {
-        match self {
-            Place::AsWritten => ("as-written", None),
-            Place::WorstCase => ("worst-case", None),
-            Place::Case(index) => ("case", Some(index)),
-            Place::CaseWorstCase(index) => ("case-worst-case", Some(index)),
         }
     }
 }

@@ -23,18 +23,6 @@ pub enum RunStatus {
     NotRun,
 }
 
-impl RunStatus {
-    /// `reached`, `stopped`, `failed` or `not-run`, as in the JSON output.
-    pub fn as_str(self) -> &'static str {
-        match self {
-            RunStatus::Reached => "reached",
-            RunStatus::Stopped => "stopped",
-            RunStatus::Failed => "failed",
-            RunStatus::NotRun => "not-run",
-        }
-    }
-}
-
 /// A stop condition or named event and when it happened.
 #[derive(Clone, Debug, PartialEq)]
 pub struct RunEvent {

@@ -21,8 +21,9 @@ use std::collections::{BTreeMap, HashSet};
 
 use crate::eval::{Evaluated, OutlineItem};
 use crate::sheet::CellId;
-use crate::syntax::ast::{ReviewKind, StatementKind};
+use crate::syntax::ast::StatementKind;
 
+pub use crate::syntax::ast::ReviewKind;
 pub use fingerprint::{fingerprint, normalized_text, statement_digest};
 
 /// What a review mark is attached to.

@@ -1,6 +1,7 @@
 //! The `heft` binary as a user runs it: `check`, `audit`, `report`,
-//! `signoff`, simulate output, and every command on hostile sheets. Insta
-//! snapshots of the rendered text live in `snapshots/` beside this file.
+//! `signoff`, simulate output, every command on hostile sheets, and the
+//! JSON outputs against their committed schemas. Insta snapshots of the
+//! rendered text live in `snapshots/` beside this file.
 
 #[path = "../common/mod.rs"]
 mod common;
@@ -9,4 +10,5 @@ mod audit_cli;
 mod cli;
 mod hostile;
 mod review_cli;
+mod schemas;
 mod simulate_cli;

@@ -87,8 +87,8 @@ fn value_mismatches(source: &str) -> Result<Vec<String>, String> {
         let annotation = expected.remove(&line);
         let Some(value) = cell.value.filter(|_| cell.status == CellStatus::Ok) else {
             mismatches.push(format!(
-                "line {line}: `{name}` has no scalar value ({})",
-                cell.status.as_str()
+                "line {line}: `{name}` has no scalar value ({:?})",
+                cell.status
             ));
             continue;
         };
