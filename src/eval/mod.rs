@@ -222,6 +222,17 @@ impl<'a> Evaluator<'a> {
         }
     }
 
+    /// Gives every cell of a block the block's status; the cells of a
+    /// block that did not succeed have no value.
+    pub(crate) fn settle_block_cells(&mut self, cells: &[CellId], status: CellStatus) {
+        for &id in cells {
+            self.statuses[id] = status;
+            if status != CellStatus::Ok {
+                self.values[id] = None;
+            }
+        }
+    }
+
     /// A cell's value in SI units, if it has a scalar one.
     pub(crate) fn scalar_si(&self, id: CellId) -> Option<f64> {
         self.values[id].and_then(|v| v.scalar()).map(|q| q.si)

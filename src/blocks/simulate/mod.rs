@@ -294,12 +294,7 @@ impl<'a> Evaluator<'a> {
                 }
             }
         };
-        for &id in cells {
-            self.statuses[id] = status;
-            if status != CellStatus::Ok {
-                self.values[id] = None;
-            }
-        }
+        self.settle_block_cells(cells, status);
         self.runs.push(report);
     }
 

@@ -134,12 +134,7 @@ impl Evaluator<'_> {
                 }
             }
         };
-        for &id in unknowns {
-            self.statuses[id] = status;
-            if status != CellStatus::Ok {
-                self.values[id] = None;
-            }
-        }
+        self.settle_block_cells(unknowns, status);
         self.solves.push(report);
     }
 
