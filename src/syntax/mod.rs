@@ -3,11 +3,13 @@
 
 pub mod ast;
 mod build;
+mod lines;
 mod parser;
 mod simulate;
 mod split;
 
+pub use lines::{MAX_NESTING, MAX_OPERATORS};
 pub use split::{
-    HeaderBlock, MAX_NESTING, MAX_OPERATORS, ParsedSheet, is_block_head, is_block_line,
-    is_header_delimiter, is_statement_line, parse, parse_expression, parse_line, parse_unit,
+    HeaderBlock, ParsedSheet, is_block_head, is_block_line, is_header_delimiter, is_statement_line,
+    parse, parse_expression, parse_line, parse_unit,
 };

@@ -6,8 +6,8 @@ use pest::Parser;
 
 use super::ast::{SimulateBlock, StatementKind};
 use super::build::{self, SimulateLine};
+use super::lines::{BlockLines, check_limits};
 use super::parser::{HeftParser, Rule, describe_error};
-use super::split::{BlockLines, check_limits};
 use crate::base::{Code, Diagnostic};
 
 /// What a line inside a simulate block may be.

@@ -1,0 +1,86 @@
+//! What the statement splitter and the block parsers share: a block's
+//! lines, and the limits every statement is held to before anything
+//! recursive reads it.
+
+use crate::base::{Code, Diagnostic, Span};
+
+/// Deepest bracket nesting a statement may have. pest and the tree walkers
+/// recurse once per level, so the limit keeps any input from overflowing the
+/// stack; real formulas stay far below it.
+pub const MAX_NESTING: usize = 64;
+
+/// Most operators a statement may have (every operator can deepen the tree).
+pub const MAX_OPERATORS: usize = 1000;
+
+/// The lines of a block statement.
+pub(super) struct BlockLines {
+    pub(super) head: Span,
+    pub(super) body: Vec<Span>,
+    pub(super) end: Option<Span>,
+}
+
+/// The error for a statement with more than [`MAX_OPERATORS`] operators
+/// (components included), at the one past the limit.
+fn too_many_operators(at: usize) -> Diagnostic {
+    Diagnostic::error(
+        Code::ParseError,
+        Span::new(at, at + 1),
+        format!("this statement has more than {MAX_OPERATORS} operators"),
+    )
+    .with_help("split the formula into several cells")
+}
+
+/// Refuses statements nested deeper than [`MAX_NESTING`] or with more than
+/// [`MAX_OPERATORS`] operators, before any recursive code sees them.
+pub(super) fn check_limits(text: &str, offset: usize) -> Option<Diagnostic> {
+    let mut depth = 0usize;
+    let mut n_operators = 0usize;
+    let mut in_quotes = false;
+    let mut escaped = false;
+    let mut previous = '\0';
+    for (position, c) in text.char_indices() {
+        if in_quotes {
+            match (escaped, c) {
+                (true, _) => escaped = false,
+                (false, '\\') => escaped = true,
+                (false, '"') => in_quotes = false,
+                _ => {}
+            }
+            continue;
+        }
+        match c {
+            '"' => in_quotes = true,
+            '/' if previous == '/' => break,
+            '(' | '[' => {
+                depth += 1;
+                if depth > MAX_NESTING {
+                    return Some(
+                        Diagnostic::error(
+                            Code::ParseError,
+                            Span::new(offset + position, offset + position + 1),
+                            format!("brackets nest more than {MAX_NESTING} deep here"),
+                        )
+                        .with_help("split the formula into several cells"),
+                    );
+                }
+            }
+            ')' | ']' => depth = depth.saturating_sub(1),
+            // A component (`F.x`) nests its vector like an operator does.
+            '.' if text[position + 1..].starts_with(|next: char| next.is_ascii_alphabetic()) => {
+                n_operators += 1;
+                if n_operators > MAX_OPERATORS {
+                    return Some(too_many_operators(offset + position));
+                }
+            }
+            '+' | '-' | '*' | '/' | '^' => {
+                n_operators += 1;
+                if n_operators > MAX_OPERATORS {
+                    return Some(too_many_operators(offset + position));
+                }
+            }
+            _ => {}
+        }
+        previous = c;
+    }
+    None
+}
