@@ -255,6 +255,11 @@ const PREFIXES: &[Prefix] = &[
         power_of_ten: 2,
     },
     Prefix {
+        symbol: "da",
+        name: "deca",
+        power_of_ten: 1,
+    },
+    Prefix {
         symbol: "c",
         name: "centi",
         power_of_ten: -2,
@@ -380,7 +385,7 @@ fn build() -> Catalog {
         Dimension::MASS,
         dec("1e-3"),
         "1 g = 1e-3 kg",
-        "m µ u",
+        "M m µ u",
     );
     b.add_si(
         "s",
@@ -436,7 +441,7 @@ fn build() -> Catalog {
         Dimension::FORCE,
         one(),
         "1 N = 1 kg·m/s²",
-        "G M k m",
+        "G M k da m",
     );
     b.add_si(
         "Pa",

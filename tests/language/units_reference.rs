@@ -115,6 +115,11 @@ fn prefixed_si_units() {
     assert_close(si_factor("t"), 1e3, EXACT);
     assert_close(si_factor("bar"), 1e5, EXACT);
     assert_close(si_factor("h"), 3600.0, EXACT);
+    // SI Brochure (9th ed., 2019), Table 7: deca = 10¹, mega = 10⁶; the
+    // decanewton of lashing and rigging ratings, the megagram (= 1 t).
+    assert_close(si_factor("daN"), 10.0, EXACT);
+    assert_close(si_factor("Mg"), 1e3, EXACT);
+    assert_close(convert("1 Mg", "t"), 1.0, EXACT);
 }
 
 #[test]
