@@ -9,7 +9,6 @@ mod corners;
 mod explain;
 mod expr;
 pub mod formula;
-pub mod functions;
 mod incremental;
 mod model;
 pub mod program;
@@ -17,7 +16,6 @@ mod ranges;
 mod run_model;
 mod simulate;
 mod solve;
-mod vectors;
 mod verdict;
 
 /// The operators and comparisons the evaluated model's formulas and checks
