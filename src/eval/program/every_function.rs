@@ -5,7 +5,8 @@
 //! the values sampled over a box, and its dual rules give the derivative a
 //! central difference measures (at a point) and enclose the point
 //! derivatives over a box. A function that takes vectors must say so: its
-//! call compiles to `NeedsVectors`, never to a program.
+//! call compiles to `NeedsVectors`, never to a program. And the language
+//! guide names every function.
 //!
 //! Sample arguments are found, not listed: every combination of a grid of
 //! values, in each of a few units, that the function's own check accepts.
@@ -440,6 +441,20 @@ fn a_function_that_takes_vectors_says_so_when_compiled() {
                 Err(CompileError::NeedsVectors(_))
             ),
             "`{}` takes vectors but its call does not report it",
+            function.name
+        );
+    }
+}
+
+#[test]
+fn every_function_is_in_the_language_guide() {
+    let path = concat!(env!("CARGO_MANIFEST_DIR"), "/docs/language.md");
+    let guide = std::fs::read_to_string(path).unwrap_or_else(|error| panic!("{path}: {error}"));
+    for function in FUNCTIONS {
+        let named = |after: char| guide.contains(&format!("`{}{after}", function.name));
+        assert!(
+            named('`') || named('('),
+            "`{}` is not in docs/language.md: list it with what it does",
             function.name
         );
     }

@@ -1,6 +1,7 @@
 //! The built-in functions: one table, [`FUNCTIONS`], with one entry per
-//! function carrying every rule heft needs of it — its name and arguments,
-//! its dimension and domain rule, and its numeric rule, which gives its
+//! function carrying everything heft needs of it — its name and arguments,
+//! what it does with angles (for the lints), its dimension and domain
+//! rule, and its numeric rule, which gives its
 //! value in the interpreter, the op compiled programs run (solve equations,
 //! simulate rates), its enclosure over a box (tolerance ranges) and its
 //! derivative (Newton's Jacobian, first-order bounds, run extrema). The
@@ -113,6 +114,18 @@ pub enum Kind {
     Vectors(fn(&[Value]) -> Result<Value, CallError>),
 }
 
+/// What a function does with angles, which are plain numbers in radians
+/// (the lints read it to tell degrees from radians).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Angles {
+    /// It takes an angle as this argument: `sin(θ)`, `polar(F, θ)`.
+    Takes(usize),
+    /// It gives an angle: `asin(x)`, `atan2(y, x)`, `angle(v)`.
+    Gives,
+    /// Neither.
+    Neither,
+}
+
 /// A built-in function: an entry of [`FUNCTIONS`].
 #[derive(Debug)]
 pub struct Function {
@@ -122,6 +135,8 @@ pub struct Function {
     pub arity: Arity,
     /// What it computes, for the language reference.
     pub doc: &'static str,
+    /// What it does with angles.
+    pub angles: Angles,
     /// Its rules.
     pub kind: Kind,
 }
@@ -132,38 +147,56 @@ pub const FUNCTIONS: &[Function] = &[
     unary(
         "sqrt",
         "square root; halves every dimension exponent",
+        Angles::Neither,
         scalar::half_dimension,
         &scalar::SQRT,
     ),
     unary(
         "abs",
         "absolute value, same dimension",
+        Angles::Neither,
         scalar::same_dimension,
         &scalar::ABS,
     ),
     unary(
         "sin",
         "sine of an angle (a plain number in radians; write 30 deg)",
+        Angles::Takes(0),
         scalar::plain,
         &scalar::SIN,
     ),
-    unary("cos", "cosine of an angle", scalar::plain, &scalar::COS),
-    unary("tan", "tangent of an angle", scalar::plain, &scalar::TAN),
+    unary(
+        "cos",
+        "cosine of an angle",
+        Angles::Takes(0),
+        scalar::plain,
+        &scalar::COS,
+    ),
+    unary(
+        "tan",
+        "tangent of an angle",
+        Angles::Takes(0),
+        scalar::plain,
+        &scalar::TAN,
+    ),
     unary(
         "asin",
         "inverse sine, in radians",
+        Angles::Gives,
         scalar::plain_from_minus_one_to_one,
         &scalar::ASIN,
     ),
     unary(
         "acos",
         "inverse cosine, in radians",
+        Angles::Gives,
         scalar::plain_from_minus_one_to_one,
         &scalar::ACOS,
     ),
     unary(
         "atan",
         "inverse tangent, in radians",
+        Angles::Gives,
         scalar::plain,
         &scalar::ATAN,
     ),
@@ -171,24 +204,28 @@ pub const FUNCTIONS: &[Function] = &[
         "atan2",
         Arity::Exactly(2),
         "angle of the point (x, y): atan2(y, x), both of one dimension",
+        Angles::Gives,
         scalar::one_dimension_to_plain,
         &scalar::ATAN2,
     ),
     unary(
         "exp",
         "e to the power of a plain number",
+        Angles::Neither,
         scalar::plain,
         &scalar::EXP,
     ),
     unary(
         "ln",
         "natural logarithm of a positive plain number",
+        Angles::Neither,
         scalar::plain_positive,
         &scalar::LN,
     ),
     unary(
         "log10",
         "base-10 logarithm of a positive plain number",
+        Angles::Neither,
         scalar::plain_positive,
         &scalar::LOG10,
     ),
@@ -196,6 +233,7 @@ pub const FUNCTIONS: &[Function] = &[
         "min",
         Arity::AtLeast(1),
         "smallest of its arguments, all of one dimension",
+        Angles::Neither,
         scalar::one_dimension,
         &scalar::MIN,
     ),
@@ -203,6 +241,7 @@ pub const FUNCTIONS: &[Function] = &[
         "max",
         Arity::AtLeast(1),
         "largest of its arguments, all of one dimension",
+        Angles::Neither,
         scalar::one_dimension,
         &scalar::MAX,
     ),
@@ -210,6 +249,7 @@ pub const FUNCTIONS: &[Function] = &[
         "hypot",
         Arity::AtLeast(2),
         "√(a² + b² + …), all of one dimension",
+        Angles::Neither,
         scalar::one_dimension,
         &scalar::HYPOT,
     ),
@@ -217,42 +257,49 @@ pub const FUNCTIONS: &[Function] = &[
         "vec",
         Arity::Between(2, 3),
         "a vector from its components, all of one dimension: vec(120 N, -40 N)",
+        Angles::Neither,
         vectors::make_vector,
     ),
     vector(
         "polar",
         Arity::Exactly(2),
         "a 2D vector from its magnitude and direction from +x: polar(40 N, 30 deg) or polar(40 N, 3:4)",
+        Angles::Takes(1),
         vectors::polar,
     ),
     vector(
         "dot",
         Arity::Exactly(2),
         "the dot product of two vectors, a scalar",
+        Angles::Neither,
         vectors::dot,
     ),
     vector(
         "cross",
         Arity::Exactly(2),
         "the cross product of two vectors, a 3D vector",
+        Angles::Neither,
         vectors::cross,
     ),
     vector(
         "mag",
         Arity::Exactly(1),
         "the length of a vector, with its dimension",
+        Angles::Neither,
         vectors::magnitude,
     ),
     vector(
         "unit",
         Arity::Exactly(1),
         "the vector divided by its length (a plain direction)",
+        Angles::Neither,
         vectors::unit_vector,
     ),
     vector(
         "angle",
         Arity::Between(1, 2),
         "angle(v): direction of v from +x in the x-y plane; angle(a, b): the angle between two vectors",
+        Angles::Gives,
         vectors::angle,
     ),
 ];
@@ -261,6 +308,7 @@ pub const FUNCTIONS: &[Function] = &[
 const fn unary(
     name: &'static str,
     doc: &'static str,
+    angles: Angles,
     check: Check,
     rule: &'static UnaryRule,
 ) -> Function {
@@ -268,6 +316,7 @@ const fn unary(
         name,
         arity: Arity::Exactly(1),
         doc,
+        angles,
         kind: Kind::Unary { check, rule },
     }
 }
@@ -277,6 +326,7 @@ const fn binary(
     name: &'static str,
     arity: Arity,
     doc: &'static str,
+    angles: Angles,
     check: Check,
     rule: &'static BinaryRule,
 ) -> Function {
@@ -284,6 +334,7 @@ const fn binary(
         name,
         arity,
         doc,
+        angles,
         kind: Kind::Binary { check, rule },
     }
 }
@@ -293,12 +344,14 @@ const fn vector(
     name: &'static str,
     arity: Arity,
     doc: &'static str,
+    angles: Angles,
     apply: fn(&[Value]) -> Result<Value, CallError>,
 ) -> Function {
     Function {
         name,
         arity,
         doc,
+        angles,
         kind: Kind::Vectors(apply),
     }
 }
