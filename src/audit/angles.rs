@@ -1,11 +1,12 @@
 //! Angles, which heft's units cannot tell from plain numbers (a radian is
-//! 1): a number in degrees given to `sin`, `cos`, `tan` or `polar` as
-//! radians, and a
-//! plain 1/s shown as an angular speed, where 1/s may be revolutions or
-//! radians per second. Whether a formula says it holds an angle is read from
-//! what it is written with: an angle unit (`deg`, `rad`, `rev`, `rpm`, from
-//! the catalog: the dimensionless units other than `%`, and units whose
-//! factor holds π), an inverse trig function, a slope, or a cell that does.
+//! 1): a number in degrees given as radians to a function that takes an
+//! angle (`sin`, `cos`, `tan`, `polar`: its entry in the function table
+//! says so), and a plain 1/s shown as an angular speed, where 1/s may be
+//! revolutions or radians per second. Whether a formula says it holds an
+//! angle is read from what it is written with: an angle unit (`deg`, `rad`,
+//! `rev`, `rpm`, from the catalog: the dimensionless units other than `%`,
+//! and units whose factor holds π), a function that gives an angle (`asin`,
+//! `atan2`, `angle`, …), a slope, or a cell that does.
 
 use std::cell::RefCell;
 
@@ -14,16 +15,17 @@ use super::rewrite::evaluate_rewritten;
 use crate::base::{Code, Diagnostic, Fix, FixValue};
 use crate::sheet::CellId;
 use crate::syntax::ast::{Expr, ExprKind, Target, UnitExpr};
+use crate::units::functions::{self, Angles};
 use crate::units::{self, Dimension, format_significant};
 
 /// One turn in radians: a plain angle beyond it is more likely degrees.
 const TURN: f64 = std::f64::consts::TAU;
 
-/// Functions that take an angle in radians, and which argument it is.
-const TAKE_AN_ANGLE: &[(&str, usize)] = &[("sin", 0), ("cos", 0), ("tan", 0), ("polar", 1)];
-
-/// Functions that give an angle in radians.
-const GIVE_AN_ANGLE: &[&str] = &["asin", "acos", "atan", "atan2", "angle"];
+/// What the function named `name` does with angles, as its entry in the
+/// function table says (an unknown name: nothing).
+fn angles_of(name: &str) -> Angles {
+    functions::function(name).map_or(Angles::Neither, |function| function.angles)
+}
 
 /// Whether expressions and cells say they hold an angle, with each cell's
 /// answer kept (a long chain is read once).
@@ -62,27 +64,16 @@ impl<'c, 'a> AngleWords<'c, 'a> {
                 Target::Unresolved => false,
             },
             ExprKind::Slope { .. } => true,
-            ExprKind::Call { function, args } => {
-                if GIVE_AN_ANGLE.contains(&function.text.as_str()) {
-                    true
-                } else if TAKE_AN_ANGLE
+            ExprKind::Call { function, args } => match angles_of(&function.text) {
+                Angles::Gives => true,
+                // The angle is taken, not given: `polar(F, θ)` is a vector
+                // in the units of `F`.
+                Angles::Takes(angle) => args
                     .iter()
-                    .any(|(name, _)| *name == function.text.as_str())
-                {
-                    // The angle is taken, not given: `polar(F, θ)` is a vector
-                    // in the units of `F`.
-                    TAKE_AN_ANGLE
-                        .iter()
-                        .find(|(name, _)| *name == function.text.as_str())
-                        .is_some_and(|&(_, angle)| {
-                            args.iter()
-                                .enumerate()
-                                .any(|(at, arg)| at != angle && self.in_expr(arg))
-                        })
-                } else {
-                    args.iter().any(|arg| self.in_expr(arg))
-                }
-            }
+                    .enumerate()
+                    .any(|(at, arg)| at != angle && self.in_expr(arg)),
+                Angles::Neither => args.iter().any(|arg| self.in_expr(arg)),
+            },
             ExprKind::Negate(inner) => self.in_expr(inner),
             ExprKind::Binary { lhs, rhs, .. } => self.in_expr(lhs) || self.in_expr(rhs),
             ExprKind::Component { vector, .. } => self.in_expr(vector),
@@ -142,9 +133,9 @@ pub(super) fn degrees_as_radians(
     let ExprKind::Call { function, args } = &node.kind else {
         return None;
     };
-    let &(_, angle) = TAKE_AN_ANGLE
-        .iter()
-        .find(|(name, _)| *name == function.text.as_str())?;
+    let Angles::Takes(angle) = angles_of(&function.text) else {
+        return None;
+    };
     let argument = args.get(angle)?;
     if words.in_expr(argument) {
         return None;

@@ -4,11 +4,11 @@
 use std::sync::Arc;
 
 use super::explain::{Operand, mismatch};
-use super::functions::{self, Apply, CallError, function};
 use super::{Evaluation, Evaluator};
 use crate::base::Span;
 use crate::base::{Code, Diagnostic};
 use crate::syntax::ast::{BinaryOp, Expr, ExprKind, NameRef, Target, UnitExpr};
+use crate::units::functions::{self, CallError, function};
 use crate::units::{self, Quantity, QuantityError, ResolvedUnit, UnitErrorKind, Value, ValueError};
 
 impl<'a> Evaluator<'a> {
@@ -241,7 +241,8 @@ impl<'a> Evaluator<'a> {
                 name_span,
                 format!("there is no function `{name}`"),
             );
-            let closest = functions::all()
+            let closest = functions::FUNCTIONS
+                .iter()
                 .map(|f| (strsim::jaro_winkler(f.name, name), f.name))
                 .filter(|(score, _)| *score > 0.8)
                 .max_by(|a, b| a.0.total_cmp(&b.0));
@@ -267,17 +268,7 @@ impl<'a> Evaluator<'a> {
             .iter()
             .map(|arg| self.eval(arg))
             .collect::<Result<Vec<_>, _>>()?;
-        let result = match function.apply {
-            Apply::Value(apply) => apply(&values),
-            Apply::Scalar(apply) => values
-                .iter()
-                .map(Value::scalar)
-                .enumerate()
-                .map(|(argument, value)| value.ok_or(CallError::NotScalar { argument }))
-                .collect::<Result<Vec<_>, _>>()
-                .and_then(|scalars| apply(&scalars))
-                .map(Value::Scalar),
-        };
+        let result = function.call(&values);
         result.map_err(|error| {
             let arg_text = |index: usize| args[index].span.text(self.source);
             Box::new(match error {

@@ -9,11 +9,9 @@ mod conversion;
 pub(crate) mod explain;
 mod expr;
 pub(crate) mod formula;
-pub mod functions;
 pub(crate) mod model;
 pub mod program;
 pub(crate) mod run_model;
-mod vectors;
 pub(crate) mod verdict;
 
 /// The operators and comparisons the evaluated model's formulas and checks

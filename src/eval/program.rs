@@ -14,12 +14,13 @@ use super::Evaluator;
 use super::explain::{Operand, mismatch};
 use crate::base::Span;
 use crate::base::{Code, Diagnostic};
-use crate::numeric::{Binary, Number, Unary};
+use crate::numeric::{BinaryRule, Number, UnaryRule};
 use crate::syntax::ast::{BinaryOp, Expr, ExprKind, NameRef};
+use crate::units::functions::{self, Function, Kind};
 use crate::units::{Dimension, Quantity, Value};
 
 /// One instruction of a stack program.
-#[derive(Clone, Copy, Debug, PartialEq)]
+#[derive(Clone, Copy, Debug)]
 pub enum Op {
     /// Push a constant (SI value).
     Constant(f64),
@@ -39,14 +40,15 @@ pub enum Op {
     Powi(i32),
     /// Pop b, a; push a^b.
     Pow,
-    /// Apply a one-argument function to the top.
-    Unary(Unary),
-    /// Pop b, a; push f(a, b).
-    Binary(Binary),
+    /// Apply a one-argument function to the top, by its rule from the
+    /// function table.
+    Unary(&'static UnaryRule),
+    /// Pop b, a; push f(a, b), by its rule from the function table.
+    Binary(&'static BinaryRule),
 }
 
 /// A compiled formula: its program and the dimension of its result.
-#[derive(Clone, Debug, PartialEq)]
+#[derive(Clone, Debug)]
 pub struct Program {
     ops: Vec<Op>,
     /// The dimension of the result.
@@ -72,7 +74,7 @@ impl Program {
                     .unwrap_or(T::constant(f64::NAN)),
                 Op::Neg => pop(stack).neg(),
                 Op::Powi(power) => pop(stack).powi(power),
-                Op::Unary(function) => pop(stack).apply(function),
+                Op::Unary(rule) => pop(stack).apply(rule),
                 Op::Add | Op::Sub | Op::Mul | Op::Div | Op::Pow | Op::Binary(_) => {
                     let b = pop(stack);
                     let a = pop(stack);
@@ -82,7 +84,7 @@ impl Program {
                         Op::Mul => a.mul(b),
                         Op::Div => a.div(b),
                         Op::Pow => a.powf(b),
-                        Op::Binary(function) => a.apply2(b, function),
+                        Op::Binary(rule) => a.apply2(b, rule),
                         _ => a,
                     }
                 }
@@ -246,6 +248,7 @@ impl Evaluator<'_> {
         Ok(result)
     }
 
+    /// A call, by the op its entry in the function table gives.
     fn compile_call(
         &self,
         name: &str,
@@ -254,27 +257,6 @@ impl Evaluator<'_> {
         input_of: &dyn Fn(&NameRef) -> Option<Input>,
         ops: &mut Vec<Op>,
     ) -> Result<Quantity, CompileError> {
-        let unary = match name {
-            "sqrt" => Some(Unary::Sqrt),
-            "abs" => Some(Unary::Abs),
-            "sin" => Some(Unary::Sin),
-            "cos" => Some(Unary::Cos),
-            "tan" => Some(Unary::Tan),
-            "asin" => Some(Unary::Asin),
-            "acos" => Some(Unary::Acos),
-            "atan" => Some(Unary::Atan),
-            "exp" => Some(Unary::Exp),
-            "ln" => Some(Unary::Ln),
-            "log10" => Some(Unary::Log10),
-            _ => None,
-        };
-        let binary = match name {
-            "atan2" => Some(Binary::Atan2),
-            "hypot" => Some(Binary::Hypot),
-            "min" => Some(Binary::Min),
-            "max" => Some(Binary::Max),
-            _ => None,
-        };
         // The ordinary evaluator checks the call once at the sample values:
         // arity, dimensions and domain, with its usual messages.
         let samples = args
@@ -285,41 +267,43 @@ impl Evaluator<'_> {
                     .map(|q| (q, scratch))
             })
             .collect::<Result<Vec<_>, _>>()?;
-        let result = self.check_call_at_samples(
+        let (function, result) = self.check_call_at_samples(
             name,
             expr,
             args,
             &samples.iter().map(|(q, _)| *q).collect::<Vec<_>>(),
         )?;
-        match (unary, binary) {
-            (Some(function), _) if samples.len() == 1 => {
+        match function.kind {
+            Kind::Unary { rule, .. } => {
                 ops.extend(samples.into_iter().flat_map(|(_, code)| code));
-                ops.push(Op::Unary(function));
+                ops.push(Op::Unary(rule));
             }
-            (_, Some(function)) => {
+            Kind::Binary { rule, .. } => {
                 let mut samples = samples.into_iter();
                 if let Some((_, first)) = samples.next() {
                     ops.extend(first);
                 }
                 for (_, code) in samples {
                     ops.extend(code);
-                    ops.push(Op::Binary(function));
+                    ops.push(Op::Binary(rule));
                 }
             }
-            _ => return Err(CompileError::NeedsVectors(expr.span)),
+            // The entry says so: programs carry no vectors.
+            Kind::Vectors(_) => return Err(CompileError::NeedsVectors(expr.span)),
         }
         Ok(result)
     }
 
-    /// Runs the real function once on sample values to check the call.
+    /// Runs the function's own check and rule once on sample values to
+    /// check the call; gives its entry and the sample result.
     fn check_call_at_samples(
         &self,
         name: &str,
         expr: &Expr,
         args: &[Expr],
         samples: &[Quantity],
-    ) -> Result<Quantity, CompileError> {
-        let function = super::functions::function(name).ok_or_else(|| {
+    ) -> Result<(&'static Function, Quantity), CompileError> {
+        let function = functions::function(name).ok_or_else(|| {
             CompileError::Diagnostic(Box::new(Diagnostic::error(
                 Code::BadCall,
                 expr.span,
@@ -337,20 +321,21 @@ impl Evaluator<'_> {
                 ),
             ))));
         }
-        match function.apply {
-            super::functions::Apply::Scalar(apply) => apply(samples).map_err(|_| {
-                // Report with the evaluator's own wording at the sample values.
-                match self.eval(expr) {
-                    Err(diagnostic) => CompileError::Diagnostic(diagnostic),
-                    Ok(_) => CompileError::Diagnostic(Box::new(Diagnostic::error(
-                        Code::DimensionMismatch,
-                        expr.span,
-                        format!("`{name}` cannot take these arguments"),
-                    ))),
-                }
-            }),
-            super::functions::Apply::Value(_) => Err(CompileError::NeedsVectors(expr.span)),
-        }
+        let Some(result) = function.call_scalars(samples) else {
+            return Err(CompileError::NeedsVectors(expr.span));
+        };
+        let result = result.map_err(|_| {
+            // Report with the evaluator's own wording at the sample values.
+            match self.eval(expr) {
+                Err(diagnostic) => CompileError::Diagnostic(diagnostic),
+                Ok(_) => CompileError::Diagnostic(Box::new(Diagnostic::error(
+                    Code::DimensionMismatch,
+                    expr.span,
+                    format!("`{name}` cannot take these arguments"),
+                ))),
+            }
+        })?;
+        Ok((function, result))
     }
 
     fn compile_mismatch(
@@ -414,6 +399,9 @@ fn mentions_input(expr: &Expr, input_of: &dyn Fn(&NameRef) -> Option<Input>) -> 
     });
     found
 }
+
+#[cfg(test)]
+mod every_function;
 
 #[cfg(test)]
 mod tests {

@@ -2,7 +2,9 @@
 //! carried through every operation by the chain rule. `Dual<f64>` gives exact
 //! derivatives at a point; `Dual<Interval>` encloses a derivative over a box.
 
-use super::number::{Binary, Number, Unary};
+use super::interval::Interval;
+use super::number::Number;
+use super::rule::{BinaryRule, UnaryRule};
 
 /// `value + derivative·ε` with ε² = 0.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -38,7 +40,42 @@ impl<T: Number> Dual<T> {
     }
 }
 
-impl<T: Number> Number for Dual<T> {
+/// A number a dual number is built on: `f64` at a point, [`Interval`] over
+/// a box. Each picks its own field of a function's rule.
+pub trait Primal: Number {
+    /// The slope rule for this number type.
+    fn slope(rule: &UnaryRule) -> fn(Self, Self) -> Self;
+    /// The two-argument derivative rule for this number type.
+    fn derivative(rule: &BinaryRule) -> fn(Dual<Self>, Dual<Self>, Self) -> Self;
+    /// ln x (the derivative of a real power needs it).
+    fn ln(self) -> Self;
+}
+
+impl Primal for f64 {
+    fn slope(rule: &UnaryRule) -> fn(f64, f64) -> f64 {
+        rule.slope.at_point
+    }
+    fn derivative(rule: &BinaryRule) -> fn(Dual<f64>, Dual<f64>, f64) -> f64 {
+        rule.derivative.at_point
+    }
+    fn ln(self) -> f64 {
+        libm::log(self)
+    }
+}
+
+impl Primal for Interval {
+    fn slope(rule: &UnaryRule) -> fn(Interval, Interval) -> Interval {
+        rule.slope.over_box
+    }
+    fn derivative(rule: &BinaryRule) -> fn(Dual<Interval>, Dual<Interval>, Interval) -> Interval {
+        rule.derivative.over_box
+    }
+    fn ln(self) -> Interval {
+        Interval::ln(self)
+    }
+}
+
+impl<T: Primal> Number for Dual<T> {
     fn constant(value: f64) -> Self {
         Dual::fixed(T::constant(value))
     }
@@ -116,101 +153,23 @@ impl<T: Number> Number for Dual<T> {
         let derivative = value.mul(
             power
                 .derivative
-                .mul(self.value.apply(Unary::Ln))
+                .mul(self.value.ln())
                 .add(power.value.mul(self.derivative).div(self.value)),
         );
         Dual { value, derivative }
     }
 
-    fn apply(self, function: Unary) -> Self {
-        let x = self.value;
-        let one = T::constant(1.0);
-        let value = x.apply(function);
-        let slope = match function {
-            Unary::Sqrt => one.div(T::constant(2.0).mul(value)),
-            Unary::Abs => x.sign(),
-            Unary::Sin => x.apply(Unary::Cos),
-            Unary::Cos => x.apply(Unary::Sin).neg(),
-            Unary::Tan => one.add(value.mul(value)),
-            Unary::Asin => one.div(one.sub(x.mul(x)).apply(Unary::Sqrt)),
-            Unary::Acos => one.div(one.sub(x.mul(x)).apply(Unary::Sqrt)).neg(),
-            Unary::Atan => one.div(one.add(x.mul(x))),
-            Unary::Exp => value,
-            Unary::Ln => one.div(x),
-            Unary::Log10 => one.div(x.mul(T::constant(std::f64::consts::LN_10))),
-        };
+    fn apply(self, rule: &UnaryRule) -> Self {
+        let value = self.value.apply(rule);
+        let slope = T::slope(rule)(self.value, value);
         self.chain(value, slope)
     }
 
-    fn apply2(self, other: Self, function: Binary) -> Self {
-        let value = self.value.apply2(other.value, function);
-        let derivative = match function {
-            // The derivative of the argument taken; where either may be
-            // taken (ties, overlapping intervals), what covers both.
-            Binary::Min | Binary::Max => {
-                // The argument the function takes where one is surely below
-                // the other: min takes the lower, max the higher.
-                let (lower, higher) = if self.value.certainly_less(other.value) {
-                    (Some(self), Some(other))
-                } else if other.value.certainly_less(self.value) {
-                    (Some(other), Some(self))
-                } else {
-                    (None, None)
-                };
-                let taken = if function == Binary::Min {
-                    lower
-                } else {
-                    higher
-                };
-                match taken {
-                    Some(taken) => taken.derivative,
-                    None => self.derivative.either(other.derivative),
-                }
-            }
-            // (a a' + b b') / hypot(a, b); at the origin hypot has a kink,
-            // like |x| at 0, and its slope is taken as 0 there (as the
-            // slope of |x| is), not 0/0.
-            Binary::Hypot if value.certainly_less(T::constant(f64::MIN_POSITIVE)) => {
-                T::constant(0.0)
-            }
-            Binary::Hypot => self
-                .value
-                .mul(self.derivative)
-                .add(other.value.mul(other.derivative))
-                .div(value),
-            Binary::Atan2 => {
-                // atan2(y, x)' = (x y' − y x') / (x² + y²)
-                let (y, x) = (self.value, other.value);
-                x.mul(self.derivative)
-                    .sub(y.mul(other.derivative))
-                    .div(x.mul(x).add(y.mul(y)))
-            }
-        };
-        Dual { value, derivative }
-    }
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn hypot_has_a_slope_everywhere_and_zero_at_the_origin() {
-        let along = |value: f64| Dual {
+    fn apply2(self, other: Self, rule: &BinaryRule) -> Self {
+        let value = self.value.apply2(other.value, rule);
+        Dual {
             value,
-            derivative: 1.0,
-        };
-        // d/dt hypot(3 + t, 4) = 3 / 5 at t = 0 (closed form).
-        let away = along(3.0).apply2(
-            Dual {
-                value: 4.0,
-                derivative: 0.0,
-            },
-            Binary::Hypot,
-        );
-        assert!((away.derivative - 0.6).abs() < 1e-15);
-        // At the origin: 0, like the slope of |x| at 0, never NaN.
-        let origin = along(0.0).apply2(along(0.0), Binary::Hypot);
-        assert_eq!((origin.value, origin.derivative), (0.0, 0.0));
+            derivative: T::derivative(rule)(self, other, value),
+        }
     }
 }

@@ -1,8 +1,12 @@
 //! Interval arithmetic with outward rounding: every operation widens its
 //! result by one unit in the last place each way, so the true value of a
 //! formula over a box of inputs is always inside the computed interval.
+//! The enclosures of the built-in functions are written with their entries
+//! in `units::functions`, from the building blocks here (`outward`,
+//! `increasing`, `increasing_on`, `from_corners`, `contains_periodic`).
 
-use super::number::{Binary, Number, Unary};
+use super::number::Number;
+use super::rule::{BinaryRule, UnaryRule};
 
 /// A closed interval `[lo, hi]`; `lo > hi` never happens, NaN marks an
 /// undefined result (a square root of a wholly negative interval, …).
@@ -13,8 +17,6 @@ pub struct Interval {
     /// Upper bound.
     pub hi: f64,
 }
-
-const PI: f64 = std::f64::consts::PI;
 
 impl Interval {
     /// `[lo, hi]` (swapped if given the wrong way round).
@@ -31,6 +33,14 @@ impl Interval {
         Interval {
             lo: value,
             hi: value,
+        }
+    }
+
+    /// The undefined result (NaN bounds).
+    pub fn undefined() -> Self {
+        Interval {
+            lo: f64::NAN,
+            hi: f64::NAN,
         }
     }
 
@@ -77,13 +87,12 @@ impl Interval {
         }
     }
 
-    /// Widened by one unit in the last place each way.
-    fn outward(lo: f64, hi: f64) -> Interval {
+    /// `[lo, hi]` widened by one unit in the last place each way (a bound
+    /// computed with one rounding lies inside it); undefined if either is
+    /// NaN.
+    pub fn outward(lo: f64, hi: f64) -> Interval {
         if lo.is_nan() || hi.is_nan() {
-            return Interval {
-                lo: f64::NAN,
-                hi: f64::NAN,
-            };
+            return Interval::undefined();
         }
         Interval {
             lo: lo.next_down(),
@@ -105,67 +114,28 @@ impl Interval {
         Interval::outward(widen(lo, -1.0), widen(hi, 1.0))
     }
 
-    fn from_corners(values: [f64; 4]) -> Interval {
+    /// The outward-rounded hull of four values (a function's values at the
+    /// corners of a box, each computed with one rounding).
+    pub fn from_corners(values: [f64; 4]) -> Interval {
         let lo = values.iter().copied().fold(f64::INFINITY, f64::min);
         let hi = values.iter().copied().fold(f64::NEG_INFINITY, f64::max);
         Interval::outward(lo, hi)
     }
 
-    /// A monotone increasing function applied to the bounds.
-    fn increasing(self, f: fn(f64) -> f64) -> Interval {
+    /// A monotone increasing function applied to the bounds, rounded
+    /// outward.
+    pub fn increasing(self, f: fn(f64) -> f64) -> Interval {
         Interval::outward(f(self.lo), f(self.hi))
     }
 
     /// Whether `lo ≤ offset + k·period ≤ hi` for some integer k.
-    fn contains_periodic(self, offset: f64, period: f64) -> bool {
+    pub fn contains_periodic(self, offset: f64, period: f64) -> bool {
         let k = ((self.lo - offset) / period).ceil();
         offset + k * period <= self.hi
     }
 
-    fn sin(self) -> Interval {
-        if self.hi - self.lo >= 2.0 * PI || !self.lo.is_finite() || !self.hi.is_finite() {
-            return Interval::new(-1.0, 1.0);
-        }
-        let (a, b) = (libm::sin(self.lo), libm::sin(self.hi));
-        let hi = if self.contains_periodic(PI / 2.0, 2.0 * PI) {
-            1.0
-        } else {
-            a.max(b)
-        };
-        let lo = if self.contains_periodic(-PI / 2.0, 2.0 * PI) {
-            -1.0
-        } else {
-            a.min(b)
-        };
-        Interval::outward(lo, hi).intersect(Interval::new(-1.0, 1.0))
-    }
-
-    fn cos(self) -> Interval {
-        if self.hi - self.lo >= 2.0 * PI || !self.lo.is_finite() || !self.hi.is_finite() {
-            return Interval::new(-1.0, 1.0);
-        }
-        let (a, b) = (libm::cos(self.lo), libm::cos(self.hi));
-        let hi = if self.contains_periodic(0.0, 2.0 * PI) {
-            1.0
-        } else {
-            a.max(b)
-        };
-        let lo = if self.contains_periodic(PI, 2.0 * PI) {
-            -1.0
-        } else {
-            a.min(b)
-        };
-        Interval::outward(lo, hi).intersect(Interval::new(-1.0, 1.0))
-    }
-
-    fn tan(self) -> Interval {
-        if self.hi - self.lo >= PI || self.contains_periodic(PI / 2.0, PI) {
-            return Interval::entire();
-        }
-        self.increasing(libm::tan)
-    }
-
-    fn abs(self) -> Interval {
+    /// |x| over the interval.
+    pub fn abs(self) -> Interval {
         if self.lo >= 0.0 {
             self
         } else if self.hi <= 0.0 {
@@ -181,26 +151,20 @@ impl Interval {
         }
     }
 
-    fn sqrt(self) -> Interval {
-        if self.hi < 0.0 {
-            return Interval {
-                lo: f64::NAN,
-                hi: f64::NAN,
-            };
-        }
-        Interval::outward(libm::sqrt(self.lo.max(0.0)), libm::sqrt(self.hi))
-            .intersect(Interval::new(0.0, f64::INFINITY))
-    }
-
-    /// A function defined on `[domain_lo, domain_hi]`, increasing there.
-    fn increasing_on(self, domain_lo: f64, domain_hi: f64, f: fn(f64) -> f64) -> Interval {
+    /// A function defined on `[domain_lo, domain_hi]`, increasing there,
+    /// over the part of the interval inside its domain; undefined if none
+    /// is.
+    pub fn increasing_on(self, domain_lo: f64, domain_hi: f64, f: fn(f64) -> f64) -> Interval {
         if self.hi < domain_lo || self.lo > domain_hi {
-            return Interval {
-                lo: f64::NAN,
-                hi: f64::NAN,
-            };
+            return Interval::undefined();
         }
         Interval::new(self.lo.max(domain_lo), self.hi.min(domain_hi)).increasing(f)
+    }
+
+    /// ln x over the part of the interval above zero (a real power,
+    /// x^p = exp(p ln x), needs it).
+    pub fn ln(self) -> Interval {
+        self.increasing_on(0.0, f64::INFINITY, libm::log)
     }
 }
 
@@ -277,56 +241,14 @@ impl Number for Interval {
             return self.powi(power.lo as i32);
         }
         // x^p = exp(p ln x) for x > 0.
-        self.apply(Unary::Ln).mul(power).apply(Unary::Exp)
+        self.ln().mul(power).increasing(libm::exp)
     }
 
-    fn apply(self, function: Unary) -> Self {
-        match function {
-            Unary::Sqrt => self.sqrt(),
-            Unary::Abs => self.abs(),
-            Unary::Sin => self.sin(),
-            Unary::Cos => self.cos(),
-            Unary::Tan => self.tan(),
-            Unary::Asin => self.increasing_on(-1.0, 1.0, libm::asin),
-            Unary::Acos => {
-                let inside = Interval::new(self.lo.max(-1.0), self.hi.min(1.0));
-                if self.hi < -1.0 || self.lo > 1.0 {
-                    return Interval {
-                        lo: f64::NAN,
-                        hi: f64::NAN,
-                    };
-                }
-                Interval::outward(libm::acos(inside.hi), libm::acos(inside.lo))
-            }
-            Unary::Atan => self.increasing(libm::atan),
-            Unary::Exp => self.increasing(libm::exp),
-            Unary::Ln => self.increasing_on(0.0, f64::INFINITY, libm::log),
-            Unary::Log10 => self.increasing_on(0.0, f64::INFINITY, libm::log10),
-        }
+    fn apply(self, rule: &UnaryRule) -> Self {
+        (rule.enclosure)(self)
     }
 
-    fn apply2(self, other: Self, function: Binary) -> Self {
-        match function {
-            Binary::Min => Interval::new(self.lo.min(other.lo), self.hi.min(other.hi)),
-            Binary::Max => Interval::new(self.lo.max(other.lo), self.hi.max(other.hi)),
-            Binary::Hypot => {
-                let (a, b) = (self.abs(), other.abs());
-                Interval::outward(libm::hypot(a.lo, b.lo), libm::hypot(a.hi, b.hi))
-            }
-            Binary::Atan2 => {
-                // y = self, x = other. A box touching the negative x-axis (or
-                // the origin) wraps around ±π; otherwise the extreme angles are
-                // at its corners.
-                if other.lo <= 0.0 && self.contains(0.0) {
-                    return Interval::new(-PI, PI);
-                }
-                Interval::from_corners([
-                    libm::atan2(self.lo, other.lo),
-                    libm::atan2(self.lo, other.hi),
-                    libm::atan2(self.hi, other.lo),
-                    libm::atan2(self.hi, other.hi),
-                ])
-            }
-        }
+    fn apply2(self, other: Self, rule: &BinaryRule) -> Self {
+        (rule.enclosure)(self, other)
     }
 }

@@ -1,6 +1,7 @@
 //! Pure numerical methods over plain `f64`s, knowing nothing of sheets,
 //! units or spans: the number types compiled formulas run on (`f64`,
-//! intervals for tolerance ranges, dual numbers for exact derivatives) and
+//! intervals for tolerance ranges, dual numbers for exact derivatives),
+//! what a function's rule on them is (`UnaryRule`, `BinaryRule`), and
 //! an adaptive Dormand–Prince 5(4) integrator with error control on scaled
 //! states, dense output, events located by root-finding inside the step,
 //! and stiffness detection. It imports nothing of the crate.
@@ -18,14 +19,16 @@ mod integrator;
 mod interval;
 mod number;
 mod roots;
+mod rule;
 mod trajectory;
 
-pub use dual::Dual;
+pub use dual::{Dual, Primal};
 pub use integrator::{
     Condition, ErrorControl, EventHit, EventKind, Failure, Outcome, Run, Settings, Stats, System,
     integrate,
 };
 pub use interval::Interval;
-pub use number::{Binary, Number, Unary};
+pub use number::Number;
 pub use roots::{find_crossing, golden_section};
+pub use rule::{BinaryDerivative, BinaryRule, Slope, UnaryRule};
 pub use trajectory::{COEFFICIENTS, Objective, Trajectory};

@@ -1,7 +1,9 @@
 //! The number types compiled programs run on: what arithmetic they need
-//! ([`Number`]), the functions a program may call ([`Unary`], [`Binary`]),
-//! and plain `f64` as the first such type, with every transcendental
-//! function from libm so results are the same on every machine.
+//! ([`Number`]) and plain `f64` as the first such type. A function a
+//! program calls comes with its own rule for each number type
+//! ([`UnaryRule`], [`BinaryRule`]).
+
+use super::rule::{BinaryRule, UnaryRule};
 
 /// Arithmetic a compiled program needs from its number type.
 pub trait Number: Copy + std::fmt::Debug {
@@ -28,50 +30,11 @@ pub trait Number: Copy + std::fmt::Debug {
     fn powi(self, power: i32) -> Self;
     /// `self` to a real power.
     fn powf(self, power: Self) -> Self;
-    /// A one-argument function.
-    fn apply(self, function: Unary) -> Self;
-    /// A two-argument function.
-    fn apply2(self, other: Self, function: Binary) -> Self;
-}
-
-/// One-argument functions of a program.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
-pub enum Unary {
-    /// √x
-    Sqrt,
-    /// |x|
-    Abs,
-    /// sin x
-    Sin,
-    /// cos x
-    Cos,
-    /// tan x
-    Tan,
-    /// asin x
-    Asin,
-    /// acos x
-    Acos,
-    /// atan x
-    Atan,
-    /// eˣ
-    Exp,
-    /// ln x
-    Ln,
-    /// log₁₀ x
-    Log10,
-}
-
-/// Two-argument functions of a program.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
-pub enum Binary {
-    /// atan2(y, x)
-    Atan2,
-    /// √(a² + b²)
-    Hypot,
-    /// the smaller
-    Min,
-    /// the larger
-    Max,
+    /// A one-argument function, by its rule for this number type.
+    fn apply(self, rule: &UnaryRule) -> Self;
+    /// A two-argument function `f(self, other)`, by its rule for this
+    /// number type.
+    fn apply2(self, other: Self, rule: &BinaryRule) -> Self;
 }
 
 impl Number for f64 {
@@ -114,27 +77,10 @@ impl Number for f64 {
     fn powf(self, power: Self) -> Self {
         libm::pow(self, power)
     }
-    fn apply(self, function: Unary) -> Self {
-        match function {
-            Unary::Sqrt => libm::sqrt(self),
-            Unary::Abs => self.abs(),
-            Unary::Sin => libm::sin(self),
-            Unary::Cos => libm::cos(self),
-            Unary::Tan => libm::tan(self),
-            Unary::Asin => libm::asin(self),
-            Unary::Acos => libm::acos(self),
-            Unary::Atan => libm::atan(self),
-            Unary::Exp => libm::exp(self),
-            Unary::Ln => libm::log(self),
-            Unary::Log10 => libm::log10(self),
-        }
+    fn apply(self, rule: &UnaryRule) -> Self {
+        (rule.value)(self)
     }
-    fn apply2(self, other: Self, function: Binary) -> Self {
-        match function {
-            Binary::Atan2 => libm::atan2(self, other),
-            Binary::Hypot => libm::hypot(self, other),
-            Binary::Min => self.min(other),
-            Binary::Max => self.max(other),
-        }
+    fn apply2(self, other: Self, rule: &BinaryRule) -> Self {
+        (rule.value)(self, other)
     }
 }

@@ -1,11 +1,13 @@
 //! Units and quantities: dimensions, the unit catalog with exact definitions
-//! and their sources, runtime quantities, display units, and the typed bridge
+//! and their sources, runtime quantities, display units, the built-in
+//! functions (one table with every rule per function), and the typed bridge
 //! to uom. Pure and span-free: callers attach source places to errors.
 
 mod catalog;
 mod dimension;
 mod display;
 mod factor;
+pub mod functions;
 mod quantity;
 mod typed;
 mod value;

@@ -1,68 +1,9 @@
-//! The vector functions: building vectors from components or from magnitude
-//! and direction, and the products, lengths and angles of vectors.
+//! The vector functions' values, which their entries in
+//! [`super::FUNCTIONS`] name: building vectors from components or from
+//! magnitude and direction, and the products, lengths and angles of vectors.
 
-use super::functions::{Apply, Arity, CallError, Function};
+use super::CallError;
 use crate::units::{Dimension, Quantity, Value, VectorQuantity};
-
-/// The vector built-in functions.
-pub const FUNCTIONS: [Function; 7] = [
-    vector(
-        "vec",
-        Arity::Between(2, 3),
-        "a vector from its components, all of one dimension: vec(120 N, -40 N)",
-        make_vector,
-    ),
-    vector(
-        "polar",
-        Arity::Exactly(2),
-        "a 2D vector from its magnitude and direction from +x: polar(40 N, 30 deg) or polar(40 N, 3:4)",
-        polar,
-    ),
-    vector(
-        "dot",
-        Arity::Exactly(2),
-        "the dot product of two vectors, a scalar",
-        dot,
-    ),
-    vector(
-        "cross",
-        Arity::Exactly(2),
-        "the cross product of two vectors, a 3D vector",
-        cross,
-    ),
-    vector(
-        "mag",
-        Arity::Exactly(1),
-        "the length of a vector, with its dimension",
-        magnitude,
-    ),
-    vector(
-        "unit",
-        Arity::Exactly(1),
-        "the vector divided by its length (a plain direction)",
-        unit_vector,
-    ),
-    vector(
-        "angle",
-        Arity::Between(1, 2),
-        "angle(v): direction of v from +x in the x-y plane; angle(a, b): the angle between two vectors",
-        angle,
-    ),
-];
-
-const fn vector(
-    name: &'static str,
-    arity: Arity,
-    doc: &'static str,
-    apply: fn(&[Value]) -> Result<Value, CallError>,
-) -> Function {
-    Function {
-        name,
-        arity,
-        doc,
-        apply: Apply::Value(apply),
-    }
-}
 
 fn scalar_at(args: &[Value], argument: usize) -> Result<Quantity, CallError> {
     args[argument]
@@ -76,7 +17,7 @@ fn vector_at(args: &[Value], argument: usize) -> Result<VectorQuantity, CallErro
         .ok_or(CallError::NotVector { argument })
 }
 
-fn make_vector(args: &[Value]) -> Result<Value, CallError> {
+pub(super) fn make_vector(args: &[Value]) -> Result<Value, CallError> {
     let components = (0..args.len())
         .map(|i| scalar_at(args, i))
         .collect::<Result<Vec<_>, _>>()?;
@@ -88,7 +29,7 @@ fn make_vector(args: &[Value]) -> Result<Value, CallError> {
     Ok(Value::Vector(VectorQuantity::new(&si, dimension)))
 }
 
-fn polar(args: &[Value]) -> Result<Value, CallError> {
+pub(super) fn polar(args: &[Value]) -> Result<Value, CallError> {
     let magnitude = scalar_at(args, 0)?;
     let direction = scalar_at(args, 1)?;
     if !direction.dimension.is_dimensionless() {
@@ -101,25 +42,25 @@ fn polar(args: &[Value]) -> Result<Value, CallError> {
     )))
 }
 
-fn dot(args: &[Value]) -> Result<Value, CallError> {
+pub(super) fn dot(args: &[Value]) -> Result<Value, CallError> {
     let (a, b) = (vector_at(args, 0)?, vector_at(args, 1)?);
     a.dot(b)
         .map(Value::Scalar)
         .map_err(|_| CallError::Mismatch { argument: 1 })
 }
 
-fn cross(args: &[Value]) -> Result<Value, CallError> {
+pub(super) fn cross(args: &[Value]) -> Result<Value, CallError> {
     let (a, b) = (vector_at(args, 0)?, vector_at(args, 1)?);
     a.cross(b)
         .map(Value::Vector)
         .map_err(|_| CallError::Mismatch { argument: 1 })
 }
 
-fn magnitude(args: &[Value]) -> Result<Value, CallError> {
+pub(super) fn magnitude(args: &[Value]) -> Result<Value, CallError> {
     Ok(Value::Scalar(vector_at(args, 0)?.magnitude()))
 }
 
-fn unit_vector(args: &[Value]) -> Result<Value, CallError> {
+pub(super) fn unit_vector(args: &[Value]) -> Result<Value, CallError> {
     let v = vector_at(args, 0)?;
     let length = v.magnitude().si;
     if length == 0.0 {
@@ -135,7 +76,7 @@ fn unit_vector(args: &[Value]) -> Result<Value, CallError> {
     }))
 }
 
-fn angle(args: &[Value]) -> Result<Value, CallError> {
+pub(super) fn angle(args: &[Value]) -> Result<Value, CallError> {
     let a = vector_at(args, 0)?;
     if args.len() == 1 {
         return Ok(Value::Scalar(Quantity::number(libm::atan2(
