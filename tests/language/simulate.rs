@@ -53,6 +53,47 @@ fn drop_sheet(tolerance: &str, until: &str, extra: &str) -> String {
 }
 
 #[test]
+fn the_hyperbolic_closed_form_of_a_drag_drop_written_in_the_sheet_agrees_with_its_run() {
+    // m v' = m g − c v² from rest (standard result): v = v_t tanh(g t / v_t),
+    // x = (v_t²/g) ln cosh(g t / v_t), so the time to fall h is
+    // t = (v_t / g) acosh(exp(g h / v_t²)). The sheet writes the closed form
+    // with its own tanh, cosh and acosh; the test checks both against the
+    // run and against std's hyperbolic functions.
+    let source = format!(
+        "{}h = 40 m\n\
+         t_fall = v_t / g0 * acosh(exp(g0 * h / v_t^2))\n\
+         t_end = t at stop\n\
+         v_end = v at stop\n\
+         v_fall = v_t * tanh(g0 * t_end / v_t)\n\
+         x_fall = v_t^2 / g0 * ln(cosh(g0 * t_end / v_t))\n",
+        drop_sheet("1e-10", "10 s", "  stop when x >= 40 m\n")
+    );
+    let evaluated = evaluate_clean(&source);
+    assert_eq!(evaluated.runs[0].status, RunStatus::Stopped);
+    let v_t = (5.0 * G0 / 0.02_f64).sqrt();
+    let t_closed = v_t / G0 * (G0 * 40.0 / (v_t * v_t)).exp().acosh();
+    assert_relative(
+        si(&evaluated, "t_fall"),
+        t_closed,
+        1e-14,
+        "acosh in the sheet",
+    );
+    assert_relative(
+        si(&evaluated, "t_end"),
+        t_closed,
+        1e-8,
+        "the run's stop time",
+    );
+    assert_relative(
+        si(&evaluated, "v_fall"),
+        si(&evaluated, "v_end"),
+        1e-8,
+        "tanh vs the run",
+    );
+    assert_relative(si(&evaluated, "x_fall"), 40.0, 1e-8, "ln cosh vs the stop");
+}
+
+#[test]
 fn quadratic_drag_from_rest_follows_the_closed_form_within_the_tolerance() {
     // Closed form of m v' = m g − c v² from rest (standard result):
     // v_t = √(m g / c), v = v_t tanh(g t / v_t), x = (v_t²/g) ln cosh(g t / v_t).

@@ -25,7 +25,7 @@ use crate::units::functions::{Arity, FUNCTIONS, Function, Kind};
 
 /// Argument values tried (SI), avoiding 0 and ±1 so that no sample sits on
 /// a kink or a domain edge.
-const GRID: [f64; 7] = [-2.3, -0.7, -0.15, 0.35, 0.8, 1.6, 3.1];
+const GRID: [f64; 8] = [-2.3, -0.7, -0.15, 0.35, 0.8, 1.2, 1.6, 3.1];
 
 /// Units tried for the arguments (all of one unit in a call), with their
 /// dimensions.
@@ -55,6 +55,12 @@ fn reference(name: &str, args: &[f64]) -> Option<f64> {
         "acos" => x.acos(),
         "atan" => x.atan(),
         "atan2" => x.atan2(args[1]),
+        "sinh" => x.sinh(),
+        "cosh" => x.cosh(),
+        "tanh" => x.tanh(),
+        "asinh" => x.asinh(),
+        "acosh" => x.acosh(),
+        "atanh" => x.atanh(),
         "exp" => x.exp(),
         "ln" => x.ln(),
         "log10" => x.log10(),

@@ -36,6 +36,30 @@ pub(super) fn plain_from_minus_one_to_one(args: &[Quantity]) -> Result<Dimension
     Ok(Dimension::NONE)
 }
 
+/// A plain number of 1 or more (the domain of acosh).
+pub(super) fn plain_at_least_one(args: &[Quantity]) -> Result<Dimension, CallError> {
+    plain(args)?;
+    if args[0].si.is_nan() || args[0].si < 1.0 {
+        return Err(CallError::Domain {
+            argument: 0,
+            expected: "a number of 1 or more",
+        });
+    }
+    Ok(Dimension::NONE)
+}
+
+/// A plain number strictly between −1 and 1 (the domain of atanh).
+pub(super) fn plain_between_minus_one_and_one(args: &[Quantity]) -> Result<Dimension, CallError> {
+    plain(args)?;
+    if !(args[0].si > -1.0 && args[0].si < 1.0) {
+        return Err(CallError::Domain {
+            argument: 0,
+            expected: "a number between -1 and 1 (not either end)",
+        });
+    }
+    Ok(Dimension::NONE)
+}
+
 /// A plain number above zero.
 pub(super) fn plain_positive(args: &[Quantity]) -> Result<Dimension, CallError> {
     plain(args)?;
@@ -160,6 +184,66 @@ pub(super) const ATAN: UnaryRule = UnaryRule {
     slope: Slope {
         at_point: atan_slope,
         over_box: atan_slope,
+    },
+};
+
+/// sinh x; slope cosh x.
+pub(super) const SINH: UnaryRule = UnaryRule {
+    value: libm::sinh,
+    enclosure: sinh_enclosure,
+    slope: Slope {
+        at_point: sinh_slope,
+        over_box: sinh_slope,
+    },
+};
+
+/// cosh x; slope sinh x.
+pub(super) const COSH: UnaryRule = UnaryRule {
+    value: libm::cosh,
+    enclosure: cosh_enclosure,
+    slope: Slope {
+        at_point: cosh_slope,
+        over_box: cosh_slope,
+    },
+};
+
+/// tanh x; slope 1 − tanh² x.
+pub(super) const TANH: UnaryRule = UnaryRule {
+    value: libm::tanh,
+    enclosure: tanh_enclosure,
+    slope: Slope {
+        at_point: tanh_slope,
+        over_box: tanh_slope,
+    },
+};
+
+/// asinh x; slope 1 / √(x² + 1).
+pub(super) const ASINH: UnaryRule = UnaryRule {
+    value: libm::asinh,
+    enclosure: asinh_enclosure,
+    slope: Slope {
+        at_point: asinh_slope,
+        over_box: asinh_slope,
+    },
+};
+
+/// acosh x for x ≥ 1; slope 1 / √(x² − 1).
+pub(super) const ACOSH: UnaryRule = UnaryRule {
+    value: libm::acosh,
+    enclosure: acosh_enclosure,
+    slope: Slope {
+        at_point: acosh_slope,
+        over_box: acosh_slope,
+    },
+};
+
+/// atanh x for −1 < x < 1; slope 1 / (1 − x²).
+pub(super) const ATANH: UnaryRule = UnaryRule {
+    value: libm::atanh,
+    enclosure: atanh_enclosure,
+    slope: Slope {
+        at_point: atanh_slope,
+        over_box: atanh_slope,
     },
 };
 
@@ -302,6 +386,34 @@ fn atan_enclosure(x: Interval) -> Interval {
     x.increasing(libm::atan)
 }
 
+fn sinh_enclosure(x: Interval) -> Interval {
+    x.increasing(libm::sinh)
+}
+
+/// cosh falls to its least value, 1, at 0 and rises on either side.
+fn cosh_enclosure(x: Interval) -> Interval {
+    let (a, b) = (libm::cosh(x.lo), libm::cosh(x.hi));
+    let lo = if x.contains(0.0) { 1.0 } else { a.min(b) };
+    Interval::outward(lo, a.max(b)).intersect(Interval::new(1.0, f64::INFINITY))
+}
+
+fn tanh_enclosure(x: Interval) -> Interval {
+    x.increasing(libm::tanh).intersect(Interval::new(-1.0, 1.0))
+}
+
+fn asinh_enclosure(x: Interval) -> Interval {
+    x.increasing(libm::asinh)
+}
+
+fn acosh_enclosure(x: Interval) -> Interval {
+    x.increasing_on(1.0, f64::INFINITY, libm::acosh)
+        .intersect(Interval::new(0.0, f64::INFINITY))
+}
+
+fn atanh_enclosure(x: Interval) -> Interval {
+    x.increasing_on(-1.0, 1.0, libm::atanh)
+}
+
 fn exp_enclosure(x: Interval) -> Interval {
     x.increasing(libm::exp)
 }
@@ -371,6 +483,33 @@ fn acos_slope<T: Number>(x: T, value: T) -> T {
 fn atan_slope<T: Number>(x: T, _value: T) -> T {
     let one = T::constant(1.0);
     one.div(one.add(x.mul(x)))
+}
+
+fn sinh_slope<T: Number>(x: T, _value: T) -> T {
+    x.apply(&COSH)
+}
+
+fn cosh_slope<T: Number>(x: T, _value: T) -> T {
+    x.apply(&SINH)
+}
+
+fn tanh_slope<T: Number>(_x: T, value: T) -> T {
+    T::constant(1.0).sub(value.mul(value))
+}
+
+fn asinh_slope<T: Number>(x: T, _value: T) -> T {
+    let one = T::constant(1.0);
+    one.div(x.mul(x).add(one).apply(&SQRT))
+}
+
+fn acosh_slope<T: Number>(x: T, _value: T) -> T {
+    let one = T::constant(1.0);
+    one.div(x.mul(x).sub(one).apply(&SQRT))
+}
+
+fn atanh_slope<T: Number>(x: T, _value: T) -> T {
+    let one = T::constant(1.0);
+    one.div(one.sub(x.mul(x)))
 }
 
 fn exp_slope<T: Number>(_x: T, value: T) -> T {
