@@ -387,27 +387,24 @@ impl<'a> Evaluator<'a> {
         )))
     }
 
-    /// Every force listed on a body must be a force vector.
+    /// Every force listed on a body must be a force vector. A force that
+    /// has no value is left to the resultant's own evaluation to report.
     pub(crate) fn check_forces(
         &self,
         body: &crate::syntax::ast::BodyDef,
     ) -> Result<(), Box<Diagnostic>> {
-        for force in &body.forces {
-            let Some(&id) = self.sheet.names.get(force.text.as_str()) else {
+        for force in body.force_exprs() {
+            let Ok(value) = self.eval(force) else {
                 continue;
             };
-            let Some(value) = self.values[id] else {
-                continue;
-            };
+            let text = force.span.text(self.source);
             let problem = match value {
                 Value::Scalar(q) => Some(format!(
-                    "`{}` is a scalar ({}); a force on a body is a vector",
-                    force.text,
+                    "`{text}` is a scalar ({}); a force on a body is a vector",
                     self.style.show(q)
                 )),
                 Value::Vector(v) if v.dimension != units::Dimension::FORCE => Some(format!(
-                    "`{}` is a vector of {}, not of force",
-                    force.text,
+                    "`{text}` is a vector of {}, not of force",
                     v.dimension.describe()
                 )),
                 Value::Vector(_) => None,

@@ -6,7 +6,7 @@ use std::sync::Arc;
 
 use crate::base::{LineIndex, Span};
 use crate::sheet::{CellId, Header, Sheet};
-use crate::syntax::ast::Comparison;
+use crate::syntax::ast::{Comparison, ExprKind, NameRef, Target};
 use crate::units::{DisplayUnit, Quantity, Value, VectorQuantity};
 
 /// The state of a cell after evaluation.
@@ -549,22 +549,44 @@ impl Evaluated {
         self.sheet.cell_order().collect()
     }
 
-    /// Every free body declared with `body`, in file order.
+    /// An evaluator holding this model's values, to compute an expression
+    /// over them (a force written as a formula on a body).
+    fn evaluator_over_values(&self) -> super::Evaluator<'_> {
+        super::Evaluator::resume(
+            &self.sheet,
+            &self.source,
+            self.values.clone(),
+            self.statuses.clone(),
+            self.spreads.clone(),
+        )
+    }
+
+    /// Every free body declared with `body`, in file order, each force with
+    /// its value: a named force's is its cell's, an expression's is computed
+    /// from the evaluated cells it uses.
     pub fn free_bodies(&self) -> Vec<FreeBody<'_>> {
+        let mut evaluator: Option<super::Evaluator<'_>> = None;
         (0..self.n_cells())
             .filter_map(|id| {
                 let body = self.sheet.body(id)?;
                 let forces = body
-                    .forces
-                    .iter()
+                    .force_exprs()
+                    .into_iter()
                     .map(|force| {
-                        let value = self
-                            .sheet
-                            .names
-                            .get(force.text.as_str())
-                            .and_then(|&f| self.values[f])
-                            .and_then(|v| v.vector());
-                        (force.text.as_str(), value)
+                        let value = match &force.kind {
+                            ExprKind::Name(NameRef {
+                                target: Target::Cell(cell),
+                                ..
+                            }) => self.values[*cell],
+                            _ => evaluator
+                                .get_or_insert_with(|| self.evaluator_over_values())
+                                .eval(force)
+                                .ok(),
+                        };
+                        (
+                            force.span.text(&self.source),
+                            value.and_then(|v| v.vector()),
+                        )
                     })
                     .collect();
                 Some(FreeBody {

@@ -545,7 +545,21 @@ impl<'a> Builder<'a> {
     fn free_body(&self, body: &crate::eval::FreeBody<'_>) -> svg::FreeBody {
         let evaluated = self.evaluated;
         let sig_figs = evaluated.header().sig_figs;
-        let display = evaluated.cell_at(body.cell).display.clone();
+        // The body's unit; a body with no value (a force in error) has
+        // none, so its forces are shown in the sheet's unit for a force.
+        let mut display = evaluated.cell_at(body.cell).display.clone();
+        if display.text.is_empty() {
+            let largest = body
+                .forces
+                .iter()
+                .filter_map(|(_, force)| force.map(|f| f.magnitude().si))
+                .fold(0.0, f64::max);
+            display = crate::units::pick_unit(
+                crate::units::Dimension::FORCE,
+                largest,
+                evaluated.header().display,
+            );
+        }
         let arrow = |label: &str, vector: crate::units::VectorQuantity| svg::ForceArrow {
             label: label.to_string(),
             magnitude: crate::eval::format_value(

@@ -227,14 +227,43 @@ pub struct CheckDef {
 pub struct BodyDef {
     /// The body's name, also the name of its resultant.
     pub name: Ident,
-    /// The force cells acting on it, as listed.
-    pub forces: Vec<Ident>,
+    /// Where each force acting on it is written, as listed: a cell's name
+    /// or an expression. The forces themselves are the terms of the
+    /// resultant's sum ([`BodyDef::force_exprs`]), so they are linked and
+    /// evaluated once, as part of it.
+    pub forces: Vec<Span>,
     /// The optional description.
     pub description: Option<Description>,
     /// The resultant as a cell: `name = force + force + …`, built by the
     /// parser from the list so that linking and evaluation treat it as any
     /// other cell.
     pub resultant: CellDef,
+}
+
+impl BodyDef {
+    /// The forces as expressions, in the order listed: the terms of the
+    /// resultant `f₁ + f₂ + … + fₙ`, a left-leaning sum of exactly as many
+    /// terms as forces (so a force that is itself a sum stays one force).
+    pub fn force_exprs(&self) -> Vec<&Expr> {
+        let mut terms = Vec::with_capacity(self.forces.len());
+        let mut sum = &self.resultant.expr;
+        for _ in 1..self.forces.len() {
+            match &sum.kind {
+                ExprKind::Binary {
+                    op: BinaryOp::Add,
+                    lhs,
+                    rhs,
+                } => {
+                    terms.push(&**rhs);
+                    sum = lhs;
+                }
+                _ => break,
+            }
+        }
+        terms.push(sum);
+        terms.reverse();
+        terms
+    }
 }
 
 /// A solve block: unknowns with units (and guesses), then equations.

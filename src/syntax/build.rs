@@ -457,21 +457,19 @@ impl Builder {
     }
 
     fn body(&self, pair: Pair<'_, Rule>) -> Built<BodyDef> {
-        let mut names = Vec::new();
+        let mut name = None;
+        let mut forces = Vec::new();
         let mut description = None;
         for part in pair.into_inner() {
             match part.as_rule() {
                 Rule::keyword_body => {}
-                Rule::name => names.push(self.ident(part)),
+                Rule::name => name = Some(self.ident(part)),
+                Rule::expr => forces.push(self.expr(part)?),
                 Rule::description => description = Some(self.description(part)),
                 rule => unreachable!("expected a part of a body, found {rule:?}"),
             }
         }
-        let mut names = names.into_iter();
-        let name = names
-            .next()
-            .unwrap_or_else(|| unreachable!("expected the body's name"));
-        let forces: Vec<Ident> = names.collect();
+        let name = name.unwrap_or_else(|| unreachable!("expected the body's name"));
         // The resultant is a sum, evaluated recursively: as many forces as a
         // formula may have operators.
         if forces.len() > super::MAX_OPERATORS {
@@ -484,20 +482,13 @@ impl Builder {
                 ),
             });
         }
+        let spans: Vec<Span> = forces.iter().map(|force| force.span).collect();
         // The resultant is the sum of the listed forces, written as a formula.
-        let reference = |force: &Ident| Expr {
-            span: force.span,
-            kind: ExprKind::Name(NameRef {
-                text: force.text.as_str().into(),
-                target: Target::Unresolved,
-            }),
-        };
+        let mut forces = forces.into_iter();
         let mut sum = forces
-            .first()
-            .map(reference)
+            .next()
             .unwrap_or_else(|| unreachable!("expected a force"));
-        for force in &forces[1..] {
-            let rhs = reference(force);
+        for rhs in forces {
             sum = Expr {
                 span: sum.span.to(rhs.span),
                 kind: ExprKind::Binary {
@@ -516,7 +507,7 @@ impl Builder {
                 description: description.clone(),
             },
             name,
-            forces,
+            forces: spans,
             description,
         })
     }

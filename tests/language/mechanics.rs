@@ -113,3 +113,32 @@ fn a_mass_in_lbm_times_an_acceleration_in_ft_per_s2() {
     let sheet = run_clean("m = 180 lbm\na = 1.5 ft/s^2\nF [lbf] = m * a\n");
     assert_close(shown(&sheet, "F"), 180.0 * 1.5 * 6096.0 / 196133.0, 1e-12);
 }
+
+#[test]
+fn a_body_lists_forces_as_expressions_and_sums_them() {
+    // A lifting hook held by a sling pulling along −e_A, its load's weight,
+    // and a tag line: ΣF = −T_A e_A + W + F_tag, by hand:
+    // x: −12 kN · 0.6 + 0 + 7.2 kN = 0; y: −12 kN · 0.8 − 9 kN + 0 = −18.6 kN.
+    let sheet = run_clean(
+        "T_A = 12 kN\ne_A = vec(0.6, 0.8)\nW = vec(0 N, -9 kN)\n\
+         body hook: -T_A * e_A, W, vec(7.2 kN, 0 N)\n\
+         hook_x = hook.x\nhook_y = hook.y\n",
+    );
+    assert_close(common::si(&sheet, "hook_x"), 0.0, 1e-12);
+    assert_close(common::si(&sheet, "hook_y"), -18_600.0, 1e-12);
+    // Each force keeps its own value for the free-body drawing.
+    let bodies = sheet.free_bodies();
+    let forces: Vec<(&str, Option<[f64; 2]>)> = bodies[0]
+        .forces
+        .iter()
+        .map(|(text, value)| (*text, value.map(|v| [v.si[0], v.si[1]])))
+        .collect();
+    assert_eq!(
+        forces,
+        [
+            ("-T_A * e_A", Some([-7_200.0, -9_600.0])),
+            ("W", Some([0.0, -9_000.0])),
+            ("vec(7.2 kN, 0 N)", Some([7_200.0, 0.0])),
+        ]
+    );
+}

@@ -356,3 +356,22 @@ fn a_free_body_diagram_draws_arrows_to_scale_and_escapes_labels() {
     assert!(figure.svg.contains("T = 20 kN"));
     assert!(figure.caption.contains("resultant"));
 }
+
+#[test]
+fn a_free_body_with_a_force_in_error_still_draws_its_forces_with_units() {
+    // The second body has no resultant (a scalar force is an error), so it
+    // has no display unit of its own; its weight is still shown in kN.
+    let source = "T_A = 12 kN\ne_A = vec(0.6, 0.8)\nW = vec(0 N, -9 kN)\n\
+                  body hook: -T_A * e_A, W, vec(7.2 kN, 0 N)\nbody bad: 2 * T_A, W\n";
+    let html = report::render(&evaluate_source(source), Format::Html);
+    assert!(
+        html.contains(">-T_A * e_A = 12 kN<"),
+        "an expression force is labelled as written"
+    );
+    assert_eq!(
+        html.matches(">W = 9 kN<").count(),
+        2,
+        "both bodies show W in kN"
+    );
+    assert!(!html.contains(">W = 9000<"));
+}
