@@ -141,10 +141,55 @@ fn compile_and_compare(
         })
         .collect();
     let first = points.first()?;
-    let names: Vec<String> = (0..n).map(|i| format!("a{i}")).collect();
+    let inputs: Vec<String> = first
+        .iter()
+        .map(|value| format!("{value:?}{unit}"))
+        .collect();
+    with_call(function, &inputs, |source, evaluator, expr, ids| {
+        let input_of = |name: &NameRef| {
+            let index = ids.iter().position(|&id| name.target == Target::Cell(id))?;
+            Some(Input {
+                index: index as u32,
+                sample: evaluator.values[ids[index]]?.scalar()?,
+            })
+        };
+        let program = match evaluator.compile(expr, &input_of) {
+            Ok(program) => program,
+            Err(error) => panic!("`{source}` does not compile: {error:?}"),
+        };
+        for point in &points {
+            for (&id, &si) in ids.iter().zip(point) {
+                evaluator.values[id] = Some(Value::Scalar(Quantity::new(si, dimension)));
+            }
+            let interpreted = evaluator
+                .eval(expr)
+                .ok()
+                .and_then(|value| value.scalar())
+                .map_or(f64::NAN, |q| q.si);
+            let compiled = program.run(point);
+            assert_eq!(
+                compiled.to_bits(),
+                interpreted.to_bits(),
+                "{}{point:?}: compiled {compiled}, interpreted {interpreted}",
+                function.name
+            );
+        }
+        Some(Compiled { program, points })
+    })
+}
+
+/// A sheet of the inputs `a0 = …`, `a1 = …` (as written in `inputs`) and
+/// the cell `r = function(a0, a1, …)`, evaluated; `with` gets its source,
+/// the evaluator, `r`'s formula and the inputs' cell ids.
+fn with_call<R>(
+    function: &Function,
+    inputs: &[String],
+    with: impl FnOnce(&str, &mut Evaluator<'_>, &Expr, &[usize]) -> R,
+) -> R {
+    let names: Vec<String> = (0..inputs.len()).map(|i| format!("a{i}")).collect();
     let mut source = String::new();
-    for (name, value) in names.iter().zip(first) {
-        source.push_str(&format!("{name} = {value:?}{unit}\n"));
+    for (name, value) in names.iter().zip(inputs) {
+        source.push_str(&format!("{name} = {value}\n"));
     }
     source.push_str(&format!("r = {}({})\n", function.name, names.join(", ")));
     let sheet = Arc::new(Sheet::parse(&source));
@@ -158,35 +203,7 @@ fn compile_and_compare(
         .map(|name| sheet.names[name.as_str()])
         .collect();
     let expr = sheet.cell(sheet.names["r"]).expr.expect("a formula");
-    let input_of = |name: &NameRef| {
-        let index = ids.iter().position(|&id| name.target == Target::Cell(id))?;
-        Some(Input {
-            index: index as u32,
-            sample: evaluator.values[ids[index]]?.scalar()?,
-        })
-    };
-    let program = match evaluator.compile(expr, &input_of) {
-        Ok(program) => program,
-        Err(error) => panic!("`{source}` does not compile: {error:?}"),
-    };
-    for point in &points {
-        for (&id, &si) in ids.iter().zip(point) {
-            evaluator.values[id] = Some(Value::Scalar(Quantity::new(si, dimension)));
-        }
-        let interpreted = evaluator
-            .eval(expr)
-            .ok()
-            .and_then(|value| value.scalar())
-            .map_or(f64::NAN, |q| q.si);
-        let compiled = program.run(point);
-        assert_eq!(
-            compiled.to_bits(),
-            interpreted.to_bits(),
-            "{}{point:?}: compiled {compiled}, interpreted {interpreted}",
-            function.name
-        );
-    }
-    Some(Compiled { program, points })
+    with(&source, &mut evaluator, expr, &ids)
 }
 
 #[test]
@@ -415,37 +432,22 @@ fn a_function_that_takes_vectors_says_so_when_compiled() {
             continue;
         };
         let n = counts(function.arity)[0];
-        let names: Vec<String> = (0..n).map(|i| format!("a{i}")).collect();
-        let mut source: String = names
-            .iter()
-            .map(|name| format!("{name} = 0.35\n"))
-            .collect();
-        source.push_str(&format!("r = {}({})\n", function.name, names.join(", ")));
-        let sheet = Arc::new(Sheet::parse(&source));
-        let text: Arc<str> = Arc::from(source.as_str());
-        let mut evaluator = Evaluator::new(&sheet, &text);
-        for id in 0..sheet.cells.len() {
-            evaluator.evaluate_cell(id);
-        }
-        let inputs: Vec<usize> = names
-            .iter()
-            .map(|name| sheet.names[name.as_str()])
-            .collect();
-        let expr = sheet.cell(sheet.names["r"]).expr.expect("a formula");
-        let input_of = |name: &NameRef| {
-            let index = inputs
-                .iter()
-                .position(|&id| name.target == Target::Cell(id))?;
-            Some(Input {
-                index: index as u32,
-                sample: Quantity::number(0.35),
-            })
-        };
-        assert!(
+        let inputs = vec!["0.35".to_string(); n];
+        let reports_vectors = with_call(function, &inputs, |_, evaluator, expr, ids| {
+            let input_of = |name: &NameRef| {
+                let index = ids.iter().position(|&id| name.target == Target::Cell(id))?;
+                Some(Input {
+                    index: index as u32,
+                    sample: Quantity::number(0.35),
+                })
+            };
             matches!(
                 evaluator.compile(expr, &input_of),
                 Err(CompileError::NeedsVectors(_))
-            ),
+            )
+        });
+        assert!(
+            reports_vectors,
             "`{}` takes vectors but its call does not report it",
             function.name
         );
