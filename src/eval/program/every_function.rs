@@ -333,7 +333,12 @@ fn every_function_encloses_its_values_over_a_box() {
 
 /// The derivative along argument `along` at `point`, by dual numbers.
 fn dual_derivative(program: &Program, point: &[f64], along: usize) -> Dual<f64> {
-    let inputs: Vec<Dual<f64>> = point
+    program.run(&seeded_along(point, along))
+}
+
+/// Dual numbers of `values`, the one at `along` the variable.
+fn seeded_along<T: crate::numeric::Number>(values: &[T], along: usize) -> Vec<Dual<T>> {
+    values
         .iter()
         .enumerate()
         .map(|(i, &x)| {
@@ -343,8 +348,7 @@ fn dual_derivative(program: &Program, point: &[f64], along: usize) -> Dual<f64> 
                 Dual::fixed(x)
             }
         })
-        .collect();
-    program.run(&inputs)
+        .collect()
 }
 
 #[test]
@@ -396,18 +400,7 @@ fn every_function_encloses_its_derivatives_over_a_box() {
             for radius in RADII {
                 let boxes = boxes(point, radius);
                 for along in 0..point.len() {
-                    let inputs: Vec<Dual<Interval>> = boxes
-                        .iter()
-                        .enumerate()
-                        .map(|(i, &range)| {
-                            if i == along {
-                                Dual::variable(range)
-                            } else {
-                                Dual::fixed(range)
-                            }
-                        })
-                        .collect();
-                    let enclosure = program.run(&inputs);
+                    let enclosure = program.run(&seeded_along(&boxes, along));
                     for sample in samples(&boxes) {
                         let at_sample = dual_derivative(&program, &sample, along);
                         if !at_sample.value.is_finite() || !at_sample.derivative.is_finite() {
