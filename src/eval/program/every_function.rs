@@ -87,7 +87,12 @@ fn counts(arity: Arity) -> Vec<usize> {
 
 /// Every point of `values` in `n` dimensions.
 fn grid_points(values: &[f64], n: usize) -> Vec<Vec<f64>> {
-    (0..n).fold(vec![Vec::new()], |points, _| {
+    every_combination(&vec![values.to_vec(); n])
+}
+
+/// Every point whose k-th coordinate is one of `axes[k]`.
+fn every_combination(axes: &[Vec<f64>]) -> Vec<Vec<f64>> {
+    axes.iter().fold(vec![Vec::new()], |points, values| {
         points
             .iter()
             .flat_map(|point| {
@@ -268,19 +273,11 @@ fn boxes(point: &[f64], radius: f64) -> Vec<Interval> {
 
 /// Points sampled across a box.
 fn samples(boxes: &[Interval]) -> Vec<Vec<f64>> {
-    boxes.iter().fold(vec![Vec::new()], |points, range| {
-        let values = across(range.lo, range.hi, ACROSS);
-        points
-            .iter()
-            .flat_map(|point| {
-                values.iter().map(move |&value| {
-                    let mut next = point.clone();
-                    next.push(value);
-                    next
-                })
-            })
-            .collect()
-    })
+    let axes: Vec<Vec<f64>> = boxes
+        .iter()
+        .map(|range| across(range.lo, range.hi, ACROSS))
+        .collect();
+    every_combination(&axes)
 }
 
 /// The compiled call of every scalar function, for every argument count.
