@@ -245,7 +245,7 @@ impl<'a> Evaluator<'a> {
         })
     }
 
-    pub(crate) fn compute_cell(&mut self, id: CellId) -> Evaluation {
+    fn compute_cell(&mut self, id: CellId) -> Evaluation {
         let cell = self.sheet.cell(id);
         let (expr, tolerance) = match self.overrides.get(&id) {
             Some(replacement) => (Some(&replacement.expr), replacement.tolerance.as_deref()),
@@ -279,7 +279,7 @@ impl<'a> Evaluator<'a> {
     /// The nominal value and spread of a cell with a tolerance: `± 3 %` is
     /// relative, `± 0.05 m` absolute, `.. 1900 kg` makes the formula the lower
     /// bound and the midpoint the nominal value.
-    pub(crate) fn apply_tolerance(
+    fn apply_tolerance(
         &self,
         value: Value,
         tolerance: &Tolerance,
@@ -361,7 +361,7 @@ impl<'a> Evaluator<'a> {
     }
 
     /// Fails unless `value` has the dimension of the declared `unit`.
-    pub(crate) fn check_declared(
+    fn check_declared(
         &self,
         name: &str,
         unit: &UnitExpr,
@@ -389,10 +389,7 @@ impl<'a> Evaluator<'a> {
 
     /// Every force listed on a body must be a force vector. A force that
     /// has no value is left to the resultant's own evaluation to report.
-    pub(crate) fn check_forces(
-        &self,
-        body: &crate::syntax::ast::BodyDef,
-    ) -> Result<(), Box<Diagnostic>> {
+    fn check_forces(&self, body: &crate::syntax::ast::BodyDef) -> Result<(), Box<Diagnostic>> {
         for force in body.force_exprs() {
             let Ok(value) = self.eval(force) else {
                 continue;
@@ -538,12 +535,7 @@ impl<'a> Evaluator<'a> {
 
     /// A check shows its values in the unit of whichever side is a cell with
     /// a declared unit, else in the display system's unit.
-    pub(crate) fn check_display_unit(
-        &self,
-        lhs: &Expr,
-        rhs: &Expr,
-        value: Quantity,
-    ) -> DisplayUnit {
+    fn check_display_unit(&self, lhs: &Expr, rhs: &Expr, value: Quantity) -> DisplayUnit {
         [lhs, rhs]
             .into_iter()
             .find_map(|side| match &side.kind {
