@@ -46,6 +46,7 @@ pub mod blocks;
 pub mod cli;
 pub mod diff;
 pub mod eval;
+pub mod include;
 pub mod live;
 pub mod numeric;
 pub mod pipeline;

@@ -11,9 +11,9 @@ use std::path::{Path, PathBuf};
 /// use only the modules before it. Items of the crate root (`CAUTION`,
 /// `decode_source`, `allocator`) may be used by any module but `base`
 /// and `numeric`.
-const LAYERS: [&str; 17] = [
-    "base", "numeric", "units", "syntax", "sheet", "eval", "blocks", "audit", "pipeline", "live",
-    "review", "diff", "present", "plot", "report", "tui", "cli",
+const LAYERS: [&str; 18] = [
+    "base", "numeric", "units", "syntax", "sheet", "eval", "blocks", "include", "audit",
+    "pipeline", "live", "review", "diff", "present", "plot", "report", "tui", "cli",
 ];
 
 /// Modules that use nothing of the crate at all.

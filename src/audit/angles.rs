@@ -61,7 +61,8 @@ impl<'c, 'a> AngleWords<'c, 'a> {
                 Target::Constant(index) => {
                     self.count_pi && units::CONSTANTS.get(index).is_some_and(|c| c.name == "pi")
                 }
-                Target::Unresolved => false,
+                // A used sheet's cell is a value here, not a formula.
+                Target::Imported { .. } | Target::Unresolved => false,
             },
             ExprKind::Slope { .. } => true,
             ExprKind::Call { function, args } => match angles_of(&function.text) {

@@ -18,7 +18,7 @@ use rustc_hash::FxHashMap;
 
 use crate::base::LineIndex;
 use crate::base::{Code, Diagnostic, Fix, FixValue, Severity};
-use crate::blocks::evaluate_source;
+use crate::blocks::evaluate_source_with;
 use crate::eval::{CellStatus, Evaluated, format_value};
 use crate::units::{DisplayUnit, Quantity, Value, pick_unit};
 
@@ -307,7 +307,9 @@ fn check(
         return None;
     }
     let fixed_source = format!("{}{}{}", &source[..start], fix.replacement, &source[end..]);
-    let mut fixed = evaluate_source(&fixed_source);
+    // The fixed sheet reads the very sheets the sheet read.
+    let used = crate::sheet::Reloaded(&evaluated.sheet().imports);
+    let mut fixed = evaluate_source_with(&fixed_source, &used);
     super::add_lints(&mut fixed);
     let after = LineFindings::of(&fixed.diagnostics, &fixed.lines);
 

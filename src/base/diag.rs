@@ -130,6 +130,13 @@ pub enum Code {
     /// A run query that names no state of a simulate block (or states of
     /// two), or a state used outside a run query.
     BadRunQuery,
+    /// A sheet named on a `use` line that cannot be read.
+    IncludeMissing,
+    /// Sheets that use each other in a ring.
+    IncludeCycle,
+    /// A used sheet with errors, or a cell of it that cannot be read here
+    /// (no value, or a tolerance that does not cross sheets).
+    IncludeError,
 }
 
 impl Code {
@@ -178,11 +185,14 @@ impl Code {
             Code::IntegrationFailed => "integration-failed",
             Code::NotInRun => "not-in-run",
             Code::BadRunQuery => "bad-run-query",
+            Code::IncludeMissing => "include-missing",
+            Code::IncludeCycle => "include-cycle",
+            Code::IncludeError => "include-error",
         }
     }
 
     /// Every code, for documentation and tests.
-    pub const ALL: [Code; 42] = [
+    pub const ALL: [Code; 45] = [
         Code::ParseError,
         Code::EncodingError,
         Code::HeaderError,
@@ -225,6 +235,9 @@ impl Code {
         Code::IntegrationFailed,
         Code::NotInRun,
         Code::BadRunQuery,
+        Code::IncludeMissing,
+        Code::IncludeCycle,
+        Code::IncludeError,
     ];
 }
 

@@ -13,16 +13,26 @@ use std::sync::Arc;
 
 use crate::base::LineIndex;
 use crate::eval::{CaseOutcome, CellRange, CheckResult, Evaluated, Evaluator, OutlineItem};
-use crate::sheet::{CellId, Item, Node, NodeId, Sheet};
+use crate::sheet::{CellId, Item, Node, NodeId, Sheet, SheetLoader};
 use crate::syntax::ast::StatementKind;
 
 pub use cases::MAX_TOLERANCE_PAIRS;
 pub use simulate::{DEFAULT_RELATIVE_TOLERANCE, MAX_KEPT_COEFFICIENTS, MAX_STEPS, step_limit};
 pub use solve::MAX_SOLVE_UNKNOWNS;
 
-/// Parses, links and evaluates a sheet's source text in one call.
+/// Parses, links and evaluates a sheet's source text in one call (a sheet
+/// with no file: a `use` line is an error).
 pub fn evaluate_source(source: &str) -> Evaluated {
     evaluate(Arc::new(Sheet::parse(source)), Arc::from(source))
+}
+
+/// [`evaluate_source`] with the sheets its `use` lines name loaded by
+/// `loader`.
+pub fn evaluate_source_with(source: &str, loader: &dyn SheetLoader) -> Evaluated {
+    evaluate(
+        Arc::new(Sheet::parse_with(source, loader)),
+        Arc::from(source),
+    )
 }
 
 /// Evaluates every cell, solve block and check of a linked sheet, then
@@ -144,6 +154,11 @@ impl Evaluator<'_> {
                         .position(|report| report.statement == statement)
                         .map_or_else(|| invalid(statement), OutlineItem::Solve),
                     Item::Invalid(index) | Item::Review(index) => invalid(index),
+                    Item::Use(statement) => sheet
+                        .imports
+                        .iter()
+                        .position(|import| import.statement == statement)
+                        .map_or_else(|| invalid(statement), OutlineItem::Use),
                     Item::Simulate(statement) => self
                         .runs
                         .iter()

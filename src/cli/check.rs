@@ -154,6 +154,7 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
         header.display.label()
     ));
     let _ = writeln!(out, "{}", painter.paint(DIM, &facts.join(" · ")));
+    write_uses(&mut out, evaluated, &painter);
 
     write_cells(&mut out, evaluated, &painter);
 
@@ -171,6 +172,27 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
     write_summary(&mut out, evaluated, &painter);
     let _ = writeln!(out, "\n{}", painter.paint(DIM, &wrap(crate::CAUTION, 78)));
     out
+}
+
+/// One line per `use` line: the used sheet, its title block and the start
+/// of its fingerprint, so the output says which revision it rests on.
+fn write_uses(out: &mut String, evaluated: &Evaluated, painter: &Painter) {
+    for import in &evaluated.sheet().imports {
+        let about = match &import.loaded {
+            Ok(used) => {
+                let mut facts = vec![format!("uses {} as {}", used.path, import.alias.text)];
+                facts.extend(used.title.as_ref().map(|title| format!("“{title}”")));
+                facts.extend(used.revision.as_ref().map(|r| format!("revision {r}")));
+                facts.push(format!(
+                    "fingerprint {}",
+                    used.fingerprint.get(..8).unwrap_or(&used.fingerprint)
+                ));
+                facts.join(" · ")
+            }
+            Err(_) => format!("uses {} as {}: not read", import.path, import.alias.text),
+        };
+        let _ = writeln!(out, "{}", painter.paint(DIM, &visible(&about)));
+    }
 }
 
 /// Which heading each cell sits under (its position in the outline), to

@@ -36,6 +36,51 @@ pub fn run(old_path: &Path, new_path: &Path, as_json: bool) -> io::Result<u8> {
     })
 }
 
+/// The used sheets that differ, each with its cells that moved.
+fn write_uses(out: &mut String, uses: &[diff::UseChange]) {
+    if uses.is_empty() {
+        return;
+    }
+    let _ = writeln!(out, "\nUsed sheets");
+    let side = |side: &Option<diff::UsedSide>| {
+        side.as_ref().map_or_else(
+            || "(not used)".to_string(),
+            |side| {
+                let revision = side
+                    .revision
+                    .as_deref()
+                    .map(|r| format!(" revision {r}"))
+                    .unwrap_or_default();
+                let fingerprint = side
+                    .fingerprint
+                    .as_deref()
+                    .map_or("not read", |f| f.get(..8).unwrap_or(f));
+                format!("{}{revision} ({fingerprint})", side.path)
+            },
+        )
+    };
+    for used in uses {
+        let _ = writeln!(
+            out,
+            "  {}: {} → {}",
+            used.alias,
+            side(&used.old),
+            side(&used.new)
+        );
+        for cell in &used.cells {
+            let value = |v: &Option<String>| v.clone().unwrap_or_else(|| "—".to_string());
+            let _ = writeln!(
+                out,
+                "    {}.{}  {} → {}",
+                used.alias,
+                cell.name,
+                value(&cell.old),
+                value(&cell.new)
+            );
+        }
+    }
+}
+
 fn shown(value: &Option<DiffValue>) -> String {
     value
         .as_ref()
@@ -79,6 +124,7 @@ pub fn text(diff: &RevisionDiff, old_name: &str, new_name: &str) -> String {
         );
         return out;
     }
+    write_uses(&mut out, &diff.uses);
     let edits: Vec<_> = diff
         .cells
         .iter()
@@ -220,6 +266,9 @@ struct JsonDiff<'a> {
     checks: Vec<JsonCheck<'a>>,
     /// Cells in both revisions with nothing changed.
     unchanged: usize,
+    /// Sheets used (`use` lines) that differ, by alias, with their cells
+    /// whose values moved.
+    uses: &'a [diff::UseChange],
 }
 
 /// One revision.
@@ -349,6 +398,7 @@ pub fn json(diff: &RevisionDiff, old_name: &str, new_name: &str) -> String {
             })
             .collect(),
         unchanged: diff.n_unchanged,
+        uses: &diff.uses,
     };
     super::json::text(&report)
 }

@@ -48,6 +48,53 @@ struct Report<'a> {
     diagnostics: Vec<JsonDiagnostic<'a>>,
     /// The checker's record.
     review: JsonReview,
+    /// Every sheet a `use` line names, in the sheet's order.
+    uses: Vec<JsonUse<'a>>,
+}
+
+/// A sheet a `use` line names.
+#[derive(Serialize, JsonSchema)]
+struct JsonUse<'a> {
+    /// The name its cells are read under (`gear` in `gear.WLL`).
+    alias: &'a str,
+    /// The path as written on the `use` line.
+    path: &'a str,
+    /// Its title, if it was read and has one.
+    title: Option<&'a str>,
+    /// Its revision mark, if it was read and has one.
+    revision: Option<&'a str>,
+    /// Its fingerprint (covering the sheets it uses), or null if it could
+    /// not be read.
+    fingerprint: Option<&'a str>,
+    /// How many errors it has on its own.
+    errors: usize,
+    /// Why it could not be read, if so.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    problem: Option<&'a str>,
+}
+
+fn uses(evaluated: &Evaluated) -> Vec<JsonUse<'_>> {
+    evaluated
+        .sheet()
+        .imports
+        .iter()
+        .map(|import| {
+            let used = import.sheet();
+            JsonUse {
+                alias: &import.alias.text,
+                path: &import.path,
+                title: used.and_then(|used| used.title.as_deref()),
+                revision: used.and_then(|used| used.revision.as_deref()),
+                fingerprint: used.map(|used| used.fingerprint.as_str()),
+                errors: used.map_or(0, |used| used.errors.len()),
+                problem: import
+                    .loaded
+                    .as_ref()
+                    .err()
+                    .map(|problem| problem.message.as_str()),
+            }
+        })
+        .collect()
 }
 
 /// The counts every presentation shows (shared by `heft check` and
@@ -413,6 +460,7 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
             .map(|d| diagnostic(d, source, lines))
             .collect(),
         review: review(evaluated),
+        uses: uses(evaluated),
     };
     super::json::text(&report)
 }

@@ -225,7 +225,7 @@ fn load_sheet(path: &Path) -> io::Result<crate::eval::Evaluated> {
             format!("{} is larger than 4 GiB", path.display()),
         ));
     }
-    Ok(crate::pipeline::run_bytes(&bytes))
+    Ok(crate::pipeline::run_file_bytes(&bytes, path))
 }
 
 /// Writes a command's text to standard output, every hidden control shown

@@ -8,11 +8,14 @@
 //! written (blanks collapsed), else by label; those whose status or
 //! utilization changed are listed.
 
+mod used;
+
 use std::collections::HashMap;
 
 use crate::eval::formula::ShownValue;
 use crate::eval::{CellResult, CellStatus, CheckResult, CheckStatus, Evaluated};
 use crate::review;
+pub use used::{UseChange, UsedCellChange, UsedSide, compare_uses};
 
 /// How a cell's definition changed.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -134,6 +137,8 @@ pub struct RevisionDiff {
     pub checks: Vec<CheckChange>,
     /// Cells in both revisions with nothing changed.
     pub n_unchanged: usize,
+    /// Used sheets that differ (by alias), with their cells that moved.
+    pub uses: Vec<UseChange>,
 }
 
 impl RevisionDiff {
@@ -255,6 +260,7 @@ pub fn compare(old: &Evaluated, new: &Evaluated) -> RevisionDiff {
         cells,
         checks: compare_checks(old, new),
         n_unchanged,
+        uses: compare_uses(old, new),
     }
 }
 

@@ -115,6 +115,7 @@ impl<'a> Evaluator<'a> {
             Target::Constant(index) => units::CONSTANTS
                 .get(index)
                 .map(|constant| Value::Scalar(constant.value)),
+            Target::Imported { sheet, cell } => return self.imported(name, sheet, cell, span),
             Target::Unresolved => {
                 units::constant(&name.text).map(|constant| Value::Scalar(constant.value))
             }
@@ -126,6 +127,41 @@ impl<'a> Evaluator<'a> {
                 format!("`{}` is not defined", name.text),
             ))
         })
+    }
+
+    /// The value of a used sheet's cell (`gear.WLL`), or why it cannot be
+    /// read here: its sheet gave it none, or it has a tolerance, which does
+    /// not cross sheets (reading its nominal value would drop the range a
+    /// check must be judged over).
+    fn imported(&self, name: &NameRef, sheet: u32, cell: u32, span: Span) -> Evaluation {
+        let import = self.sheet.imports.get(sheet as usize);
+        let used = import.and_then(|import| import.sheet());
+        let export = used.and_then(|used| used.exports.get(cell as usize));
+        let (Some(used), Some(export)) = (used, export) else {
+            return Err(Box::new(Diagnostic::error(
+                Code::UndefinedName,
+                span,
+                format!("`{}` is not defined", name.text),
+            )));
+        };
+        let problem = if export.toleranced {
+            format!(
+                "`{}` has a tolerance in {} (line {}), and tolerances do not cross sheets",
+                name.text, used.path, export.line
+            )
+        } else if let Some(value) = export.value {
+            return Ok(value);
+        } else {
+            format!(
+                "`{}` has no value: {} cannot establish it (line {})",
+                name.text, used.path, export.line
+            )
+        };
+        Err(Box::new(
+            Diagnostic::error(Code::IncludeError, span, problem).with_help(
+                "write the value with its tolerance in this sheet, or correct the used sheet",
+            ),
+        ))
     }
 
     fn binary(&self, op: BinaryOp, lhs: &Expr, rhs: &Expr, span: Span) -> Evaluation {

@@ -146,6 +146,14 @@ impl Evaluated {
                             unit: display.text.to_string(),
                         }
                     }),
+                    Target::Imported { sheet, cell } => self
+                        .sheet
+                        .imports
+                        .get(sheet as usize)
+                        .and_then(|import| import.sheet())
+                        .and_then(|used| used.exports.get(cell as usize))
+                        .and_then(|export| export.shown.clone())
+                        .map(|(number, unit)| ShownValue { number, unit }),
                     Target::Unresolved => None,
                 },
             },

@@ -440,6 +440,8 @@ pub enum OutlineItem {
     },
     /// A simulate block, by index into [`Evaluated::runs`].
     Simulate(usize),
+    /// A `use` line, by index into the sheet's imports.
+    Use(usize),
 }
 
 fn tolerance_span(tolerance: &crate::syntax::ast::Tolerance) -> Span {

@@ -17,12 +17,15 @@ mod edits;
 mod findings;
 mod recompute;
 
+use std::sync::Arc;
+
 use crate::base::{Code, Diagnostic, Severity};
 use crate::base::{LineIndex, Span};
 use crate::eval::{CellResult, CellStatus, CheckResult, Evaluator, Spread};
 use crate::sheet::edit::{self, Document};
 use crate::sheet::{
-    CellId, CellOrigin, Header, Item, MAX_SUGGESTIONS, Node, Sheet, read_header, resolve_names,
+    CellId, CellOrigin, Header, Item, MAX_SUGGESTIONS, NoFiles, Node, Sheet, SheetLoader,
+    read_header, resolve_names,
 };
 use crate::syntax;
 use crate::syntax::ast::{
@@ -97,6 +100,8 @@ pub enum Row<'a> {
 pub struct LiveSheet {
     document: Document,
     sheet: Sheet,
+    /// What reads the sheets `use` lines name.
+    loader: Arc<dyn SheetLoader + Send + Sync>,
     /// Findings in the header block (they never change while editing).
     header_diagnostics: Vec<Diagnostic>,
     /// Line index of the text as opened, to place header findings.
@@ -159,8 +164,15 @@ fn next_revision() -> u64 {
 const COMPACT_AFTER_BYTES: usize = 1 << 24;
 
 impl LiveSheet {
-    /// Parses, links and evaluates `text`.
+    /// Parses, links and evaluates `text`, a sheet with no file (a `use`
+    /// line is an error).
     pub fn open(text: &str) -> LiveSheet {
+        LiveSheet::open_with(text, Arc::new(NoFiles))
+    }
+
+    /// Parses, links and evaluates `text`, reading the sheets its `use`
+    /// lines name with `loader` (kept for every relink).
+    pub fn open_with(text: &str, loader: Arc<dyn SheetLoader + Send + Sync>) -> LiveSheet {
         let syntax::ParsedSheet {
             header,
             statements,
@@ -216,6 +228,7 @@ impl LiveSheet {
             revision: next_revision(),
             lints: Vec::new(),
             fix_helps: Vec::new(),
+            loader,
         };
         live.sheet.header = header;
         live.relink(statements);
@@ -223,6 +236,11 @@ impl LiveSheet {
     }
 
     // ----- reading -----
+
+    /// What reads the sheets its `use` lines name.
+    pub fn loader(&self) -> Arc<dyn SheetLoader + Send + Sync> {
+        Arc::clone(&self.loader)
+    }
 
     /// The file's text as it is now.
     pub fn text(&self) -> String {
@@ -311,9 +329,11 @@ impl LiveSheet {
             Item::Review(index) => Row::Review {
                 text: self.statement_text(index),
             },
-            Item::Solve(index) | Item::Case(index) | Item::Simulate(index) => Row::Block {
-                head: self.statement_text(index).lines().next().unwrap_or(""),
-            },
+            Item::Solve(index) | Item::Case(index) | Item::Simulate(index) | Item::Use(index) => {
+                Row::Block {
+                    head: self.statement_text(index).lines().next().unwrap_or(""),
+                }
+            }
             Item::Heading(_) | Item::Note(_) | Item::Invalid(_) => {
                 match &self.sheet.statements[index].kind {
                     StatementKind::Heading { level, text } => Row::Heading {
@@ -497,6 +517,18 @@ impl LiveSheet {
                         value.map(Value::Scalar),
                         value.map(|v| pick_unit(v.dimension, v.si, system)),
                     )
+                }
+                Target::Imported { sheet, cell } => {
+                    let value = self
+                        .sheet
+                        .imports
+                        .get(sheet as usize)
+                        .and_then(|import| import.sheet())
+                        .and_then(|used| used.exports.get(cell as usize))
+                        .and_then(|export| export.value);
+                    let system = system.unwrap_or(self.sheet.header.display);
+                    let scalar = value.and_then(|v| v.scalar());
+                    (value, scalar.map(|v| pick_unit(v.dimension, v.si, system)))
                 }
                 _ => (None, None),
             };

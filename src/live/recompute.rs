@@ -68,7 +68,7 @@ impl LiveSheet {
         let mut diagnostics = self.header_diagnostics.clone();
         diagnostics.extend(self.parse_diagnostics.iter().flatten().cloned());
         let header = std::mem::take(&mut self.sheet.header);
-        self.sheet = Sheet::link(header, statements, diagnostics);
+        self.sheet = Sheet::link_with(header, statements, diagnostics, &*self.loader);
         let n_cells = self.sheet.cells.len();
         let n_checks = self.sheet.checks.len();
         self.dependents = vec![Vec::new(); n_cells];

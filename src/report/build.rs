@@ -21,6 +21,7 @@ use crate::units::{catalog, format_significant};
 pub fn document(evaluated: &Evaluated, review: &Review) -> Document {
     let builder = Builder::new(evaluated, review);
     let mut sections = vec![builder.summary()];
+    sections.extend(super::used::used_sheets_section(evaluated));
     sections.extend(builder.cases_section());
     sections.extend(builder.tolerances_section());
     sections.extend(builder.body());
@@ -209,6 +210,11 @@ impl<'a> Builder<'a> {
                 OutlineItem::Simulate(index) => current.blocks.extend(self.run_blocks(*index)),
                 // The load cases are tabulated in their own section.
                 OutlineItem::Case(_) => {}
+                OutlineItem::Use(index) => {
+                    current
+                        .blocks
+                        .extend(super::used::use_line(evaluated, *index));
+                }
                 OutlineItem::Invalid { span } => current.blocks.push(Block::Unparsed {
                     line: evaluated.lines.line_of(span.start()) + 1,
                     text: span.text(evaluated.source()).to_string(),

@@ -15,16 +15,16 @@
 //! signoff by "K. Brandt" on 2026-12-04 fingerprint <64 hex> cells m_skid:1a2b3c4d …
 //! ```
 
-pub(crate) mod fingerprint;
-
 use std::collections::{BTreeMap, HashSet};
 
 use crate::eval::{Evaluated, OutlineItem};
 use crate::sheet::CellId;
-use crate::syntax::ast::StatementKind;
+use crate::syntax::ast::{ExprKind, StatementKind, Target};
 
+pub use crate::sheet::fingerprint::{
+    CELL_DIGEST_LEN, fingerprint, normalized_text, statement_digest,
+};
 pub use crate::syntax::ast::ReviewKind;
-pub use fingerprint::{fingerprint, normalized_text, statement_digest};
 
 /// What a review mark is attached to.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
@@ -208,7 +208,10 @@ impl Review {
                         target = MarkTarget::Heading(outline_index);
                     }
                 }
-                StatementKind::Note { .. } | StatementKind::Case(_) | StatementKind::Invalid => {}
+                StatementKind::Note { .. }
+                | StatementKind::Case(_)
+                | StatementKind::Use(_)
+                | StatementKind::Invalid => {}
             }
             outline_index += 1;
         }
@@ -241,8 +244,9 @@ impl Review {
 }
 
 /// Each cell's name and current digest, in file order, then each load
-/// case's (`case/NAME`) and each check's (`check/N`, its place among the
-/// checks from 1), so a stale sign-off can say which of them changed.
+/// case's (`case/NAME`), each check's (`check/N`, its place among the
+/// checks from 1) and each used sheet's (`use/ALIAS`, the first digits of
+/// its fingerprint), so a stale sign-off can say which of them changed.
 pub fn sheet_digests(evaluated: &Evaluated) -> Vec<(String, String)> {
     let sheet = evaluated.sheet();
     let source = evaluated.source();
@@ -265,7 +269,30 @@ pub fn sheet_digests(evaluated: &Evaluated) -> Vec<(String, String)> {
             statement_digest(sheet.check_span(index).text(source)),
         )
     });
-    cells.chain(cases).chain(checks).collect()
+    let uses = sheet.imports.iter().filter_map(|import| {
+        let used = import.sheet()?;
+        Some((
+            format!("use/{}", import.alias.text),
+            used.fingerprint.chars().take(CELL_DIGEST_LEN).collect(),
+        ))
+    });
+    cells.chain(cases).chain(checks).chain(uses).collect()
+}
+
+/// Whether cell `id`'s formula reads a cell of one of the `used` sheets.
+fn reads_used_sheet(evaluated: &Evaluated, id: CellId, used: &[usize]) -> bool {
+    let Some(expr) = evaluated.sheet().cell(id).expr else {
+        return false;
+    };
+    let mut reads = false;
+    expr.walk(&mut |node| {
+        if let ExprKind::Name(name) = &node.kind
+            && let Target::Imported { sheet, .. } = name.target
+        {
+            reads |= used.contains(&(sheet as usize));
+        }
+    });
+    reads
 }
 
 /// What changed between the signed digests and the sheet now.
@@ -310,8 +337,25 @@ fn changes_since<'a>(
         .filter(|name| !current.contains(*name))
         .map(|name| name.to_string())
         .collect();
-    // Walk in dependency order so an effect reaches everything downstream.
+    // A cell that reads a changed used sheet is affected by it.
     let mut affected = vec![false; now.len()];
+    let changed_uses: Vec<usize> = evaluated
+        .sheet()
+        .imports
+        .iter()
+        .enumerate()
+        .filter(|(_, import)| {
+            let key = format!("use/{}", import.alias.text);
+            changes.changed.contains(&key) || changes.added.contains(&key)
+        })
+        .map(|(index, _)| index)
+        .collect();
+    if !changed_uses.is_empty() {
+        for (id, affected) in affected.iter_mut().enumerate().take(evaluated.n_cells()) {
+            *affected = reads_used_sheet(evaluated, id, &changed_uses);
+        }
+    }
+    // Walk in dependency order so an effect reaches everything downstream.
     for id in evaluated.order() {
         if touched[id] {
             continue;

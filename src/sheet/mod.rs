@@ -2,8 +2,10 @@
 //! the dependency graph between cells and the order to evaluate them in.
 
 pub(crate) mod edit;
+pub mod fingerprint;
 mod graph;
 mod header;
+mod imports;
 mod names;
 mod passes;
 mod resolve;
@@ -11,6 +13,9 @@ mod runs;
 
 pub use graph::{EvaluationOrder, evaluation_order};
 pub use header::{DEFAULT_SIG_FIGS, Header, read_header};
+pub use imports::{
+    Export, Import, LoadProblem, Loaded, NoFiles, Reloaded, SheetLoader, UsedError, UsedSheet,
+};
 pub use names::NameTable;
 
 use crate::base::Span;
@@ -122,6 +127,8 @@ pub enum Item {
     Simulate(usize),
     /// A review mark or sign-off line, at this statement index.
     Review(usize),
+    /// A `use` line, at this statement index.
+    Use(usize),
 }
 
 /// A whole sheet, parsed and linked: everything the evaluator needs.
@@ -161,6 +168,8 @@ pub struct Sheet {
     pub node_of_cell: Vec<NodeId>,
     /// The order to evaluate nodes in, and the loops among cells.
     pub order: EvaluationOrder,
+    /// The sheets its `use` lines name, in file order.
+    pub imports: Vec<Import>,
     /// Findings from parsing and linking.
     pub diagnostics: Vec<Diagnostic>,
 }
@@ -169,23 +178,38 @@ pub struct Sheet {
 pub(crate) const MAX_SUGGESTIONS: usize = 64;
 
 impl Sheet {
-    /// Parses and links `source`. Never fails: problems become diagnostics.
+    /// Parses and links `source`, a sheet with no file: a `use` line is an
+    /// error. Never fails: problems become diagnostics.
     pub fn parse(source: &str) -> Sheet {
+        Sheet::parse_with(source, &NoFiles)
+    }
+
+    /// Parses and links `source`, loading the sheets its `use` lines name
+    /// with `loader`. Never fails: problems become diagnostics.
+    pub fn parse_with(source: &str, loader: &dyn SheetLoader) -> Sheet {
         let ParsedSheet {
             header,
             statements,
             mut diagnostics,
         } = syntax::parse(source);
         let header = read_header(source, header, &mut diagnostics);
-        Sheet::link(header, statements, diagnostics)
+        Sheet::link_with(header, statements, diagnostics, loader)
     }
 
-    /// Links parsed statements: names, dependencies and evaluation order.
-    pub fn link(
+    /// Links parsed statements of a sheet with no file.
+    pub fn link(header: Header, statements: Vec<Statement>, diagnostics: Vec<Diagnostic>) -> Sheet {
+        Sheet::link_with(header, statements, diagnostics, &NoFiles)
+    }
+
+    /// Links parsed statements: the sheets they use (loaded with
+    /// `loader`), names, dependencies and evaluation order.
+    pub fn link_with(
         header: Header,
         mut statements: Vec<Statement>,
         mut diagnostics: Vec<Diagnostic>,
+        loader: &dyn SheetLoader,
     ) -> Sheet {
+        let imports = imports::load_uses(&statements, loader, &mut diagnostics);
         let Outline {
             cells,
             checks,
@@ -200,6 +224,8 @@ impl Sheet {
             resolved_early,
             reads_runs,
         } = enter_names(&mut statements, &cells, &mut diagnostics);
+        let mut names = names;
+        names.set_imported(imports::qualified_names(&imports));
 
         runs::name_run_events(&mut statements, &names, &mut diagnostics);
 
@@ -275,6 +301,7 @@ impl Sheet {
                 order: node_order.order,
                 cycles,
             },
+            imports,
             diagnostics,
         }
     }
@@ -547,6 +574,7 @@ fn code_points(name: &str) -> String {
 fn did_you_mean(name: &str, names: &NameTable) -> Option<String> {
     let candidates = names
         .keys()
+        .chain(names.imported_names())
         .chain(units::CONSTANTS.iter().map(|constant| constant.name));
     let lower = name.to_lowercase();
     candidates
@@ -570,6 +598,11 @@ const PREFETCH_AHEAD: usize = 16;
 /// What `name` refers to among `names` and the built-in constants, if
 /// anything: a cell wins over a constant of the same name.
 fn target_of(name: &str, names: &NameTable) -> Option<Target> {
+    if name.contains('.') {
+        return names
+            .imported(name)
+            .map(|(sheet, cell)| Target::Imported { sheet, cell });
+    }
     match names.get(name) {
         Some(&id) => Some(Target::Cell(id)),
         None => units::CONSTANTS
@@ -664,7 +697,12 @@ pub(crate) fn resolve_names<'e>(
                     span,
                     format!("`{}` is not defined", name.text),
                 );
-                if *suggestions_left > 0 {
+                if names.is_alias(&name.text) {
+                    diagnostic = diagnostic.with_help(format!(
+                        "`{0}` names a used sheet: read its cells as `{0}.NAME` (a cell named x, y or z cannot be read so, since `.x`, `.y` and `.z` read a vector's components)",
+                        name.text
+                    ));
+                } else if *suggestions_left > 0 {
                     *suggestions_left -= 1;
                     if let Some(similar) = did_you_mean(&name.text, names) {
                         diagnostic = diagnostic.with_help(format!("did you mean `{similar}`?"));

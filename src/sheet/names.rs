@@ -33,6 +33,9 @@ pub struct NameTable {
     shift: u32,
     /// The names and their cells, in the order they were added.
     entries: Vec<(CompactString, CellId)>,
+    /// The cells of used sheets, by qualified name (`gear.WLL`), sorted:
+    /// which `use` and which of its exports.
+    imported: Vec<(CompactString, (u32, u32))>,
 }
 
 /// The fewest slots a table has.
@@ -52,7 +55,44 @@ impl NameTable {
             slots: vec![0; n_slots].into_boxed_slice(),
             shift: 64 - n_slots.trailing_zeros(),
             entries: Vec::with_capacity(capacity),
+            imported: Vec::new(),
         }
+    }
+
+    /// Makes the cells of used sheets readable by their qualified names
+    /// (`gear.WLL`): for each, which `use` and which of its exports.
+    pub fn set_imported(&mut self, mut imported: Vec<(CompactString, (u32, u32))>) {
+        imported.sort_unstable_by(|a, b| a.0.cmp(&b.0));
+        self.imported = imported;
+    }
+
+    /// The used sheet's cell a qualified name (`gear.WLL`) reads.
+    pub fn imported(&self, name: &str) -> Option<(u32, u32)> {
+        self.imported
+            .binary_search_by(|(entry, _)| entry.as_str().cmp(name))
+            .ok()
+            .map(|at| self.imported[at].1)
+    }
+
+    /// Whether `name` is the alias of a used sheet (`gear` of `gear.WLL`).
+    pub fn is_alias(&self, name: &str) -> bool {
+        let prefix_of = |entry: &str| {
+            entry
+                .strip_prefix(name)
+                .is_some_and(|rest| rest.starts_with('.'))
+        };
+        let at = self
+            .imported
+            .partition_point(|(entry, _)| entry.as_str() < name);
+        self.imported[at..]
+            .iter()
+            .take_while(|(entry, _)| entry.starts_with(name))
+            .any(|(entry, _)| prefix_of(entry))
+    }
+
+    /// Every qualified name of a used sheet's cell, sorted.
+    pub fn imported_names(&self) -> impl Iterator<Item = &str> {
+        self.imported.iter().map(|(name, _)| name.as_str())
     }
 
     /// The cell named `name`, if there is one.

@@ -152,6 +152,8 @@ pub(super) fn outline(statements: &[Statement]) -> Outline {
             // Review marks and sign-offs are the checker's record, not
             // content to evaluate: the `review` module reads them.
             StatementKind::Review(_) | StatementKind::SignOff(_) => Item::Review(index),
+            // Linking loads the used sheet before the outline is made.
+            StatementKind::Use(_) => Item::Use(index),
         };
         items.push(item);
     }

@@ -43,6 +43,7 @@ fn statement_exprs_mut(kind: &mut StatementKind) -> Vec<&mut Expr> {
         | StatementKind::Note { .. }
         | StatementKind::Review(_)
         | StatementKind::SignOff(_)
+        | StatementKind::Use(_)
         | StatementKind::Invalid => Vec::new(),
     }
 }

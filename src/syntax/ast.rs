@@ -44,6 +44,9 @@ pub enum StatementKind {
     /// A checker's review mark on the cell, check or heading above it:
     /// `review question "Where is 0.35 m/s^2 from?" by "K. Brandt" on 2026-12-02`.
     Review(Box<ReviewMark>),
+    /// Another sheet whose cells this one reads:
+    /// `use "gear_register.heft" as gear`.
+    Use(Box<UseSheet>),
     /// A checker's sign-off of the sheet as it stands:
     /// `signoff by "K. Brandt" on 2026-12-03 fingerprint 5e0c… cells m_skid:1a2b3c4d …`.
     SignOff(Box<SignOff>),
@@ -106,6 +109,18 @@ pub struct SignOff {
     pub fingerprint: Ident,
     /// `name:digest` for each cell when it was signed (8 hex digits each).
     pub cell_digests: Vec<(Ident, Ident)>,
+}
+
+/// `use "PATH" as ALIAS "description"`: the cells of the sheet at PATH
+/// (relative to this sheet's folder) are read here as `ALIAS.NAME`.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct UseSheet {
+    /// The path as written, quotes included in its span.
+    pub path: Description,
+    /// The name its cells are read under.
+    pub alias: Ident,
+    /// What the other sheet is, if said.
+    pub description: Option<Description>,
 }
 
 /// A name as written, with its place.
@@ -576,6 +591,13 @@ pub enum Target {
     Cell(usize),
     /// The built-in constant with this index.
     Constant(usize),
+    /// A cell of a sheet this one uses: `gear.WLL` (see `sheet::Import`).
+    Imported {
+        /// Which `use` of the sheet, in file order.
+        sheet: u32,
+        /// Which cell of that sheet's exports.
+        cell: u32,
+    },
 }
 
 /// Binary operators.

@@ -10,10 +10,11 @@ use super::ast::{
     BinaryOp, BodyDef, CellDef, CheckDef, Comparison, Description, Equation, EventDef, Expr,
     ExprKind, Ident, InitialValue, NameRef, Override, PlotDef, ReviewKind, ReviewMark, RunPoint,
     RunQuery, SignOff, StateRate, StatementKind, TableDef, TableRows, Target, Tolerance,
-    ToleranceDef, UnitExpr, UnitFactor, Unknown,
+    ToleranceDef, UnitExpr, UnitFactor, Unknown, UseSheet,
 };
 use super::parser::Rule;
 use crate::base::Span;
+use compact_str::CompactString;
 
 /// Operator precedence, lowest first; `^` binds tightest and groups to the
 /// right, so `-2^2` is `-(2^2)` and `2^3^2` is `2^(3^2)`.
@@ -52,6 +53,7 @@ pub(crate) fn statement(mut pairs: Pairs<'_, Rule>, offset: usize) -> Built<Opti
         Rule::body => StatementKind::Body(Box::new(builder.body(pair)?)),
         Rule::review => StatementKind::Review(Box::new(builder.review(pair)?)),
         Rule::signoff => StatementKind::SignOff(Box::new(builder.signoff(pair)?)),
+        Rule::use_sheet => StatementKind::Use(Box::new(builder.use_sheet(pair))),
         Rule::EOI => return Ok(None),
         rule => unreachable!("expected a statement, found {rule:?}"),
     }))
@@ -537,6 +539,28 @@ impl Builder {
         }
     }
 
+    fn use_sheet(&self, pair: Pair<'_, Rule>) -> UseSheet {
+        let mut quoted = Vec::with_capacity(2);
+        let mut alias = None;
+        for part in pair.into_inner() {
+            match part.as_rule() {
+                Rule::keyword_use | Rule::keyword_as => {}
+                Rule::description => quoted.push(self.description(part)),
+                Rule::name => alias = Some(self.ident(part)),
+                rule => unreachable!("expected a part of a use line, found {rule:?}"),
+            }
+        }
+        let mut quoted = quoted.into_iter();
+        match (quoted.next(), alias) {
+            (Some(path), Some(alias)) => UseSheet {
+                path,
+                alias,
+                description: quoted.next(),
+            },
+            _ => unreachable!("expected a use line with a path and a name"),
+        }
+    }
+
     fn signoff(&self, pair: Pair<'_, Rule>) -> Built<SignOff> {
         let mut by = None;
         let mut on = None;
@@ -795,19 +819,39 @@ impl Builder {
                 let name = inner
                     .next()
                     .unwrap_or_else(|| unreachable!("expected a name"));
-                match inner.next() {
+                let mut next = inner.next();
+                // `gear.WLL`: a cell of a sheet this one uses, named in full.
+                let (text, name_span) = match next.as_ref().filter(|p| p.as_rule() == Rule::member)
+                {
+                    Some(member) => {
+                        let member_name = member
+                            .clone()
+                            .into_inner()
+                            .next()
+                            .map_or("", |n| n.as_str());
+                        let text = CompactString::from(format!("{}.{member_name}", name.as_str()));
+                        let span = self.span(&name).to(self.span(member));
+                        next = inner.next();
+                        (text, span)
+                    }
+                    None => (CompactString::from(name.as_str()), self.span(&name)),
+                };
+                match next {
                     // The pair also covers the blanks after the name; the span must not.
                     None => {
                         return Ok(Expr {
-                            span: self.span(&name),
+                            span: name_span,
                             kind: ExprKind::Name(NameRef {
-                                text: name.as_str().into(),
+                                text,
                                 target: Target::Unresolved,
                             }),
                         });
                     }
                     Some(arguments) => ExprKind::Call {
-                        function: self.ident(name),
+                        function: Ident {
+                            text,
+                            span: name_span,
+                        },
                         args: arguments
                             .into_inner()
                             .map(|arg| self.expr(arg))

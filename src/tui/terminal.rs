@@ -23,6 +23,7 @@ use super::files::{SaveError, Session};
 use super::strings;
 use super::theme::Theme;
 use super::view::view;
+use crate::sheet::SheetLoader;
 
 /// Opens `path` in the notebook and runs it until the user quits; the
 /// notebook's lock on the sheet goes when it ends.
@@ -54,7 +55,7 @@ pub fn run(path: &Path, colour: bool) -> io::Result<()> {
         Rect::new(0, 0, size.width, size.height),
         Theme::new(colour),
     );
-    let linter = Linter::start();
+    let linter = Linter::start(app.live_loader());
     if let Effect::Lint { revision, text } = app.lint_request() {
         linter.request(revision, text);
     }
@@ -251,7 +252,7 @@ struct Linter {
 }
 
 impl Linter {
-    fn start() -> Linter {
+    fn start(loader: Arc<dyn SheetLoader + Send + Sync>) -> Linter {
         let (requests, waiting) = mpsc::channel::<(u64, String)>();
         let (answer, answers) = mpsc::channel();
         std::thread::spawn(move || {
@@ -260,7 +261,7 @@ impl Linter {
                     request = newer;
                 }
                 let (revision, text) = request;
-                if answer.send(app::lint(revision, text)).is_err() {
+                if answer.send(app::lint(revision, text, &*loader)).is_err() {
                     break;
                 }
             }

@@ -10,22 +10,27 @@
 use crate::common;
 
 use std::collections::BTreeMap;
+use std::path::Path;
 
 use heftsheet::base::Severity;
 use heftsheet::blocks::evaluate_source;
 use heftsheet::eval::CellStatus;
 
-fn produced(source: &str) -> BTreeMap<(usize, String), usize> {
-    found_at_least(source, Severity::Info)
+/// What the evaluation of the sheet at `path` finds (its `use` lines read
+/// sheets beside it, as on the command line).
+fn produced(path: &Path) -> BTreeMap<(usize, String), usize> {
+    let source = common::read_file(path);
+    let loader = heftsheet::include::FileLoader::for_sheet(path);
+    findings(
+        &heftsheet::blocks::evaluate_source_with(&source, &loader),
+        Severity::Info,
+    )
 }
 
-fn found_at_least(source: &str, severity: Severity) -> BTreeMap<(usize, String), usize> {
-    findings(&evaluate_source(source), severity)
-}
-
-/// What `heft check` reports, the audit's lints included.
-fn found_with_lints(source: &str, severity: Severity) -> BTreeMap<(usize, String), usize> {
-    findings(&heftsheet::pipeline::run(source), severity)
+/// What `heft check` reports of the sheet at `path`, the audit's lints included.
+fn found_with_lints(path: &Path, severity: Severity) -> BTreeMap<(usize, String), usize> {
+    let bytes = std::fs::read(path).unwrap_or_else(|error| panic!("{}: {error}", path.display()));
+    findings(&heftsheet::pipeline::run_file_bytes(&bytes, path), severity)
 }
 
 fn findings(
@@ -57,7 +62,7 @@ fn clean_sheets_have_no_findings() {
     );
     for path in paths {
         let source = common::read_file(&path);
-        let found = found_with_lints(&source, Severity::Warning);
+        let found = found_with_lints(&path, Severity::Warning);
         assert!(
             found.is_empty(),
             "{}: unexpected findings {found:?}",
@@ -71,9 +76,15 @@ fn clean_sheets_have_no_findings() {
 /// two cells on one line, a value or dimension off its annotation, an
 /// annotation on a line with no cell. Empty when every cell is as stated.
 /// An annotation it cannot read is an error.
-fn value_mismatches(source: &str) -> Result<Vec<String>, String> {
+fn value_mismatches(source: &str, path: Option<&Path>) -> Result<Vec<String>, String> {
     let mut expected = common::expected_values(source)?;
-    let evaluated = evaluate_source(source);
+    let evaluated = match path {
+        Some(path) => heftsheet::blocks::evaluate_source_with(
+            source,
+            &heftsheet::include::FileLoader::for_sheet(path),
+        ),
+        None => evaluate_source(source),
+    };
     let mut mismatches = Vec::new();
     let mut lines_seen = BTreeMap::new();
     for cell in evaluated.cells() {
@@ -139,7 +150,7 @@ fn clean_corpus_cells_have_their_annotated_values() {
     let mut failures = Vec::new();
     for path in &paths {
         let source = common::read_file(path);
-        match value_mismatches(&source) {
+        match value_mismatches(&source, Some(path)) {
             Ok(mismatches) => failures.extend(
                 mismatches
                     .into_iter()
@@ -158,7 +169,7 @@ fn value_annotations_catch_each_kind_of_difference() {
     // 12 kg · 9.80665 m/s² = 117.6798 N exactly (CGPM 1901 standard gravity).
     let as_stated = "m = 12 kg                 // expect: = 12 kg ± 1e-8 %\n\
                      W [lbf] = m * g0          // expect: = 117.6798 N ± 1e-8 %\n";
-    assert_eq!(value_mismatches(as_stated), Ok(vec![]));
+    assert_eq!(value_mismatches(as_stated, None), Ok(vec![]));
     let differing = [
         // 117.6798 N with a digit changed.
         (
@@ -184,7 +195,7 @@ fn value_annotations_catch_each_kind_of_difference() {
         ),
     ];
     for (source, kind) in differing {
-        let mismatches = value_mismatches(source);
+        let mismatches = value_mismatches(source, None);
         assert!(
             mismatches
                 .as_ref()
@@ -216,7 +227,7 @@ fn value_annotations_catch_each_kind_of_difference() {
         ("m = 12 kg  // expect:= 12 kg ± 1e-8 %", "expects values"),
     ];
     for (source, reason) in unreadable {
-        let read = value_mismatches(source);
+        let read = value_mismatches(source, None);
         assert!(
             read.as_ref().is_err_and(|error| error.contains(reason)),
             "{source}: expected an error naming `{reason}`, got {read:?}"
@@ -237,7 +248,7 @@ fn broken_sheets_give_exactly_their_annotated_codes() {
             "{} has no `expect:` annotation",
             path.display()
         );
-        let found = produced(&source);
+        let found = produced(path);
         if expected != found {
             failures.push(format!(
                 "{}:\n  expected {expected:?}\n  found    {found:?}",

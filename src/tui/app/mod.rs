@@ -17,6 +17,7 @@ mod overlays;
 mod questions;
 
 use std::path::{Path, PathBuf};
+use std::sync::Arc;
 
 use ratatui::crossterm::event::{KeyEvent, KeyModifiers, MouseEvent};
 use ratatui::layout::Rect;
@@ -27,7 +28,7 @@ use super::layout::{Areas, areas};
 use super::strings as text;
 use super::theme::Theme;
 use crate::live::LiveSheet;
-use crate::sheet::CellId;
+use crate::sheet::{CellId, SheetLoader};
 use crate::units::DisplaySystem;
 
 pub use edit::{EditSession, EditTarget};
@@ -223,7 +224,8 @@ pub struct App {
 impl App {
     /// The notebook on an opened sheet, for a terminal of `viewport` size.
     pub fn new(opened: Opened, viewport: Rect, theme: Theme) -> App {
-        let live = LiveSheet::open(&opened.text);
+        let loader = Arc::new(crate::include::FileLoader::for_sheet(&opened.path));
+        let live = LiveSheet::open_with(&opened.text, loader);
         let sig_figs = live.header().sig_figs;
         let file_name = opened
             .path
@@ -390,6 +392,11 @@ impl App {
         }
     }
 
+    /// What reads the sheets the notebook's `use` lines name.
+    pub fn live_loader(&self) -> Arc<dyn SheetLoader + Send + Sync> {
+        self.live.loader()
+    }
+
     /// Asks for the lint findings of the text as it is now.
     pub fn lint_request(&self) -> Effect {
         Effect::Lint {
@@ -492,8 +499,8 @@ pub fn update(app: &mut App, message: Message) -> Vec<Effect> {
 /// Carries out [`Effect::Lint`]: the audit lints (`heft audit`'s, and
 /// `heft check`'s warnings) over a fresh evaluation of `text`, with every
 /// fix verified ([`crate::pipeline::lint`]).
-pub fn lint(revision: u64, text: String) -> Message {
-    let linted = crate::pipeline::lint(&text);
+pub fn lint(revision: u64, text: String, loader: &dyn SheetLoader) -> Message {
+    let linted = crate::pipeline::lint_with(&text, loader);
     Message::Linted {
         revision,
         text,

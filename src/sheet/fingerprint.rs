@@ -13,12 +13,16 @@
 //! 5. the lines are joined with `\n`, with a final `\n`, and hashed as UTF-8.
 //!
 //! Everything else counts: the header, headings, notes, cells, checks and
-//! `//` comments. A cell's digest is the first 8 hex digits of the SHA-256 of
-//! its own normalized line.
+//! `//` comments. A sheet that uses other sheets (`use "…" as gear`) then
+//! has, for each in file order, a line `use ALIAS PATH FINGERPRINT` added
+//! after its own lines, so an edit to a used sheet (or to one it uses in
+//! turn) changes the fingerprint of every sheet over it; a sheet with no
+//! `use` line keeps the fingerprint of its text alone. A cell's digest is
+//! the first 8 hex digits of the SHA-256 of its own normalized line.
 
 use sha2::{Digest, Sha256};
 
-use crate::sheet::Sheet;
+use super::Sheet;
 use crate::syntax::ast::StatementKind;
 
 /// Number of hex digits kept of a cell digest.
@@ -88,7 +92,19 @@ fn normalize_line_into(line: &str, out: &mut String) {
 
 /// The sheet's fingerprint: 64 lower-case hex digits.
 pub fn fingerprint(source: &str, sheet: &Sheet) -> String {
-    hex(&Sha256::digest(normalized_text(source, sheet).as_bytes()))
+    let mut text = normalized_text(source, sheet);
+    for import in &sheet.imports {
+        // A sheet that could not be read is fingerprinted as missing: the
+        // sheet over it cannot be signed as current once it is found.
+        let used = import
+            .sheet()
+            .map_or("missing", |used| used.fingerprint.as_str());
+        text.push_str(&format!(
+            "use {} {} {used}\n",
+            import.alias.text, import.path
+        ));
+    }
+    hex(&Sha256::digest(text.as_bytes()))
 }
 
 /// The digest of one statement's text (its normalized line), 8 hex digits.
