@@ -58,10 +58,13 @@ pub(super) fn run(context: &Context<'_>) -> Vec<Diagnostic> {
             }
         }
     }
+    // A sheet of values alone (no check, no formula reading a cell) is a
+    // register for other sheets to `use`: its inputs are there to be read.
+    let is_register = context.sheet.checks.is_empty() && !used.iter().any(|&u| u);
     for (id, is_used) in used.into_iter().enumerate() {
         gravity.visit_cell(context, id);
         findings.extend(mass_weight_mixup_of(context, id, &hand_factors));
-        if !is_used {
+        if !is_used && !is_register {
             findings.extend(unused_input(context, id));
         }
         findings.extend(shadowed_constant(context, id));

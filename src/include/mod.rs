@@ -23,7 +23,9 @@ pub const MAX_USE_DEPTH: usize = 16;
 pub struct FileLoader {
     /// The folder `use` paths are relative to.
     folder: PathBuf,
-    /// How the using sheet's path is shown, to show used paths beside it.
+    /// The folder `use` paths are shown relative to: empty for the sheet
+    /// the user named (paths show as written), the used sheet's own folder
+    /// as shown for a sheet it uses in turn.
     shown_folder: PathBuf,
     /// The sheets being loaded, outermost first (canonical paths and how
     /// each is shown), to name a ring.
@@ -35,13 +37,13 @@ pub struct FileLoader {
 impl FileLoader {
     /// The loader for the sheet read from `path`.
     pub fn for_sheet(path: &Path) -> FileLoader {
-        let shown_folder = path.parent().map(Path::to_path_buf).unwrap_or_default();
         let canonical = std::fs::canonicalize(path).unwrap_or_else(|_| path.to_path_buf());
         FileLoader {
-            folder: canonical
-                .parent()
-                .map_or_else(|| shown_folder.clone(), Path::to_path_buf),
-            shown_folder,
+            folder: canonical.parent().map_or_else(
+                || path.parent().map(Path::to_path_buf).unwrap_or_default(),
+                Path::to_path_buf,
+            ),
+            shown_folder: PathBuf::new(),
             chain: vec![(canonical, path.display().to_string())],
             loaded: Arc::default(),
         }

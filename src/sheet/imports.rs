@@ -37,7 +37,7 @@ pub struct Export {
 /// Another sheet, loaded and evaluated for a `use` line.
 #[derive(Clone, Debug, PartialEq)]
 pub struct UsedSheet {
-    /// Its path, as a sheet beside the user's would name it.
+    /// Its path relative to the folder of the sheet the user named.
     pub path: String,
     /// Its fingerprint (which covers the sheets it uses in turn).
     pub fingerprint: String,

@@ -142,8 +142,7 @@ fn clean_sheets_and_demo_sheets_give_no_warning() {
     paths.extend(common::sheets_in("tests/sheets/ok"));
     paths.extend(common::sheets_in("sheets"));
     for path in paths {
-        let source = common::read_file(&path);
-        let evaluated = check_source(&source);
+        let evaluated = common::run_sheet(&path);
         let loud: Vec<String> = evaluated
             .diagnostics
             .iter()

@@ -95,6 +95,27 @@ pub fn heft(args: &[&str]) -> (i32, String, String) {
 /// read, so an unreadable corpus sheet fails its test instead of passing as
 /// an empty one.
 #[track_caller]
+/// The pipeline over the sheet at `path` as `heft check` runs it: its
+/// `use` lines read the sheets beside it.
+pub fn run_sheet(path: &Path) -> Evaluated {
+    run_as(&read_file(path), path)
+}
+
+/// The pipeline over `text` as if it were the sheet at `path` (its `use`
+/// lines read the sheets beside that file).
+pub fn run_as(text: &str, path: &Path) -> Evaluated {
+    heftsheet::pipeline::run_with(text, &heftsheet::include::FileLoader::for_sheet(path))
+}
+
+/// The evaluation of the sheet at `path`, without the lints, its `use`
+/// lines reading the sheets beside it.
+pub fn evaluate_sheet(path: &Path) -> Evaluated {
+    heftsheet::blocks::evaluate_source_with(
+        &read_file(path),
+        &heftsheet::include::FileLoader::for_sheet(path),
+    )
+}
+
 pub fn read_file(path: &Path) -> String {
     std::fs::read_to_string(path)
         .unwrap_or_else(|error| panic!("cannot read {}: {error}", path.display()))

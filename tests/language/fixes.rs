@@ -184,14 +184,14 @@ fn every_fix_offered_in_the_repository_fixes_its_line() {
     for path in every_sheet() {
         let source = common::read_file(&path);
         n_sheets += 1;
-        let evaluated = pipeline::run(&source);
+        let evaluated = common::run_as(&source, &path);
         let mut fixed_lines: std::collections::BTreeMap<usize, String> = Default::default();
         for diagnostic in evaluated.diagnostics.iter().filter(|d| !d.fixes.is_empty()) {
             n_fixes += 1;
             let line = evaluated.lines.line_of(diagnostic.span.start());
             let fix_line = evaluated.lines.line_of(diagnostic.fixes[0].span.start());
             let fixed_source = applied(&source, diagnostic);
-            let fixed = pipeline::run(&fixed_source);
+            let fixed = common::run_as(&fixed_source, &path);
             let place = format!("{}:{}", path.display(), line + 1);
             let fixed_text = fixed_source.lines().nth(fix_line).unwrap_or("").to_string();
             if let Some(other) = fixed_lines.insert(line, fixed_text.clone())

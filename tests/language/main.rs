@@ -14,6 +14,7 @@ mod mechanics;
 mod oracles;
 mod properties;
 mod robustness;
+mod shared_sheets;
 mod sheets;
 mod simulate;
 mod solve;

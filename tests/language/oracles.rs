@@ -899,12 +899,12 @@ fn case_written_in(evaluated: &Evaluated, index: usize) -> String {
 fn repository_load_cases_equal_their_overrides_written_in() {
     let mut compared = 0;
     for path in repository_sheets() {
-        let evaluated = pipeline::run(&common::read_file(&path));
+        let evaluated = common::run_sheet(&path);
         for (index, case) in evaluated.cases.iter().enumerate() {
             if !case.evaluated {
                 continue;
             }
-            let plain = pipeline::run(&case_written_in(&evaluated, index));
+            let plain = common::run_as(&case_written_in(&evaluated, index), &path);
             for (position, &id) in evaluated.case_results.iter().enumerate() {
                 let name = evaluated.cell_at(id).name;
                 let in_case = case.results[position].value.and_then(|v| v.scalar());
@@ -954,7 +954,7 @@ fn every_command_and_the_notebook_agree_on_every_sheet() {
     let mut sheets = 0;
     for path in repository_sheets() {
         let text = common::read_file(&path);
-        let evaluated = pipeline::run(&text);
+        let evaluated = common::run_as(&text, &path);
         let summary = evaluated.summary();
         let file = path.to_string_lossy().to_string();
         let name = path.display();
@@ -1031,9 +1031,12 @@ fn every_command_and_the_notebook_agree_on_every_sheet() {
         let signs = summary.is_clean() && open_marks == 0;
         assert_eq!(code == 0, signs, "{name}: signoff (exit {code})");
 
-        let mut live = LiveSheet::open(&text);
+        let mut live = LiveSheet::open_with(
+            &text,
+            std::sync::Arc::new(heftsheet::include::FileLoader::for_sheet(&path)),
+        );
         let revision = live.revision();
-        let lints = heftsheet::audit::lint(&heftsheet::blocks::evaluate_source(&text));
+        let lints = heftsheet::audit::lint(&common::evaluate_sheet(&path));
         live.set_lints(revision, &text, &lints);
         assert_eq!(live.summary(), summary, "{name}: the notebook's counts");
         sheets += 1;

@@ -61,7 +61,6 @@ fn clean_sheets_have_no_findings() {
         paths.len()
     );
     for path in paths {
-        let source = common::read_file(&path);
         let found = found_with_lints(&path, Severity::Warning);
         assert!(
             found.is_empty(),

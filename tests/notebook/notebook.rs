@@ -280,7 +280,10 @@ fn with_lints(app: &mut App, effects: Vec<Effect>) -> Vec<Effect> {
     for effect in effects {
         match effect {
             Effect::Lint { revision, text } => {
-                update(app, heftsheet::tui::app::lint(revision, text));
+                update(
+                    app,
+                    heftsheet::tui::app::lint(revision, text, &heftsheet::sheet::NoFiles),
+                );
             }
             other => others.push(other),
         }

@@ -62,7 +62,10 @@ fn find(app: &mut App, name: &str) {
 /// its lint thread (the findings' fixes are verified there).
 fn linted(app: &mut App) {
     if let heftsheet::tui::app::Effect::Lint { revision, text } = app.lint_request() {
-        update(app, heftsheet::tui::app::lint(revision, text));
+        update(
+            app,
+            heftsheet::tui::app::lint(revision, text, &heftsheet::sheet::NoFiles),
+        );
     }
 }
 

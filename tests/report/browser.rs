@@ -163,8 +163,7 @@ fn printed_demo_reports_show_every_result_and_check() {
             .and_then(|stem| stem.to_str())
             .unwrap_or("sheet")
             .to_string();
-        let source = common::read_file(&path);
-        let evaluated = evaluate_source(&source);
+        let evaluated = common::evaluate_sheet(&path);
         let document = report::document(&evaluated, &Review::of(&evaluated));
         let printed = print_to_text(&name, &report::html::write(&document));
         let expected = expected_texts(&document);

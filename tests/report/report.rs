@@ -29,8 +29,7 @@ fn markdown_reports_of_the_demo_sheets() {
     let paths = common::sheets_in("sheets");
     assert!(paths.len() >= 3, "expected the three demo sheets");
     for path in paths {
-        let source = common::read_file(&path);
-        let markdown = report::render(&evaluate_source(&source), Format::Markdown);
+        let markdown = report::render(&common::evaluate_sheet(&path), Format::Markdown);
         let name = path
             .file_stem()
             .and_then(|stem| stem.to_str())
