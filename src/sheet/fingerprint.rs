@@ -61,18 +61,11 @@ pub fn normalized_text(source: &str, sheet: &Sheet) -> String {
 
 /// Appends `line` trimmed, with blank runs outside quotes collapsed.
 fn normalize_line_into(line: &str, out: &mut String) {
-    let mut in_quotes = false;
-    let mut escaped = false;
+    let mut quotes = crate::syntax::Quotes::default();
     let mut pending_blank = false;
     for c in line.trim().chars() {
-        if in_quotes {
+        if quotes.step(c) {
             out.push(c);
-            match (escaped, c) {
-                (true, _) => escaped = false,
-                (false, '\\') => escaped = true,
-                (false, '"') => in_quotes = false,
-                _ => {}
-            }
             continue;
         }
         if c == ' ' || c == '\t' || c == '\r' {
@@ -82,9 +75,6 @@ fn normalize_line_into(line: &str, out: &mut String) {
         if pending_blank {
             out.push(' ');
             pending_blank = false;
-        }
-        if c == '"' {
-            in_quotes = true;
         }
         out.push(c);
     }

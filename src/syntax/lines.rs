@@ -30,26 +30,45 @@ fn too_many_operators(at: usize) -> Diagnostic {
     .with_help("split the formula into several cells")
 }
 
+/// Where a line's quoted text is (`"…"`, with `\"` and `\\` escaped),
+/// one character at a time: what checks a line's brackets and what
+/// normalizes it for a fingerprint both skip the text inside quotes.
+#[derive(Default)]
+pub(crate) struct Quotes {
+    inside: bool,
+    escaped: bool,
+}
+
+impl Quotes {
+    /// Whether `c`, the next character, is quoted text (the closing quote
+    /// included; the opening one is not, but opens the quotes).
+    pub(crate) fn step(&mut self, c: char) -> bool {
+        if !self.inside {
+            self.inside = c == '"';
+            return false;
+        }
+        match (self.escaped, c) {
+            (true, _) => self.escaped = false,
+            (false, '\\') => self.escaped = true,
+            (false, '"') => self.inside = false,
+            _ => {}
+        }
+        true
+    }
+}
+
 /// Refuses statements nested deeper than [`MAX_NESTING`] or with more than
 /// [`MAX_OPERATORS`] operators, before any recursive code sees them.
 pub(super) fn check_limits(text: &str, offset: usize) -> Option<Diagnostic> {
     let mut depth = 0usize;
     let mut n_operators = 0usize;
-    let mut in_quotes = false;
-    let mut escaped = false;
+    let mut quotes = Quotes::default();
     let mut previous = '\0';
     for (position, c) in text.char_indices() {
-        if in_quotes {
-            match (escaped, c) {
-                (true, _) => escaped = false,
-                (false, '\\') => escaped = true,
-                (false, '"') => in_quotes = false,
-                _ => {}
-            }
+        if quotes.step(c) {
             continue;
         }
         match c {
-            '"' => in_quotes = true,
             '/' if previous == '/' => break,
             '(' | '[' => {
                 depth += 1;

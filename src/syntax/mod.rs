@@ -8,6 +8,7 @@ mod parser;
 mod simulate;
 mod split;
 
+pub(crate) use lines::Quotes;
 pub use lines::{MAX_NESTING, MAX_OPERATORS};
 pub use split::{
     HeaderBlock, ParsedSheet, is_block_head, is_block_line, is_header_delimiter, is_statement_line,
