@@ -75,6 +75,8 @@ fn text_report(
             .map(|p| format!("prepared by {}", visible(p))),
     );
     let _ = writeln!(out, "{}", painter.paint(DIM, &facts.join(" · ")));
+    // A used sheet's conversions are audited with that sheet on its own.
+    super::check::write_uses(&mut out, evaluated, &painter);
 
     let _ = writeln!(out, "\n{}", painter.paint(BOLD, "Unit systems written"));
     if audit.systems.is_empty() {

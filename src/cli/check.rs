@@ -176,7 +176,7 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
 
 /// One line per `use` line: the used sheet, its title block and the start
 /// of its fingerprint, so the output says which revision it rests on.
-fn write_uses(out: &mut String, evaluated: &Evaluated, painter: &Painter) {
+pub(super) fn write_uses(out: &mut String, evaluated: &Evaluated, painter: &Painter) {
     for import in &evaluated.sheet().imports {
         let about = match &import.loaded {
             Ok(used) => {
