@@ -130,6 +130,16 @@ pub enum Code {
     /// A run query that names no state of a simulate block (or states of
     /// two), or a state used outside a run query.
     BadRunQuery,
+    /// The branches of a piecewise formula (`if … then … else …`) with
+    /// different dimensions, whichever is taken.
+    BranchDimensions,
+    /// A test of a piecewise formula comparing quantities of different
+    /// dimensions (or a vector).
+    ConditionDimensions,
+    /// A range over the tolerances that straddles the test of a piecewise
+    /// formula: both branches are taken into account, and no first-order
+    /// estimate is given.
+    RangeStraddlesCondition,
 }
 
 impl Code {
@@ -178,11 +188,14 @@ impl Code {
             Code::IntegrationFailed => "integration-failed",
             Code::NotInRun => "not-in-run",
             Code::BadRunQuery => "bad-run-query",
+            Code::BranchDimensions => "branch-dimensions",
+            Code::ConditionDimensions => "condition-dimensions",
+            Code::RangeStraddlesCondition => "range-straddles-condition",
         }
     }
 
     /// Every code, for documentation and tests.
-    pub const ALL: [Code; 42] = [
+    pub const ALL: [Code; 45] = [
         Code::ParseError,
         Code::EncodingError,
         Code::HeaderError,
@@ -225,6 +238,9 @@ impl Code {
         Code::IntegrationFailed,
         Code::NotInRun,
         Code::BadRunQuery,
+        Code::BranchDimensions,
+        Code::ConditionDimensions,
+        Code::RangeStraddlesCondition,
     ];
 }
 

@@ -5,6 +5,7 @@
 //! sheet's evaluation, which hands each solve, simulate and case node to its
 //! block kind, is [`crate::blocks::evaluate`].
 
+mod conditional;
 mod conversion;
 pub(crate) mod explain;
 mod expr;
@@ -17,7 +18,7 @@ pub(crate) mod verdict;
 /// The operators and comparisons the evaluated model's formulas and checks
 /// carry (`formula::Term`, [`CheckResult::comparison`]): the syntax's own,
 /// so presentation reads them here and never the syntax tree.
-pub use crate::syntax::ast::{BinaryOp, Comparison};
+pub use crate::syntax::ast::{BinaryOp, Comparison, Relation};
 pub use conversion::{Conversion, ConversionError, WrittenConversion, convert};
 pub use explain::{format_result, format_value};
 pub use model::{
@@ -138,6 +139,9 @@ pub(crate) struct Evaluator<'a> {
     pub(crate) probe_values: RefCell<Vec<Value>>,
     /// How a run query is answered.
     pub(crate) run_query: RunQueryAnswer,
+    /// While `Some`, how each piecewise formula's test came out, by where it
+    /// is written (1: held, 2: did not, 3: both), for the corner search.
+    pub(crate) tests_seen: RefCell<Option<FxHashMap<Span, u8>>>,
 }
 
 impl<'a> Evaluator<'a> {
@@ -186,6 +190,7 @@ impl<'a> Evaluator<'a> {
             probe_range: Cell::new(None),
             probe_values: RefCell::new(Vec::new()),
             run_query: no_run_to_read,
+            tests_seen: RefCell::new(None),
         }
     }
 

@@ -15,6 +15,8 @@ use super::ast::{
 use super::parser::Rule;
 use crate::base::Span;
 
+mod conditional;
+
 /// Operator precedence, lowest first; `^` binds tightest and groups to the
 /// right, so `-2^2` is `-(2^2)` and `2^3^2` is `2^(3^2)`.
 static PRATT: LazyLock<PrattParser<Rule>> = LazyLock::new(|| {
@@ -790,6 +792,7 @@ impl Builder {
                 }
             }
             Rule::unit_value => ExprKind::UnitValue(self.unit_in_brackets(pair)?),
+            Rule::conditional => self.conditional(pair)?,
             Rule::reference => {
                 let mut inner = pair.into_inner();
                 let name = inner
