@@ -5,6 +5,7 @@
 //! sheet's evaluation, which hands each solve, simulate and case node to its
 //! block kind, is [`crate::blocks::evaluate`].
 
+mod angle_display;
 mod conditional;
 mod conversion;
 pub(crate) mod explain;
@@ -601,6 +602,12 @@ impl<'a> Evaluator<'a> {
             && let Some(as_written) = written(unit)
         {
             return (as_written, true);
+        }
+        if let Some(Value::Scalar(q)) = value
+            && q.dimension.is_dimensionless()
+            && let Some(degrees) = self.angle_display(id)
+        {
+            return (degrees, is_input);
         }
         let display = match value {
             Some(value) => pick_unit(value.dimension(), value.magnitude_si(), self.style.system),
