@@ -256,3 +256,16 @@ fn a_chain_of_tests_past_the_limit_is_refused_not_a_crash() {
     );
     assert_eq!(codes(&run(&nots)), ["parse-error"]);
 }
+
+#[test]
+fn the_lints_read_both_branches() {
+    // A rounded gravity in the branch not taken is still found.
+    let sheet = heftsheet::run(
+        "m_part = 50 kg\nv = 0.5 m/s\nF [N] = if v > 1 m/s then m_part * 9.81 m/s^2 else m_part * g0\n",
+    );
+    assert!(
+        codes(&sheet).contains(&"rounded-gravity"),
+        "{:?}",
+        codes(&sheet)
+    );
+}
