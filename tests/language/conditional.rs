@@ -269,3 +269,29 @@ fn the_lints_read_both_branches() {
         codes(&sheet)
     );
 }
+
+#[test]
+fn a_rate_that_switches_branch_during_a_run_fails_and_says_why() {
+    // The drive force drops at t = 2 s: a jump in the rate, which the
+    // error control cannot step over; never a silently wrong run.
+    let sheet = run(
+        "m = 10 kg\nF = 50 N\nsimulate t from 0 s to 10 s:\n  x' = v\n  v' = (if t < 2 s then F else 0 N) / m\n  x(0) = 0 m\n  v(0) = 0 m/s\nend\nv_end [m/s] = v at end\n",
+    );
+    let failure = sheet
+        .diagnostics
+        .iter()
+        .find(|d| d.code.as_str() == "integration-failed")
+        .expect("the run fails");
+    assert!(
+        failure
+            .help
+            .as_deref()
+            .unwrap_or("")
+            .contains("switches branch")
+    );
+    assert!(
+        sheet
+            .cell("v_end")
+            .is_some_and(|c| c.status != heftsheet::eval::CellStatus::Ok)
+    );
+}
