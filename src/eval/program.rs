@@ -598,6 +598,47 @@ mod tests {
     }
 
     #[test]
+    fn compiled_piecewise_formulas_match_the_interpreter() {
+        agrees(
+            "v = 0.5 m/s\nF [N] = if v <= 1 m/s and not v == 0.3 m/s then 10 N * v / (1 m/s) else if v > 2 m/s or v < 0 m/s then 3 N else 20 N * (v / (1 m/s))^2\n",
+            "F",
+            "v",
+            &[-1.0, 0.0, 0.3, 0.5, 1.0, 1.5, 2.0, 2.5],
+        );
+    }
+
+    #[test]
+    fn a_box_across_a_test_gives_the_hull_and_an_unbounded_slope() {
+        use crate::numeric::{Dual, Interval};
+        let source = "v = 0.5\nphi = if v <= 1 then 1.25 * v else 1.40 * v\n";
+        let sheet = Arc::new(Sheet::parse(source));
+        let text: Arc<str> = Arc::from(source);
+        let mut evaluator = Evaluator::new(&sheet, &text);
+        evaluator.evaluate_cell(0);
+        let sample = Quantity::number(0.5);
+        let input_of =
+            |n: &NameRef| (n.target == Target::Cell(0)).then_some(Input { index: 0, sample });
+        let expr = sheet.cell(1).expr.expect("a formula");
+        let program = evaluator.compile(expr, &input_of).expect("compiles");
+        // Inside one branch: that branch's enclosure, no straddle.
+        let inside = program.run(&[Interval::new(0.2, 0.8)]);
+        assert!(inside.lo <= 0.25 && inside.hi >= 1.0 && inside.hi < 1.0 + 1e-12);
+        assert_eq!(program.straddled_test(&[Interval::new(0.2, 0.8)]), None);
+        // Across the switch at 1: the hull of 1.25·[0.8, 1.2] and 1.40·[0.8, 1.2].
+        let across = program.run(&[Interval::new(0.8, 1.2)]);
+        assert!(across.lo <= 1.0 && across.hi >= 1.68 - 1e-12);
+        assert!(program.straddled_test(&[Interval::new(0.8, 1.2)]).is_some());
+        let slope = program
+            .run(&[Dual::variable(Interval::new(0.8, 1.2))])
+            .derivative;
+        assert!(slope.lo == f64::NEG_INFINITY && slope.hi == f64::INFINITY);
+        // At a point: the taken branch's derivative (d/dv of 1.40 v is 1.40).
+        let at_point = program.run(&[Dual::variable(1.5)]);
+        assert_eq!((at_point.value, at_point.derivative), (1.40 * 1.5, 1.40));
+        assert_eq!(program.run(&[Dual::variable(1.0)]).derivative, 1.25);
+    }
+
+    #[test]
     fn dimensions_are_checked_when_compiling() {
         let sheet = Arc::new(Sheet::parse("x = 2 m\nbad = x + 1 kg\n"));
         let source: Arc<str> = Arc::from("x = 2 m\nbad = x + 1 kg\n");
