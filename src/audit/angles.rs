@@ -79,6 +79,10 @@ impl<'c, 'a> AngleWords<'c, 'a> {
             ExprKind::Binary { lhs, rhs, .. } => self.in_expr(lhs) || self.in_expr(rhs),
             ExprKind::Component { vector, .. } => self.in_expr(vector),
             ExprKind::RunQuery(query) => self.in_expr(&query.value),
+            // The value is one of the branches; the test only chooses.
+            ExprKind::Conditional(conditional) => {
+                self.in_expr(&conditional.then) || self.in_expr(&conditional.otherwise)
+            }
             ExprKind::Number(_) | ExprKind::Invalid => false,
         }
     }

@@ -137,6 +137,16 @@ pub enum Code {
     /// A used sheet with errors, or a cell of it that cannot be read here
     /// (no value, or a tolerance that does not cross sheets).
     IncludeError,
+    /// The branches of a piecewise formula (`if … then … else …`) with
+    /// different dimensions, whichever is taken.
+    BranchDimensions,
+    /// A test of a piecewise formula comparing quantities of different
+    /// dimensions (or a vector).
+    ConditionDimensions,
+    /// A range over the tolerances that straddles the test of a piecewise
+    /// formula: both branches are taken into account, and no first-order
+    /// estimate is given.
+    RangeStraddlesCondition,
 }
 
 impl Code {
@@ -188,11 +198,14 @@ impl Code {
             Code::IncludeMissing => "include-missing",
             Code::IncludeCycle => "include-cycle",
             Code::IncludeError => "include-error",
+            Code::BranchDimensions => "branch-dimensions",
+            Code::ConditionDimensions => "condition-dimensions",
+            Code::RangeStraddlesCondition => "range-straddles-condition",
         }
     }
 
     /// Every code, for documentation and tests.
-    pub const ALL: [Code; 45] = [
+    pub const ALL: [Code; 48] = [
         Code::ParseError,
         Code::EncodingError,
         Code::HeaderError,
@@ -238,6 +251,9 @@ impl Code {
         Code::IncludeMissing,
         Code::IncludeCycle,
         Code::IncludeError,
+        Code::BranchDimensions,
+        Code::ConditionDimensions,
+        Code::RangeStraddlesCondition,
     ];
 }
 

@@ -94,6 +94,7 @@ impl<'a> Evaluator<'a> {
                 args,
             } => self.call(&name.text, name.span, args, expr.span)?,
             ExprKind::RunQuery(query) => (self.run_query)(self, query, expr.span)?,
+            ExprKind::Conditional(conditional) => self.conditional(conditional)?,
         };
         if value.is_finite() {
             Ok(value)

@@ -6,7 +6,7 @@
 
 use super::{CellStatus, Evaluated};
 use crate::sheet::CellId;
-use crate::syntax::ast::{BinaryOp, Expr, ExprKind, Target};
+use crate::syntax::ast::{BinaryOp, Expr, ExprKind, Relation, Target, Test, TestKind};
 use crate::units::{self, format_significant};
 
 /// Fewest significant digits a built-in constant is shown with
@@ -56,6 +56,38 @@ pub enum Term {
     },
     /// A formula that did not parse, as written.
     Invalid(String),
+    /// A piecewise formula, with whether its test held (`None` if that
+    /// could not be told: a value it compares failed).
+    Conditional {
+        /// The test.
+        test: Box<TestTerm>,
+        /// The value where it holds.
+        then: Box<Term>,
+        /// The value where it does not.
+        otherwise: Box<Term>,
+        /// Whether the test held at the sheet's values.
+        holds: Option<bool>,
+    },
+}
+
+/// The test of a piecewise formula, ready to show.
+#[derive(Clone, Debug, PartialEq)]
+pub enum TestTerm {
+    /// Two quantities compared.
+    Compare {
+        /// The comparison.
+        relation: Relation,
+        /// Left side.
+        lhs: Term,
+        /// Right side.
+        rhs: Term,
+    },
+    /// Every part holds.
+    All(Vec<TestTerm>),
+    /// Some part holds.
+    Any(Vec<TestTerm>),
+    /// The part does not hold.
+    Not(Box<TestTerm>),
 }
 
 /// A value as a sheet shows it: rounded number and display unit.
@@ -183,7 +215,44 @@ impl Evaluated {
             ExprKind::Invalid => Term::Invalid(text(expr.span)),
             // A value read from a run reads best as written (`v at stop`).
             ExprKind::RunQuery(_) => Term::Number(text(expr.span)),
+            ExprKind::Conditional(conditional) => Term::Conditional {
+                test: Box::new(self.test_term(&conditional.test)),
+                then: Box::new(self.term(&conditional.then)),
+                otherwise: Box::new(self.term(&conditional.otherwise)),
+                holds: self.test_held(&conditional.test),
+            },
         }
+    }
+
+    fn test_term(&self, test: &Test) -> TestTerm {
+        match &test.kind {
+            TestKind::Compare { relation, lhs, rhs } => TestTerm::Compare {
+                relation: *relation,
+                lhs: self.term(lhs),
+                rhs: self.term(rhs),
+            },
+            TestKind::All(parts) => {
+                TestTerm::All(parts.iter().map(|p| self.test_term(p)).collect())
+            }
+            TestKind::Any(parts) => {
+                TestTerm::Any(parts.iter().map(|p| self.test_term(p)).collect())
+            }
+            TestKind::Not(inner) => TestTerm::Not(Box::new(self.test_term(inner))),
+        }
+    }
+
+    /// Whether a test held at the sheet's values, asked of an evaluator
+    /// that carries them (a copy of the values: a test is rare, and this
+    /// runs only for the formulas that have one).
+    fn test_held(&self, test: &Test) -> Option<bool> {
+        let evaluator = super::Evaluator::resume(
+            &self.sheet,
+            &self.source,
+            self.values.clone(),
+            self.statuses.clone(),
+            self.spreads.clone(),
+        );
+        evaluator.test_holds(test).ok()
     }
 }
 
@@ -195,6 +264,9 @@ fn precedence(kind: &ExprKind) -> u8 {
     match kind {
         ExprKind::Binary { op, .. } => binary_precedence(*op),
         ExprKind::Negate(_) => NEGATE,
+        // `else` reaches as far right as the formula goes: always bracketed
+        // as an operand.
+        ExprKind::Conditional(_) => 0,
         _ => ATOM,
     }
 }

@@ -5,6 +5,8 @@
 //! sheet's evaluation, which hands each solve, simulate and case node to its
 //! block kind, is [`crate::blocks::evaluate`].
 
+mod angle_display;
+mod conditional;
 mod conversion;
 pub(crate) mod explain;
 mod expr;
@@ -17,7 +19,7 @@ pub(crate) mod verdict;
 /// The operators and comparisons the evaluated model's formulas and checks
 /// carry (`formula::Term`, [`CheckResult::comparison`]): the syntax's own,
 /// so presentation reads them here and never the syntax tree.
-pub use crate::syntax::ast::{BinaryOp, Comparison};
+pub use crate::syntax::ast::{BinaryOp, Comparison, Relation};
 pub use conversion::{Conversion, ConversionError, WrittenConversion, convert};
 pub use explain::{format_result, format_value};
 pub use model::{
@@ -138,6 +140,9 @@ pub(crate) struct Evaluator<'a> {
     pub(crate) probe_values: RefCell<Vec<Value>>,
     /// How a run query is answered.
     pub(crate) run_query: RunQueryAnswer,
+    /// While `Some`, how each piecewise formula's test came out, by where it
+    /// is written (1: held, 2: did not, 3: both), for the corner search.
+    pub(crate) tests_seen: RefCell<Option<FxHashMap<Span, u8>>>,
 }
 
 impl<'a> Evaluator<'a> {
@@ -186,6 +191,7 @@ impl<'a> Evaluator<'a> {
             probe_range: Cell::new(None),
             probe_values: RefCell::new(Vec::new()),
             run_query: no_run_to_read,
+            tests_seen: RefCell::new(None),
         }
     }
 
@@ -596,6 +602,12 @@ impl<'a> Evaluator<'a> {
             && let Some(as_written) = written(unit)
         {
             return (as_written, true);
+        }
+        if let Some(Value::Scalar(q)) = value
+            && q.dimension.is_dimensionless()
+            && let Some(degrees) = self.angle_display(id)
+        {
+            return (degrees, is_input);
         }
         let display = match value {
             Some(value) => pick_unit(value.dimension(), value.magnitude_si(), self.style.system),

@@ -15,7 +15,7 @@ use super::explain::{Operand, mismatch};
 use crate::base::Span;
 use crate::base::{Code, Diagnostic};
 use crate::numeric::{BinaryRule, Number, UnaryRule};
-use crate::syntax::ast::{BinaryOp, Expr, ExprKind, NameRef};
+use crate::syntax::ast::{BinaryOp, Expr, ExprKind, NameRef, Relation};
 use crate::units::functions::{self, Function, Kind};
 use crate::units::{Dimension, Quantity, Value};
 
@@ -45,6 +45,74 @@ pub enum Op {
     Unary(&'static UnaryRule),
     /// Pop b, a; push f(a, b), by its rule from the function table.
     Binary(&'static BinaryRule),
+    /// Pop b, a; push whether `a RELATION b` holds onto the test stack.
+    Compare(Relation),
+    /// Pop two tests; push whether both hold.
+    And,
+    /// Pop two tests; push whether either holds.
+    Or,
+    /// Negate the top test.
+    Not,
+    /// Pop a test, then b (the `else` branch) and a (the `then` branch);
+    /// push a where the test holds, b where it does not, and either across
+    /// the jump where it may go both ways (the test is written at the span).
+    Select(Span),
+}
+
+/// Whether a test holds: surely, surely not, or (over a box) either way.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Truth {
+    /// It holds.
+    Holds,
+    /// It does not hold.
+    Fails,
+    /// It holds somewhere and fails somewhere (or cannot be told: NaN).
+    Either,
+}
+
+impl Truth {
+    fn of(holds: bool, fails: bool) -> Truth {
+        match (holds, fails) {
+            (true, false) => Truth::Holds,
+            (false, true) => Truth::Fails,
+            _ => Truth::Either,
+        }
+    }
+
+    /// Whether `a RELATION b` holds for numbers of type `T`.
+    pub fn compare<T: Number>(relation: Relation, a: T, b: T) -> Truth {
+        match relation {
+            Relation::AtMost => Truth::of(a.certainly_at_most(b), b.certainly_less(a)),
+            Relation::Below => Truth::of(a.certainly_less(b), b.certainly_at_most(a)),
+            Relation::AtLeast => Truth::of(b.certainly_at_most(a), a.certainly_less(b)),
+            Relation::Above => Truth::of(b.certainly_less(a), a.certainly_at_most(b)),
+            Relation::Equal => Truth::of(
+                a.certainly_at_most(b) && b.certainly_at_most(a),
+                a.certainly_less(b) || b.certainly_less(a),
+            ),
+            Relation::NotEqual => Truth::compare(Relation::Equal, a, b).negated(),
+        }
+    }
+
+    fn negated(self) -> Truth {
+        match self {
+            Truth::Holds => Truth::Fails,
+            Truth::Fails => Truth::Holds,
+            Truth::Either => Truth::Either,
+        }
+    }
+
+    fn and(self, other: Truth) -> Truth {
+        match (self, other) {
+            (Truth::Fails, _) | (_, Truth::Fails) => Truth::Fails,
+            (Truth::Holds, Truth::Holds) => Truth::Holds,
+            _ => Truth::Either,
+        }
+    }
+
+    fn or(self, other: Truth) -> Truth {
+        self.negated().and(other.negated()).negated()
+    }
 }
 
 /// A compiled formula: its program and the dimension of its result.
@@ -64,7 +132,28 @@ impl Program {
 
     /// Runs the program reusing `stack` (no allocation in a hot loop).
     pub fn run_with<T: Number>(&self, inputs: &[T], stack: &mut Vec<T>) -> T {
+        self.run_noting(inputs, stack, &mut None)
+    }
+
+    /// Where the first test that went either way (over a box that straddles
+    /// it) is written, if one did; the program run as [`Program::run`].
+    pub fn straddled_test<T: Number>(&self, inputs: &[T]) -> Option<Span> {
+        let mut straddled = None;
+        self.run_noting(inputs, &mut Vec::with_capacity(8), &mut straddled);
+        straddled
+    }
+
+    /// Runs the program, noting in `straddled` the first test that went
+    /// either way.
+    fn run_noting<T: Number>(
+        &self,
+        inputs: &[T],
+        stack: &mut Vec<T>,
+        straddled: &mut Option<Span>,
+    ) -> T {
         stack.clear();
+        // Empty, and so never allocated, for a formula without tests.
+        let mut truths: Vec<Truth> = Vec::new();
         for op in &self.ops {
             let value = match *op {
                 Op::Constant(value) => T::constant(value),
@@ -75,6 +164,39 @@ impl Program {
                 Op::Neg => pop(stack).neg(),
                 Op::Powi(power) => pop(stack).powi(power),
                 Op::Unary(rule) => pop(stack).apply(rule),
+                Op::Compare(relation) => {
+                    let b = pop(stack);
+                    let a = pop(stack);
+                    truths.push(Truth::compare(relation, a, b));
+                    continue;
+                }
+                Op::And | Op::Or => {
+                    let b = truths.pop().unwrap_or(Truth::Either);
+                    let a = truths.pop().unwrap_or(Truth::Either);
+                    truths.push(if matches!(op, Op::And) {
+                        a.and(b)
+                    } else {
+                        a.or(b)
+                    });
+                    continue;
+                }
+                Op::Not => {
+                    let a = truths.pop().unwrap_or(Truth::Either);
+                    truths.push(a.negated());
+                    continue;
+                }
+                Op::Select(test) => {
+                    let otherwise = pop(stack);
+                    let then = pop(stack);
+                    match truths.pop().unwrap_or(Truth::Either) {
+                        Truth::Holds => then,
+                        Truth::Fails => otherwise,
+                        Truth::Either => {
+                            straddled.get_or_insert(test);
+                            then.across_jump(otherwise)
+                        }
+                    }
+                }
                 Op::Add | Op::Sub | Op::Mul | Op::Div | Op::Pow | Op::Binary(_) => {
                     let b = pop(stack);
                     let a = pop(stack);
@@ -218,6 +340,9 @@ impl Evaluator<'_> {
             }
             ExprKind::Call { function, args } => {
                 self.compile_call(&function.text, expr, args, input_of, ops)
+            }
+            ExprKind::Conditional(conditional) => {
+                self.compile_conditional(conditional, input_of, ops)
             }
             _ => Err(CompileError::NeedsVectors(expr.span)),
         }
@@ -400,6 +525,8 @@ fn mentions_input(expr: &Expr, input_of: &dyn Fn(&NameRef) -> Option<Input>) -> 
     found
 }
 
+mod conditional;
+
 #[cfg(test)]
 mod every_function;
 
@@ -468,6 +595,47 @@ mod tests {
             "θ",
             &[0.1, 1.0, 2.0],
         );
+    }
+
+    #[test]
+    fn compiled_piecewise_formulas_match_the_interpreter() {
+        agrees(
+            "v = 0.5 m/s\nF [N] = if v <= 1 m/s and not v == 0.3 m/s then 10 N * v / (1 m/s) else if v > 2 m/s or v < 0 m/s then 3 N else 20 N * (v / (1 m/s))^2\n",
+            "F",
+            "v",
+            &[-1.0, 0.0, 0.3, 0.5, 1.0, 1.5, 2.0, 2.5],
+        );
+    }
+
+    #[test]
+    fn a_box_across_a_test_gives_the_hull_and_an_unbounded_slope() {
+        use crate::numeric::{Dual, Interval};
+        let source = "v = 0.5\nphi = if v <= 1 then 1.25 * v else 1.40 * v\n";
+        let sheet = Arc::new(Sheet::parse(source));
+        let text: Arc<str> = Arc::from(source);
+        let mut evaluator = Evaluator::new(&sheet, &text);
+        evaluator.evaluate_cell(0);
+        let sample = Quantity::number(0.5);
+        let input_of =
+            |n: &NameRef| (n.target == Target::Cell(0)).then_some(Input { index: 0, sample });
+        let expr = sheet.cell(1).expr.expect("a formula");
+        let program = evaluator.compile(expr, &input_of).expect("compiles");
+        // Inside one branch: that branch's enclosure, no straddle.
+        let inside = program.run(&[Interval::new(0.2, 0.8)]);
+        assert!(inside.lo <= 0.25 && inside.hi >= 1.0 && inside.hi < 1.0 + 1e-12);
+        assert_eq!(program.straddled_test(&[Interval::new(0.2, 0.8)]), None);
+        // Across the switch at 1: the hull of 1.25·[0.8, 1.2] and 1.40·[0.8, 1.2].
+        let across = program.run(&[Interval::new(0.8, 1.2)]);
+        assert!(across.lo <= 1.0 && across.hi >= 1.68 - 1e-12);
+        assert!(program.straddled_test(&[Interval::new(0.8, 1.2)]).is_some());
+        let slope = program
+            .run(&[Dual::variable(Interval::new(0.8, 1.2))])
+            .derivative;
+        assert!(slope.lo == f64::NEG_INFINITY && slope.hi == f64::INFINITY);
+        // At a point: the taken branch's derivative (d/dv of 1.40 v is 1.40).
+        let at_point = program.run(&[Dual::variable(1.5)]);
+        assert_eq!((at_point.value, at_point.derivative), (1.40 * 1.5, 1.40));
+        assert_eq!(program.run(&[Dual::variable(1.0)]).derivative, 1.25);
     }
 
     #[test]

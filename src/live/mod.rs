@@ -643,6 +643,14 @@ fn collect_names<'e>(
                 collect_names(arg, Some(Parent::Call), out);
             }
         }
+        // A test's sides and both branches are operands as a call's arguments are.
+        ExprKind::Conditional(conditional) => {
+            conditional
+                .test
+                .for_each_side(&mut |side| collect_names(side, Some(Parent::Call), out));
+            collect_names(&conditional.then, Some(Parent::Call), out);
+            collect_names(&conditional.otherwise, Some(Parent::Call), out);
+        }
         // A component or a run query reads as written: its names are a
         // vector or a run's states, not one value to put in their place.
         ExprKind::Number(_)

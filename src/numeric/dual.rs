@@ -134,6 +134,25 @@ impl<T: Primal> Number for Dual<T> {
         }
     }
 
+    fn certainly_at_most(self, other: Self) -> bool {
+        self.value.certainly_at_most(other.value)
+    }
+
+    fn across_jump(self, other: Self) -> Self {
+        // Across a jump no derivative bounds the change.
+        Dual {
+            value: self.value.across_jump(other.value),
+            derivative: T::unbounded(),
+        }
+    }
+
+    fn unbounded() -> Self {
+        Dual {
+            value: T::unbounded(),
+            derivative: T::unbounded(),
+        }
+    }
+
     fn sign(self) -> Self {
         // Constant wherever it is defined: no derivative.
         Dual::fixed(self.value.sign())

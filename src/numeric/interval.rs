@@ -217,6 +217,22 @@ impl Number for Interval {
         self.hull(other)
     }
 
+    fn certainly_at_most(self, other: Self) -> bool {
+        self.hi <= other.lo
+    }
+
+    fn across_jump(self, other: Self) -> Self {
+        if self.is_nan() || other.is_nan() {
+            Interval::undefined()
+        } else {
+            self.hull(other)
+        }
+    }
+
+    fn unbounded() -> Self {
+        Interval::entire()
+    }
+
     fn sign(self) -> Self {
         Interval::new(
             <f64 as Number>::sign(self.lo),

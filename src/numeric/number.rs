@@ -23,6 +23,15 @@ pub trait Number: Copy + std::fmt::Debug {
     fn certainly_less(self, other: Self) -> bool;
     /// A value that may be either (for intervals: their hull).
     fn either(self, other: Self) -> Self;
+    /// Whether `self` is surely at most `other` (for intervals: wholly).
+    fn certainly_at_most(self, other: Self) -> bool;
+    /// A value that may be either of two different functions' values, as
+    /// the branches of a piecewise formula over a box that straddles its
+    /// test: for intervals their hull (undefined if either is), for a
+    /// derivative unbounded; at a point (which straddles only for NaN) NaN.
+    fn across_jump(self, other: Self) -> Self;
+    /// A value nothing is known of (NaN at a point, every number over a box).
+    fn unbounded() -> Self;
     /// −1, 0 or 1 by the sign of `self` (for intervals: every sign it
     /// holds); the slope of |x|, taken as 0 at 0.
     fn sign(self) -> Self;
@@ -61,6 +70,15 @@ impl Number for f64 {
     }
     fn either(self, _other: Self) -> Self {
         self
+    }
+    fn certainly_at_most(self, other: Self) -> bool {
+        self <= other
+    }
+    fn across_jump(self, _other: Self) -> Self {
+        f64::NAN
+    }
+    fn unbounded() -> Self {
+        f64::NAN
     }
     fn sign(self) -> Self {
         if self > 0.0 {

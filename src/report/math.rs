@@ -2,7 +2,8 @@
 //! "up", `m/s^2` → m/s², `*` → ·, `<=` → ≤, `sqrt(x)` → √(x).
 
 use super::model::{Piece, Rich};
-use crate::eval::formula::{ShownValue, Term};
+use crate::eval::Relation;
+use crate::eval::formula::{ShownValue, Term, TestTerm};
 use crate::eval::{BinaryOp, Comparison};
 
 /// A name with the part after its first `_` as a subscript; further `_`
@@ -162,6 +163,92 @@ fn write_operand(term: &Term, names: Names, base_of_power: bool, out: &mut Rich)
             out.push_text(")");
         }
         Term::Invalid(text) => out.push(Piece::Code(text.clone())),
+        Term::Conditional {
+            test,
+            then,
+            otherwise,
+            holds,
+        } => write_conditional((test, then, otherwise, *holds), names, out),
+    }
+}
+
+/// `if v ≤ 0.25 m/s then 1.10 else 1.40` as written; with values put in,
+/// the test's values and the branch taken: `0.5 m/s ≤ 0.25 m/s does not
+/// hold, so 1.40` (a chain reads on: `…; 0.5 m/s ≤ 1 m/s holds, so 1.25`).
+fn write_conditional(
+    (test, then, otherwise, holds): (&TestTerm, &Term, &Term, Option<bool>),
+    names: Names,
+    out: &mut Rich,
+) {
+    match (names, holds) {
+        (Names::Substituted, Some(holds)) => {
+            write_test(test, names, out);
+            if holds {
+                out.push_text(" holds, so ");
+                write_term(then, names, out);
+            } else {
+                out.push_text(" does not hold");
+                out.push_text(if matches!(otherwise, Term::Conditional { .. }) {
+                    "; "
+                } else {
+                    ", so "
+                });
+                write_term(otherwise, names, out);
+            }
+        }
+        _ => {
+            out.push_text("if ");
+            write_test(test, names, out);
+            out.push_text(" then ");
+            write_term(then, names, out);
+            out.push_text(" else ");
+            write_term(otherwise, names, out);
+        }
+    }
+}
+
+fn write_test(test: &TestTerm, names: Names, out: &mut Rich) {
+    let bracketed = |part: &TestTerm, needed: bool, out: &mut Rich| {
+        if needed {
+            out.push_text("(");
+        }
+        write_test(part, names, out);
+        if needed {
+            out.push_text(")");
+        }
+    };
+    match test {
+        TestTerm::Compare { relation, lhs, rhs } => {
+            write_term(lhs, names, out);
+            out.push_text(&format!(" {} ", relation_sign(*relation)));
+            write_term(rhs, names, out);
+        }
+        TestTerm::All(parts) | TestTerm::Any(parts) => {
+            let all = matches!(test, TestTerm::All(_));
+            for (index, part) in parts.iter().enumerate() {
+                if index > 0 {
+                    out.push_text(if all { " and " } else { " or " });
+                }
+                // `and` binds tighter than `or`.
+                bracketed(part, all && matches!(part, TestTerm::Any(_)), out);
+            }
+        }
+        TestTerm::Not(inner) => {
+            out.push_text("not ");
+            bracketed(inner, !matches!(**inner, TestTerm::Compare { .. }), out);
+        }
+    }
+}
+
+/// A test's comparison sign as people write it.
+pub fn relation_sign(relation: Relation) -> &'static str {
+    match relation {
+        Relation::AtMost => "≤",
+        Relation::Below => "<",
+        Relation::AtLeast => "≥",
+        Relation::Above => ">",
+        Relation::Equal => "=",
+        Relation::NotEqual => "≠",
     }
 }
 
@@ -173,6 +260,7 @@ pub fn has_values(term: &Term) -> bool {
         Term::Negate(inner) | Term::Group(inner) => has_values(inner),
         Term::Binary { lhs, rhs, .. } => has_values(lhs) || has_values(rhs),
         Term::Call { args, .. } => args.iter().any(has_values),
+        Term::Conditional { .. } => true,
         Term::Number(_) | Term::Quantity { .. } | Term::UnitValue(_) | Term::Invalid(_) => false,
     }
 }

@@ -285,6 +285,13 @@ fn names_outside_queries(expr: &Expr, out: &mut Vec<(Span, String, Target)>) {
             names_outside_queries(rhs, out);
         }
         ExprKind::Call { args, .. } => args.iter().for_each(|arg| names_outside_queries(arg, out)),
+        ExprKind::Conditional(conditional) => {
+            conditional
+                .test
+                .for_each_side(&mut |side| names_outside_queries(side, out));
+            names_outside_queries(&conditional.then, out);
+            names_outside_queries(&conditional.otherwise, out);
+        }
         ExprKind::RunQuery(query) => {
             if let RunPoint::Time(time) = &query.point {
                 names_outside_queries(time, out);

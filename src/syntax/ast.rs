@@ -3,6 +3,7 @@
 
 use compact_str::CompactString;
 
+pub use super::conditional::{Conditional, Relation, Test, TestKind};
 use crate::base::Span;
 
 /// One statement of a sheet, with the span of its line.
@@ -413,6 +414,8 @@ pub enum ExprKind {
     },
     /// A value read from a simulate run: `v at stop`, `max of k * x`.
     RunQuery(Box<RunQuery>),
+    /// A piecewise formula: `if v <= 1 m/s then 1.25 else 1.40`.
+    Conditional(Box<Conditional>),
 }
 
 /// A value read from a simulate run: `value at point`, or `max of value`
@@ -713,6 +716,13 @@ impl Expr {
                     RunPoint::Start | RunPoint::End | RunPoint::Stop | RunPoint::Event(_) => {}
                 }
             }
+            ExprKind::Conditional(conditional) => {
+                conditional
+                    .test
+                    .for_each_side_mut(&mut |side| side.walk_mut(visit));
+                conditional.then.walk_mut(visit);
+                conditional.otherwise.walk_mut(visit);
+            }
             ExprKind::Number(_)
             | ExprKind::Quantity { .. }
             | ExprKind::Slope { .. }
@@ -740,6 +750,11 @@ impl Expr {
                     RunPoint::Extremum { of: expr, .. } | RunPoint::Time(expr) => expr.walk(visit),
                     RunPoint::Start | RunPoint::End | RunPoint::Stop | RunPoint::Event(_) => {}
                 }
+            }
+            ExprKind::Conditional(conditional) => {
+                conditional.test.for_each_side(&mut |side| side.walk(visit));
+                conditional.then.walk(visit);
+                conditional.otherwise.walk(visit);
             }
             ExprKind::Number(_)
             | ExprKind::Quantity { .. }

@@ -16,6 +16,8 @@ use super::parser::Rule;
 use crate::base::Span;
 use compact_str::CompactString;
 
+mod conditional;
+
 /// Operator precedence, lowest first; `^` binds tightest and groups to the
 /// right, so `-2^2` is `-(2^2)` and `2^3^2` is `2^(3^2)`.
 static PRATT: LazyLock<PrattParser<Rule>> = LazyLock::new(|| {
@@ -814,6 +816,7 @@ impl Builder {
                 }
             }
             Rule::unit_value => ExprKind::UnitValue(self.unit_in_brackets(pair)?),
+            Rule::conditional => self.conditional(pair)?,
             Rule::reference => {
                 let mut inner = pair.into_inner();
                 let name = inner

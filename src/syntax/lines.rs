@@ -57,6 +57,20 @@ impl Quotes {
     }
 }
 
+/// Whether `c` continues a name.
+fn is_word_char(c: char) -> bool {
+    c.is_alphanumeric() || c == '_'
+}
+
+/// The word (letters, digits, `_`) that `text` starts with.
+fn word_at(text: &str) -> &str {
+    let end = text
+        .char_indices()
+        .find(|&(_, c)| !is_word_char(c))
+        .map_or(text.len(), |(index, _)| index);
+    &text[..end]
+}
+
 /// Refuses statements nested deeper than [`MAX_NESTING`] or with more than
 /// [`MAX_OPERATORS`] operators, before any recursive code sees them.
 pub(super) fn check_limits(text: &str, offset: usize) -> Option<Diagnostic> {
@@ -64,6 +78,7 @@ pub(super) fn check_limits(text: &str, offset: usize) -> Option<Diagnostic> {
     let mut n_operators = 0usize;
     let mut quotes = Quotes::default();
     let mut previous = '\0';
+    let mut n_nesting_words = 0usize;
     for (position, c) in text.char_indices() {
         if quotes.step(c) {
             continue;
@@ -97,6 +112,29 @@ pub(super) fn check_limits(text: &str, offset: usize) -> Option<Diagnostic> {
                     return Some(too_many_operators(offset + position));
                 }
             }
+            // A conditional's `if` and a test's `not` nest what follows them.
+            'i' | 'n' | 'a' | 'o' if !is_word_char(previous) => match word_at(&text[position..]) {
+                "if" | "not" => {
+                    n_nesting_words += 1;
+                    if n_nesting_words > MAX_NESTING {
+                        return Some(
+                            Diagnostic::error(
+                                Code::ParseError,
+                                Span::new(offset + position, offset + position + 1),
+                                format!("more than {MAX_NESTING} `if` and `not` in one statement"),
+                            )
+                            .with_help("split the formula into several cells"),
+                        );
+                    }
+                }
+                "and" | "or" => {
+                    n_operators += 1;
+                    if n_operators > MAX_OPERATORS {
+                        return Some(too_many_operators(offset + position));
+                    }
+                }
+                _ => {}
+            },
             _ => {}
         }
         previous = c;

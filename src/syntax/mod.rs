@@ -3,6 +3,7 @@
 
 pub mod ast;
 mod build;
+mod conditional;
 mod lines;
 mod parser;
 mod simulate;

@@ -98,6 +98,11 @@ fn describe_rule(rule: Rule) -> Option<&'static str> {
         | Rule::reference
         | Rule::unit_value => "an expression",
         Rule::name => "a name",
+        Rule::conditional | Rule::keyword_if => "an expression",
+        Rule::keyword_then => "`then`",
+        Rule::keyword_else => "`else` and the value otherwise (a piecewise formula needs one)",
+        Rule::keyword_and | Rule::keyword_or => "`and` or `or`",
+        Rule::equal_to | Rule::not_equal_to => "a comparison (`<=`, `<`, `>=`, `>`, `==`, `!=`)",
         Rule::assign => "`=`",
         Rule::add | Rule::sub | Rule::mul | Rule::div | Rule::pow => "an operator",
         Rule::neg => "an expression",

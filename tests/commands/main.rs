@@ -6,6 +6,7 @@
 #[path = "../common/mod.rs"]
 mod common;
 
+mod angles_cli;
 mod audit_cli;
 mod cli;
 mod hostile;

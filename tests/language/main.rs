@@ -8,6 +8,7 @@
 mod common;
 
 mod cases;
+mod conditional;
 mod fixes;
 mod linking;
 mod mechanics;

@@ -562,3 +562,25 @@ fn splices_over_blocks_and_the_header_match_a_full_evaluation_and_undo_exactly()
     assert_matches_full_evaluation(&plain);
     assert_eq!(plain.text(), SKID_LIFT);
 }
+
+#[test]
+fn piecewise_formulas_and_angles_edit_like_any_formula() {
+    // The speed moves across the switch and back; the dependent results,
+    // the branch taken and the unit shown (degrees for an inverse sine)
+    // always match a fresh evaluation of the text.
+    let mut live = LiveSheet::open(
+        "v = 0.5 m/s\nphi = if v <= 1 m/s then 1.25 else 1.40\nT [kN] = phi * 1000 kg * g0\nθ = asin(0.5)\nψ = 2 * θ\n",
+    );
+    assert_matches_full_evaluation(&live);
+    for speed in ["1.5 m/s", "1 m/s", "0.2 m/s"] {
+        let id = live.cell_named("v").expect("v");
+        live.set_cell_field(id, CellField::Formula, speed)
+            .expect("edit");
+        assert_matches_full_evaluation(&live);
+    }
+    live.replace_line(1, "phi = if v <= 1 m/s then 1.25 else 1.40 m")
+        .expect("edit");
+    assert_matches_full_evaluation(&live);
+    let phi = live.cell_named("phi").expect("phi");
+    assert_eq!(live.cell(phi).status, CellStatus::Error);
+}

@@ -230,8 +230,12 @@ impl Evaluator<'_> {
         let mut cells_so_far: Vec<CellSoFar> = vec![CellSoFar::default(); cells.len()];
         let mut checks_so_far: Vec<CheckSoFar> =
             checks.iter().map(|_| CheckSoFar::default()).collect();
+        let mut tests_seen: rustc_hash::FxHashMap<crate::base::Span, u8> = Default::default();
         for corner in 0..n_corners {
             let mut evaluator = self.evaluated_at_corner(inputs, corner, &nodes);
+            for (test, seen) in evaluator.tests_seen.take().unwrap_or_default() {
+                *tests_seen.entry(test).or_default() |= seen;
+            }
             let failure = evaluator
                 .diagnostics
                 .iter()
@@ -253,15 +257,33 @@ impl Evaluator<'_> {
                 });
             }
         }
+        // A test that went both ways between the corners: what depends on
+        // it is not followed by the corners alone.
+        let mut straddled: Vec<crate::base::Span> = tests_seen
+            .into_iter()
+            .filter(|&(_, seen)| seen == 3)
+            .map(|(test, _)| test)
+            .collect();
+        straddled.sort_unstable();
         let cells = cells
             .iter()
             .zip(cells_so_far)
-            .map(|(&id, state)| (id, state.range(self.values[id], method)))
+            .map(
+                |(&id, state)| match self.straddled_for_cell(id, &straddled) {
+                    Some(_) => (id, CornerRange::Unknown),
+                    None => (id, state.range(self.values[id], method)),
+                },
+            )
             .collect();
         let checks = checks
             .iter()
             .zip(checks_so_far)
-            .map(|(&index, state)| (index, self.corner_check(inputs, index, state, base, method)))
+            .map(
+                |(&index, state)| match self.straddled_for_check(index, &straddled) {
+                    Some(test) => (index, Err(self.straddle_reason(test))),
+                    None => (index, self.corner_check(inputs, index, state, base, method)),
+                },
+            )
             .collect();
         CornerRanges { cells, checks }
     }
@@ -288,6 +310,7 @@ impl Evaluator<'_> {
             .enumerate()
             .map(|(bit, input)| (input.cell, corner_value(input, corner, bit)))
             .collect();
+        evaluator.tests_seen = std::cell::RefCell::new(Some(Default::default()));
         for &node in nodes {
             for &id in self.sheet.nodes[node].cells() {
                 evaluator.values[id] = None;

@@ -4,6 +4,7 @@
 
 mod corners;
 mod ranges;
+mod straddle;
 
 use rustc_hash::FxHashMap;
 
@@ -123,16 +124,21 @@ impl Evaluator<'_> {
         let inputs = self.corner_inputs();
         let reached = self.reached_by(&inputs);
         let mut corner_checks = Vec::new();
+        let mut straddled_checks = Vec::new();
         for (index, result) in checks.iter_mut().enumerate() {
             if result.holds.is_none() || !self.sheet.check_uses[index].iter().any(|&id| reached[id])
             {
                 continue;
             }
             match self.interval_worst_case(&ranges, index, result, &reached) {
-                Some(worst) => result.worst = Some(worst),
+                Some((worst, straddled)) => {
+                    result.worst = Some(worst);
+                    straddled_checks.extend(straddled.map(|span| (index, span)));
+                }
                 None => corner_checks.push(index),
             }
         }
+        self.note_straddles(&ranges, &cell_ranges, &straddled_checks, case);
         // Results the tolerances reach that the interval engine cannot follow.
         let corner_cells: Vec<CellId> = (0..n_cells)
             .filter(|&id| {
@@ -240,7 +246,7 @@ impl Evaluator<'_> {
         index: usize,
         result: &CheckResult,
         reached: &[bool],
-    ) -> Option<CheckRange> {
+    ) -> Option<(CheckRange, Option<crate::base::Span>)> {
         let (lhs, rhs) = (result.lhs?, result.rhs?);
         let check = self.sheet.check(index);
         let compile = |expr| {
@@ -261,7 +267,13 @@ impl Evaluator<'_> {
         }
         let lhs_range = self.range_of(ranges, RangeOf::Program(&left, lhs.si), true)?;
         let rhs_range = self.range_of(ranges, RangeOf::Program(&right, rhs.si), true)?;
-        Some(self.worst_case(check.comparison, lhs_range, rhs_range))
+        let straddled = RangeOf::Program(&left, lhs.si)
+            .straddled(ranges)
+            .or_else(|| RangeOf::Program(&right, rhs.si).straddled(ranges));
+        Some((
+            self.worst_case(check.comparison, lhs_range, rhs_range),
+            straddled,
+        ))
     }
 
     /// Worst cases found by evaluating the sheet at the corners of the

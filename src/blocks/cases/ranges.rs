@@ -9,6 +9,7 @@
 //! rounding), which is done for the results a checker looks at: the checks'
 //! sides and the chosen case results.
 
+use crate::base::Span;
 use crate::eval::Evaluator;
 use crate::eval::model::{CellRange, CheckRange, RangeMethod, Sensitivity};
 use crate::eval::program::Program;
@@ -57,6 +58,10 @@ pub(super) struct Ranges {
     boxed: Vec<Interval>,
     derivatives: Vec<Vec<Dual<f64>>>,
     enclosures: Vec<Vec<Dual<Interval>>>,
+    /// Per cell, the test of a piecewise formula the box straddles, in its
+    /// own formula or one it uses: the branches join there, so its range is
+    /// their hull and no first-order estimate applies.
+    pub(super) straddles: Vec<Option<Span>>,
 }
 
 impl Evaluator<'_> {
@@ -108,9 +113,11 @@ impl Evaluator<'_> {
             programs,
             supported,
             sources,
+            straddles: Vec::new(),
         };
         ranges.point = self.interval_pass(&ranges, &ranges.order, Setting::Nominal, &[]);
         ranges.boxed = self.interval_pass(&ranges, &ranges.order, Setting::Box, &[]);
+        ranges.straddles = self.straddles(&ranges);
         for index in 0..ranges.sources.len() {
             let derivative = self.pass::<Dual<f64>>(
                 &ranges.programs,
@@ -130,6 +137,24 @@ impl Evaluator<'_> {
             ranges.enclosures.push(enclosure);
         }
         Some(ranges)
+    }
+
+    /// Each cell's straddled test (see [`Ranges::straddles`]), in
+    /// evaluation order so a cell inherits what it uses.
+    fn straddles(&self, ranges: &Ranges) -> Vec<Option<Span>> {
+        let mut straddles: Vec<Option<Span>> = vec![None; ranges.programs.len()];
+        for &id in &ranges.order {
+            let Some(program) = ranges.programs[id]
+                .as_ref()
+                .filter(|_| ranges.supported[id])
+            else {
+                continue;
+            };
+            straddles[id] = program
+                .straddled_test(&ranges.boxed)
+                .or_else(|| self.uses_of(id).iter().find_map(|&used| straddles[used]));
+        }
+        straddles
     }
 
     /// Formula cells in evaluation order.
@@ -346,6 +371,13 @@ impl Evaluator<'_> {
             .map(|k| target.dual(&ranges.derivatives[k]).derivative)
             .collect();
         let (first_order, sensitivities) = self.linearised(ranges, &derivatives, nominal);
+        // Across a straddled test the derivatives at the nominal point say
+        // nothing of the other branch.
+        let straddled = target.straddled(ranges);
+        let (first_order, sensitivities) = match straddled {
+            Some(_) => (None, Vec::new()),
+            None => (Some(first_order), sensitivities),
+        };
         // The cells the target depends on, found when first needed.
         let mut cone: Option<Vec<CellId>> = None;
         for (k, source) in ranges.sources.iter().enumerate() {
@@ -373,9 +405,14 @@ impl Evaluator<'_> {
             monotone &= sign.is_some();
             signs.push(sign.unwrap_or(true));
         }
-        let mut bounds = boxed.intersect(mean_value);
+        // Across a jump no derivative bounds the change: the natural
+        // interval (the hull of the branches) is the bound.
+        let mut bounds = match straddled {
+            Some(_) => boxed,
+            None => boxed.intersect(mean_value),
+        };
         let mut method = RangeMethod::Guaranteed;
-        if refine && monotone {
+        if refine && monotone && straddled.is_none() {
             let high_corner: Vec<bool> = signs.clone();
             let low_corner: Vec<bool> = signs.iter().map(|s| !s).collect();
             let cone = cone.get_or_insert_with(|| self.cone(ranges, target));
@@ -389,7 +426,7 @@ impl Evaluator<'_> {
         Some(CellRange {
             low: bounds.lo,
             high: bounds.hi,
-            first_order: Some(first_order),
+            first_order,
             method,
             sensitivities,
         })
@@ -615,6 +652,18 @@ impl RangeOf<'_> {
         match self {
             RangeOf::Cell(id) => pass[id],
             RangeOf::Program(program, _) => program.run(pass),
+        }
+    }
+
+    /// The test of a piecewise formula the box straddles on the way to it.
+    pub(super) fn straddled(self, ranges: &Ranges) -> Option<Span> {
+        match self {
+            RangeOf::Cell(id) => ranges.straddles.get(id).copied().flatten(),
+            RangeOf::Program(program, _) => program.straddled_test(&ranges.boxed).or_else(|| {
+                program
+                    .inputs()
+                    .find_map(|id| ranges.straddles.get(id as usize).copied().flatten())
+            }),
         }
     }
 

@@ -416,16 +416,24 @@ impl<'a> Evaluator<'a> {
                 ),
             )
             .with_help("a very stiff spring or strong damping beside slow motion: model the stiff part as a rigid link or by its quasi-static force, or shorten the run; heft integrates explicitly and does not switch to an implicit method"),
-            Failure::StepTooSmall { t, step } => Diagnostic::error(
-                Code::IntegrationFailed,
-                block.head,
-                format!(
-                    "the step size fell to {} s at t = {}: the solution changes faster there than time can be resolved",
-                    crate::units::format_significant(step, 3),
-                    at(t)
-                ),
-            )
-            .with_help("a state may be growing without bound, or a rate may jump; check the rates near that time, or stop the run before it with `stop when …`"),
+            Failure::StepTooSmall { t, step } => {
+                let diagnostic = Diagnostic::error(
+                    Code::IntegrationFailed,
+                    block.head,
+                    format!(
+                        "the step size fell to {} s at t = {}: the solution changes faster there than time can be resolved",
+                        crate::units::format_significant(step, 3),
+                        at(t)
+                    ),
+                );
+                match piecewise_test_in_rates(block) {
+                    // A rate that switches branch jumps: no step size resolves it.
+                    Some(test) => diagnostic
+                        .with_label(test, "a piecewise rate: where this test changes, the rate jumps")
+                        .with_help("a rate that switches branch during the run jumps, and the error control cannot step over a jump: stop the run where the test changes (`stop when …`) and start a second run from there, or keep the test on one side for the whole run"),
+                    None => diagnostic.with_help("a state may be growing without bound, or a rate may jump; check the rates near that time, or stop the run before it with `stop when …`"),
+                }
+            }
             Failure::TooManySteps { t, limit } => Diagnostic::error(
                 Code::IntegrationFailed,
                 block.head,
@@ -449,4 +457,17 @@ impl<'a> Evaluator<'a> {
             },
         }
     }
+}
+
+/// The test of the first piecewise formula in the block's rates, if any.
+fn piecewise_test_in_rates(block: &SimulateBlock) -> Option<crate::base::Span> {
+    let mut found = None;
+    for state in &block.states {
+        state.rate.walk(&mut |node| {
+            if let crate::syntax::ast::ExprKind::Conditional(conditional) = &node.kind {
+                found.get_or_insert(conditional.test.span);
+            }
+        });
+    }
+    found
 }
