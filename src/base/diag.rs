@@ -130,6 +130,27 @@ pub enum Code {
     /// A run query that names no state of a simulate block (or states of
     /// two), or a state used outside a run query.
     BadRunQuery,
+    /// An item of a parts list that lacks a quantity another item gives.
+    PartQuantityMissing,
+    /// A quantity of a parts list whose items give it in different dimensions.
+    PartDimensionMismatch,
+    /// An aggregate (`sum(list: …)`) that names no parts list, or sits
+    /// inside another aggregate.
+    BadAggregate,
+    /// A lift on four or more points: the shares depend on the rigging's
+    /// stiffness, so statics cannot give them.
+    IndeterminateLift,
+    /// A lift heft cannot compute: fewer than two points, a weight that is
+    /// not a force, a position that is not a plan vector of lengths.
+    BadLift,
+    /// Three lift points on one line: they cannot hold a moment about it.
+    CollinearLiftPoints,
+    /// A two-point lift whose centre of gravity is off the line between
+    /// the points: the load would roll about that line.
+    LiftOffLine,
+    /// A lift whose centre of gravity is outside its points (a load would
+    /// have to push down): the load tips.
+    LiftTips,
 }
 
 impl Code {
@@ -178,11 +199,19 @@ impl Code {
             Code::IntegrationFailed => "integration-failed",
             Code::NotInRun => "not-in-run",
             Code::BadRunQuery => "bad-run-query",
+            Code::PartQuantityMissing => "part-quantity-missing",
+            Code::PartDimensionMismatch => "part-dimension-mismatch",
+            Code::BadAggregate => "bad-aggregate",
+            Code::IndeterminateLift => "indeterminate-lift",
+            Code::BadLift => "bad-lift",
+            Code::CollinearLiftPoints => "collinear-lift-points",
+            Code::LiftOffLine => "lift-off-line",
+            Code::LiftTips => "lift-tips",
         }
     }
 
     /// Every code, for documentation and tests.
-    pub const ALL: [Code; 42] = [
+    pub const ALL: [Code; 50] = [
         Code::ParseError,
         Code::EncodingError,
         Code::HeaderError,
@@ -225,6 +254,14 @@ impl Code {
         Code::IntegrationFailed,
         Code::NotInRun,
         Code::BadRunQuery,
+        Code::PartQuantityMissing,
+        Code::PartDimensionMismatch,
+        Code::BadAggregate,
+        Code::IndeterminateLift,
+        Code::BadLift,
+        Code::CollinearLiftPoints,
+        Code::LiftOffLine,
+        Code::LiftTips,
     ];
 }
 

@@ -6,6 +6,7 @@
 //! cells and checks and never calls in here.
 
 mod cases;
+mod parts;
 mod simulate;
 mod solve;
 
@@ -17,6 +18,7 @@ use crate::sheet::{CellId, Item, Node, NodeId, Sheet};
 use crate::syntax::ast::StatementKind;
 
 pub use cases::MAX_TOLERANCE_PAIRS;
+pub use parts::{COLLINEAR_TOLERANCE, LIFT_LINE_TOLERANCE};
 pub use simulate::{DEFAULT_RELATIVE_TOLERANCE, MAX_KEPT_COEFFICIENTS, MAX_STEPS, step_limit};
 pub use solve::MAX_SOLVE_UNKNOWNS;
 
@@ -149,6 +151,11 @@ impl Evaluator<'_> {
                         .iter()
                         .position(|report| report.statement == statement)
                         .map_or_else(|| invalid(statement), OutlineItem::Simulate),
+                    Item::Members(statement) => parts::members_report(sheet, statement)
+                        .map_or_else(
+                            || invalid(statement),
+                            |report| OutlineItem::Members(Box::new(report)),
+                        ),
                 }),
         );
         let mut diagnostics = std::mem::take(&mut self.diagnostics);

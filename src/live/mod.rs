@@ -297,7 +297,8 @@ impl LiveSheet {
         (0..self.sheet.cells.len())
             .filter(|&id| match self.sheet.cells[id] {
                 CellOrigin::Unknown { statement: s, .. }
-                | CellOrigin::Simulated { statement: s, .. } => s == statement,
+                | CellOrigin::Simulated { statement: s, .. }
+                | CellOrigin::Member { statement: s, .. } => s == statement,
                 CellOrigin::Formula { .. } => false,
             })
             .collect()
@@ -311,7 +312,10 @@ impl LiveSheet {
             Item::Review(index) => Row::Review {
                 text: self.statement_text(index),
             },
-            Item::Solve(index) | Item::Case(index) | Item::Simulate(index) => Row::Block {
+            Item::Solve(index)
+            | Item::Case(index)
+            | Item::Simulate(index)
+            | Item::Members(index) => Row::Block {
                 head: self.statement_text(index).lines().next().unwrap_or(""),
             },
             Item::Heading(_) | Item::Note(_) | Item::Invalid(_) => {

@@ -10,6 +10,7 @@ pub mod html;
 pub(crate) mod markdown;
 pub mod math;
 pub mod model;
+mod parts;
 pub mod svg;
 
 pub use build::{document, short_fingerprint, stale_summary};

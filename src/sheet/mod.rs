@@ -5,6 +5,7 @@ pub(crate) mod edit;
 mod graph;
 mod header;
 mod names;
+mod parts;
 mod passes;
 mod resolve;
 mod runs;
@@ -12,6 +13,7 @@ mod runs;
 pub use graph::{EvaluationOrder, evaluation_order};
 pub use header::{DEFAULT_SIG_FIGS, Header, read_header};
 pub use names::NameTable;
+pub(crate) use parts::has_aggregate;
 
 use crate::base::Span;
 use crate::base::{Code, Diagnostic};
@@ -51,6 +53,14 @@ pub enum CellOrigin {
         /// The simulate block's statement index.
         statement: usize,
         /// 0 for the time, k for the k-th state.
+        index: usize,
+    },
+    /// A cell a parts list or a lift gives: an item's quantity
+    /// (`skid[pump].m`), or a lift's weight, centre, point or load.
+    Member {
+        /// The block's statement index.
+        statement: usize,
+        /// Which of the block's cells.
         index: usize,
     },
 }
@@ -122,6 +132,8 @@ pub enum Item {
     Simulate(usize),
     /// A review mark or sign-off line, at this statement index.
     Review(usize),
+    /// A parts list or a lift, at this statement index.
+    Members(usize),
 }
 
 /// A whole sheet, parsed and linked: everything the evaluator needs.
@@ -186,6 +198,7 @@ impl Sheet {
         mut statements: Vec<Statement>,
         mut diagnostics: Vec<Diagnostic>,
     ) -> Sheet {
+        parts::expand_aggregates(&mut statements, &mut diagnostics);
         let Outline {
             cells,
             checks,
@@ -287,6 +300,9 @@ impl Sheet {
     /// The definition of a formula cell (a cell statement or a body's
     /// resultant); `None` for an unknown of a solve block.
     pub fn formula_cell(&self, id: CellId) -> Option<&CellDef> {
+        if let CellOrigin::Member { statement, index } = self.cells[id] {
+            return member(&self.statements[statement].kind, index);
+        }
         match &self.statements[self.cell_statement(id)].kind {
             StatementKind::Cell(cell) => Some(cell),
             StatementKind::Body(body) => Some(&body.resultant),
@@ -313,7 +329,8 @@ impl Sheet {
         match self.cells[id] {
             CellOrigin::Formula { statement }
             | CellOrigin::Unknown { statement, .. }
-            | CellOrigin::Simulated { statement, .. } => statement,
+            | CellOrigin::Simulated { statement, .. }
+            | CellOrigin::Member { statement, .. } => statement,
         }
     }
 
@@ -348,6 +365,9 @@ impl Sheet {
 
     /// The tolerance written on a cell, if any.
     pub fn tolerance(&self, id: CellId) -> Option<&Tolerance> {
+        if let CellOrigin::Member { .. } = self.cells[id] {
+            return self.formula_cell(id)?.tolerance.as_deref();
+        }
         match &self.statements[self.cell_statement(id)].kind {
             StatementKind::Cell(cell) => cell.tolerance.as_deref(),
             _ => None,
@@ -453,6 +473,20 @@ fn decl(statements: &[Statement], origin: CellOrigin) -> CellDecl<'_> {
             }
             other => unreachable!("expected a simulate block, found {other:?}"),
         },
+        CellOrigin::Member { statement, index } => match member(&statements[statement].kind, index)
+        {
+            Some(cell) => formula_decl(cell),
+            None => unreachable!("expected a parts list or lift with cell {index}"),
+        },
+    }
+}
+
+/// Cell `index` of a parts list or a lift.
+fn member(kind: &StatementKind, index: usize) -> Option<&CellDef> {
+    match kind {
+        StatementKind::Parts(block) => block.cells.get(index),
+        StatementKind::Lift(block) => block.cells.get(index),
+        _ => None,
     }
 }
 
@@ -650,7 +684,10 @@ pub(crate) fn resolve_names<'e>(
     let mut ok = true;
     for expr in exprs {
         expr.walk_names_mut(&mut |name, span| {
-            if let Some(target) = target_of(&name.text, names) {
+            if name.text == parts::FAILED_AGGREGATE {
+                // Its aggregate's diagnostic is given already.
+                ok = false;
+            } else if let Some(target) = target_of(&name.text, names) {
                 name.target = target;
                 if let Target::Cell(id) = target
                     && !uses.contains(&id)
