@@ -450,6 +450,8 @@ pub enum OutlineItem {
 pub struct MembersReport {
     /// The block's statement index.
     pub statement: usize,
+    /// The block's head line (`parts …:`, `lift …:`).
+    pub span: Span,
     /// Whether it is a lift (else a parts list).
     pub is_lift: bool,
     /// The list's or lift's name.

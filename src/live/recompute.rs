@@ -89,7 +89,13 @@ impl LiveSheet {
         }
         self.whole_sheet_only = self.sheet.nodes.len() != n_cells
             || !self.sheet.cases.is_empty()
-            || (0..n_cells).any(|id| self.sheet.tolerance(id).is_some());
+            || (0..n_cells).any(|id| self.sheet.tolerance(id).is_some())
+            // A parts list's and a lift's judgement runs with the sheet's.
+            || self
+                .sheet
+                .cells
+                .iter()
+                .any(|origin| matches!(origin, CellOrigin::Member { .. }));
         self.rows = presentation_order(&self.sheet);
         self.row_positions = vec![0; self.rows.len()];
         for (position, &statement) in self.rows.iter().enumerate() {

@@ -94,19 +94,30 @@ pub(crate) fn has_aggregate(kind: &mut StatementKind) -> bool {
 
 /// Expands the aggregates of one statement against `lists`.
 fn expand_in_statement(kind: &mut StatementKind, lists: &Lists, diagnostics: &mut Vec<Diagnostic>) {
-    for expr in super::runs::statement_exprs_mut(kind) {
-        expr.walk_mut(&mut |node| {
-            if let ExprKind::Call { function, args } = &node.kind
-                && let Some(op) = AggregateOp::of_marker(&function.text)
-            {
-                let expanded = expand(op, args, node.span, lists).unwrap_or_else(|diagnostic| {
-                    diagnostics.push(*diagnostic);
-                    failed(node.span)
-                });
-                *node = expanded;
+    // Most statements are cells: walk their formula without gathering a list.
+    match kind {
+        StatementKind::Cell(cell) => expand_in(&mut cell.expr, lists, diagnostics),
+        other => {
+            for expr in super::runs::statement_exprs_mut(other) {
+                expand_in(expr, lists, diagnostics);
             }
-        });
+        }
     }
+}
+
+/// Replaces every aggregate in `expr` by its expansion.
+fn expand_in(expr: &mut Expr, lists: &Lists, diagnostics: &mut Vec<Diagnostic>) {
+    expr.walk_mut(&mut |node| {
+        if let ExprKind::Call { function, args } = &node.kind
+            && let Some(op) = AggregateOp::of_marker(&function.text)
+        {
+            let expanded = expand(op, args, node.span, lists).unwrap_or_else(|diagnostic| {
+                diagnostics.push(*diagnostic);
+                failed(node.span)
+            });
+            *node = expanded;
+        }
+    });
 }
 
 fn failed(span: Span) -> Expr {

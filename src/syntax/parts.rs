@@ -446,7 +446,11 @@ fn parse_lift(
                 unit: None,
                 expr,
                 tolerance: None,
-                description: None,
+                // Written by heft, not in the sheet: its span is the point's name.
+                description: Some(Description {
+                    text: format!("vertical load at lift point {}", point.name.text),
+                    span: point.name.span,
+                }),
             }));
         }
         n if n >= 4 => diagnostics.push(

@@ -12,6 +12,7 @@ mod fixes;
 mod linking;
 mod mechanics;
 mod oracles;
+mod parts;
 mod properties;
 mod robustness;
 mod sheets;

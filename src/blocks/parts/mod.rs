@@ -73,6 +73,7 @@ fn parts_report(
         .collect();
     MembersReport {
         statement,
+        span: block.head,
         is_lift: false,
         name: block.name.text.to_string(),
         label: block.label.as_ref().map(|l| l.text.clone()),
@@ -109,6 +110,7 @@ fn lift_report(
         .collect();
     MembersReport {
         statement,
+        span: block.head,
         is_lift: true,
         name: block.name.text.to_string(),
         label: block.label.as_ref().map(|l| l.text.clone()),
@@ -135,7 +137,7 @@ impl Evaluator<'_> {
                 continue;
             };
             if report.is_lift {
-                self.judge_lift(&report, sheet.statements[statement].span, ranges);
+                self.judge_lift(&report, report.span, ranges);
             } else {
                 self.judge_parts(&report);
             }
@@ -232,6 +234,7 @@ impl Evaluator<'_> {
             }
         }
         if !kinds_ok {
+            self.withdraw_loads(report);
             return;
         }
         let Some(g) = plan(self.values[centre]) else {
@@ -265,6 +268,7 @@ impl Evaluator<'_> {
                         )
                         .with_help("move one point off the line of the other two"),
                     );
+                    self.withdraw_loads(report);
                     return;
                 }
                 self.judge_signs(
@@ -296,6 +300,7 @@ impl Evaluator<'_> {
                 )
                 .with_help("give the two points different positions"),
             );
+            self.withdraw_loads(report);
             return;
         }
         let offset = cross(ab, sub(g, a)) / length;
@@ -320,6 +325,35 @@ impl Evaluator<'_> {
             ranges,
             "beyond the segment between its two points",
         );
+    }
+
+    /// A lift whose inputs are of the wrong kind or whose points cannot
+    /// carry it has no loads: each load cell becomes an error (the lift's
+    /// own finding says why), and what its statics formula reported in
+    /// the attempt (a component of a scalar, a division by zero: findings
+    /// at a point's name, where only those formulas put theirs) is
+    /// withdrawn.
+    fn withdraw_loads(&mut self, report: &MembersReport) {
+        let mut point_names = Vec::new();
+        for row in &report.rows {
+            if let Some(position) = row.cells[0] {
+                point_names.push(self.sheet.cell(position).name.span);
+            }
+            if let Some(load) = row.cells[1] {
+                self.values[load] = None;
+                self.statuses[load] = crate::eval::CellStatus::Error;
+            }
+        }
+        self.diagnostics.retain(|diagnostic| {
+            !(point_names.contains(&diagnostic.span)
+                && matches!(
+                    diagnostic.code,
+                    Code::DimensionMismatch
+                        | Code::DivisionByZero
+                        | Code::NotFinite
+                        | Code::OutOfDomain
+                ))
+        });
     }
 
     /// A negative load means the point would have to push down: the load
