@@ -18,6 +18,7 @@ use crate::sheet::{CellId, Item, Node, NodeId, Sheet};
 use crate::syntax::ast::StatementKind;
 
 pub use cases::MAX_TOLERANCE_PAIRS;
+pub(crate) use parts::is_withdrawn;
 pub use parts::{COLLINEAR_TOLERANCE, LIFT_LINE_TOLERANCE};
 pub use simulate::{DEFAULT_RELATIVE_TOLERANCE, MAX_KEPT_COEFFICIENTS, MAX_STEPS, step_limit};
 pub use solve::MAX_SOLVE_UNKNOWNS;
@@ -61,6 +62,10 @@ pub struct SheetJudgement {
     pub case_results: Vec<CellId>,
     /// For each check, the case that governs it.
     pub governing: Vec<Option<usize>>,
+    /// The names' spans of the lift points whose loads were withdrawn:
+    /// their statics formulas' findings are not the sheet's
+    /// ([`is_withdrawn`]).
+    pub withdrawn: Vec<crate::base::Span>,
 }
 
 /// An evaluator whose expressions can read the sheet's finished runs

@@ -139,6 +139,13 @@ impl LiveSheet {
         if self.whole_sheet_only {
             self.judgement = evaluator.judge_sheet(&mut checks);
             self.block_findings.append(&mut evaluator.diagnostics);
+            // What a withdrawn lift's statics formulas found while the nodes ran.
+            if !self.judgement.withdrawn.is_empty() {
+                let withdrawn = &self.judgement.withdrawn;
+                for findings in &mut self.cell_findings {
+                    findings.retain(|finding| !crate::blocks::is_withdrawn(withdrawn, finding));
+                }
+            }
         } else {
             self.judgement = crate::blocks::SheetJudgement::default();
             for (index, check) in checks.iter_mut().enumerate() {

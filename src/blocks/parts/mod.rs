@@ -125,7 +125,10 @@ fn lift_report(
 impl Evaluator<'_> {
     /// Judges every parts list and lift of the sheet once its cells are
     /// evaluated; `ranges` are the cells' ranges over the tolerances.
-    pub(super) fn judge_members(&mut self, ranges: &[Option<CellRange>]) {
+    /// Gives the names' spans of the points whose loads were withdrawn
+    /// (see [`is_withdrawn`]).
+    pub(super) fn judge_members(&mut self, ranges: &[Option<CellRange>]) -> Vec<Span> {
+        let mut withdrawn = Vec::new();
         let sheet = self.sheet;
         for statement in 0..sheet.statements.len() {
             let Some(report) = (match &sheet.statements[statement].kind {
@@ -137,11 +140,12 @@ impl Evaluator<'_> {
                 continue;
             };
             if report.is_lift {
-                self.judge_lift(&report, report.span, ranges);
+                withdrawn.extend(self.judge_lift(&report, report.span, ranges));
             } else {
                 self.judge_parts(&report);
             }
         }
+        withdrawn
     }
 
     /// Every quantity one dimension across the list's items.
@@ -181,9 +185,14 @@ impl Evaluator<'_> {
 
     /// A lift's inputs of the right kinds, its points not on one line (three)
     /// and its centre of gravity where the points can hold it.
-    fn judge_lift(&mut self, report: &MembersReport, span: Span, ranges: &[Option<CellRange>]) {
+    fn judge_lift(
+        &mut self,
+        report: &MembersReport,
+        span: Span,
+        ranges: &[Option<CellRange>],
+    ) -> Vec<Span> {
         let Some((weight, centre)) = report.carried else {
-            return;
+            return Vec::new();
         };
         let head = self.sheet.cell(weight).name.span;
         let mut kinds_ok = true;
@@ -234,11 +243,10 @@ impl Evaluator<'_> {
             }
         }
         if !kinds_ok {
-            self.withdraw_loads(report);
-            return;
+            return self.withdraw_loads(report);
         }
         let Some(g) = plan(self.values[centre]) else {
-            return;
+            return Vec::new();
         };
         let points: Option<Vec<[f64; 2]>> = report
             .rows
@@ -246,7 +254,7 @@ impl Evaluator<'_> {
             .map(|row| row.cells[0].and_then(|id| plan(self.values[id])))
             .collect();
         let Some(points) = points else {
-            return;
+            return Vec::new();
         };
         match points.as_slice() {
             [a, b] => self.judge_two_points(report, span, ranges, [g, *a, *b]),
@@ -268,8 +276,7 @@ impl Evaluator<'_> {
                         )
                         .with_help("move one point off the line of the other two"),
                     );
-                    self.withdraw_loads(report);
-                    return;
+                    return self.withdraw_loads(report);
                 }
                 self.judge_signs(
                     report,
@@ -277,8 +284,9 @@ impl Evaluator<'_> {
                     ranges,
                     "outside the triangle of its three points",
                 );
+                Vec::new()
             }
-            _ => {}
+            _ => Vec::new(),
         }
     }
 
@@ -288,7 +296,7 @@ impl Evaluator<'_> {
         span: Span,
         ranges: &[Option<CellRange>],
         [g, a, b]: [[f64; 2]; 3],
-    ) {
+    ) -> Vec<Span> {
         let ab = sub(b, a);
         let length = libm::hypot(ab[0], ab[1]);
         if length == 0.0 {
@@ -300,8 +308,7 @@ impl Evaluator<'_> {
                 )
                 .with_help("give the two points different positions"),
             );
-            self.withdraw_loads(report);
-            return;
+            return self.withdraw_loads(report);
         }
         let offset = cross(ab, sub(g, a)) / length;
         if offset.abs() > LIFT_LINE_TOLERANCE * length {
@@ -317,7 +324,7 @@ impl Evaluator<'_> {
                 )
                 .with_help("place the lift points on a line through the centre of gravity, or lift on three points"),
             );
-            return;
+            return Vec::new();
         }
         self.judge_signs(
             report,
@@ -325,6 +332,7 @@ impl Evaluator<'_> {
             ranges,
             "beyond the segment between its two points",
         );
+        Vec::new()
     }
 
     /// A lift whose inputs are of the wrong kind or whose points cannot
@@ -333,7 +341,7 @@ impl Evaluator<'_> {
     /// the attempt (a component of a scalar, a division by zero: findings
     /// at a point's name, where only those formulas put theirs) is
     /// withdrawn.
-    fn withdraw_loads(&mut self, report: &MembersReport) {
+    fn withdraw_loads(&mut self, report: &MembersReport) -> Vec<Span> {
         let mut point_names = Vec::new();
         for row in &report.rows {
             if let Some(position) = row.cells[0] {
@@ -344,16 +352,9 @@ impl Evaluator<'_> {
                 self.statuses[load] = crate::eval::CellStatus::Error;
             }
         }
-        self.diagnostics.retain(|diagnostic| {
-            !(point_names.contains(&diagnostic.span)
-                && matches!(
-                    diagnostic.code,
-                    Code::DimensionMismatch
-                        | Code::DivisionByZero
-                        | Code::NotFinite
-                        | Code::OutOfDomain
-                ))
-        });
+        self.diagnostics
+            .retain(|diagnostic| !is_withdrawn(&point_names, diagnostic));
+        point_names
     }
 
     /// A negative load means the point would have to push down: the load
@@ -400,6 +401,17 @@ impl Evaluator<'_> {
             );
         }
     }
+}
+
+/// Whether `diagnostic` is one a withdrawn lift's statics formulas gave:
+/// a dimension or arithmetic finding at one of its points' names
+/// (`withdrawn`), where no finding but theirs is put.
+pub(crate) fn is_withdrawn(withdrawn: &[Span], diagnostic: &Diagnostic) -> bool {
+    withdrawn.contains(&diagnostic.span)
+        && matches!(
+            diagnostic.code,
+            Code::DimensionMismatch | Code::DivisionByZero | Code::NotFinite | Code::OutOfDomain
+        )
 }
 
 fn describe(value: Value) -> String {
