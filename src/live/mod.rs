@@ -566,9 +566,16 @@ fn presentation_order(sheet: &Sheet) -> Vec<u32> {
     };
     let mut in_file_order: Vec<usize> = sheet.nodes.iter().map(statement_of).collect();
     in_file_order.sort_unstable();
+    // A parts list or a lift is one statement of several nodes (a cell
+    // each): it is placed with the first of them.
+    in_file_order.dedup();
+    let mut placed = vec![false; sheet.statements.len()];
     let mut rows = Vec::with_capacity(sheet.statements.len());
     for &node in &sheet.order.order {
         let statement = statement_of(&sheet.nodes[node]);
+        if std::mem::replace(&mut placed[statement], true) {
+            continue;
+        }
         let position = in_file_order.partition_point(|&s| s < statement);
         let first = position
             .checked_sub(1)
