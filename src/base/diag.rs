@@ -147,6 +147,27 @@ pub enum Code {
     /// formula: both branches are taken into account, and no first-order
     /// estimate is given.
     RangeStraddlesCondition,
+    /// An item of a parts list that lacks a quantity another item gives.
+    PartQuantityMissing,
+    /// A quantity of a parts list whose items give it in different dimensions.
+    PartDimensionMismatch,
+    /// An aggregate (`sum(list: …)`) that names no parts list, or sits
+    /// inside another aggregate.
+    BadAggregate,
+    /// A lift on four or more points: the shares depend on the rigging's
+    /// stiffness, so statics cannot give them.
+    IndeterminateLift,
+    /// A lift heft cannot compute: fewer than two points, a weight that is
+    /// not a force, a position that is not a plan vector of lengths.
+    BadLift,
+    /// Three lift points on one line: they cannot hold a moment about it.
+    CollinearLiftPoints,
+    /// A two-point lift whose centre of gravity is off the line between
+    /// the points: the load would roll about that line.
+    LiftOffLine,
+    /// A lift whose centre of gravity is outside its points (a load would
+    /// have to push down): the load tips.
+    LiftTips,
 }
 
 impl Code {
@@ -201,11 +222,19 @@ impl Code {
             Code::BranchDimensions => "branch-dimensions",
             Code::ConditionDimensions => "condition-dimensions",
             Code::RangeStraddlesCondition => "range-straddles-condition",
+            Code::PartQuantityMissing => "part-quantity-missing",
+            Code::PartDimensionMismatch => "part-dimension-mismatch",
+            Code::BadAggregate => "bad-aggregate",
+            Code::IndeterminateLift => "indeterminate-lift",
+            Code::BadLift => "bad-lift",
+            Code::CollinearLiftPoints => "collinear-lift-points",
+            Code::LiftOffLine => "lift-off-line",
+            Code::LiftTips => "lift-tips",
         }
     }
 
     /// Every code, for documentation and tests.
-    pub const ALL: [Code; 48] = [
+    pub const ALL: [Code; 56] = [
         Code::ParseError,
         Code::EncodingError,
         Code::HeaderError,
@@ -254,6 +283,14 @@ impl Code {
         Code::BranchDimensions,
         Code::ConditionDimensions,
         Code::RangeStraddlesCondition,
+        Code::PartQuantityMissing,
+        Code::PartDimensionMismatch,
+        Code::BadAggregate,
+        Code::IndeterminateLift,
+        Code::BadLift,
+        Code::CollinearLiftPoints,
+        Code::LiftOffLine,
+        Code::LiftTips,
     ];
 }
 

@@ -6,6 +6,7 @@
 //! cells and checks and never calls in here.
 
 mod cases;
+mod parts;
 mod simulate;
 mod solve;
 
@@ -17,6 +18,8 @@ use crate::sheet::{CellId, Item, Node, NodeId, Sheet, SheetLoader};
 use crate::syntax::ast::StatementKind;
 
 pub use cases::MAX_TOLERANCE_PAIRS;
+pub(crate) use parts::is_withdrawn;
+pub use parts::{COLLINEAR_TOLERANCE, LIFT_LINE_TOLERANCE};
 pub use simulate::{DEFAULT_RELATIVE_TOLERANCE, MAX_KEPT_COEFFICIENTS, MAX_STEPS, step_limit};
 pub use solve::MAX_SOLVE_UNKNOWNS;
 
@@ -69,6 +72,10 @@ pub struct SheetJudgement {
     pub case_results: Vec<CellId>,
     /// For each check, the case that governs it.
     pub governing: Vec<Option<usize>>,
+    /// The names' spans of the lift points whose loads were withdrawn:
+    /// their statics formulas' findings are not the sheet's
+    /// ([`is_withdrawn`]).
+    pub withdrawn: Vec<crate::base::Span>,
 }
 
 /// An evaluator whose expressions can read the sheet's finished runs
@@ -164,6 +171,11 @@ impl Evaluator<'_> {
                         .iter()
                         .position(|report| report.statement == statement)
                         .map_or_else(|| invalid(statement), OutlineItem::Simulate),
+                    Item::Members(statement) => parts::members_report(sheet, statement)
+                        .map_or_else(
+                            || invalid(statement),
+                            |report| OutlineItem::Members(Box::new(report)),
+                        ),
                 }),
         );
         let mut diagnostics = std::mem::take(&mut self.diagnostics);

@@ -209,6 +209,11 @@ fn section_of_cells(evaluated: &Evaluated) -> Vec<Option<usize>> {
                     section_of[id] = current;
                 }
             }
+            OutlineItem::Members(report) => {
+                for &id in &report.cells {
+                    section_of[id] = current;
+                }
+            }
             OutlineItem::Simulate(run) => {
                 let run = &evaluated.runs[*run];
                 section_of[run.time] = current;

@@ -44,6 +44,8 @@ struct Report<'a> {
     cases: Vec<JsonCase<'a>>,
     /// Every simulate block's run.
     runs: Vec<super::runs::JsonRun<'a>>,
+    /// Every parts list and lift.
+    parts: Vec<super::parts::JsonMembers<'a>>,
     /// Every finding, sorted by position.
     diagnostics: Vec<JsonDiagnostic<'a>>,
     /// The checker's record.
@@ -454,6 +456,7 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
         solves,
         cases,
         runs: super::runs::json_runs(evaluated, lines),
+        parts: super::parts::json_members(evaluated),
         diagnostics: evaluated
             .diagnostics
             .iter()

@@ -7,6 +7,7 @@ mod convert;
 mod diff;
 mod json;
 mod json_words;
+mod parts;
 mod report;
 mod review;
 mod runs;

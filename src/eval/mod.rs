@@ -24,8 +24,8 @@ pub use conversion::{Conversion, ConversionError, WrittenConversion, convert};
 pub use explain::{format_result, format_value};
 pub use model::{
     CaseCheck, CaseOutcome, CaseValue, CellRange, CellResult, CellStatus, CheckRange, CheckResult,
-    CheckStatus, EquationReport, Evaluated, FreeBody, OutlineItem, Place, RangeMethod, Sensitivity,
-    SolveReport, SolveStatus, Spread, Unsettled,
+    CheckStatus, EquationReport, Evaluated, FreeBody, MemberRow, MembersReport, OutlineItem, Place,
+    RangeMethod, Sensitivity, SolveReport, SolveStatus, Spread, Unsettled,
 };
 pub use run_model::{PlotSeries, RunColumn, RunEvent, RunReport, RunRow, RunStatus, StateSlots};
 pub use verdict::{Summary, count, utilization_note};

@@ -442,6 +442,46 @@ pub enum OutlineItem {
     Simulate(usize),
     /// A `use` line, by index into the sheet's imports.
     Use(usize),
+    /// A parts list or a lift, with its rows.
+    Members(Box<MembersReport>),
+}
+
+/// A parts list or a lift as the outputs show it: a table whose rows are
+/// the items (or points) and whose columns are cells of the block.
+#[derive(Clone, Debug, PartialEq)]
+pub struct MembersReport {
+    /// The block's statement index.
+    pub statement: usize,
+    /// The block's head line (`parts …:`, `lift …:`).
+    pub span: Span,
+    /// Whether it is a lift (else a parts list).
+    pub is_lift: bool,
+    /// The list's or lift's name.
+    pub name: String,
+    /// Its label, if any.
+    pub label: Option<String>,
+    /// The column headings after the item's name: a list's quantity names;
+    /// a lift's `position` and `load`.
+    pub columns: Vec<String>,
+    /// One row per item or point.
+    pub rows: Vec<MemberRow>,
+    /// For a lift: the cells of its weight and centre of gravity.
+    pub carried: Option<(CellId, CellId)>,
+    /// Every cell of the block, in written order.
+    pub cells: Box<[CellId]>,
+    /// The sheet's cells that use the block's cells (a list's aggregates).
+    pub users: Vec<CellId>,
+}
+
+/// One item of a parts list or one point of a lift.
+#[derive(Clone, Debug, PartialEq)]
+pub struct MemberRow {
+    /// The item's or point's name.
+    pub name: String,
+    /// Its description, if any.
+    pub description: Option<String>,
+    /// The cell of each column, where the row has one.
+    pub cells: Vec<Option<CellId>>,
 }
 
 fn tolerance_span(tolerance: &crate::syntax::ast::Tolerance) -> Span {

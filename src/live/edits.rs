@@ -3,6 +3,7 @@
 //! recompute.
 
 use super::*;
+use crate::sheet::has_aggregate;
 
 impl LiveSheet {
     /// Replaces one field of cell `id` (see [`CellField`]); the rest of its
@@ -93,7 +94,15 @@ impl LiveSheet {
         }
         match (n_removed, added.len()) {
             (0, 0) => {}
-            (1, 1) if splice.before.len() == 1 && splice.after.len() == 1 => {
+            // A line with an aggregate is expanded against the parts
+            // lists while linking, so it takes the relink below.
+            (1, 1)
+                if splice.before.len() == 1
+                    && splice.after.len() == 1
+                    && !added
+                        .iter_mut()
+                        .any(|(statement, _)| has_aggregate(&mut statement.kind)) =>
+            {
                 if let Some((statement, diagnostic)) = added.pop() {
                     self.replace_statement(index, statement, diagnostic);
                 }

@@ -315,7 +315,8 @@ impl LiveSheet {
         (0..self.sheet.cells.len())
             .filter(|&id| match self.sheet.cells[id] {
                 CellOrigin::Unknown { statement: s, .. }
-                | CellOrigin::Simulated { statement: s, .. } => s == statement,
+                | CellOrigin::Simulated { statement: s, .. }
+                | CellOrigin::Member { statement: s, .. } => s == statement,
                 CellOrigin::Formula { .. } => false,
             })
             .collect()
@@ -329,11 +330,13 @@ impl LiveSheet {
             Item::Review(index) => Row::Review {
                 text: self.statement_text(index),
             },
-            Item::Solve(index) | Item::Case(index) | Item::Simulate(index) | Item::Use(index) => {
-                Row::Block {
-                    head: self.statement_text(index).lines().next().unwrap_or(""),
-                }
-            }
+            Item::Solve(index)
+            | Item::Case(index)
+            | Item::Simulate(index)
+            | Item::Members(index)
+            | Item::Use(index) => Row::Block {
+                head: self.statement_text(index).lines().next().unwrap_or(""),
+            },
             Item::Heading(_) | Item::Note(_) | Item::Invalid(_) => {
                 match &self.sheet.statements[index].kind {
                     StatementKind::Heading { level, text } => Row::Heading {
@@ -594,9 +597,16 @@ fn presentation_order(sheet: &Sheet) -> Vec<u32> {
     };
     let mut in_file_order: Vec<usize> = sheet.nodes.iter().map(statement_of).collect();
     in_file_order.sort_unstable();
+    // A parts list or a lift is one statement of several nodes (a cell
+    // each): it is placed with the first of them.
+    in_file_order.dedup();
+    let mut placed = vec![false; sheet.statements.len()];
     let mut rows = Vec::with_capacity(sheet.statements.len());
     for &node in &sheet.order.order {
         let statement = statement_of(&sheet.nodes[node]);
+        if std::mem::replace(&mut placed[statement], true) {
+            continue;
+        }
         let position = in_file_order.partition_point(|&s| s < statement);
         let first = position
             .checked_sub(1)

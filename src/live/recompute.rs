@@ -89,7 +89,13 @@ impl LiveSheet {
         }
         self.whole_sheet_only = self.sheet.nodes.len() != n_cells
             || !self.sheet.cases.is_empty()
-            || (0..n_cells).any(|id| self.sheet.tolerance(id).is_some());
+            || (0..n_cells).any(|id| self.sheet.tolerance(id).is_some())
+            // A parts list's and a lift's judgement runs with the sheet's.
+            || self
+                .sheet
+                .cells
+                .iter()
+                .any(|origin| matches!(origin, CellOrigin::Member { .. }));
         self.rows = presentation_order(&self.sheet);
         self.row_positions = vec![0; self.rows.len()];
         for (position, &statement) in self.rows.iter().enumerate() {
@@ -133,6 +139,13 @@ impl LiveSheet {
         if self.whole_sheet_only {
             self.judgement = evaluator.judge_sheet(&mut checks);
             self.block_findings.append(&mut evaluator.diagnostics);
+            // What a withdrawn lift's statics formulas found while the nodes ran.
+            if !self.judgement.withdrawn.is_empty() {
+                let withdrawn = &self.judgement.withdrawn;
+                for findings in &mut self.cell_findings {
+                    findings.retain(|finding| !crate::blocks::is_withdrawn(withdrawn, finding));
+                }
+            }
         } else {
             self.judgement = crate::blocks::SheetJudgement::default();
             for (index, check) in checks.iter_mut().enumerate() {

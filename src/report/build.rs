@@ -208,6 +208,9 @@ impl<'a> Builder<'a> {
                 ))),
                 OutlineItem::Solve(index) => current.blocks.extend(self.solve_blocks(*index)),
                 OutlineItem::Simulate(index) => current.blocks.extend(self.run_blocks(*index)),
+                OutlineItem::Members(report) => current
+                    .blocks
+                    .extend(super::parts::members_blocks(evaluated, report)),
                 // The load cases are tabulated in their own section.
                 OutlineItem::Case(_) => {}
                 OutlineItem::Use(index) => {

@@ -10,6 +10,7 @@ pub mod html;
 pub(crate) mod markdown;
 pub mod math;
 pub mod model;
+mod parts;
 pub mod svg;
 mod used;
 

@@ -181,7 +181,9 @@ impl Review {
                 StatementKind::Cell(_)
                 | StatementKind::Body(_)
                 | StatementKind::Solve(_)
-                | StatementKind::Simulate(_) => {
+                | StatementKind::Simulate(_)
+                | StatementKind::Parts(_)
+                | StatementKind::Lift(_) => {
                     // A solve block defines all its unknowns; a mark below it
                     // is about the first.
                     let first = next_cell;

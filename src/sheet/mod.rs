@@ -7,6 +7,7 @@ mod graph;
 mod header;
 mod imports;
 mod names;
+mod parts;
 mod passes;
 mod resolve;
 mod runs;
@@ -17,6 +18,7 @@ pub use imports::{
     Export, Import, LoadProblem, Loaded, NoFiles, Reloaded, SheetLoader, UsedError, UsedSheet,
 };
 pub use names::NameTable;
+pub(crate) use parts::has_aggregate;
 
 use crate::base::Span;
 use crate::base::{Code, Diagnostic};
@@ -56,6 +58,14 @@ pub enum CellOrigin {
         /// The simulate block's statement index.
         statement: usize,
         /// 0 for the time, k for the k-th state.
+        index: usize,
+    },
+    /// A cell a parts list or a lift gives: an item's quantity
+    /// (`skid[pump].m`), or a lift's weight, centre, point or load.
+    Member {
+        /// The block's statement index.
+        statement: usize,
+        /// Which of the block's cells.
         index: usize,
     },
 }
@@ -129,6 +139,8 @@ pub enum Item {
     Review(usize),
     /// A `use` line, at this statement index.
     Use(usize),
+    /// A parts list or a lift, at this statement index.
+    Members(usize),
 }
 
 /// A whole sheet, parsed and linked: everything the evaluator needs.
@@ -210,6 +222,7 @@ impl Sheet {
         loader: &dyn SheetLoader,
     ) -> Sheet {
         let imports = imports::load_uses(&statements, loader, &mut diagnostics);
+        parts::expand_aggregates(&mut statements, &mut diagnostics);
         let Outline {
             cells,
             checks,
@@ -314,6 +327,9 @@ impl Sheet {
     /// The definition of a formula cell (a cell statement or a body's
     /// resultant); `None` for an unknown of a solve block.
     pub fn formula_cell(&self, id: CellId) -> Option<&CellDef> {
+        if let CellOrigin::Member { statement, index } = self.cells[id] {
+            return member(&self.statements[statement].kind, index);
+        }
         match &self.statements[self.cell_statement(id)].kind {
             StatementKind::Cell(cell) => Some(cell),
             StatementKind::Body(body) => Some(&body.resultant),
@@ -340,7 +356,8 @@ impl Sheet {
         match self.cells[id] {
             CellOrigin::Formula { statement }
             | CellOrigin::Unknown { statement, .. }
-            | CellOrigin::Simulated { statement, .. } => statement,
+            | CellOrigin::Simulated { statement, .. }
+            | CellOrigin::Member { statement, .. } => statement,
         }
     }
 
@@ -375,6 +392,9 @@ impl Sheet {
 
     /// The tolerance written on a cell, if any.
     pub fn tolerance(&self, id: CellId) -> Option<&Tolerance> {
+        if let CellOrigin::Member { .. } = self.cells[id] {
+            return self.formula_cell(id)?.tolerance.as_deref();
+        }
         match &self.statements[self.cell_statement(id)].kind {
             StatementKind::Cell(cell) => cell.tolerance.as_deref(),
             _ => None,
@@ -480,6 +500,20 @@ fn decl(statements: &[Statement], origin: CellOrigin) -> CellDecl<'_> {
             }
             other => unreachable!("expected a simulate block, found {other:?}"),
         },
+        CellOrigin::Member { statement, index } => match member(&statements[statement].kind, index)
+        {
+            Some(cell) => formula_decl(cell),
+            None => unreachable!("expected a parts list or lift with cell {index}"),
+        },
+    }
+}
+
+/// Cell `index` of a parts list or a lift.
+fn member(kind: &StatementKind, index: usize) -> Option<&CellDef> {
+    match kind {
+        StatementKind::Parts(block) => block.cells.get(index),
+        StatementKind::Lift(block) => block.cells.get(index),
+        _ => None,
     }
 }
 
@@ -599,6 +633,10 @@ const PREFETCH_AHEAD: usize = 16;
 /// anything: a cell wins over a constant of the same name.
 fn target_of(name: &str, names: &NameTable) -> Option<Target> {
     if name.contains('.') {
+        // A parts list's cells (`skid[pump].m`) hold a dot too.
+        if let Some(&id) = names.get(name) {
+            return Some(Target::Cell(id));
+        }
         return names
             .imported(name)
             .map(|(sheet, cell)| Target::Imported { sheet, cell });
@@ -683,7 +721,10 @@ pub(crate) fn resolve_names<'e>(
     let mut ok = true;
     for expr in exprs {
         expr.walk_names_mut(&mut |name, span| {
-            if let Some(target) = target_of(&name.text, names) {
+            if name.text == parts::FAILED_AGGREGATE {
+                // Its aggregate's diagnostic is given already.
+                ok = false;
+            } else if let Some(target) = target_of(&name.text, names) {
                 name.target = target;
                 if let Target::Cell(id) = target
                     && !uses.contains(&id)

@@ -149,6 +149,20 @@ pub(super) fn outline(statements: &[Statement]) -> Outline {
                 );
                 Item::Simulate(index)
             }
+            StatementKind::Parts(block) => {
+                cells.extend((0..block.cells.len()).map(|member| CellOrigin::Member {
+                    statement: index,
+                    index: member,
+                }));
+                Item::Members(index)
+            }
+            StatementKind::Lift(block) => {
+                cells.extend((0..block.cells.len()).map(|member| CellOrigin::Member {
+                    statement: index,
+                    index: member,
+                }));
+                Item::Members(index)
+            }
             // Review marks and sign-offs are the checker's record, not
             // content to evaluate: the `review` module reads them.
             StatementKind::Review(_) | StatementKind::SignOff(_) => Item::Review(index),
@@ -174,7 +188,8 @@ pub(super) fn evaluation_nodes(cells: &[CellOrigin]) -> (Vec<Node>, Vec<NodeId>)
     let mut id = 0;
     while id < cells.len() {
         match cells[id] {
-            CellOrigin::Formula { .. } => {
+            // A parts list's or a lift's cells are formulas, each its own node.
+            CellOrigin::Formula { .. } | CellOrigin::Member { .. } => {
                 node_of_cell[id] = nodes.len();
                 nodes.push(Node::Cell(id));
                 id += 1;

@@ -108,6 +108,24 @@ pub(super) fn resolve_statements(
                 let (block_uses, ok) = resolver.uses(&mut block.exprs_mut(), diagnostics);
                 share_block_uses(own, block_uses, ok && complete, broken, uses);
             }
+            StatementKind::Parts(_) | StatementKind::Lift(_) => {
+                let (cells, complete) = match &mut statement.kind {
+                    StatementKind::Parts(block) => (&mut block.cells, block.complete),
+                    StatementKind::Lift(block) => (&mut block.cells, block.complete),
+                    _ => continue,
+                };
+                for cell in cells.iter_mut() {
+                    let id = next_cell;
+                    next_cell += 1;
+                    let tolerance = cell.tolerance.as_deref_mut().map(Tolerance::expr_mut);
+                    let (cell_uses, ok) = resolver.uses(
+                        &mut std::iter::once(&mut cell.expr).chain(tolerance),
+                        diagnostics,
+                    );
+                    broken[id] |= !ok || !complete || matches!(cell.expr.kind, ExprKind::Invalid);
+                    uses[id] = cell_uses;
+                }
+            }
             StatementKind::Check(check) => {
                 let (used, ok) = resolver.uses(
                     &mut [&mut check.lhs, &mut check.rhs].into_iter(),
@@ -220,14 +238,19 @@ impl Resolver<'_> {
                 Some((id, CellOrigin::Formula { .. })) => {
                     replacement.cell.target = Target::Cell(id)
                 }
-                Some((_, CellOrigin::Unknown { .. } | CellOrigin::Simulated { .. })) => {
+                Some((
+                    _,
+                    CellOrigin::Unknown { .. }
+                    | CellOrigin::Simulated { .. }
+                    | CellOrigin::Member { .. },
+                )) => {
                     ok = false;
                     diagnostics.push(
                         Diagnostic::error(
                             Code::UndefinedName,
                             replacement.cell_span,
                             format!(
-                                "`{}` is given by a solve or simulate block; a case cannot set it",
+                                "`{}` is given by a block; a case cannot set it",
                                 replacement.cell.text
                             ),
                         )

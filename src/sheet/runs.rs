@@ -10,9 +10,11 @@ use crate::base::{Code, Diagnostic};
 use crate::syntax::ast::{Expr, ExprKind, Ident, RunPoint, Statement, StatementKind, Target};
 
 /// Every expression of a statement, mutably.
-fn statement_exprs_mut(kind: &mut StatementKind) -> Vec<&mut Expr> {
+pub(super) fn statement_exprs_mut(kind: &mut StatementKind) -> Vec<&mut Expr> {
     match kind {
         StatementKind::Cell(cell) => vec![&mut cell.expr],
+        StatementKind::Parts(block) => block.cells.iter_mut().map(|cell| &mut cell.expr).collect(),
+        StatementKind::Lift(block) => block.cells.iter_mut().map(|cell| &mut cell.expr).collect(),
         StatementKind::Body(body) => vec![&mut body.resultant.expr],
         StatementKind::Check(check) => vec![&mut check.lhs, &mut check.rhs],
         StatementKind::Solve(block) => {
@@ -152,7 +154,8 @@ pub(super) fn link_run_queries(
         let statement = match *origin {
             CellOrigin::Formula { statement }
             | CellOrigin::Unknown { statement, .. }
-            | CellOrigin::Simulated { statement, .. } => statement,
+            | CellOrigin::Simulated { statement, .. }
+            | CellOrigin::Member { statement, .. } => statement,
         };
         cells_of.entry(statement).or_default().push(id);
     }

@@ -53,6 +53,145 @@ pub enum StatementKind {
     SignOff(Box<SignOff>),
     /// Equations of motion integrated over time: `simulate t from 0 s to 5 s: … end`.
     Simulate(Box<SimulateBlock>),
+    /// A list of parts with named quantities: `parts skid "as built": … end`.
+    Parts(Box<PartsBlock>),
+    /// The loads on the points of a lift: `lift pick of W at r_cg: … end`.
+    Lift(Box<LiftBlock>),
+}
+
+/// A list of parts: each item gives the same named quantities. Every
+/// quantity of every item is a cell of its own, named `list[item].quantity`
+/// (not a name a formula can write: aggregates reach them).
+#[derive(Clone, Debug, PartialEq)]
+pub struct PartsBlock {
+    /// The list's name, which aggregates name: `sum(skid: m)`.
+    pub name: Ident,
+    /// Its optional label.
+    pub label: Option<Description>,
+    /// The items that parsed, in written order.
+    pub items: Vec<PartItem>,
+    /// The cells, item by item and in each item its quantities as written.
+    pub cells: Vec<CellDef>,
+    /// Whether every line parsed and the block is closed by `end`.
+    pub complete: bool,
+    /// The `parts …:` line.
+    pub head: Span,
+}
+
+/// One item of a parts list: `pump : m = 820 kg, r = vec(1.2 m, 0.4 m) "pump"`.
+#[derive(Clone, Debug, PartialEq)]
+pub struct PartItem {
+    /// The item's name.
+    pub name: Ident,
+    /// The names of its quantities, as written; the `k`-th is the cell
+    /// `first_cell + k` of the block.
+    pub quantities: Vec<Ident>,
+    /// Index of its first cell in [`PartsBlock::cells`].
+    pub first_cell: usize,
+    /// The optional description.
+    pub description: Option<Description>,
+    /// The whole line.
+    pub span: Span,
+}
+
+impl PartsBlock {
+    /// The name of the cell holding `quantity` of `item` in list `list`.
+    pub fn cell_name(list: &str, item: &str, quantity: &str) -> CompactString {
+        let mut name = CompactString::from(list);
+        name.push('[');
+        name.push_str(item);
+        name.push_str("].");
+        name.push_str(quantity);
+        name
+    }
+}
+
+/// A lift: a weight acting at a point, carried by two or three lift points.
+/// Its cells, built by the parser: `pick(weight)`, `pick(cg)`, each point's
+/// position `pick[A]`, then each point's vertical load `pick_A`, a formula
+/// of the others (statics), so tolerances and load cases reach it.
+#[derive(Clone, Debug, PartialEq)]
+pub struct LiftBlock {
+    /// The lift's name.
+    pub name: Ident,
+    /// Its optional label.
+    pub label: Option<Description>,
+    /// The points that parsed, in written order.
+    pub points: Vec<LiftPoint>,
+    /// The cells: weight, centre of gravity, each point's position, then
+    /// each point's load (empty loads when the lift is not determinate).
+    pub cells: Vec<CellDef>,
+    /// Whether every line parsed and the block is closed by `end`.
+    pub complete: bool,
+    /// The `lift …:` line.
+    pub head: Span,
+}
+
+/// A lift point: `A = vec(0.25 m, 0.50 m) "spreader end"`.
+#[derive(Clone, Debug, PartialEq)]
+pub struct LiftPoint {
+    /// The point's name.
+    pub name: Ident,
+    /// The whole line.
+    pub span: Span,
+}
+
+impl LiftBlock {
+    /// Index in [`LiftBlock::cells`] of the weight's cell.
+    pub const WEIGHT: usize = 0;
+    /// Index in [`LiftBlock::cells`] of the centre of gravity's cell.
+    pub const CENTRE: usize = 1;
+
+    /// Index in [`LiftBlock::cells`] of point `k`'s position.
+    pub fn position_cell(k: usize) -> usize {
+        2 + k
+    }
+
+    /// Index in [`LiftBlock::cells`] of point `k`'s load, if the lift has loads.
+    pub fn load_cell(&self, k: usize) -> Option<usize> {
+        let index = 2 + self.points.len() + k;
+        (index < self.cells.len()).then_some(index)
+    }
+}
+
+/// How an aggregate over a parts list combines its items' values; the
+/// parser writes it as a call whose function is [`AggregateOp::marker`],
+/// which linking replaces with the expanded sum, `max(…)` or count.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum AggregateOp {
+    /// `sum(list: expr)`
+    Sum,
+    /// `min(list: expr)`
+    Min,
+    /// `max(list: expr)`
+    Max,
+    /// `count(list)`
+    Count,
+}
+
+impl AggregateOp {
+    /// The function name of the placeholder call: not an identifier, so no
+    /// function or cell has it.
+    pub fn marker(self) -> &'static str {
+        match self {
+            AggregateOp::Sum => "sum:",
+            AggregateOp::Min => "min:",
+            AggregateOp::Max => "max:",
+            AggregateOp::Count => "count:",
+        }
+    }
+
+    /// The aggregate a placeholder call's function name stands for.
+    pub fn of_marker(function: &str) -> Option<AggregateOp> {
+        [
+            AggregateOp::Sum,
+            AggregateOp::Min,
+            AggregateOp::Max,
+            AggregateOp::Count,
+        ]
+        .into_iter()
+        .find(|op| op.marker() == function)
+    }
 }
 
 /// What a review mark says about the item it is attached to.

@@ -36,7 +36,7 @@ pub(crate) struct BuildError {
     pub message: String,
 }
 
-type Built<T> = Result<T, BuildError>;
+pub(super) type Built<T> = Result<T, BuildError>;
 
 /// Builds the statement from the pairs of `Rule::line`; `offset` is where the
 /// statement starts in the sheet.
@@ -359,12 +359,12 @@ fn inner_text(pair: Pair<'_, Rule>) -> String {
         .map_or_else(String::new, |text| text.as_str().to_string())
 }
 
-struct Builder {
-    offset: usize,
+pub(super) struct Builder {
+    pub(super) offset: usize,
 }
 
 impl Builder {
-    fn span(&self, pair: &Pair<'_, Rule>) -> Span {
+    pub(super) fn span(&self, pair: &Pair<'_, Rule>) -> Span {
         let span = pair.as_span();
         Span::new(span.start(), span.end()).shifted(self.offset)
     }
@@ -412,7 +412,7 @@ impl Builder {
         }
     }
 
-    fn tolerance(&self, pair: Pair<'_, Rule>) -> Built<Tolerance> {
+    pub(super) fn tolerance(&self, pair: Pair<'_, Rule>) -> Built<Tolerance> {
         let span = self.span(&pair);
         let rule = pair.as_rule();
         let expr = pair
@@ -702,14 +702,14 @@ impl Builder {
         }
     }
 
-    fn ident(&self, pair: Pair<'_, Rule>) -> Ident {
+    pub(super) fn ident(&self, pair: Pair<'_, Rule>) -> Ident {
         Ident {
             text: pair.as_str().into(),
             span: self.span(&pair),
         }
     }
 
-    fn description(&self, pair: Pair<'_, Rule>) -> Description {
+    pub(super) fn description(&self, pair: Pair<'_, Rule>) -> Description {
         let span = self.span(&pair);
         let raw = pair.into_inner().next().map_or("", |text| text.as_str());
         Description {
@@ -718,7 +718,7 @@ impl Builder {
         }
     }
 
-    fn expr(&self, pair: Pair<'_, Rule>) -> Built<Expr> {
+    pub(super) fn expr(&self, pair: Pair<'_, Rule>) -> Built<Expr> {
         PRATT
             .map_primary(|primary| self.primary(primary))
             .map_prefix(|op, operand| {
@@ -817,6 +817,7 @@ impl Builder {
             }
             Rule::unit_value => ExprKind::UnitValue(self.unit_in_brackets(pair)?),
             Rule::conditional => self.conditional(pair)?,
+            Rule::aggregate => super::parts::aggregate(self, pair)?,
             Rule::reference => {
                 let mut inner = pair.into_inner();
                 let name = inner

@@ -126,6 +126,9 @@ pub fn parse(source: &str) -> ParsedSheet {
             Some(block) if code_of(block.head.text(source)).starts_with("simulate") => {
                 super::simulate::parse_simulate_block(source, block)
             }
+            Some(block) if super::parts::opens_parts_or_lift(block.head.text(source)) => {
+                super::parts::parse_parts_or_lift(source, block)
+            }
             Some(block) => parse_block(source, block),
         };
         if !diagnostics.is_empty() {
@@ -171,18 +174,21 @@ struct RawStatement {
 }
 
 /// Words that open a block running to a line `end`.
-const BLOCK_KEYWORDS: &[&str] = &["solve", "case", "simulate"];
+const BLOCK_KEYWORDS: &[&str] = &["solve", "case", "simulate", "parts", "lift"];
 
 /// The code of a line without a trailing `//` comment, trimmed.
-fn code_of(text: &str) -> &str {
+pub(super) fn code_of(text: &str) -> &str {
     text.split("//").next().unwrap_or(text).trim()
 }
 
 fn opens_block(text: &str) -> bool {
     let code = code_of(text);
     BLOCK_KEYWORDS.iter().any(|keyword| {
-        code.strip_prefix(keyword)
-            .is_some_and(|rest| rest.starts_with(|c: char| c.is_whitespace()))
+        code.strip_prefix(keyword).is_some_and(|rest| {
+            // `lift = 2 m` is a cell named like a keyword, not a block.
+            rest.starts_with(|c: char| c.is_whitespace())
+                && !rest.trim_start().starts_with(['=', '['])
+        })
     })
 }
 
@@ -221,7 +227,7 @@ fn gather_statements(source: &str, lines: impl Iterator<Item = Line>) -> Vec<Raw
 }
 
 /// Parses one line of a block with `rule`, building it with `build`.
-fn parse_block_line<T>(
+pub(super) fn parse_block_line<T>(
     source: &str,
     line: Span,
     rule: Rule,

@@ -13,6 +13,7 @@ mod fixes;
 mod linking;
 mod mechanics;
 mod oracles;
+mod parts;
 mod properties;
 mod robustness;
 mod shared_sheets;

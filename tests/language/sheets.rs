@@ -88,6 +88,13 @@ fn value_mismatches(source: &str, path: Option<&Path>) -> Result<Vec<String>, St
     let mut lines_seen = BTreeMap::new();
     for cell in evaluated.cells() {
         let (name, line) = (cell.name, cell.line);
+        // A parts list's quantities and a lift's weight, centre and
+        // positions (`skid[pump].m`, `pick(cg)`, `pick[A]`) are written in
+        // their block's lines; the annotations hold what is computed from
+        // them (the aggregates, each lift point's load on its line).
+        if name.contains(['[', '(']) {
+            continue;
+        }
         if let Some(other) = lines_seen.insert(line, name) {
             mismatches.push(format!(
                 "line {line}: `{other}` and `{name}` share the line; give each its own"

@@ -1369,7 +1369,8 @@ fn a_header_edit_of_sig_figs_shows_at_once_and_a_click_on_the_title_opens_it() {
 
 /// A sheet with a statement of every kind the notebook shows: the header,
 /// headings, notes, cells, a solve block, vectors and a free body, a load
-/// case, a simulate block, a run query and a check (invented figures:
+/// case, a simulate block, a run query, a check, a parts list with its
+/// aggregates and a lift (invented figures:
 /// a = (30 N − 0.1 × 12 kg × 9.80665 m/s²) / 12 kg = 1.519 m/s²).
 const EVERY_KIND: &str = "\
 +++
@@ -1405,6 +1406,17 @@ end
 
 x_end [m] = x at end                  \"travel in two seconds\"
 check a >= 0.5 m/s^2 \"it starts briskly\"
+
+parts load \"on the trolley\":
+  box  : m = 4 kg, r = vec(0.2 m, 0.1 m)   \"tool box\"
+  vice : m = 6 kg, r = vec(0.5 m, 0.1 m)
+end
+m_load = sum(load: m)                 \"load on the trolley\"
+r_load = sum(load: m * r) / m_load
+lift hoist of m_load * g0 at r_load \"two hooks\":
+  A = vec(0 m, 0.1 m)
+  B = vec(0.6 m, 0.1 m)
+end
 ";
 
 /// The sheet, with CRLF breaks and no final break, or without its header.
@@ -1467,6 +1479,11 @@ const CHUNKS: &[&str] = &[
     "  2 * q = 3 m",
     "case light:",
     "  m = 8 kg",
+    "parts q:",
+    "  i : m = 1 kg",
+    " = max(load: m)",
+    "lift h of 1 kN at vec(0 m, 0 m):",
+    "  C = vec(1 m, 0 m)",
     "+++",
     "title = \"T\"",
     "(",

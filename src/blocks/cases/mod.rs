@@ -378,6 +378,7 @@ impl Evaluator<'_> {
             scalars: ranges,
             vectors: vector_ranges,
         } = self.apply_tolerances(checks, &case_results, None, &mut budget);
+        let withdrawn = self.judge_members(&ranges);
         let (cases, case_diagnostics) =
             evaluate_cases(self.sheet, self.source, &case_results, &mut budget);
         self.diagnostics.extend(case_diagnostics);
@@ -389,6 +390,7 @@ impl Evaluator<'_> {
             cases,
             case_results,
             governing,
+            withdrawn,
         }
     }
 }

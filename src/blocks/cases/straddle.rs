@@ -7,7 +7,7 @@ use super::ranges::{RangeOf, Ranges};
 use crate::base::{Code, Diagnostic, Span};
 use crate::eval::Evaluator;
 use crate::eval::model::CellRange;
-use crate::sheet::{CellId, CellOrigin};
+use crate::sheet::CellId;
 
 impl Evaluator<'_> {
     /// An info finding at each straddled test, naming the cells whose range
@@ -65,12 +65,7 @@ impl Evaluator<'_> {
         if let Some(replacement) = self.overrides.get(&id) {
             return replacement.expr.span;
         }
-        let statement = match self.sheet.cells[id] {
-            CellOrigin::Formula { statement }
-            | CellOrigin::Unknown { statement, .. }
-            | CellOrigin::Simulated { statement, .. } => statement,
-        };
-        self.sheet.statements[statement].span
+        self.sheet.statements[self.sheet.cell_statement(id)].span
     }
 
     /// The first of `straddled` (tests that held at some corners and not at
