@@ -130,6 +130,17 @@ pub enum Code {
     /// A run query that names no state of a simulate block (or states of
     /// two), or a state used outside a run query.
     BadRunQuery,
+    /// A sweep whose name is not an input cell: a computed cell, a block's
+    /// cell, a constant or a vector.
+    SweepNotInput,
+    /// A sweep's bounds that are not of the input's dimension, not finite,
+    /// equal, or that depend on the swept input.
+    BadSweepRange,
+    /// A sweep's count that is not a whole number of at least 2, or a step
+    /// that is not positive or not of the input's dimension.
+    BadSweepSpacing,
+    /// A sweep with more points than heft evaluates.
+    SweepTooLarge,
 }
 
 impl Code {
@@ -178,11 +189,15 @@ impl Code {
             Code::IntegrationFailed => "integration-failed",
             Code::NotInRun => "not-in-run",
             Code::BadRunQuery => "bad-run-query",
+            Code::SweepNotInput => "sweep-not-input",
+            Code::BadSweepRange => "bad-sweep-range",
+            Code::BadSweepSpacing => "bad-sweep-spacing",
+            Code::SweepTooLarge => "sweep-too-large",
         }
     }
 
     /// Every code, for documentation and tests.
-    pub const ALL: [Code; 42] = [
+    pub const ALL: [Code; 46] = [
         Code::ParseError,
         Code::EncodingError,
         Code::HeaderError,
@@ -225,6 +240,10 @@ impl Code {
         Code::IntegrationFailed,
         Code::NotInRun,
         Code::BadRunQuery,
+        Code::SweepNotInput,
+        Code::BadSweepRange,
+        Code::BadSweepSpacing,
+        Code::SweepTooLarge,
     ];
 }
 

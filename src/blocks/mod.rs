@@ -8,6 +8,7 @@
 mod cases;
 mod simulate;
 mod solve;
+mod sweep;
 
 use std::sync::Arc;
 
@@ -41,6 +42,7 @@ pub fn evaluate(sheet: Arc<Sheet>, source: Arc<str>) -> Evaluated {
     evaluated.cases = judged.cases;
     evaluated.case_results = judged.case_results;
     evaluated.governing = judged.governing;
+    evaluated.sweeps = judged.sweeps;
     evaluated
 }
 
@@ -59,6 +61,8 @@ pub struct SheetJudgement {
     pub case_results: Vec<CellId>,
     /// For each check, the case that governs it.
     pub governing: Vec<Option<usize>>,
+    /// Each sweep block's study, in file order.
+    pub sweeps: Vec<crate::eval::SweepReport>,
 }
 
 /// An evaluator whose expressions can read the sheet's finished runs
@@ -118,6 +122,8 @@ impl Evaluator<'_> {
             span: sheet.statements[index].span,
         };
         let mut outline = Vec::with_capacity(sheet.items.len());
+        // Every sweep statement has its report, in file order.
+        let mut next_sweep = 0;
         outline.extend(
             sheet
                 .items
@@ -149,6 +155,10 @@ impl Evaluator<'_> {
                         .iter()
                         .position(|report| report.statement == statement)
                         .map_or_else(|| invalid(statement), OutlineItem::Simulate),
+                    Item::Sweep(_) => {
+                        next_sweep += 1;
+                        OutlineItem::Sweep(next_sweep - 1)
+                    }
                 }),
         );
         let mut diagnostics = std::mem::take(&mut self.diagnostics);
@@ -169,6 +179,7 @@ impl Evaluator<'_> {
             case_results: Vec::new(),
             governing: Vec::new(),
             runs: std::mem::take(&mut self.runs),
+            sweeps: Vec::new(),
             outline,
             diagnostics,
             lines,

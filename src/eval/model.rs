@@ -440,6 +440,8 @@ pub enum OutlineItem {
     },
     /// A simulate block, by index into [`Evaluated::runs`].
     Simulate(usize),
+    /// A sweep block, by index into [`Evaluated::sweeps`].
+    Sweep(usize),
 }
 
 fn tolerance_span(tolerance: &crate::syntax::ast::Tolerance) -> Span {
@@ -481,6 +483,8 @@ pub struct Evaluated {
     pub governing: Vec<Option<usize>>,
     /// Simulate blocks' runs, in evaluation order.
     pub runs: Vec<super::RunReport>,
+    /// Sweep blocks' studies, in file order: they never change a verdict.
+    pub sweeps: Vec<super::SweepReport>,
     /// Headings, notes, cells, solve blocks and checks in file order.
     pub outline: Vec<OutlineItem>,
     /// Every finding, sorted by position.

@@ -89,6 +89,11 @@ impl LiveSheet {
         }
         self.whole_sheet_only = self.sheet.nodes.len() != n_cells
             || !self.sheet.cases.is_empty()
+            || self
+                .sheet
+                .items
+                .iter()
+                .any(|item| matches!(item, Item::Sweep(_)))
             || (0..n_cells).any(|id| self.sheet.tolerance(id).is_some());
         self.rows = presentation_order(&self.sheet);
         self.row_positions = vec![0; self.rows.len()];

@@ -207,6 +207,9 @@ impl<'a> Builder<'a> {
                 ))),
                 OutlineItem::Solve(index) => current.blocks.extend(self.solve_blocks(*index)),
                 OutlineItem::Simulate(index) => current.blocks.extend(self.run_blocks(*index)),
+                OutlineItem::Sweep(index) => current
+                    .blocks
+                    .extend(super::sweep::sweep_blocks(evaluated, *index)),
                 // The load cases are tabulated in their own section.
                 OutlineItem::Case(_) => {}
                 OutlineItem::Invalid { span } => current.blocks.push(Block::Unparsed {

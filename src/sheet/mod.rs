@@ -122,6 +122,8 @@ pub enum Item {
     Simulate(usize),
     /// A review mark or sign-off line, at this statement index.
     Review(usize),
+    /// A sweep block, at this statement index.
+    Sweep(usize),
 }
 
 /// A whole sheet, parsed and linked: everything the evaluator needs.

@@ -5,6 +5,8 @@ use compact_str::CompactString;
 
 use crate::base::Span;
 
+pub use super::sweep::{SweepBlock, SweepSpacing};
+
 /// One statement of a sheet, with the span of its line.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Statement {
@@ -49,6 +51,8 @@ pub enum StatementKind {
     SignOff(Box<SignOff>),
     /// Equations of motion integrated over time: `simulate t from 0 s to 5 s: … end`.
     Simulate(Box<SimulateBlock>),
+    /// A study of the sheet over one input: `sweep x from 0 m to 2 m count 9: … end`.
+    Sweep(Box<SweepBlock>),
 }
 
 /// What a review mark says about the item it is attached to.

@@ -7,6 +7,7 @@ mod lines;
 mod parser;
 mod simulate;
 mod split;
+mod sweep;
 
 pub use lines::{MAX_NESTING, MAX_OPERATORS};
 pub use split::{

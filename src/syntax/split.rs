@@ -126,6 +126,9 @@ pub fn parse(source: &str) -> ParsedSheet {
             Some(block) if code_of(block.head.text(source)).starts_with("simulate") => {
                 super::simulate::parse_simulate_block(source, block)
             }
+            Some(block) if code_of(block.head.text(source)).starts_with("sweep") => {
+                super::sweep::parse_sweep_block(source, block)
+            }
             Some(block) => parse_block(source, block),
         };
         if !diagnostics.is_empty() {
@@ -171,7 +174,7 @@ struct RawStatement {
 }
 
 /// Words that open a block running to a line `end`.
-const BLOCK_KEYWORDS: &[&str] = &["solve", "case", "simulate"];
+const BLOCK_KEYWORDS: &[&str] = &["solve", "case", "simulate", "sweep"];
 
 /// The code of a line without a trailing `//` comment, trimmed.
 fn code_of(text: &str) -> &str {
