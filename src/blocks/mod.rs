@@ -20,6 +20,7 @@ use crate::syntax::ast::StatementKind;
 pub use cases::MAX_TOLERANCE_PAIRS;
 pub use simulate::{DEFAULT_RELATIVE_TOLERANCE, MAX_KEPT_COEFFICIENTS, MAX_STEPS, step_limit};
 pub use solve::MAX_SOLVE_UNKNOWNS;
+pub use sweep::{MAX_SWEEP_CELL_EVALUATIONS, MAX_SWEEP_POINTS};
 
 /// Parses, links and evaluates a sheet's source text in one call.
 pub fn evaluate_source(source: &str) -> Evaluated {

@@ -10,6 +10,7 @@ mod json_words;
 mod report;
 mod review;
 mod runs;
+mod sweep_json;
 mod sweeps;
 mod units_list;
 

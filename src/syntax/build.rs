@@ -13,7 +13,6 @@ use super::ast::{
     ToleranceDef, UnitExpr, UnitFactor, Unknown,
 };
 use super::parser::Rule;
-use super::sweep::{SweepHead, SweepSpacing};
 use crate::base::Span;
 
 /// Operator precedence, lowest first; `^` binds tightest and groups to the
@@ -332,64 +331,20 @@ pub(crate) fn simulate_line(mut pairs: Pairs<'_, Rule>, offset: usize) -> Built<
     })
 }
 
-/// The head of a sweep: the swept name, the bounds, the spacing and the
-/// optional label, from the pairs of `Rule::sweep_line`.
-pub(crate) fn sweep_head(mut pairs: Pairs<'_, Rule>, offset: usize) -> Built<SweepHead> {
-    let builder = Builder { offset };
-    let head = pairs
-        .next()
-        .unwrap_or_else(|| unreachable!("expected a sweep head"));
-    let mut variable = None;
-    let mut bounds = Vec::with_capacity(2);
-    let mut spacing = None;
-    let mut label = None;
-    for part in head.into_inner() {
-        match part.as_rule() {
-            Rule::keyword_sweep | Rule::keyword_from | Rule::keyword_to => {}
-            Rule::name => variable = Some(builder.ident(part)),
-            Rule::expr | Rule::plain_bound => bounds.push(builder.sweep_bound(part)?),
-            Rule::sweep_count | Rule::sweep_step => {
-                let count = part.as_rule() == Rule::sweep_count;
-                let value = part
-                    .into_inner()
-                    .find(|p| matches!(p.as_rule(), Rule::expr | Rule::plain_bound))
-                    .unwrap_or_else(|| unreachable!("expected a count or a step"));
-                let value = builder.sweep_bound(value)?;
-                spacing = Some(if count {
-                    SweepSpacing::Count(value)
-                } else {
-                    SweepSpacing::Step(value)
-                });
-            }
-            Rule::description => label = Some(builder.description(part)),
-            rule => unreachable!("expected a part of a sweep head, found {rule:?}"),
-        }
-    }
-    let to = bounds.pop();
-    let from = bounds.pop();
-    match (variable, from, to, spacing) {
-        (Some(variable), Some(from), Some(to), Some(spacing)) => Ok(SweepHead {
-            variable,
-            from,
-            to,
-            spacing,
-            label,
-        }),
-        _ => unreachable!("expected a name, two bounds and a spacing"),
-    }
+/// Builds an expression pair of a line at byte `offset` (for the block
+/// parsers outside this file).
+pub(crate) fn expr_at(pair: Pair<'_, Rule>, offset: usize) -> Built<Expr> {
+    Builder { offset }.expr(pair)
 }
 
-/// The results a `show` line of a sweep names, from the pairs of
-/// `Rule::show_line`.
-pub(crate) fn show_line(mut pairs: Pairs<'_, Rule>, offset: usize) -> Built<Vec<Expr>> {
-    let builder = Builder { offset };
-    let line = pairs
-        .next()
-        .unwrap_or_else(|| unreachable!("expected a show line"));
-    line.into_inner()
-        .filter(|part| part.as_rule() == Rule::expr)
-        .map(|part| builder.expr(part))
-        .collect()
+/// Builds a name pair of a line at byte `offset`.
+pub(crate) fn ident_at(pair: Pair<'_, Rule>, offset: usize) -> Ident {
+    Builder { offset }.ident(pair)
+}
+
+/// Builds a description pair of a line at byte `offset`.
+pub(crate) fn description_at(pair: Pair<'_, Rule>, offset: usize) -> Description {
+    Builder { offset }.description(pair)
 }
 
 /// Builds the expression from the pairs of `Rule::expression_only`.
@@ -879,42 +834,6 @@ impl Builder {
             rule => unreachable!("expected an operand, found {rule:?}"),
         };
         Ok(Expr { kind, span })
-    }
-
-    /// A bound of a sweep: an expression, or a plain number written
-    /// before a keyword (`from 1 to 1.5`), read without a unit.
-    fn sweep_bound(&self, pair: Pair<'_, Rule>) -> Built<Expr> {
-        if pair.as_rule() != Rule::plain_bound {
-            return self.expr(pair);
-        }
-        let span = self.span(&pair);
-        let text = pair.as_str();
-        let (negative, digits) = match text.strip_prefix('-') {
-            Some(rest) => (true, rest),
-            None => (false, text),
-        };
-        let value = match digits.parse::<f64>() {
-            Ok(value) if value.is_finite() => value,
-            _ => {
-                return Err(BuildError {
-                    span,
-                    message: format!("the number {text} is too large to represent"),
-                });
-            }
-        };
-        let number_span = Span::new(span.start() + usize::from(negative), span.end());
-        let number = Expr {
-            kind: ExprKind::Number(value),
-            span: number_span,
-        };
-        Ok(if negative {
-            Expr {
-                kind: ExprKind::Negate(Box::new(number)),
-                span,
-            }
-        } else {
-            number
-        })
     }
 
     fn number(&self, pair: &Pair<'_, Rule>) -> Built<f64> {

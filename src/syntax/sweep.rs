@@ -8,9 +8,10 @@
 //! ```
 
 use pest::Parser;
+use pest::iterators::Pairs;
 
 use super::ast::{Description, Expr, ExprKind, Ident, NameRef, StatementKind, Target};
-use super::build;
+use super::build::{self, BuildError};
 use super::lines::{BlockLines, check_limits};
 use super::parser::{HeftParser, Rule, describe_error};
 use crate::base::{Code, Diagnostic, Span};
@@ -94,13 +95,74 @@ impl SweepBlock {
     }
 }
 
+/// A value built from pairs, or why it cannot be.
+type Built<T> = Result<T, BuildError>;
+
 /// What the head of a sweep gives.
-pub(crate) struct SweepHead {
-    pub(crate) variable: Ident,
-    pub(crate) from: Expr,
-    pub(crate) to: Expr,
-    pub(crate) spacing: SweepSpacing,
-    pub(crate) label: Option<Description>,
+struct SweepHead {
+    variable: Ident,
+    from: Expr,
+    to: Expr,
+    spacing: SweepSpacing,
+    label: Option<Description>,
+}
+
+/// The head of a sweep: the swept name, the bounds, the spacing and the
+/// optional label, from the pairs of `Rule::sweep_line`.
+fn sweep_head(mut pairs: Pairs<'_, Rule>, offset: usize) -> Built<SweepHead> {
+    let head = pairs
+        .next()
+        .unwrap_or_else(|| unreachable!("expected a sweep head"));
+    let mut variable = None;
+    let mut bounds = Vec::with_capacity(2);
+    let mut spacing = None;
+    let mut label = None;
+    for part in head.into_inner() {
+        match part.as_rule() {
+            Rule::keyword_sweep | Rule::keyword_from | Rule::keyword_to => {}
+            Rule::name => variable = Some(build::ident_at(part, offset)),
+            Rule::expr => bounds.push(build::expr_at(part, offset)?),
+            Rule::sweep_count | Rule::sweep_step => {
+                let count = part.as_rule() == Rule::sweep_count;
+                let value = part
+                    .into_inner()
+                    .find(|p| p.as_rule() == Rule::expr)
+                    .unwrap_or_else(|| unreachable!("expected a count or a step"));
+                let value = build::expr_at(value, offset)?;
+                spacing = Some(if count {
+                    SweepSpacing::Count(value)
+                } else {
+                    SweepSpacing::Step(value)
+                });
+            }
+            Rule::description => label = Some(build::description_at(part, offset)),
+            rule => unreachable!("expected a part of a sweep head, found {rule:?}"),
+        }
+    }
+    let to = bounds.pop();
+    let from = bounds.pop();
+    match (variable, from, to, spacing) {
+        (Some(variable), Some(from), Some(to), Some(spacing)) => Ok(SweepHead {
+            variable,
+            from,
+            to,
+            spacing,
+            label,
+        }),
+        _ => unreachable!("expected a name, two bounds and a spacing"),
+    }
+}
+
+/// The results a `show` line of a sweep names, from the pairs of
+/// `Rule::show_line`.
+fn show_line(mut pairs: Pairs<'_, Rule>, offset: usize) -> Built<Vec<Expr>> {
+    let line = pairs
+        .next()
+        .unwrap_or_else(|| unreachable!("expected a show line"));
+    line.into_inner()
+        .filter(|part| part.as_rule() == Rule::expr)
+        .map(|part| build::expr_at(part, offset))
+        .collect()
 }
 
 /// What a line inside a sweep block may be.
@@ -111,7 +173,7 @@ fn parse_line<T>(
     source: &str,
     line: Span,
     rule: Rule,
-    build: impl FnOnce(pest::iterators::Pairs<'_, Rule>, usize) -> Result<T, build::BuildError>,
+    build: impl FnOnce(Pairs<'_, Rule>, usize) -> Built<T>,
 ) -> Result<T, Diagnostic> {
     let text = line.text(source);
     if let Some(diagnostic) = check_limits(text, line.start()) {
@@ -135,7 +197,7 @@ pub(super) fn parse_sweep_block(
     let mut shown = Vec::new();
     let mut complete = block.end.is_some();
     for &line in &block.body {
-        match parse_line(source, line, Rule::show_line, build::show_line) {
+        match parse_line(source, line, Rule::show_line, show_line) {
             Ok(exprs) => shown.extend(exprs),
             Err(diagnostic) => {
                 complete = false;
@@ -154,7 +216,7 @@ pub(super) fn parse_sweep_block(
         );
     }
     let kind =
-        match parse_line(source, block.head, Rule::sweep_line, build::sweep_head) {
+        match parse_line(source, block.head, Rule::sweep_line, sweep_head) {
             Ok(head) => StatementKind::Sweep(Box::new(SweepBlock {
                 variable: Expr {
                     kind: ExprKind::Name(NameRef {

@@ -212,7 +212,7 @@ impl Evaluator<'_> {
     }
 
     /// Whether the swept cell is an input: a formula cell written as one
-    /// quantity (`x_cg = 0.8 m`), scalar, that evaluated.
+    /// quantity (`x_cg = 0.8 m`, so a scalar), that evaluated.
     fn check_input(&mut self, input: CellId, at: Span) -> bool {
         let name = self.sheet.cell(input).name.text.to_string();
         let not_input = |message: String, help: &str| {
@@ -236,13 +236,6 @@ impl Evaluator<'_> {
         }
         if self.statuses[input] != CellStatus::Ok {
             return false; // its own finding says why
-        }
-        if !matches!(self.values[input], Some(Value::Scalar(_))) {
-            self.diagnostics.push(not_input(
-                format!("`{name}` is a vector; a sweep varies one scalar input"),
-                "sweep a scalar input, such as one component written as its own cell",
-            ));
-            return false;
         }
         true
     }
@@ -368,7 +361,17 @@ impl Evaluator<'_> {
         match spacing {
             SweepSpacing::Count(_) => {
                 let n = value.si;
-                if !value.dimension.is_dimensionless() || n.fract() != 0.0 || n < 2.0 {
+                if !value.dimension.is_dimensionless() {
+                    self.diagnostics.push(bad(
+                        format!(
+                            "a sweep's count is a plain number, not {}",
+                            value.dimension.describe()
+                        ),
+                        "write `count 13`: the bounds and 11 values evenly between them",
+                    ));
+                    return None;
+                }
+                if n.fract() != 0.0 || n < 2.0 {
                     self.diagnostics.push(bad(
                         format!(
                             "a sweep's count is a whole number of at least 2, not {}",
@@ -408,13 +411,19 @@ impl Evaluator<'_> {
                 }
                 let width = (to - from).abs();
                 let steps = width / value.si;
-                if steps + 1.0 > MAX_SWEEP_POINTS as f64 {
+                let whole = libm::round(steps);
+                let divides = (steps - whole).abs() <= WHOLE_STEPS * steps.max(1.0) && whole >= 1.0;
+                let n_points = if divides {
+                    whole + 1.0
+                } else {
+                    libm::floor(steps) + 2.0
+                };
+                if n_points > MAX_SWEEP_POINTS as f64 {
                     self.diagnostics
-                        .push(too_many(format!("{}", libm::floor(steps) + 2.0)));
+                        .push(too_many(crate::units::format_significant(n_points, 15)));
                     return None;
                 }
-                let whole = libm::round(steps);
-                if (steps - whole).abs() <= WHOLE_STEPS * steps.max(1.0) && whole >= 1.0 {
+                if divides {
                     let n = whole as usize;
                     return Some(((0..=n).map(|k| k as f64 / whole).collect(), None));
                 }
