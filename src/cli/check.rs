@@ -174,8 +174,8 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
     write_checks(&mut out, evaluated, &painter);
 
     write_cases(&mut out, evaluated, &painter);
-    super::sweeps::write_sweeps(&mut out, evaluated, &painter);
     write_sensitivities(&mut out, evaluated, &painter);
+    super::sweeps::write_sweeps(&mut out, evaluated, &painter);
     out.push_str(&super::review::review_text(evaluated));
 
     if !evaluated.diagnostics.is_empty() {

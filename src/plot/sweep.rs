@@ -67,20 +67,28 @@ pub fn sweep_svg(evaluated: &Evaluated, index: usize) -> Option<String> {
     if panels.is_empty() {
         return None;
     }
+    let sig_figs = evaluated.header().sig_figs;
     let mut markers: Vec<(f64, String)> = sweep
         .margins
         .iter()
-        .flat_map(|margin| match margin {
-            Margin::Crossings(crossings) | Margin::NotEstablished { crossings, .. } => {
-                crossings.as_slice()
-            }
-            Margin::PassesThroughout | Margin::FailsThroughout => &[],
-        })
-        .filter_map(|crossing| crossing.at.as_ref().ok())
-        .map(|margin| {
-            let shown =
-                crate::present::sweep_value(sweep, margin.input, evaluated.header().sig_figs);
-            (x(margin.input), format!("100 % at {shown}"))
+        .enumerate()
+        .flat_map(|(check, margin)| {
+            let crossings = match margin {
+                Margin::Crossings(crossings) | Margin::NotEstablished { crossings, .. } => {
+                    crossings.as_slice()
+                }
+                Margin::PassesThroughout | Margin::FailsThroughout => &[],
+            };
+            crossings
+                .iter()
+                .filter_map(|crossing| crossing.at.as_ref().ok())
+                .map(move |margin| {
+                    let shown = crate::present::sweep_value(sweep, margin.input, sig_figs);
+                    (
+                        x(margin.input),
+                        format!("check {}: 100 % at {shown}", check + 1),
+                    )
+                })
         })
         .collect();
     markers.sort_by(|a, b| a.0.total_cmp(&b.0));

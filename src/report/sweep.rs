@@ -63,7 +63,12 @@ pub(super) fn sweep_blocks(evaluated: &Evaluated, index: usize) -> Vec<Block> {
             cells.extend(sweep.shown.iter().zip(&point.shown).map(|(shown, value)| {
                 Rich::text(value.map_or_else(
                     || "unknown".to_string(),
-                    |value| crate::eval::format_value(value, &shown.display, sig_figs),
+                    |value| match value.scalar() {
+                        Some(q) => {
+                            crate::units::format_figures(shown.display.value_of(q.si), sig_figs)
+                        }
+                        None => crate::eval::format_value(value, &shown.display, sig_figs),
+                    },
                 ))
             }));
             cells.extend(point.checks.iter().map(|check| {

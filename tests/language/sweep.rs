@@ -455,3 +455,27 @@ fn a_load_case_on_the_sheet_is_not_part_of_a_sweep_point() {
     let margin = verified(&crossings(only_sweep(&evaluated), 0)[0]);
     assert_close(margin.input, 16_000.0 / 1245.0 - G0, 1e-9);
 }
+
+#[test]
+fn the_ok_corpus_skids_cog_margins_are_the_lever_rules_closed_forms() {
+    let source =
+        crate::common::read_file(std::path::Path::new("tests/sheets/ok/skid_cog_sweep.heft"));
+    let evaluated = run_clean(&source);
+    let study = only_sweep(&evaluated);
+    let weight = 3200.0 * G0;
+    // Lever rule: R_A = W (1 − x/L) reaches 20 kN at x = L (1 − 20 kN / W)
+    // and passes from there; R_B = W x / L reaches it at x = 20 kN L / W.
+    let from_a = verified(&crossings(study, 0)[0]);
+    assert!(!crossings(study, 0)[0].passes_below);
+    assert_close(from_a.input, 4.0 * (1.0 - 20_000.0 / weight), 1e-9);
+    let up_to_b = verified(&crossings(study, 1)[0]);
+    assert!(crossings(study, 1)[0].passes_below);
+    assert_close(up_to_b.input, 20_000.0 * 4.0 / weight, 1e-9);
+    // The sheet written with each margin in place of x_cg puts that check
+    // at 100 %.
+    for (check, margin) in [(0, from_a), (1, up_to_b)] {
+        let written = run(&source.replace("x_cg = 1.6 m", &format!("x_cg = {:?} m", margin.input)));
+        let utilization = written.checks[check].utilization.unwrap_or(f64::NAN);
+        assert_close(utilization, 1.0, 1e-9);
+    }
+}
