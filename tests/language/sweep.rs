@@ -479,3 +479,57 @@ fn the_ok_corpus_skids_cog_margins_are_the_lever_rules_closed_forms() {
         assert_close(utilization, 1.0, 1e-9);
     }
 }
+
+/// A chain of `n` cells from `x`, each the one before plus 1 mm, and a
+/// check on the last that fails from x = 100 m − (n − 2) mm.
+fn long_chain(n: usize, sweep: &str) -> String {
+    let mut source = String::from("x = 1 m\nc0 = x\n");
+    for k in 1..n - 1 {
+        source.push_str(&format!("c{k} = c{} + 1 mm\n", k - 1));
+    }
+    source.push_str(&format!("check c{} <= 100 m\n{sweep}\n", n - 2));
+    source
+}
+
+#[test]
+fn a_sweep_past_the_cell_evaluation_limit_is_refused_and_names_it() {
+    use heftsheet::blocks::{MAX_SWEEP_CELL_EVALUATIONS, MAX_SWEEP_POINTS};
+    // 1,000 points of a 25,000-cell sheet: 25 million cell evaluations.
+    let n_cells = 25_000;
+    assert!(MAX_SWEEP_POINTS * n_cells > MAX_SWEEP_CELL_EVALUATIONS);
+    let evaluated = run(&long_chain(
+        n_cells,
+        "sweep x from 0 m to 20 m count 1000:\nend",
+    ));
+    let refused: Vec<_> = evaluated
+        .diagnostics
+        .iter()
+        .filter(|d| d.code.as_str() == "sweep-too-large")
+        .collect();
+    assert_eq!(refused.len(), 1, "{:?}", evaluated.diagnostics);
+    assert!(
+        refused[0].message.contains("20000000"),
+        "{}",
+        refused[0].message
+    );
+    assert!(only_sweep(&evaluated).points.is_empty());
+}
+
+#[test]
+fn a_margin_search_past_the_evaluation_limit_says_so_and_gives_no_number() {
+    use heftsheet::blocks::MAX_SWEEP_CELL_EVALUATIONS;
+    // Two points of a 60,000-cell sheet are cheap, but one margin search
+    // may take 403 evaluations of it: more than the margins' budget.
+    let n_cells = 60_000;
+    assert!(403 * n_cells > MAX_SWEEP_CELL_EVALUATIONS);
+    let evaluated = run_clean(&long_chain(
+        n_cells,
+        "sweep x from 0 m to 1000 m count 2:\nend",
+    ));
+    let study = only_sweep(&evaluated);
+    assert_eq!(study.points.len(), 2);
+    let found = crossings(study, 0);
+    assert_eq!(found.len(), 1);
+    let reason = found[0].at.clone().err().unwrap_or_default();
+    assert!(reason.starts_with("not searched"), "{reason}");
+}

@@ -103,7 +103,8 @@ impl Study<'_, '_> {
         let cost = MAX_MARGIN_EVALUATIONS.saturating_mul(n_cells);
         if self.evaluations_left < cost {
             return Err(format!(
-                "not searched: the sweep has spent its {} cell evaluations",
+                "not searched: a search may take {cost} cell evaluations, and the sweep's margins have {} of their {} left",
+                self.evaluations_left,
                 super::MAX_SWEEP_CELL_EVALUATIONS
             ));
         }

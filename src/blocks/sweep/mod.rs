@@ -25,10 +25,10 @@ use crate::units::{DisplayUnit, Value, pick_unit};
 /// sheet, so a sweep costs at most this many evaluations plus its margins'.
 pub const MAX_SWEEP_POINTS: usize = 1000;
 
-/// The most cell evaluations one sweep may spend, points and margin
-/// searches together (points × cells): past it, points are refused
-/// (`sweep-too-large`) and margins not searched, rather than running for
-/// minutes. About 10 s on the development machine.
+/// The most cell evaluations (points × cells) one sweep may spend on its
+/// points, and as many again on its margin searches: past the first the
+/// sweep is refused (`sweep-too-large`), past the second a margin not yet
+/// searched says so, rather than running for minutes.
 pub const MAX_SWEEP_CELL_EVALUATIONS: usize = 20_000_000;
 
 /// How close (as a fraction of the range) a step count must come to a
@@ -472,15 +472,13 @@ pub(super) struct Evaluation {
 
 impl<'s, 'a> Study<'s, 'a> {
     fn new(evaluator: &'s Evaluator<'a>, block: &'s SweepBlock, plan: &Plan) -> Self {
-        let n_cells = evaluator.sheet.cells.len().max(1);
-        let spent = plan.fractions.len().saturating_mul(n_cells);
         Study {
             evaluator,
             block,
             input: plan.input,
             from: plan.from,
             to: plan.to,
-            evaluations_left: MAX_SWEEP_CELL_EVALUATIONS.saturating_sub(spent),
+            evaluations_left: MAX_SWEEP_CELL_EVALUATIONS,
             budget: MAX_TOLERANCE_PAIRS,
         }
     }
