@@ -60,45 +60,71 @@ pub(super) fn write_sweeps(out: &mut String, evaluated: &Evaluated, painter: &Pa
                 .map(|shown| format!("{}{}", shown.label, unit(&shown.display.text))),
         );
         headings.extend((1..=evaluated.checks.len()).map(|n| format!("check {n}")));
+        // Every row's texts first, so each column is as wide as its widest.
+        let rows: Vec<Vec<(String, CheckStatus)>> = sweep
+            .points
+            .iter()
+            .map(|point| {
+                let mut cells = vec![(
+                    format_significant(sweep.display.value_of(point.input), sig_figs),
+                    CheckStatus::Passed,
+                )];
+                cells.extend(sweep.shown.iter().zip(&point.shown).map(|(shown, value)| {
+                    let text = value.map_or_else(
+                        || "unknown".to_string(),
+                        |value| match value.scalar() {
+                            Some(q) => {
+                                crate::units::format_figures(shown.display.value_of(q.si), sig_figs)
+                            }
+                            None => crate::eval::format_value(value, &shown.display, sig_figs),
+                        },
+                    );
+                    (text, CheckStatus::Passed)
+                }));
+                cells.extend(point.checks.iter().map(|check| {
+                    (
+                        format!("{} {}", sweep_utilization(check), sweep_verdict(check)),
+                        check.status,
+                    )
+                }));
+                cells
+            })
+            .collect();
         let widths: Vec<usize> = headings
             .iter()
-            .map(|h| h.chars().count().clamp(12, 28) + 2)
+            .enumerate()
+            .map(|(column, heading)| {
+                rows.iter()
+                    .filter_map(|row| row.get(column))
+                    .map(|(text, _)| text.chars().count())
+                    .chain(std::iter::once(heading.chars().count()))
+                    .max()
+                    .unwrap_or(0)
+                    .max(8)
+                    + 2
+            })
             .collect();
         let mut header = String::from(" ");
         for (heading, width) in headings.iter().zip(&widths) {
             let _ = write!(header, "{:>width$}", visible(heading));
         }
         let _ = writeln!(out, "{}", painter.paint(DIM, &header));
-        for point in &sweep.points {
-            let mut row = String::from(" ");
-            let mut cells = vec![format_significant(
-                sweep.display.value_of(point.input),
-                sig_figs,
-            )];
-            cells.extend(sweep.shown.iter().zip(&point.shown).map(|(shown, value)| {
-                value.map_or_else(
-                    || "unknown".to_string(),
-                    |value| match value.scalar() {
-                        Some(q) => {
-                            crate::units::format_figures(shown.display.value_of(q.si), sig_figs)
-                        }
-                        None => crate::eval::format_value(value, &shown.display, sig_figs),
-                    },
-                )
-            }));
-            for (cell, width) in cells.iter().zip(&widths) {
-                let _ = write!(row, "{cell:>width$}");
-            }
-            for (check, width) in point.checks.iter().zip(widths.iter().skip(cells.len())) {
-                let text = format!("{} {}", sweep_utilization(check), sweep_verdict(check));
-                let style = match check.status {
-                    CheckStatus::Passed => DIM,
-                    _ => FAIL,
-                };
+        let first_check = 1 + sweep.shown.len();
+        for row in &rows {
+            let mut line = String::from(" ");
+            for (column, ((text, status), width)) in row.iter().zip(&widths).enumerate() {
                 let padded = format!("{text:>width$}");
-                row.push_str(&painter.paint(style, &padded));
+                if column < first_check {
+                    line.push_str(&padded);
+                } else {
+                    let style = match status {
+                        CheckStatus::Passed => DIM,
+                        _ => FAIL,
+                    };
+                    line.push_str(&painter.paint(style, &padded));
+                }
             }
-            let _ = writeln!(out, "{row}");
+            let _ = writeln!(out, "{line}");
         }
         for (number, (check, margin)) in evaluated.checks.iter().zip(&sweep.margins).enumerate() {
             let style = match margin {
