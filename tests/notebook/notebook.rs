@@ -1402,10 +1402,6 @@ end
 
 x_end [m] = x at end                  \"travel in two seconds\"
 check a >= 0.5 m/s^2 \"it starts briskly\"
-
-sweep F from 20 N to 60 N count 3 \"push\":
-  show a, x_end
-end
 ";
 
 /// The sheet, with CRLF breaks and no final break, or without its header.
