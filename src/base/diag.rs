@@ -168,6 +168,17 @@ pub enum Code {
     /// A lift whose centre of gravity is outside its points (a load would
     /// have to push down): the load tips.
     LiftTips,
+    /// A sweep whose name is not an input cell: a computed cell, a block's
+    /// cell, a constant or a vector.
+    SweepNotInput,
+    /// A sweep's bounds that are not of the input's dimension, not finite,
+    /// equal, or that depend on the swept input.
+    BadSweepRange,
+    /// A sweep's count that is not a whole number of at least 2, or a step
+    /// that is not positive or not of the input's dimension.
+    BadSweepSpacing,
+    /// A sweep with more points than heft evaluates.
+    SweepTooLarge,
 }
 
 impl Code {
@@ -230,11 +241,15 @@ impl Code {
             Code::CollinearLiftPoints => "collinear-lift-points",
             Code::LiftOffLine => "lift-off-line",
             Code::LiftTips => "lift-tips",
+            Code::SweepNotInput => "sweep-not-input",
+            Code::BadSweepRange => "bad-sweep-range",
+            Code::BadSweepSpacing => "bad-sweep-spacing",
+            Code::SweepTooLarge => "sweep-too-large",
         }
     }
 
     /// Every code, for documentation and tests.
-    pub const ALL: [Code; 56] = [
+    pub const ALL: [Code; 60] = [
         Code::ParseError,
         Code::EncodingError,
         Code::HeaderError,
@@ -291,6 +306,10 @@ impl Code {
         Code::CollinearLiftPoints,
         Code::LiftOffLine,
         Code::LiftTips,
+        Code::SweepNotInput,
+        Code::BadSweepRange,
+        Code::BadSweepSpacing,
+        Code::SweepTooLarge,
     ];
 }
 

@@ -9,6 +9,7 @@ mod cases;
 mod parts;
 mod simulate;
 mod solve;
+mod sweep;
 
 use std::sync::Arc;
 
@@ -22,6 +23,7 @@ pub(crate) use parts::is_withdrawn;
 pub use parts::{COLLINEAR_TOLERANCE, LIFT_LINE_TOLERANCE};
 pub use simulate::{DEFAULT_RELATIVE_TOLERANCE, MAX_KEPT_COEFFICIENTS, MAX_STEPS, step_limit};
 pub use solve::MAX_SOLVE_UNKNOWNS;
+pub use sweep::{MAX_SWEEP_CELL_EVALUATIONS, MAX_SWEEP_POINTS};
 
 /// Parses, links and evaluates a sheet's source text in one call (a sheet
 /// with no file: a `use` line is an error).
@@ -54,6 +56,7 @@ pub fn evaluate(sheet: Arc<Sheet>, source: Arc<str>) -> Evaluated {
     evaluated.cases = judged.cases;
     evaluated.case_results = judged.case_results;
     evaluated.governing = judged.governing;
+    evaluated.sweeps = judged.sweeps;
     evaluated
 }
 
@@ -76,6 +79,8 @@ pub struct SheetJudgement {
     /// their statics formulas' findings are not the sheet's
     /// ([`is_withdrawn`]).
     pub withdrawn: Vec<crate::base::Span>,
+    /// Each sweep block's study, in file order.
+    pub sweeps: Vec<crate::eval::SweepReport>,
 }
 
 /// An evaluator whose expressions can read the sheet's finished runs
@@ -135,6 +140,8 @@ impl Evaluator<'_> {
             span: sheet.statements[index].span,
         };
         let mut outline = Vec::with_capacity(sheet.items.len());
+        // Every sweep statement has its report, in file order.
+        let mut next_sweep = 0;
         outline.extend(
             sheet
                 .items
@@ -176,6 +183,10 @@ impl Evaluator<'_> {
                             || invalid(statement),
                             |report| OutlineItem::Members(Box::new(report)),
                         ),
+                    Item::Sweep(_) => {
+                        next_sweep += 1;
+                        OutlineItem::Sweep(next_sweep - 1)
+                    }
                 }),
         );
         let mut diagnostics = std::mem::take(&mut self.diagnostics);
@@ -196,6 +207,7 @@ impl Evaluator<'_> {
             case_results: Vec::new(),
             governing: Vec::new(),
             runs: std::mem::take(&mut self.runs),
+            sweeps: Vec::new(),
             outline,
             diagnostics,
             lines,

@@ -52,28 +52,42 @@ pub fn run(path: &Path, output: Output, deny_warnings: bool, colour: bool) -> io
                     colour,
                 );
             }
-            let index = match runs::pick_run(&evaluated, run) {
-                Ok(index) => index,
-                Err(message) => {
-                    eprint(&format!("heft: {file_name}: {message}\n"), false);
-                    return Ok(EXIT_USAGE);
+            let sweep_plot = match output {
+                Output::Svg { run } => super::sweeps::sweep_svg(&evaluated, run),
+                _ => None,
+            };
+            if let Some(plot) = sweep_plot {
+                match plot {
+                    Ok(svg) => svg,
+                    Err(message) => {
+                        eprint(&format!("heft: {file_name}: {message}\n"), false);
+                        return Ok(EXIT_FINDINGS);
+                    }
                 }
-            };
-            let data = if matches!(output, Output::Csv { .. }) {
-                runs::csv(&evaluated, index)
             } else {
-                crate::plot::run_svg(&evaluated, index)
-            };
-            match data {
-                Some(data) => data,
-                None => {
-                    eprint(
-                        &format!(
-                            "heft: {file_name}: the simulate run did not finish, so there is nothing to export\n"
-                        ),
-                        false,
-                    );
-                    return Ok(EXIT_FINDINGS);
+                let index = match runs::pick_run(&evaluated, run) {
+                    Ok(index) => index,
+                    Err(message) => {
+                        eprint(&format!("heft: {file_name}: {message}\n"), false);
+                        return Ok(EXIT_USAGE);
+                    }
+                };
+                let data = if matches!(output, Output::Csv { .. }) {
+                    runs::csv(&evaluated, index)
+                } else {
+                    crate::plot::run_svg(&evaluated, index)
+                };
+                match data {
+                    Some(data) => data,
+                    None => {
+                        eprint(
+                            &format!(
+                                "heft: {file_name}: the simulate run did not finish, so there is nothing to export\n"
+                            ),
+                            false,
+                        );
+                        return Ok(EXIT_FINDINGS);
+                    }
                 }
             }
         }
@@ -162,6 +176,7 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
 
     write_cases(&mut out, evaluated, &painter);
     write_sensitivities(&mut out, evaluated, &painter);
+    super::sweeps::write_sweeps(&mut out, evaluated, &painter);
     out.push_str(&super::review::review_text(evaluated));
 
     if !evaluated.diagnostics.is_empty() {

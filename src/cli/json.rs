@@ -46,6 +46,8 @@ struct Report<'a> {
     runs: Vec<super::runs::JsonRun<'a>>,
     /// Every parts list and lift.
     parts: Vec<super::parts::JsonMembers<'a>>,
+    /// Every sweep block's study (never a verdict of the sheet).
+    sweeps: Vec<super::sweep_json::JsonSweep<'a>>,
     /// Every finding, sorted by position.
     diagnostics: Vec<JsonDiagnostic<'a>>,
     /// The checker's record.
@@ -457,6 +459,7 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
         cases,
         runs: super::runs::json_runs(evaluated, lines),
         parts: super::parts::json_members(evaluated),
+        sweeps: super::sweep_json::json_sweeps(evaluated),
         diagnostics: evaluated
             .diagnostics
             .iter()

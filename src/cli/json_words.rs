@@ -152,6 +152,31 @@ impl From<crate::eval::CheckStatus> for CheckStatus {
     }
 }
 
+/// What a sweep shows of a check over its whole range.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, JsonSchema)]
+#[serde(rename_all = "kebab-case")]
+pub(super) enum MarginKind {
+    /// It passes at every point of the range.
+    PassesThroughout,
+    /// It fails at every point of the range.
+    FailsThroughout,
+    /// Its verdict changes between neighbouring points: see `crossings`.
+    Crossings,
+    /// Not established at some points: see `unknown_points`.
+    NotEstablished,
+}
+
+impl From<&crate::eval::Margin> for MarginKind {
+    fn from(margin: &crate::eval::Margin) -> Self {
+        match margin {
+            crate::eval::Margin::PassesThroughout => MarginKind::PassesThroughout,
+            crate::eval::Margin::FailsThroughout => MarginKind::FailsThroughout,
+            crate::eval::Margin::Crossings(_) => MarginKind::Crossings,
+            crate::eval::Margin::NotEstablished { .. } => MarginKind::NotEstablished,
+        }
+    }
+}
+
 /// Where a check was judged.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, JsonSchema)]
 #[serde(rename_all = "kebab-case")]

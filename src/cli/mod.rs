@@ -11,6 +11,8 @@ mod parts;
 mod report;
 mod review;
 mod runs;
+mod sweep_json;
+mod sweeps;
 mod units_list;
 
 use std::io::{self, IsTerminal, Write};

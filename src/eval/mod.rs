@@ -14,6 +14,7 @@ pub(crate) mod formula;
 pub(crate) mod model;
 pub mod program;
 pub(crate) mod run_model;
+pub(crate) mod sweep_model;
 pub(crate) mod verdict;
 
 /// The operators and comparisons the evaluated model's formulas and checks
@@ -28,6 +29,10 @@ pub use model::{
     RangeMethod, Sensitivity, SolveReport, SolveStatus, Spread, Unsettled,
 };
 pub use run_model::{PlotSeries, RunColumn, RunEvent, RunReport, RunRow, RunStatus, StateSlots};
+pub use sweep_model::{
+    Crossing, MARGIN_TOLERANCE, Margin, SweepCheck, SweepColumn, SweepPoint, SweepReport,
+    VerifiedMargin,
+};
 pub use verdict::{Summary, count, utilization_note};
 
 use std::cell::{Cell, RefCell};

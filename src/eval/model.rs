@@ -442,6 +442,8 @@ pub enum OutlineItem {
     Simulate(usize),
     /// A `use` line, by index into the sheet's imports.
     Use(usize),
+    /// A sweep block, by index into [`Evaluated::sweeps`].
+    Sweep(usize),
     /// A parts list or a lift, with its rows.
     Members(Box<MembersReport>),
 }
@@ -523,6 +525,8 @@ pub struct Evaluated {
     pub governing: Vec<Option<usize>>,
     /// Simulate blocks' runs, in evaluation order.
     pub runs: Vec<super::RunReport>,
+    /// Sweep blocks' studies, in file order: they never change a verdict.
+    pub sweeps: Vec<super::SweepReport>,
     /// Headings, notes, cells, solve blocks and checks in file order.
     pub outline: Vec<OutlineItem>,
     /// Every finding, sorted by position.

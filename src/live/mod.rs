@@ -334,6 +334,7 @@ impl LiveSheet {
             | Item::Case(index)
             | Item::Simulate(index)
             | Item::Members(index)
+            | Item::Sweep(index)
             | Item::Use(index) => Row::Block {
                 head: self.statement_text(index).lines().next().unwrap_or(""),
             },

@@ -90,6 +90,11 @@ impl LiveSheet {
         self.whole_sheet_only = self.sheet.nodes.len() != n_cells
             || !self.sheet.cases.is_empty()
             || (0..n_cells).any(|id| self.sheet.tolerance(id).is_some())
+            || self
+                .sheet
+                .items
+                .iter()
+                .any(|item| matches!(item, Item::Sweep(_)))
             // A parts list's and a lift's judgement runs with the sheet's.
             || self
                 .sheet

@@ -3,10 +3,12 @@
 //! marked. Reads the evaluated model only; returns the SVG as a string.
 
 mod svg;
+mod sweep;
 
 use crate::eval::{Evaluated, RunStatus};
 
 pub use svg::{Panel, PlotSpec, nice_ticks, render};
+pub use sweep::sweep_svg;
 
 /// The SVG plot of run `index` of an evaluated sheet (the series its
 /// `plot` line chose, else every state), or `None` if there is no such run
@@ -36,6 +38,7 @@ pub fn run_svg(evaluated: &Evaluated, index: usize) -> Option<String> {
                 .iter()
                 .map(|&(t, value)| (t / time_factor, series.column.display.value_of(value)))
                 .collect(),
+            guides: Vec::new(),
         })
         .collect();
     let mut markers: Vec<(f64, String)> = run

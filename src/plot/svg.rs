@@ -27,8 +27,11 @@ const COLOURS: [&str; 6] = [
 pub struct Panel {
     /// `x [m]`.
     pub label: String,
-    /// Points in time order.
+    /// Points in time order; a value that is not finite (unknown there)
+    /// breaks the line.
     pub points: Vec<(f64, f64)>,
+    /// Horizontal guide lines (value, label): a sweep's 100 % utilization.
+    pub guides: Vec<(f64, String)>,
 }
 
 /// Everything a plot shows.
@@ -119,9 +122,11 @@ pub fn render(spec: &PlotSpec) -> String {
         let (low, high) = panel
             .points
             .iter()
-            .filter(|p| p.1.is_finite())
-            .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), p| {
-                (lo.min(p.1), hi.max(p.1))
+            .map(|p| p.1)
+            .chain(panel.guides.iter().map(|guide| guide.0))
+            .filter(|v| v.is_finite())
+            .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), v| {
+                (lo.min(v), hi.max(v))
             });
         let ticks = if low.is_finite() {
             nice_ticks(low, high, 4)
@@ -194,16 +199,38 @@ pub fn render(spec: &PlotSpec) -> String {
             out,
             r##"<rect x="{MARGIN_LEFT:.1}" y="{top:.1}" width="{plot_width:.1}" height="{PANEL_HEIGHT:.1}" fill="none" stroke="#333333"/>"##
         );
-        let mut path = String::with_capacity(panel.points.len() * 14);
-        for &(t, value) in panel.points.iter().filter(|p| p.1.is_finite()) {
-            let _ = write!(path, "{:.2},{:.2} ", x_of(t), y_of(value));
+        for (value, label) in panel.guides.iter().filter(|guide| guide.0.is_finite()) {
+            let y = y_of(*value);
+            let _ = writeln!(
+                out,
+                r##"<line x1="{MARGIN_LEFT:.1}" y1="{y:.1}" x2="{:.1}" y2="{y:.1}" stroke="#c62828" stroke-dasharray="6 3"/>"##,
+                MARGIN_LEFT + plot_width
+            );
+            let _ = writeln!(
+                out,
+                r##"<text x="{:.1}" y="{:.1}" font-size="10" fill="#c62828" text-anchor="end">{}</text>"##,
+                MARGIN_LEFT + plot_width - 3.0,
+                y - 3.0,
+                escape(label)
+            );
         }
-        let _ = writeln!(
-            out,
-            r#"<polyline fill="none" stroke="{}" stroke-width="1.5" points="{}"/>"#,
-            COLOURS[index % COLOURS.len()],
-            path.trim_end()
-        );
+        // One line per run of finite values: an unknown value breaks it.
+        for run in panel
+            .points
+            .split(|p| !p.1.is_finite())
+            .filter(|run| !run.is_empty())
+        {
+            let mut path = String::with_capacity(run.len() * 14);
+            for &(t, value) in run {
+                let _ = write!(path, "{:.2},{:.2} ", x_of(t), y_of(value));
+            }
+            let _ = writeln!(
+                out,
+                r#"<polyline fill="none" stroke="{}" stroke-width="1.5" points="{}"/>"#,
+                COLOURS[index % COLOURS.len()],
+                path.trim_end()
+            );
+        }
     }
     let _ = writeln!(
         out,
@@ -243,6 +270,7 @@ mod tests {
             panels: vec![Panel {
                 label: "x [m]".to_string(),
                 points: vec![(0.0, 0.0), (0.5, 1.0), (1.0, 0.0)],
+                guides: Vec::new(),
             }],
             markers: vec![(0.5, "peak".to_string())],
         });

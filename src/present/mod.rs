@@ -7,6 +7,9 @@ use crate::base::{Code, Diagnostic, Severity};
 use crate::eval::{CaseOutcome, CheckResult, CheckStatus, Place, Summary, count};
 use crate::units::percent;
 
+mod sweep;
+pub use sweep::{margin_text, sweep_utilization, sweep_value, sweep_verdict};
+
 /// The verdict with where it comes from: `PASS`, `FAIL (as written)`,
 /// `FAIL (in case `estop` at the worst case of its tolerances)`,
 /// `UNKNOWN (at the worst case of the tolerances)`, `ERROR`, `BLOCKED`.

@@ -10,6 +10,7 @@ use super::model::{
     TitleBlock, Tone,
 };
 use super::svg;
+use super::units_used::collect_units;
 use crate::base::Span;
 use crate::eval::{
     CellResult, CellStatus, CheckResult, CheckStatus, Evaluated, OutlineItem, SolveStatus,
@@ -211,6 +212,9 @@ impl<'a> Builder<'a> {
                 OutlineItem::Members(report) => current
                     .blocks
                     .extend(super::parts::members_blocks(evaluated, report)),
+                OutlineItem::Sweep(index) => current
+                    .blocks
+                    .extend(super::sweep::sweep_blocks(evaluated, *index)),
                 // The load cases are tabulated in their own section.
                 OutlineItem::Case(_) => {}
                 OutlineItem::Use(index) => {
@@ -893,51 +897,6 @@ impl<'a> Builder<'a> {
                 rows,
             })],
         }
-    }
-}
-
-fn collect_units(term: &crate::eval::formula::Term, out: &mut BTreeSet<String>) {
-    use crate::eval::formula::Term;
-    match term {
-        Term::Quantity { unit, .. } | Term::UnitValue(unit) => {
-            out.insert(unit.clone());
-        }
-        Term::Name {
-            value: Some(value), ..
-        } => {
-            out.insert(value.unit.clone());
-        }
-        Term::Negate(inner) | Term::Group(inner) => collect_units(inner, out),
-        Term::Binary { lhs, rhs, .. } => {
-            collect_units(lhs, out);
-            collect_units(rhs, out);
-        }
-        Term::Call { args, .. } => args.iter().for_each(|arg| collect_units(arg, out)),
-        Term::Conditional {
-            test,
-            then,
-            otherwise,
-            ..
-        } => {
-            test_units(test, out);
-            collect_units(then, out);
-            collect_units(otherwise, out);
-        }
-        Term::Number(_) | Term::Name { value: None, .. } | Term::Invalid(_) => {}
-    }
-}
-
-fn test_units(test: &crate::eval::formula::TestTerm, out: &mut BTreeSet<String>) {
-    use crate::eval::formula::TestTerm;
-    match test {
-        TestTerm::Compare { lhs, rhs, .. } => {
-            collect_units(lhs, out);
-            collect_units(rhs, out);
-        }
-        TestTerm::All(parts) | TestTerm::Any(parts) => {
-            parts.iter().for_each(|part| test_units(part, out))
-        }
-        TestTerm::Not(inner) => test_units(inner, out),
     }
 }
 

@@ -12,6 +12,8 @@ pub mod math;
 pub mod model;
 mod parts;
 pub mod svg;
+mod sweep;
+mod units_used;
 mod used;
 
 pub use build::{document, short_fingerprint, stale_summary};

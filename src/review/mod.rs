@@ -213,6 +213,7 @@ impl Review {
                 StatementKind::Note { .. }
                 | StatementKind::Case(_)
                 | StatementKind::Use(_)
+                | StatementKind::Sweep(_)
                 | StatementKind::Invalid => {}
             }
             outline_index += 1;

@@ -141,6 +141,8 @@ pub enum Item {
     Use(usize),
     /// A parts list or a lift, at this statement index.
     Members(usize),
+    /// A sweep block, at this statement index.
+    Sweep(usize),
 }
 
 /// A whole sheet, parsed and linked: everything the evaluator needs.

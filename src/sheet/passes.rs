@@ -168,6 +168,7 @@ pub(super) fn outline(statements: &[Statement]) -> Outline {
             StatementKind::Review(_) | StatementKind::SignOff(_) => Item::Review(index),
             // Linking loads the used sheet before the outline is made.
             StatementKind::Use(_) => Item::Use(index),
+            StatementKind::Sweep(_) => Item::Sweep(index),
         };
         items.push(item);
     }

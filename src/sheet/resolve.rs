@@ -138,6 +138,11 @@ pub(super) fn resolve_statements(
                 let ok = resolver.case(case, linked.cells, diagnostics);
                 resolved.broken_cases.push(!ok);
             }
+            StatementKind::Sweep(sweep) => {
+                // Undefined names are reported here; the block itself is
+                // checked when it runs (`blocks::sweep`).
+                resolver.uses(&mut sweep.exprs_mut(), diagnostics);
+            }
             StatementKind::Heading { .. }
             | StatementKind::Note { .. }
             | StatementKind::Review(_)

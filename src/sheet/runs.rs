@@ -30,6 +30,7 @@ pub(super) fn statement_exprs_mut(kind: &mut StatementKind) -> Vec<&mut Expr> {
                 .collect()
         }
         StatementKind::Simulate(block) => block.exprs_mut().collect(),
+        StatementKind::Sweep(sweep) => sweep.exprs_mut().collect(),
         StatementKind::Case(case) => case
             .overrides
             .iter_mut()

@@ -6,6 +6,8 @@ use compact_str::CompactString;
 pub use super::conditional::{Conditional, Relation, Test, TestKind};
 use crate::base::Span;
 
+pub use super::sweep::{SweepBlock, SweepSpacing};
+
 /// One statement of a sheet, with the span of its line.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Statement {
@@ -57,6 +59,8 @@ pub enum StatementKind {
     Parts(Box<PartsBlock>),
     /// The loads on the points of a lift: `lift pick of W at r_cg: … end`.
     Lift(Box<LiftBlock>),
+    /// A study of the sheet over one input: `sweep x from 0 m to 2 m count 9: … end`.
+    Sweep(Box<SweepBlock>),
 }
 
 /// A list of parts: each item gives the same named quantities. Every

@@ -335,6 +335,22 @@ pub(crate) fn simulate_line(mut pairs: Pairs<'_, Rule>, offset: usize) -> Built<
     })
 }
 
+/// Builds an expression pair of a line at byte `offset` (for the block
+/// parsers outside this file).
+pub(crate) fn expr_at(pair: Pair<'_, Rule>, offset: usize) -> Built<Expr> {
+    Builder { offset }.expr(pair)
+}
+
+/// Builds a name pair of a line at byte `offset`.
+pub(crate) fn ident_at(pair: Pair<'_, Rule>, offset: usize) -> Ident {
+    Builder { offset }.ident(pair)
+}
+
+/// Builds a description pair of a line at byte `offset`.
+pub(crate) fn description_at(pair: Pair<'_, Rule>, offset: usize) -> Description {
+    Builder { offset }.description(pair)
+}
+
 /// Builds the expression from the pairs of `Rule::expression_only`.
 pub(crate) fn expression(mut pairs: Pairs<'_, Rule>) -> Built<Option<Expr>> {
     match pairs.next() {

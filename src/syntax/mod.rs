@@ -9,6 +9,7 @@ mod parser;
 mod parts;
 mod simulate;
 mod split;
+mod sweep;
 
 pub(crate) use lines::Quotes;
 pub use lines::{MAX_NESTING, MAX_OPERATORS};

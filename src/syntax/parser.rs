@@ -123,6 +123,10 @@ fn describe_rule(rule: Rule) -> Option<&'static str> {
         Rule::cell_digests | Rule::keyword_cells => "`cells`",
         Rule::cell_digest => "`name:digest`",
         Rule::digest => "a cell digest of 8 hex digits",
+        Rule::keyword_count | Rule::keyword_step | Rule::sweep_count | Rule::sweep_step => {
+            "`count N` or `step S`"
+        }
+        Rule::keyword_show | Rule::show_of => "`show`",
         _ => return None,
     })
 }

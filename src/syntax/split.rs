@@ -129,6 +129,9 @@ pub fn parse(source: &str) -> ParsedSheet {
             Some(block) if super::parts::opens_parts_or_lift(block.head.text(source)) => {
                 super::parts::parse_parts_or_lift(source, block)
             }
+            Some(block) if code_of(block.head.text(source)).starts_with("sweep") => {
+                super::sweep::parse_sweep_block(source, block)
+            }
             Some(block) => parse_block(source, block),
         };
         if !diagnostics.is_empty() {
@@ -174,7 +177,7 @@ struct RawStatement {
 }
 
 /// Words that open a block running to a line `end`.
-const BLOCK_KEYWORDS: &[&str] = &["solve", "case", "simulate", "parts", "lift"];
+const BLOCK_KEYWORDS: &[&str] = &["solve", "case", "simulate", "parts", "lift", "sweep"];
 
 /// The code of a line without a trailing `//` comment, trimmed.
 pub(super) fn code_of(text: &str) -> &str {

@@ -211,6 +211,24 @@ pub fn line_name(line: usize) -> String {
     format!("line {line}")
 }
 
+/// The label of a sweep's number of points.
+pub const LABEL_SWEEP_POINTS: &str = "points";
+
+/// A sweep's points: `13 values; a study, no verdict changes`, or why
+/// there are none.
+pub fn sweep_points(n: usize) -> String {
+    if n == 0 {
+        "not run: see the findings".to_string()
+    } else {
+        format!("{n} values; a study: it changes no verdict")
+    }
+}
+
+/// A check's label in a sweep's margins: `check 2`.
+pub fn sweep_check_name(number: usize) -> String {
+    format!("check {number}")
+}
+
 /// Lines by their numbers: `lines 12–15`, or `line 12`.
 pub fn lines_name(first: usize, last: usize) -> String {
     if first >= last {

@@ -136,3 +136,59 @@ fn the_text_report_of_a_hoist_run_up() {
     let text = heftsheet::cli::check_text("hoist_runup.heft", &source, &evaluated);
     insta::assert_snapshot!(text);
 }
+
+/// The sweep demo: the starting acceleration's sweep opens on line 41.
+const HOIST_SWEEP: &str = "sheets/hoist_sweep.heft";
+
+#[test]
+fn a_sweeps_table_and_margins_are_printed_and_change_no_verdict() {
+    let (code, out, _) = heft(&["check", HOIST_SWEEP]);
+    assert_eq!(code, 0, "{out}");
+    assert!(
+        out.contains("sweep a_start from 0 m/s^2 to 3 m/s^2 count 13 (line 41)"),
+        "{out}"
+    );
+    // The rope fails over part of the range; the sheet still passes.
+    assert!(out.contains("101 % FAIL"), "{out}");
+    // Closed form at the heaviest die (+2 %): 2 WLL / (1.02 m_die + m_rig +
+    // m_block) − g0 = 18 kN / 1475 kg − 9.80665 m/s² = 2.397 m/s².
+    assert!(
+        out.contains("check 1: T_rope <= WLL_rope: passes up to a_start = 2.397 m/s^2"),
+        "{out}"
+    );
+    assert!(out.contains("2 checks: 2 passed"), "{out}");
+}
+
+#[test]
+fn a_sweeps_plot_is_printed_for_its_line() {
+    let (code, out, _) = heft(&["check", "--svg", "--run", "41", HOIST_SWEEP]);
+    assert_eq!(code, 0, "{out}");
+    assert!(out.starts_with("<svg") && out.ends_with("</svg>\n"));
+    assert!(out.contains(">100 %</text>"), "{out}");
+    assert!(out.contains("check 1: 100 % at 2.397 m/s^2"), "{out}");
+    assert!(out.contains("a_start [m/s^2]"), "{out}");
+    // A line that starts no block names the lines there are.
+    let (code, _, err) = heft(&["check", "--svg", "--run", "3", HOIST_SWEEP]);
+    assert_eq!(code, 2, "{err}");
+}
+
+#[test]
+fn a_sweep_in_the_json_report_carries_its_points_and_verified_margins() {
+    let (code, out, _) = heft(&["check", "--json", HOIST_SWEEP]);
+    assert_eq!(code, 0);
+    let json: serde_json::Value = serde_json::from_str(&out).expect("valid JSON");
+    let sweep = &json["sweeps"][0];
+    assert_eq!(sweep["variable"], "a_start");
+    assert_eq!(sweep["points"].as_array().map(Vec::len), Some(13));
+    let margin = &sweep["margins"][0];
+    assert_eq!(margin["kind"], "crossings");
+    assert_eq!(margin["crossings"][0]["verified"], true);
+    let input = margin["crossings"][0]["input"].as_f64().unwrap_or(f64::NAN);
+    // Closed form as above.
+    let closed_form = 18_000.0 / (1.02 * 1350.0 + 60.0 + 38.0) - 9.80665;
+    assert!((input - closed_form).abs() < 1e-9 * closed_form, "{input}");
+    assert_eq!(sweep["margins"][1]["kind"], "passes-throughout");
+    let stepped = &json["sweeps"][1];
+    assert_eq!(stepped["points"].as_array().map(Vec::len), Some(9));
+    assert_eq!(stepped["short_last_step"], serde_json::Value::Null);
+}

@@ -20,4 +20,5 @@ mod shared_sheets;
 mod sheets;
 mod simulate;
 mod solve;
+mod sweep;
 mod units_reference;

@@ -278,6 +278,29 @@ fn screen_text(app: &App) -> String {
 }
 
 #[test]
+fn a_sweeps_row_shows_its_margins_in_the_detail() {
+    let sheet = include_str!("../../sheets/hoist_sweep.heft");
+    let mut app = app(sheet, 160, 48, false);
+    find(&mut app, "F_tip");
+    // The sweep's row comes a few rows below the last cell.
+    let mut screen = String::new();
+    for _ in 0..8 {
+        keys(&mut app, &[KeyCode::Down]);
+        screen = screen_text(&app);
+        if screen.contains("passes up to") {
+            break;
+        }
+    }
+    // The margin `heft check` gives: 18 kN / 1475 kg − g0 (closed form).
+    assert!(
+        screen.contains("passes up to a_start = 2.397 m/s^2"),
+        "{screen}"
+    );
+    assert!(screen.contains("13 values; a study"), "{screen}");
+    assert!(screen.contains("sweep a_start from 0 m/s^2"), "{screen}");
+}
+
+#[test]
 fn the_detail_shows_ranges_load_cases_and_verdicts() {
     let gantry = include_str!("../../sheets/gantry_cases.heft");
     let mut app = app(gantry, 160, 48, false);

@@ -384,6 +384,7 @@ impl Evaluator<'_> {
         self.diagnostics.extend(case_diagnostics);
         crate::eval::verdict::judge(self.sheet, checks, &cases, &mut self.diagnostics);
         let governing = governing(checks, &cases);
+        let sweeps = self.run_sweeps();
         SheetJudgement {
             ranges,
             vector_ranges,
@@ -391,6 +392,7 @@ impl Evaluator<'_> {
             case_results,
             governing,
             withdrawn,
+            sweeps,
         }
     }
 }
@@ -449,8 +451,6 @@ pub(super) fn evaluate_cases(
             outcomes.push(outcome);
             continue;
         }
-        let mut evaluator = super::evaluator(sheet, source);
-        let known = evaluator.diagnostics.len();
         let overrides: FxHashMap<CellId, _> = case
             .overrides
             .iter()
@@ -464,19 +464,19 @@ pub(super) fn evaluate_cases(
             outcomes.push(outcome);
             continue;
         }
-        let replaced: Vec<(CellId, Vec<CellId>)> = overrides
-            .iter()
-            .map(|(&id, replacement)| (id, crate::sheet::override_uses(replacement)))
-            .collect();
-        evaluator.case_order = Some(sheet.order_with_replaced_uses(&replaced));
-        evaluator.overrides = overrides;
-        evaluator.run_nodes();
-        let mut checks: Vec<CheckResult> = (0..sheet.checks.len())
-            .map(|index| evaluator.evaluate_check(index))
-            .collect();
-        let ranges = evaluator
-            .apply_tolerances(&mut checks, chosen, Some(&case.name.text), budget)
-            .scalars;
+        let Overridden {
+            mut evaluator,
+            checks,
+            ranges,
+            known,
+        } = evaluate_overridden(
+            sheet,
+            source,
+            overrides,
+            chosen,
+            Some(&case.name.text),
+            budget,
+        );
         // Keep what is new in this case: errors in its overrides and its
         // failed checks (named with the case); the rest repeats the sheet's.
         for mut diagnostic in evaluator.diagnostics.drain(known..) {
@@ -522,6 +522,55 @@ pub(super) fn evaluate_cases(
         outcomes.push(outcome);
     }
     (outcomes, diagnostics)
+}
+
+/// The sheet evaluated with some formulas replaced: the evaluator with
+/// its values, the checks (not yet judged) and the ranges over the
+/// tolerances.
+pub(super) struct Overridden<'a> {
+    /// The evaluator, holding every cell's value in this evaluation.
+    pub(super) evaluator: Evaluator<'a>,
+    /// Every check, evaluated and at its worst case, not yet judged.
+    pub(super) checks: Vec<CheckResult>,
+    /// The chosen cells' ranges over the tolerances.
+    pub(super) ranges: Vec<Option<CellRange>>,
+    /// How many of the evaluator's diagnostics are the sheet's own (from
+    /// linking), before this evaluation's.
+    pub(super) known: usize,
+}
+
+/// Evaluates the sheet with `overrides` replacing formulas, in the order
+/// the replaced formulas need, and its checks at the worst case of the
+/// tolerances: what a load case and a point of a sweep both are.
+pub(super) fn evaluate_overridden<'a>(
+    sheet: &'a Sheet,
+    source: &'a str,
+    overrides: FxHashMap<CellId, &'a crate::syntax::ast::Override>,
+    chosen: &[CellId],
+    case: Option<&str>,
+    budget: &mut usize,
+) -> Overridden<'a> {
+    let mut evaluator = super::evaluator(sheet, source);
+    let known = evaluator.diagnostics.len();
+    let replaced: Vec<(CellId, Vec<CellId>)> = overrides
+        .iter()
+        .map(|(&id, replacement)| (id, crate::sheet::override_uses(replacement)))
+        .collect();
+    evaluator.case_order = Some(sheet.order_with_replaced_uses(&replaced));
+    evaluator.overrides = overrides;
+    evaluator.run_nodes();
+    let mut checks: Vec<CheckResult> = (0..sheet.checks.len())
+        .map(|index| evaluator.evaluate_check(index))
+        .collect();
+    let ranges = evaluator
+        .apply_tolerances(&mut checks, chosen, case, budget)
+        .scalars;
+    Overridden {
+        evaluator,
+        checks,
+        ranges,
+        known,
+    }
 }
 
 /// A case whose override uses a cell that depends on the overridden cell

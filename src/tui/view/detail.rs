@@ -408,6 +408,20 @@ impl Detail<'_> {
                 cell_value(live, &cell, app.units(), app.sig_figs()),
             );
         }
+        // A sweep: its points and each check's margin over them.
+        let sweeps = &live.judgement().sweeps;
+        if let Some(sweep) = sweeps.iter().find(|sweep| sweep.statement == statement) {
+            self.plain(
+                text::LABEL_SWEEP_POINTS,
+                text::sweep_points(sweep.points.len()),
+            );
+            for (index, margin) in sweep.margins.iter().enumerate() {
+                self.plain(
+                    &text::sweep_check_name(index + 1),
+                    crate::present::margin_text(sweep, margin, app.sig_figs()),
+                );
+            }
+        }
     }
 
     /// A heading, note, review mark or line that does not parse: its text.
