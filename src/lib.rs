@@ -37,7 +37,7 @@ pub use base::Diagnostic;
 pub use blocks::{evaluate, evaluate_source};
 pub use eval::Evaluated;
 pub use live::LiveSheet;
-pub use pipeline::{run, run_bytes};
+pub use pipeline::{run, run_bytes, run_with_files};
 
 pub mod allocator;
 pub mod audit;

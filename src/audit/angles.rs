@@ -78,7 +78,8 @@ impl<'c, 'a> AngleWords<'c, 'a> {
             ExprKind::Binary { lhs, rhs, .. } => self.in_expr(lhs) || self.in_expr(rhs),
             ExprKind::Component { vector, .. } => self.in_expr(vector),
             ExprKind::RunQuery(query) => self.in_expr(&query.value),
-            ExprKind::Number(_) | ExprKind::Invalid => false,
+            // A table's column has its own unit; its keys do not make it an angle.
+            ExprKind::Lookup(_) | ExprKind::Number(_) | ExprKind::Invalid => false,
         }
     }
 

@@ -18,7 +18,6 @@ use rustc_hash::FxHashMap;
 
 use crate::base::LineIndex;
 use crate::base::{Code, Diagnostic, Fix, FixValue, Severity};
-use crate::blocks::evaluate_source;
 use crate::eval::{CellStatus, Evaluated, format_value};
 use crate::units::{DisplayUnit, Quantity, Value, pick_unit};
 
@@ -307,7 +306,10 @@ fn check(
         return None;
     }
     let fixed_source = format!("{}{}{}", &source[..start], fix.replacement, &source[end..]);
-    let mut fixed = evaluate_source(&fixed_source);
+    let mut fixed = crate::blocks::evaluate_source_with_files(
+        &fixed_source,
+        std::sync::Arc::clone(&evaluated.sheet().files),
+    );
     super::add_lints(&mut fixed);
     let after = LineFindings::of(&fixed.diagnostics, &fixed.lines);
 

@@ -25,6 +25,14 @@ pub fn evaluate_source(source: &str) -> Evaluated {
     evaluate(Arc::new(Sheet::parse(source)), Arc::from(source))
 }
 
+/// [`evaluate_source`] for a sheet whose tables read their files from `files`.
+pub fn evaluate_source_with_files(source: &str, files: Arc<crate::sheet::SheetFiles>) -> Evaluated {
+    evaluate(
+        Arc::new(Sheet::parse_with_files(source, files)),
+        Arc::from(source),
+    )
+}
+
 /// Evaluates every cell, solve block and check of a linked sheet, then
 /// judges every check as written, at the worst case of its tolerances and
 /// in every load case.
@@ -149,9 +157,16 @@ impl Evaluator<'_> {
                         .iter()
                         .position(|report| report.statement == statement)
                         .map_or_else(|| invalid(statement), OutlineItem::Simulate),
+                    Item::Table(statement) => sheet
+                        .tables
+                        .iter()
+                        .position(|table| table.statement == statement)
+                        .map_or_else(|| invalid(statement), OutlineItem::Table),
                 }),
         );
         let mut diagnostics = std::mem::take(&mut self.diagnostics);
+        let mut table_reads = self.table_reads.take();
+        table_reads.sort_by_key(|read| read.span.start());
         diagnostics.sort_by_key(|diagnostic| (diagnostic.span.start(), diagnostic.code));
         Evaluated {
             sheet: Arc::clone(sheet),
@@ -172,6 +187,7 @@ impl Evaluator<'_> {
             outline,
             diagnostics,
             lines,
+            table_reads,
         }
     }
 }

@@ -225,7 +225,12 @@ fn load_sheet(path: &Path) -> io::Result<crate::eval::Evaluated> {
             format!("{} is larger than 4 GiB", path.display()),
         ));
     }
-    Ok(crate::pipeline::run_bytes(&bytes))
+    let (text, _) = crate::decode_source(&bytes);
+    let files = crate::pipeline::read_sheet_files(path, &text);
+    Ok(crate::pipeline::run_bytes_with_files(
+        &bytes,
+        std::sync::Arc::new(files),
+    ))
 }
 
 /// Writes a command's text to standard output, every hidden control shown

@@ -175,6 +175,22 @@ impl Evaluated {
             ExprKind::Invalid => Term::Invalid(text(expr.span)),
             // A value read from a run reads best as written (`v at stop`).
             ExprKind::RunQuery(_) => Term::Number(text(expr.span)),
+            // `lookup(chart.capacity, 13.5 m, 30 m, least)`: the keys take
+            // their values, the column and the reading read as written.
+            ExprKind::Lookup(lookup) => Term::Call {
+                function: "lookup".to_string(),
+                args: std::iter::once(Term::Number(format!(
+                    "{}.{}",
+                    lookup.table.text, lookup.column.text
+                )))
+                .chain(lookup.keys.iter().map(|key| self.term(key)))
+                .chain(
+                    lookup
+                        .target
+                        .map(|target| Term::Number(target.reading.word().to_string())),
+                )
+                .collect(),
+            },
         }
     }
 }

@@ -12,6 +12,7 @@ pub(crate) mod formula;
 pub(crate) mod model;
 pub mod program;
 pub(crate) mod run_model;
+mod table;
 pub(crate) mod verdict;
 
 /// The operators and comparisons the evaluated model's formulas and checks
@@ -26,6 +27,7 @@ pub use model::{
     SolveReport, SolveStatus, Spread, Unsettled,
 };
 pub use run_model::{PlotSeries, RunColumn, RunEvent, RunReport, RunRow, RunStatus, StateSlots};
+pub use table::TableRead;
 pub use verdict::{Summary, count, utilization_note};
 
 use std::cell::{Cell, RefCell};
@@ -138,6 +140,10 @@ pub(crate) struct Evaluator<'a> {
     pub(crate) probe_values: RefCell<Vec<Value>>,
     /// How a run query is answered.
     pub(crate) run_query: RunQueryAnswer,
+    /// The sheet's tables with their units resolved (`None`: unreadable).
+    pub(crate) tables: Vec<Option<table::ReadableTable>>,
+    /// The readings of tables by the sheet as written, by `lookup` span.
+    pub(crate) table_reads: RefCell<Vec<TableRead>>,
 }
 
 impl<'a> Evaluator<'a> {
@@ -151,6 +157,10 @@ impl<'a> Evaluator<'a> {
             vec![None; n_cells],
         );
         evaluator.diagnostics = sheet.diagnostics.clone();
+        if !sheet.tables.is_empty() {
+            let (_, unit_problems) = table::readable_tables(sheet, &evaluator);
+            evaluator.diagnostics.extend(unit_problems);
+        }
         evaluator
     }
 
@@ -186,7 +196,18 @@ impl<'a> Evaluator<'a> {
             probe_range: Cell::new(None),
             probe_values: RefCell::new(Vec::new()),
             run_query: no_run_to_read,
+            tables: Vec::new(),
+            table_reads: RefCell::new(Vec::new()),
         }
+        .with_tables()
+    }
+
+    /// The same evaluator with the sheet's tables' units resolved.
+    fn with_tables(mut self) -> Self {
+        if !self.sheet.tables.is_empty() {
+            self.tables = table::readable_tables(self.sheet, &self).0;
+        }
+        self
     }
 
     /// The same evaluator, answering run queries with `answer`.

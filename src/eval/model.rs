@@ -440,6 +440,8 @@ pub enum OutlineItem {
     },
     /// A simulate block, by index into [`Evaluated::runs`].
     Simulate(usize),
+    /// A table, by index into the sheet's tables ([`Evaluated::tables`]).
+    Table(usize),
 }
 
 fn tolerance_span(tolerance: &crate::syntax::ast::Tolerance) -> Span {
@@ -487,12 +489,24 @@ pub struct Evaluated {
     pub diagnostics: Vec<Diagnostic>,
     /// Line index of the source, for line/column output.
     pub lines: LineIndex,
+    /// Every reading of a table by the sheet as written, in file order.
+    pub table_reads: Vec<super::TableRead>,
 }
 
 impl Evaluated {
     /// The sheet's header.
     pub fn header(&self) -> &Header {
         &self.sheet.header
+    }
+
+    /// The sheet's tables, in file order.
+    pub fn tables(&self) -> &[crate::sheet::Table] {
+        &self.sheet.tables
+    }
+
+    /// The files the sheet read beside it.
+    pub fn files(&self) -> &crate::sheet::SheetFiles {
+        &self.sheet.files
     }
 
     /// The linked sheet that was evaluated.

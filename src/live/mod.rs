@@ -311,9 +311,11 @@ impl LiveSheet {
             Item::Review(index) => Row::Review {
                 text: self.statement_text(index),
             },
-            Item::Solve(index) | Item::Case(index) | Item::Simulate(index) => Row::Block {
-                head: self.statement_text(index).lines().next().unwrap_or(""),
-            },
+            Item::Solve(index) | Item::Case(index) | Item::Simulate(index) | Item::Table(index) => {
+                Row::Block {
+                    head: self.statement_text(index).lines().next().unwrap_or(""),
+                }
+            }
             Item::Heading(_) | Item::Note(_) | Item::Invalid(_) => {
                 match &self.sheet.statements[index].kind {
                     StatementKind::Heading { level, text } => Row::Heading {
@@ -620,6 +622,11 @@ fn collect_names<'e>(
         | ExprKind::Component { .. }
         | ExprKind::RunQuery(_)
         | ExprKind::Invalid => {}
+        ExprKind::Lookup(lookup) => {
+            for key in &lookup.keys {
+                collect_names(key, Some(Parent::Call), out);
+            }
+        }
     }
 }
 

@@ -23,6 +23,7 @@ pub fn document(evaluated: &Evaluated, review: &Review) -> Document {
     let mut sections = vec![builder.summary()];
     sections.extend(builder.cases_section());
     sections.extend(builder.tolerances_section());
+    sections.extend(super::tables::readings_section(evaluated));
     sections.extend(builder.body());
     sections.push(builder.review_appendix());
     sections.push(builder.units_appendix());
@@ -207,6 +208,9 @@ impl<'a> Builder<'a> {
                 ))),
                 OutlineItem::Solve(index) => current.blocks.extend(self.solve_blocks(*index)),
                 OutlineItem::Simulate(index) => current.blocks.extend(self.run_blocks(*index)),
+                OutlineItem::Table(index) => current
+                    .blocks
+                    .extend(super::tables::table_blocks(evaluated, *index)),
                 // The load cases are tabulated in their own section.
                 OutlineItem::Case(_) => {}
                 OutlineItem::Invalid { span } => current.blocks.push(Block::Unparsed {

@@ -11,6 +11,7 @@ pub(crate) mod markdown;
 pub mod math;
 pub mod model;
 pub mod svg;
+mod tables;
 
 pub use build::{document, short_fingerprint, stale_summary};
 

@@ -10,7 +10,12 @@
 //!    and tabs outside double quotes becomes one space (re-aligning columns
 //!    changes nothing; text inside a description does);
 //! 4. lines that are then empty are dropped;
-//! 5. the lines are joined with `\n`, with a final `\n`, and hashed as UTF-8.
+//! 5. the lines are joined with `\n`, with a final `\n`, and hashed as UTF-8;
+//! 6. then, for every file the sheet read beside it (a table's CSV file), in
+//!    order of its path as written: the bytes `\0file\0`, the path's length
+//!    (8 bytes, little-endian) and UTF-8, the file's length (8 bytes,
+//!    little-endian) and its bytes, unnormalized ([`hash_read_files`]). A
+//!    sheet that reads no file hashes its text alone.
 //!
 //! Everything else counts: the header, headings, notes, cells, checks and
 //! `//` comments. A cell's digest is the first 8 hex digits of the SHA-256 of
@@ -18,7 +23,7 @@
 
 use sha2::{Digest, Sha256};
 
-use crate::sheet::Sheet;
+use crate::sheet::{Sheet, SheetFiles};
 use crate::syntax::ast::StatementKind;
 
 /// Number of hex digits kept of a cell digest.
@@ -88,7 +93,22 @@ fn normalize_line_into(line: &str, out: &mut String) {
 
 /// The sheet's fingerprint: 64 lower-case hex digits.
 pub fn fingerprint(source: &str, sheet: &Sheet) -> String {
-    hex(&Sha256::digest(normalized_text(source, sheet).as_bytes()))
+    let mut hasher = Sha256::new();
+    hasher.update(normalized_text(source, sheet).as_bytes());
+    hash_read_files(&mut hasher, &sheet.files);
+    hex(&hasher.finalize())
+}
+
+/// Adds every file a sheet read beside it to what its fingerprint hashes
+/// (step 6 of the module docs), so a sign-off goes stale when one changes.
+pub fn hash_read_files(hasher: &mut Sha256, files: &SheetFiles) {
+    for (path, bytes) in files.read_files() {
+        hasher.update(b"\0file\0");
+        hasher.update((path.len() as u64).to_le_bytes());
+        hasher.update(path.as_bytes());
+        hasher.update((bytes.len() as u64).to_le_bytes());
+        hasher.update(bytes);
+    }
 }
 
 /// The digest of one statement's text (its normalized line), 8 hex digits.

@@ -208,7 +208,10 @@ impl Review {
                         target = MarkTarget::Heading(outline_index);
                     }
                 }
-                StatementKind::Note { .. } | StatementKind::Case(_) | StatementKind::Invalid => {}
+                StatementKind::Note { .. }
+                | StatementKind::Case(_)
+                | StatementKind::Table(_)
+                | StatementKind::Invalid => {}
             }
             outline_index += 1;
         }

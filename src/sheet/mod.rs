@@ -2,16 +2,20 @@
 //! the dependency graph between cells and the order to evaluate them in.
 
 pub(crate) mod edit;
+mod files;
 mod graph;
 mod header;
 mod names;
 mod passes;
 mod resolve;
 mod runs;
+mod tables;
 
+pub use files::SheetFiles;
 pub use graph::{EvaluationOrder, evaluation_order};
 pub use header::{DEFAULT_SIG_FIGS, Header, read_header};
 pub use names::NameTable;
+pub use tables::{Column, Table};
 
 use crate::base::Span;
 use crate::base::{Code, Diagnostic};
@@ -122,6 +126,8 @@ pub enum Item {
     Simulate(usize),
     /// A review mark or sign-off line, at this statement index.
     Review(usize),
+    /// A table, at this statement index.
+    Table(usize),
 }
 
 /// A whole sheet, parsed and linked: everything the evaluator needs.
@@ -163,6 +169,10 @@ pub struct Sheet {
     pub order: EvaluationOrder,
     /// Findings from parsing and linking.
     pub diagnostics: Vec<Diagnostic>,
+    /// The tables, in file order.
+    pub tables: Vec<Table>,
+    /// The files the sheet read beside it (a table's CSV file).
+    pub files: std::sync::Arc<SheetFiles>,
 }
 
 /// How many did-you-mean searches a sheet gets; each scans every name.
@@ -171,20 +181,31 @@ pub(crate) const MAX_SUGGESTIONS: usize = 64;
 impl Sheet {
     /// Parses and links `source`. Never fails: problems become diagnostics.
     pub fn parse(source: &str) -> Sheet {
+        Sheet::parse_with_files(source, std::sync::Arc::default())
+    }
+
+    /// Parses and links `source`, whose tables read their files from `files`.
+    pub fn parse_with_files(source: &str, files: std::sync::Arc<SheetFiles>) -> Sheet {
         let ParsedSheet {
             header,
             statements,
             mut diagnostics,
         } = syntax::parse(source);
         let header = read_header(source, header, &mut diagnostics);
-        Sheet::link(header, statements, diagnostics)
+        Sheet::link_with_files(header, statements, diagnostics, files)
     }
 
     /// Links parsed statements: names, dependencies and evaluation order.
-    pub fn link(
+    pub fn link(header: Header, statements: Vec<Statement>, diagnostics: Vec<Diagnostic>) -> Sheet {
+        Sheet::link_with_files(header, statements, diagnostics, std::sync::Arc::default())
+    }
+
+    /// [`Sheet::link`] for a sheet whose tables read their files from `files`.
+    pub fn link_with_files(
         header: Header,
         mut statements: Vec<Statement>,
         mut diagnostics: Vec<Diagnostic>,
+        files: std::sync::Arc<SheetFiles>,
     ) -> Sheet {
         let Outline {
             cells,
@@ -192,6 +213,10 @@ impl Sheet {
             cases,
             items,
         } = outline(&statements);
+        // Tables first: whether a lookup's last word is its reading or a
+        // key depends on its table, and names are resolved after.
+        let tables = tables::read_tables(&statements, &files, &mut diagnostics);
+        let unreadable = tables::link_lookups(&mut statements, &tables, &mut diagnostics);
 
         let Entered {
             names,
@@ -206,7 +231,7 @@ impl Sheet {
         let Resolved {
             check_uses,
             mut broken_checks,
-            broken_cases,
+            mut broken_cases,
             reads_runs,
         } = resolve_statements(
             &mut statements,
@@ -230,6 +255,14 @@ impl Sheet {
             &mut broken,
             &mut broken_checks,
             &mut diagnostics,
+        );
+
+        tables::mark_unreadable(
+            &unreadable,
+            &cells,
+            &checks,
+            &cases,
+            (&mut broken, &mut broken_checks, &mut broken_cases),
         );
 
         let (nodes, node_of_cell) = evaluation_nodes(&cells);
@@ -276,6 +309,8 @@ impl Sheet {
                 cycles,
             },
             diagnostics,
+            tables,
+            files,
         }
     }
 

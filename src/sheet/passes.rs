@@ -152,6 +152,7 @@ pub(super) fn outline(statements: &[Statement]) -> Outline {
             // Review marks and sign-offs are the checker's record, not
             // content to evaluate: the `review` module reads them.
             StatementKind::Review(_) | StatementKind::SignOff(_) => Item::Review(index),
+            StatementKind::Table(_) => Item::Table(index),
         };
         items.push(item);
     }

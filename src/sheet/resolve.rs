@@ -124,6 +124,7 @@ pub(super) fn resolve_statements(
             | StatementKind::Note { .. }
             | StatementKind::Review(_)
             | StatementKind::SignOff(_)
+            | StatementKind::Table(_)
             | StatementKind::Invalid => {}
         }
     }

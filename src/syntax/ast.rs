@@ -5,6 +5,9 @@ use compact_str::CompactString;
 
 use crate::base::Span;
 
+mod table;
+pub use table::{ColumnHead, Lookup, LookupTarget, Reading, TableBlock, TableRow, TableSource};
+
 /// One statement of a sheet, with the span of its line.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Statement {
@@ -49,6 +52,8 @@ pub enum StatementKind {
     SignOff(Box<SignOff>),
     /// Equations of motion integrated over time: `simulate t from 0 s to 5 s: … end`.
     Simulate(Box<SimulateBlock>),
+    /// A table of numbers with units: `table chart by radius "load chart": … end`.
+    Table(Box<TableBlock>),
 }
 
 /// What a review mark says about the item it is attached to.
@@ -398,6 +403,8 @@ pub enum ExprKind {
     },
     /// A value read from a simulate run: `v at stop`, `max of k * x`.
     RunQuery(Box<RunQuery>),
+    /// A reading of a table: `lookup(chart.capacity, R_pick, L_boom, least)`.
+    Lookup(Box<Lookup>),
 }
 
 /// A value read from a simulate run: `value at point`, or `max of value`
@@ -682,6 +689,7 @@ impl Expr {
                 rhs.walk_mut(visit);
             }
             ExprKind::Call { args, .. } => args.iter_mut().for_each(|arg| arg.walk_mut(visit)),
+            ExprKind::Lookup(lookup) => lookup.keys.iter_mut().for_each(|key| key.walk_mut(visit)),
             ExprKind::RunQuery(query) => {
                 query.value.walk_mut(visit);
                 match &mut query.point {
@@ -712,6 +720,7 @@ impl Expr {
                 rhs.walk(visit);
             }
             ExprKind::Call { args, .. } => args.iter().for_each(|arg| arg.walk(visit)),
+            ExprKind::Lookup(lookup) => lookup.keys.iter().for_each(|key| key.walk(visit)),
             ExprKind::RunQuery(query) => {
                 query.value.walk(visit);
                 match &query.point {

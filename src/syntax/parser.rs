@@ -118,6 +118,10 @@ fn describe_rule(rule: Rule) -> Option<&'static str> {
         Rule::cell_digests | Rule::keyword_cells => "`cells`",
         Rule::cell_digest => "`name:digest`",
         Rule::digest => "a cell digest of 8 hex digits",
+        Rule::lookup_call | Rule::keyword_lookup => "an expression",
+        Rule::table_from | Rule::table_head | Rule::keyword_table => "`table`",
+        Rule::table_keys => "the key columns' names",
+        Rule::column_head => "a column (`name [unit]`)",
         _ => return None,
     })
 }
