@@ -156,6 +156,7 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
     let _ = writeln!(out, "{}", painter.paint(DIM, &facts.join(" · ")));
 
     write_cells(&mut out, evaluated, &painter);
+    super::tables::write_tables(&mut out, evaluated, &painter);
 
     write_checks(&mut out, evaluated, &painter);
 

@@ -10,6 +10,7 @@ mod json_words;
 mod report;
 mod review;
 mod runs;
+mod tables;
 mod units_list;
 
 use std::io::{self, IsTerminal, Write};

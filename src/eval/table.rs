@@ -37,6 +37,10 @@ pub struct TableRead {
     pub rows: Vec<usize>,
     /// The value read.
     pub value: Quantity,
+    /// The keys in their columns' units, as the table writes them.
+    pub keys_in_column_units: Vec<f64>,
+    /// The value in its column's unit.
+    pub value_in_column_unit: f64,
 }
 
 /// Resolves every table's column units and builds its grids; a table
@@ -172,6 +176,11 @@ impl Evaluator<'_> {
             let mut rows: Vec<usize> = read.points.iter().map(|&p| table.grid_rows[p]).collect();
             rows.sort_unstable();
             rows.dedup();
+            let keys_in_column_units = keys
+                .iter()
+                .zip(&table.keys)
+                .map(|(key, &column)| key.si / readable.units[column].si_factor)
+                .collect();
             let record = TableRead {
                 span,
                 table: target.table,
@@ -180,6 +189,8 @@ impl Evaluator<'_> {
                 keys,
                 rows,
                 value,
+                keys_in_column_units,
+                value_in_column_unit: read.value / readable.units[target.column].si_factor,
             };
             let mut reads = self.table_reads.borrow_mut();
             match reads.iter_mut().find(|kept| kept.span == span) {

@@ -4,7 +4,6 @@
 use crate::eval::{Evaluated, TableRead};
 use crate::sheet::Table;
 use crate::syntax::ast::Reading;
-use crate::units::format_significant;
 
 /// What a reading does, in words: `least of the bracketing rows`.
 pub fn reading_words(reading: Reading) -> &'static str {
@@ -17,15 +16,13 @@ pub fn reading_words(reading: Reading) -> &'static str {
 }
 
 /// A row's keys as written: `radius 12 m, boom 30 m`.
-pub fn row_keys(table: &Table, row: usize, sig_figs: u32) -> String {
+pub fn row_keys(table: &Table, row: usize) -> String {
     table
         .keys
         .iter()
         .map(|&key| {
             let column = &table.columns[key];
-            let number = table.rows.get(row).map_or("—".to_string(), |cells| {
-                format_significant(cells[key], sig_figs)
-            });
+            let number = table.text(row, key);
             match column.unit_text.as_str() {
                 "" => format!("{} {number}", column.name),
                 unit => format!("{} {number} {unit}", column.name),
@@ -37,23 +34,46 @@ pub fn row_keys(table: &Table, row: usize, sig_figs: u32) -> String {
 
 /// The rows a reading read, with their keys and the column's values:
 /// `row 4 (radius 12 m, boom 30 m: 8.6 t), row 5 (…)`.
-pub fn rows_read(table: &Table, read: &TableRead, sig_figs: u32) -> String {
+pub fn rows_read(table: &Table, read: &TableRead) -> String {
     let column = &table.columns[read.column];
     read.rows
         .iter()
         .map(|&row| {
-            let value = table.rows.get(row).map_or("—".to_string(), |cells| {
-                format_significant(cells[read.column], sig_figs)
-            });
+            let value = table.text(row, read.column).to_string();
             let value = match column.unit_text.as_str() {
                 "" => value,
                 unit => format!("{value} {unit}"),
             };
             format!(
-                "row {} ({}: {} {value})",
-                row + 1,
-                row_keys(table, row, sig_figs),
+                "{} ({}: {} {value})",
+                table.row_name(row),
+                row_keys(table, row),
                 column.name
+            )
+        })
+        .collect::<Vec<_>>()
+        .join(", ")
+}
+
+/// A number in a column's unit, every figure shown: `11.20 m`.
+pub fn in_column_unit(table: &Table, column: usize, value: f64, sig_figs: u32) -> String {
+    let number = crate::units::format_figures(value, sig_figs);
+    match table.columns[column].unit_text.as_str() {
+        "" => number,
+        unit => format!("{number} {unit}"),
+    }
+}
+
+/// The keys a reading was given, in their columns' units: `radius 11.20 m, boom 30.00 m`.
+pub fn keys_given(table: &Table, read: &TableRead, sig_figs: u32) -> String {
+    read.keys_in_column_units
+        .iter()
+        .zip(&table.keys)
+        .map(|(&key, &column)| {
+            format!(
+                "{} {}",
+                table.columns[column].name,
+                in_column_unit(table, column, key, sig_figs)
             )
         })
         .collect::<Vec<_>>()

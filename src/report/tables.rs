@@ -4,8 +4,9 @@
 
 use super::model::{Block, Piece, Rich, Section, Table};
 use crate::eval::Evaluated;
-use crate::present::tables::{reading_label, reading_place, reading_words, rows_read};
-use crate::units::format_significant;
+use crate::present::tables::{
+    in_column_unit, keys_given, reading_label, reading_place, reading_words, rows_read,
+};
 
 /// A table where the sheet writes it: what it is, then its rows, the rows
 /// any reading read in bold with the cells that read them.
@@ -13,7 +14,6 @@ pub(super) fn table_blocks(evaluated: &Evaluated, index: usize) -> Vec<Block> {
     let Some(table) = evaluated.tables().get(index) else {
         return Vec::new();
     };
-    let sig_figs = evaluated.header().sig_figs;
     let statement = &evaluated.sheet().statements[table.statement];
     let description = match &statement.kind {
         crate::syntax::ast::StatementKind::Table(block) => block
@@ -52,11 +52,8 @@ pub(super) fn table_blocks(evaluated: &Evaluated, index: usize) -> Vec<Block> {
         })
         .collect();
     columns.push("read by".to_string());
-    let rows = table
-        .rows
-        .iter()
-        .enumerate()
-        .map(|(row, cells)| {
+    let rows = (0..table.rows.len())
+        .map(|row| {
             let readers: Vec<String> = reads
                 .iter()
                 .filter(|read| read.rows.contains(&row))
@@ -69,10 +66,9 @@ pub(super) fn table_blocks(evaluated: &Evaluated, index: usize) -> Vec<Block> {
                 })
                 .collect();
             let read = !readers.is_empty();
-            let mut shown: Vec<Rich> = cells
-                .iter()
-                .map(|&value| {
-                    let text = format_significant(value, sig_figs);
+            let mut shown: Vec<Rich> = (0..table.columns.len())
+                .map(|column| {
+                    let text = table.text(row, column).to_string();
                     if read {
                         Rich(vec![Piece::Strong(text)])
                     } else {
@@ -99,41 +95,16 @@ pub(super) fn readings_section(evaluated: &Evaluated) -> Option<Section> {
         .iter()
         .filter_map(|read| {
             let table = evaluated.tables().get(read.table)?;
-            let keys = read
-                .keys
-                .iter()
-                .zip(&table.keys)
-                .map(|(key, &column)| {
-                    let unit = &table.columns[column].unit;
-                    let shown = match unit {
-                        Some(_) => crate::eval::format_result(
-                            crate::units::Value::Scalar(*key),
-                            &crate::units::pick_unit(
-                                key.dimension,
-                                key.si.abs(),
-                                evaluated.header().display,
-                            ),
-                            sig_figs,
-                        ),
-                        None => format_significant(key.si, sig_figs),
-                    };
-                    format!("{} = {shown}", table.columns[column].name)
-                })
-                .collect::<Vec<_>>()
-                .join(", ");
             Some(vec![
                 Rich::text(reading_place(evaluated, read)),
                 Rich(vec![Piece::Code(reading_label(table, read))]),
                 Rich::text(reading_words(read.reading)),
-                Rich::text(keys),
-                Rich::text(rows_read(table, read, sig_figs)),
-                Rich(vec![Piece::Strong(crate::eval::format_result(
-                    crate::units::Value::Scalar(read.value),
-                    &crate::units::pick_unit(
-                        read.value.dimension,
-                        read.value.si.abs(),
-                        evaluated.header().display,
-                    ),
+                Rich::text(keys_given(table, read, sig_figs)),
+                Rich::text(rows_read(table, read)),
+                Rich(vec![Piece::Strong(in_column_unit(
+                    table,
+                    read.column,
+                    read.value_in_column_unit,
                     sig_figs,
                 ))]),
             ])

@@ -27,6 +27,8 @@ pub struct Table {
     pub n_keys: usize,
     /// The rows, each a number per column, as written (in the column's unit).
     pub rows: Vec<Vec<f64>>,
+    /// The rows' numbers as written (`12.0`), for the outputs.
+    pub texts: Vec<Vec<String>>,
     /// Where each row is written: its line, or the table's line for a file.
     pub row_spans: Vec<Span>,
     /// For two keys, the row at each point of the grid (first key slowest);
@@ -36,6 +38,8 @@ pub struct Table {
     pub axes: Vec<Vec<f64>>,
     /// The file it is read from, as written.
     pub file: Option<String>,
+    /// For a file, the line of the file each row is on (its header is line 1).
+    pub file_lines: Vec<u64>,
     /// Whether it can be read: every row read, keys sorted, grid complete.
     pub usable: bool,
 }
@@ -53,6 +57,23 @@ pub struct Column {
 }
 
 impl Table {
+    /// A cell's number as written.
+    pub fn text(&self, row: usize, column: usize) -> &str {
+        self.texts
+            .get(row)
+            .and_then(|cells| cells.get(column))
+            .map_or("—", String::as_str)
+    }
+
+    /// A row by its place: `row 4` of a written table (its rows counted
+    /// from 1), `line 5 of sling_chart.csv` for a file's row.
+    pub fn row_name(&self, row: usize) -> String {
+        match (&self.file, self.file_lines.get(row)) {
+            (Some(file), Some(line)) => format!("line {line} of {file}"),
+            _ => format!("row {}", row + 1),
+        }
+    }
+
     /// The key columns' names, joined: `radius, boom`.
     pub fn key_names(&self) -> String {
         self.keys
@@ -92,10 +113,12 @@ fn read_table(
         keys: Vec::new(),
         n_keys: block.keys.len(),
         rows: Vec::new(),
+        texts: Vec::new(),
         row_spans: Vec::new(),
         grid_rows: Vec::new(),
         axes: Vec::new(),
         file: None,
+        file_lines: Vec::new(),
         usable: block.complete,
     };
     let heads = match &block.source {
@@ -105,13 +128,16 @@ fn read_table(
                 .map(|row| row.cells.iter().map(|&(value, _)| value).collect())
                 .collect();
             table.row_spans = rows.iter().map(|row| row.span).collect();
+            table.texts = rows.iter().map(|row| row.texts.clone()).collect();
             columns.clone()
         }
         TableSource::File { path } => {
             table.file = Some(path.text.clone());
             match read_csv(block, &path.text, files) {
-                Ok((heads, rows)) => {
+                Ok((heads, rows, lines, texts)) => {
+                    table.texts = texts;
                     table.row_spans = vec![block.head; rows.len()];
+                    table.file_lines = lines;
                     table.rows = rows;
                     heads
                 }
@@ -212,10 +238,7 @@ fn column_list(table: &Table) -> String {
 /// complete grid; fills `axes` and `grid_rows`.
 fn order_rows(table: &mut Table, block: &TableBlock, diagnostics: &mut Vec<Diagnostic>) -> bool {
     let key_of = |row: &Vec<f64>| -> Vec<f64> { table.keys.iter().map(|&key| row[key]).collect() };
-    let place = |table: &Table, row: usize| match &table.file {
-        Some(file) => format!("row {} of {file}", row + 2),
-        None => format!("row {}", row + 1),
-    };
+    let place = |table: &Table, row: usize| table.row_name(row);
     for row in 1..table.rows.len() {
         let (before, here) = (key_of(&table.rows[row - 1]), key_of(&table.rows[row]));
         if before.partial_cmp(&here) != Some(std::cmp::Ordering::Less) {
@@ -295,6 +318,10 @@ fn order_rows(table: &mut Table, block: &TableBlock, diagnostics: &mut Vec<Diagn
     true
 }
 
+/// A CSV file's column heads, its rows' numbers, each row's line in the
+/// file and its numbers as written.
+type CsvRows = (Vec<ColumnHead>, Vec<Vec<f64>>, Vec<u64>, Vec<Vec<String>>);
+
 /// A table's CSV file: its header row names the columns (`radius [m]`),
 /// every other row holds one number per column. Errors are at the table's
 /// line and name the file's row and column.
@@ -302,7 +329,7 @@ fn read_csv(
     block: &TableBlock,
     path: &str,
     files: &SheetFiles,
-) -> Result<(Vec<ColumnHead>, Vec<Vec<f64>>), Box<Diagnostic>> {
+) -> Result<CsvRows, Box<Diagnostic>> {
     let at = block.head;
     let error = |code, message: String, help: &str| {
         Box::new(Diagnostic::error(code, at, message).with_help(help.to_string()))
@@ -353,23 +380,30 @@ fn read_csv(
         heads.push(at_line(head, at));
     }
     let mut rows = Vec::new();
+    let mut lines = Vec::new();
+    let mut texts = Vec::new();
     for (index, record) in records.enumerate() {
-        let row_number = index + 2;
         let record = record.map_err(|problem| {
             error(
                 Code::TableRowError,
-                format!("{path} row {row_number} cannot be read: {problem}"),
+                format!(
+                    "{path} cannot be read as CSV after line {}: {problem}",
+                    index + 1
+                ),
                 "save the file as UTF-8 CSV",
             )
         })?;
         if record.iter().all(str::is_empty) {
             continue;
         }
+        let line = record
+            .position()
+            .map_or(index as u64 + 2, csv::Position::line);
         if record.len() != heads.len() {
             return Err(error(
                 Code::TableRowError,
                 format!(
-                    "{path} row {row_number} has {} cells, and the table has {} columns",
+                    "line {line} of {path} has {} cells, and the table has {} columns",
                     record.len(),
                     heads.len()
                 ),
@@ -384,7 +418,7 @@ fn read_csv(
                     return Err(error(
                         Code::TableRowError,
                         format!(
-                            "{path} row {row_number}, column {} (`{}`): `{text}` is not a number",
+                            "line {line} of {path}, column {} (`{}`): `{text}` is not a number",
                             column + 1,
                             heads[column].name.text
                         ),
@@ -394,8 +428,10 @@ fn read_csv(
             }
         }
         rows.push(row);
+        lines.push(line);
+        texts.push(record.iter().map(str::to_string).collect());
     }
-    Ok((heads, rows))
+    Ok((heads, rows, lines, texts))
 }
 
 /// A column head read from a file, its spans moved to the table's line.

@@ -121,6 +121,7 @@ fn parse_row(
     let text = line.text(source);
     let code = text.split("//").next().unwrap_or(text).trim_end();
     let mut cells = Vec::with_capacity(columns.len());
+    let mut texts = Vec::with_capacity(columns.len());
     let mut start = 0;
     for piece in code.split('|') {
         let blank = piece.len() - piece.trim_start().len();
@@ -136,6 +137,7 @@ fn parse_row(
                     }) =>
             {
                 cells.push((value, span));
+                texts.push(trimmed.to_string());
             }
             _ => {
                 let column = columns.get(cells.len()).map_or(String::new(), |column| {
@@ -168,6 +170,7 @@ fn parse_row(
     }
     Ok(TableRow {
         cells,
+        texts,
         span: Span::new(line.start(), line.start() + code.len()),
     })
 }

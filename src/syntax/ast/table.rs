@@ -56,6 +56,8 @@ pub struct ColumnHead {
 pub struct TableRow {
     /// Each cell's number and where it is written.
     pub cells: Vec<(f64, Span)>,
+    /// Each cell's number as written (`12.0`).
+    pub texts: Vec<String>,
     /// The whole line.
     pub span: Span,
 }
