@@ -113,7 +113,12 @@ pub struct Linted {
 
 /// The lints and the verified fixes of `source` (see [`Linted`]).
 pub fn lint(source: &str) -> Linted {
-    let mut evaluated = crate::blocks::evaluate_source(source);
+    lint_with_files(source, Arc::default())
+}
+
+/// [`lint`] for a sheet whose tables read their files from `files`.
+pub fn lint_with_files(source: &str, files: Arc<SheetFiles>) -> Linted {
+    let mut evaluated = crate::blocks::evaluate_source_with_files(source, files);
     let n_evaluation = evaluated.diagnostics.len();
     let offers_fix: Vec<bool> = evaluated
         .diagnostics

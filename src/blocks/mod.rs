@@ -188,6 +188,7 @@ impl Evaluator<'_> {
             diagnostics,
             lines,
             table_reads,
+            tables_readable: self.tables.iter().map(Option::is_some).collect(),
         }
     }
 }

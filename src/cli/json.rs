@@ -44,6 +44,8 @@ struct Report<'a> {
     cases: Vec<JsonCase<'a>>,
     /// Every simulate block's run.
     runs: Vec<super::runs::JsonRun<'a>>,
+    /// Every table, with each reading of it.
+    tables: Vec<super::json_tables::JsonTable<'a>>,
     /// Every finding, sorted by position.
     diagnostics: Vec<JsonDiagnostic<'a>>,
     /// The checker's record.
@@ -407,6 +409,7 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
         solves,
         cases,
         runs: super::runs::json_runs(evaluated, lines),
+        tables: super::json_tables::json_tables(evaluated),
         diagnostics: evaluated
             .diagnostics
             .iter()

@@ -6,6 +6,7 @@ mod check;
 mod convert;
 mod diff;
 mod json;
+mod json_tables;
 mod json_words;
 mod report;
 mod review;

@@ -45,7 +45,7 @@ pub(super) fn write_tables(out: &mut String, evaluated: &Evaluated, painter: &Pa
                 )
             })
             .collect();
-        let usable = if table.usable {
+        let usable = if evaluated.table_readable(index) {
             ""
         } else {
             "; cannot be read (see the findings)"

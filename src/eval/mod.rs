@@ -18,7 +18,7 @@ pub(crate) mod verdict;
 /// The operators and comparisons the evaluated model's formulas and checks
 /// carry (`formula::Term`, [`CheckResult::comparison`]): the syntax's own,
 /// so presentation reads them here and never the syntax tree.
-pub use crate::syntax::ast::{BinaryOp, Comparison};
+pub use crate::syntax::ast::{BinaryOp, Comparison, Reading};
 pub use conversion::{Conversion, ConversionError, WrittenConversion, convert};
 pub use explain::{format_result, format_value};
 pub use model::{
@@ -200,6 +200,15 @@ impl<'a> Evaluator<'a> {
             table_reads: RefCell::new(Vec::new()),
         }
         .with_tables()
+    }
+
+    /// The findings of the sheet's tables' units (what [`Evaluator::new`]
+    /// adds to the sheet's own).
+    pub(crate) fn table_unit_problems(&self) -> Vec<Diagnostic> {
+        if self.sheet.tables.is_empty() {
+            return Vec::new();
+        }
+        table::readable_tables(self.sheet, self).1
     }
 
     /// The same evaluator with the sheet's tables' units resolved.

@@ -491,6 +491,8 @@ pub struct Evaluated {
     pub lines: LineIndex,
     /// Every reading of a table by the sheet as written, in file order.
     pub table_reads: Vec<super::TableRead>,
+    /// Whether each table can be read (its rows read and its units known).
+    pub(crate) tables_readable: Vec<bool>,
 }
 
 impl Evaluated {
@@ -502,6 +504,12 @@ impl Evaluated {
     /// The sheet's tables, in file order.
     pub fn tables(&self) -> &[crate::sheet::Table] {
         &self.sheet.tables
+    }
+
+    /// Whether table `index` can be read: its rows read, its keys sorted,
+    /// its grid complete and its units known.
+    pub fn table_readable(&self, index: usize) -> bool {
+        self.tables_readable.get(index).copied().unwrap_or(false)
     }
 
     /// The files the sheet read beside it.

@@ -105,6 +105,17 @@ fn grid(table: &Table, units: &[ResolvedUnit], column: usize) -> Grid {
     }
 }
 
+impl ReadableTable {
+    /// The SI value of one of the unit of the key on `axis`.
+    pub(crate) fn key_factor(&self, axis: usize, table: &Table) -> f64 {
+        table
+            .keys
+            .get(axis)
+            .and_then(|&column| self.units.get(column))
+            .map_or(1.0, |unit| unit.si_factor)
+    }
+}
+
 impl Evaluator<'_> {
     /// The value of `lookup(…)`: each key checked against its column, the
     /// grid read as the lookup says, the result in the column's unit.

@@ -166,7 +166,7 @@ impl LiveSheet {
         // A line just added at the end of a file without a final break is
         // empty and unbroken; the text read afresh would drop it.
         let unbroken_empty_end = self.document.ends_in_unbroken_empty_line();
-        *self = LiveSheet::open(&text);
+        *self = LiveSheet::open_with_files(&text, std::sync::Arc::clone(&self.files));
         if unbroken_empty_end {
             self.document.restore_unbroken_empty_line();
         }

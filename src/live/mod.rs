@@ -146,6 +146,8 @@ pub struct LiveSheet {
     /// [`LiveSheet::set_fix_helps`]; every edit drops them). Until then such
     /// a finding shows only its plain advice, never an unchecked fix.
     fix_helps: Vec<(usize, usize, Code, Option<String>)>,
+    /// The files the sheet's tables read, as read when it was opened.
+    files: std::sync::Arc<crate::sheet::SheetFiles>,
 }
 
 /// A revision number not given before in this process.
@@ -161,6 +163,16 @@ const COMPACT_AFTER_BYTES: usize = 1 << 24;
 impl LiveSheet {
     /// Parses, links and evaluates `text`.
     pub fn open(text: &str) -> LiveSheet {
+        LiveSheet::open_with_files(text, std::sync::Arc::default())
+    }
+
+    /// Parses, links and evaluates `text`, whose tables read their files
+    /// from `files` (read by the front end: see
+    /// [`crate::pipeline::read_sheet_files`]).
+    pub fn open_with_files(
+        text: &str,
+        files: std::sync::Arc<crate::sheet::SheetFiles>,
+    ) -> LiveSheet {
         let syntax::ParsedSheet {
             header,
             statements,
@@ -216,6 +228,7 @@ impl LiveSheet {
             revision: next_revision(),
             lints: Vec::new(),
             fix_helps: Vec::new(),
+            files,
         };
         live.sheet.header = header;
         live.relink(statements);
@@ -232,6 +245,11 @@ impl LiveSheet {
     /// The document (lines and the arena spans point into).
     pub fn document(&self) -> &Document {
         &self.document
+    }
+
+    /// The files the sheet's tables read.
+    pub fn files(&self) -> std::sync::Arc<crate::sheet::SheetFiles> {
+        std::sync::Arc::clone(&self.files)
     }
 
     /// The linked sheet.

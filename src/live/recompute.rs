@@ -68,7 +68,12 @@ impl LiveSheet {
         let mut diagnostics = self.header_diagnostics.clone();
         diagnostics.extend(self.parse_diagnostics.iter().flatten().cloned());
         let header = std::mem::take(&mut self.sheet.header);
-        self.sheet = Sheet::link(header, statements, diagnostics);
+        self.sheet = Sheet::link_with_files(
+            header,
+            statements,
+            diagnostics,
+            std::sync::Arc::clone(&self.files),
+        );
         let n_cells = self.sheet.cells.len();
         let n_checks = self.sheet.checks.len();
         self.dependents = vec![Vec::new(); n_cells];
@@ -89,7 +94,8 @@ impl LiveSheet {
         }
         self.whole_sheet_only = self.sheet.nodes.len() != n_cells
             || !self.sheet.cases.is_empty()
-            || (0..n_cells).any(|id| self.sheet.tolerance(id).is_some());
+            || (0..n_cells).any(|id| self.sheet.tolerance(id).is_some())
+            || !self.sheet.tables.is_empty();
         self.rows = presentation_order(&self.sheet);
         self.row_positions = vec![0; self.rows.len()];
         for (position, &statement) in self.rows.iter().enumerate() {
@@ -110,7 +116,8 @@ impl LiveSheet {
         // The sheet's own findings are kept in `self.sheet.diagnostics`.
         evaluator.diagnostics.clear();
         self.cell_findings = vec![Vec::new(); n_cells];
-        self.block_findings = Vec::new();
+        // A table column's unknown unit is found as the evaluator starts.
+        self.block_findings = evaluator.table_unit_problems();
         for &node in &self.sheet.order.order {
             evaluator.run_node(node);
             if evaluator.diagnostics.is_empty() {

@@ -1,9 +1,9 @@
 //! The words every output uses for a table and its readings: the reading
 //! in words, the rows read, and where a reading is written.
 
+use crate::eval::Reading;
 use crate::eval::{Evaluated, TableRead};
 use crate::sheet::Table;
-use crate::syntax::ast::Reading;
 
 /// What a reading does, in words: `least of the bracketing rows`.
 pub fn reading_words(reading: Reading) -> &'static str {

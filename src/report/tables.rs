@@ -15,13 +15,10 @@ pub(super) fn table_blocks(evaluated: &Evaluated, index: usize) -> Vec<Block> {
         return Vec::new();
     };
     let statement = &evaluated.sheet().statements[table.statement];
-    let description = match &statement.kind {
-        crate::syntax::ast::StatementKind::Table(block) => block
-            .description
-            .as_ref()
-            .map(|description| format!(" ({})", description.text)),
-        _ => None,
-    };
+    let description = table
+        .description
+        .as_ref()
+        .map(|description| format!(" ({description})"));
     let source = match &table.file {
         Some(file) => format!(", read from {file} (its bytes are part of the sheet's fingerprint)"),
         None => String::new(),

@@ -19,6 +19,8 @@ pub struct Table {
     pub statement: usize,
     /// The table's name.
     pub name: CompactString,
+    /// Its description, if written.
+    pub description: Option<String>,
     /// The columns, in written order.
     pub columns: Vec<Column>,
     /// The key columns (one or two), as indices into `columns`.
@@ -109,6 +111,7 @@ fn read_table(
     let mut table = Table {
         statement,
         name: block.name.text.clone(),
+        description: block.description.as_ref().map(|d| d.text.clone()),
         columns: Vec::new(),
         keys: Vec::new(),
         n_keys: block.keys.len(),

@@ -49,12 +49,18 @@ pub fn run(path: &Path, colour: bool) -> io::Result<()> {
     }));
     let _ = execute!(io::stdout(), EnableMouseCapture);
     let size = terminal.size()?;
-    let mut app = App::new(
+    // A table's CSV file is read once, beside the sheet, as it opens.
+    let files = std::sync::Arc::new(crate::pipeline::read_sheet_files(
+        session.path(),
+        &opened.text,
+    ));
+    let mut app = App::with_files(
         opened,
+        std::sync::Arc::clone(&files),
         Rect::new(0, 0, size.width, size.height),
         Theme::new(colour),
     );
-    let linter = Linter::start();
+    let linter = Linter::start(files);
     if let Effect::Lint { revision, text } = app.lint_request() {
         linter.request(revision, text);
     }
@@ -251,7 +257,7 @@ struct Linter {
 }
 
 impl Linter {
-    fn start() -> Linter {
+    fn start(files: std::sync::Arc<crate::sheet::SheetFiles>) -> Linter {
         let (requests, waiting) = mpsc::channel::<(u64, String)>();
         let (answer, answers) = mpsc::channel();
         std::thread::spawn(move || {
@@ -260,7 +266,11 @@ impl Linter {
                     request = newer;
                 }
                 let (revision, text) = request;
-                if answer.send(app::lint(revision, text)).is_err() {
+                let files = std::sync::Arc::clone(&files);
+                if answer
+                    .send(app::lint_with_files(revision, text, files))
+                    .is_err()
+                {
                     break;
                 }
             }

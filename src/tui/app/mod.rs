@@ -223,7 +223,18 @@ pub struct App {
 impl App {
     /// The notebook on an opened sheet, for a terminal of `viewport` size.
     pub fn new(opened: Opened, viewport: Rect, theme: Theme) -> App {
-        let live = LiveSheet::open(&opened.text);
+        App::with_files(opened, std::sync::Arc::default(), viewport, theme)
+    }
+
+    /// The notebook on an opened sheet whose tables read `files` (read
+    /// beside it by the event loop: [`crate::pipeline::read_sheet_files`]).
+    pub fn with_files(
+        opened: Opened,
+        files: std::sync::Arc<crate::sheet::SheetFiles>,
+        viewport: Rect,
+        theme: Theme,
+    ) -> App {
+        let live = LiveSheet::open_with_files(&opened.text, files);
         let sig_figs = live.header().sig_figs;
         let file_name = opened
             .path
@@ -493,7 +504,16 @@ pub fn update(app: &mut App, message: Message) -> Vec<Effect> {
 /// `heft check`'s warnings) over a fresh evaluation of `text`, with every
 /// fix verified ([`crate::pipeline::lint`]).
 pub fn lint(revision: u64, text: String) -> Message {
-    let linted = crate::pipeline::lint(&text);
+    lint_with_files(revision, text, std::sync::Arc::default())
+}
+
+/// [`lint`] for a sheet whose tables read `files`.
+pub fn lint_with_files(
+    revision: u64,
+    text: String,
+    files: std::sync::Arc<crate::sheet::SheetFiles>,
+) -> Message {
+    let linted = crate::pipeline::lint_with_files(&text, files);
     Message::Linted {
         revision,
         text,

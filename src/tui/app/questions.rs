@@ -121,7 +121,7 @@ impl App {
             return Vec::new();
         }
         let kept = self.recovered.remove(0);
-        self.live = LiveSheet::open(&kept.text);
+        self.live = LiveSheet::open_with_files(&kept.text, self.live.files());
         self.history = History::default();
         self.select(0);
         let restored = match self.recovered.len() {
