@@ -122,6 +122,18 @@ pub fn text(diff: &RevisionDiff, old_name: &str, new_name: &str) -> String {
             );
         }
     }
+    if !diff.tables.is_empty() {
+        let _ = writeln!(out, "\nTables");
+        for table in &diff.tables {
+            let _ = writeln!(out, "  {:<8} {}", table.change.as_str(), table.name);
+            if let Some(head) = &table.head {
+                let _ = writeln!(out, "    {}", edit_text("head", head));
+            }
+            for row in &table.rows {
+                let _ = writeln!(out, "    {}", edit_text("row", row));
+            }
+        }
+    }
     let results: Vec<_> = diff.cells.iter().filter(|c| c.result_moved()).collect();
     let width = results
         .iter()
@@ -220,6 +232,10 @@ struct JsonDiff<'a> {
     checks: Vec<JsonCheck<'a>>,
     /// Cells in both revisions with nothing changed.
     unchanged: usize,
+    /// Tables that differ: each with `change` (`added`, `removed` or
+    /// `edited`), its head before and after where it changed, and the rows
+    /// that differ as written.
+    tables: &'a [crate::diff::TableChange],
 }
 
 /// One revision.
@@ -349,6 +365,7 @@ pub fn json(diff: &RevisionDiff, old_name: &str, new_name: &str) -> String {
             })
             .collect(),
         unchanged: diff.n_unchanged,
+        tables: &diff.tables,
     };
     super::json::text(&report)
 }

@@ -8,7 +8,11 @@
 //! written (blanks collapsed), else by label; those whose status or
 //! utilization changed are listed.
 
+mod tables;
+
 use std::collections::HashMap;
+
+pub use tables::{TableChange, TableChangeKind};
 
 use crate::eval::formula::ShownValue;
 use crate::eval::{CellResult, CellStatus, CheckResult, CheckStatus, Evaluated};
@@ -134,6 +138,8 @@ pub struct RevisionDiff {
     pub checks: Vec<CheckChange>,
     /// Cells in both revisions with nothing changed.
     pub n_unchanged: usize,
+    /// Tables that differ: rows added, removed or edited, or the head.
+    pub tables: Vec<TableChange>,
 }
 
 impl RevisionDiff {
@@ -255,6 +261,7 @@ pub fn compare(old: &Evaluated, new: &Evaluated) -> RevisionDiff {
         cells,
         checks: compare_checks(old, new),
         n_unchanged,
+        tables: tables::compare_tables(old, new),
     }
 }
 

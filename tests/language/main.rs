@@ -17,4 +17,5 @@ mod robustness;
 mod sheets;
 mod simulate;
 mod solve;
+mod tables;
 mod units_reference;
