@@ -248,20 +248,28 @@ impl Evaluator<'_> {
         let name = &table.columns[column].name;
         match between {
             None => {
+                // The range as the table writes it: the grid is sorted, so
+                // the first and last rows hold each key's extremes.
+                let as_written = |row: usize| {
+                    let number = table.text(row, column);
+                    if unit_text.is_empty() {
+                        number.to_string()
+                    } else {
+                        format!("{number} {unit_text}")
+                    }
+                };
                 let (first, last) = (
-                    axis_keys.first().copied().unwrap_or(f64::NAN),
-                    axis_keys.last().copied().unwrap_or(f64::NAN),
+                    as_written(0),
+                    as_written(table.rows.len().saturating_sub(1)),
                 );
                 Box::new(
                     Diagnostic::error(
                         Code::TableKeyOutside,
                         key_span,
                         format!(
-                            "`{key_text}` = {} is outside table `{}`: its {name} runs from {} to {}",
+                            "`{key_text}` = {} is outside table `{}`: its {name} runs from {first} to {last}",
                             written(given),
                             table.name,
-                            written(first),
-                            written(last)
                         ),
                     )
                     .with_help(

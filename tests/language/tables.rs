@@ -172,7 +172,7 @@ fn a_key_outside_the_table_names_the_tables_range() {
         .collect();
     assert_eq!(outside.len(), 1);
     assert!(
-        outside[0].message.contains("from 0.5 m to 5.0 m"),
+        outside[0].message.contains("runs from 0.5 m to 5.0 m"),
         "{}",
         outside[0].message
     );
