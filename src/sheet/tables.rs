@@ -156,10 +156,7 @@ fn read_table(
         .iter()
         .map(|head| Column {
             name: head.name.text.clone(),
-            unit_text: head
-                .unit
-                .as_ref()
-                .map_or(String::new(), |unit| written_unit(unit)),
+            unit_text: head.unit.as_ref().map_or(String::new(), written_unit),
             unit: head.unit.clone(),
         })
         .collect();

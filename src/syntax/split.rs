@@ -391,12 +391,11 @@ pub fn table_files(source: &str) -> Vec<String> {
         if !code_of(text).starts_with("table") || opens_block(text) {
             continue;
         }
-        if let (StatementKind::Table(table), None) = parse_statement(text, line.start) {
-            if let super::ast::TableSource::File { path } = table.source {
-                if !files.contains(&path.text) {
-                    files.push(path.text);
-                }
-            }
+        if let (StatementKind::Table(table), None) = parse_statement(text, line.start)
+            && let super::ast::TableSource::File { path } = table.source
+            && !files.contains(&path.text)
+        {
+            files.push(path.text);
         }
     }
     files

@@ -98,7 +98,10 @@ fn bracketing(keys: &[f64], x: f64) -> Vec<usize> {
     match keys.iter().position(|&key| key == x) {
         Some(at) => vec![at],
         None => {
-            let upper = keys.iter().position(|&key| key > x).unwrap();
+            let upper = keys
+                .iter()
+                .position(|&key| key > x)
+                .expect("x lies inside the keys");
             vec![upper - 1, upper]
         }
     }
