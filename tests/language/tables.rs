@@ -307,3 +307,53 @@ fn the_corpus_sheet_beside_its_csv_file_reads_through_the_pipeline() {
     assert_eq!(evaluated.table_reads.len(), 1);
     assert_eq!(evaluated.table_reads[0].rows, vec![1, 2]);
 }
+
+#[test]
+fn the_notebook_edits_a_sheet_with_a_table_as_a_fresh_evaluation_reads_it() {
+    // The live sheet after edits (a key moved, a row edited) against the
+    // same text evaluated afresh.
+    let text = format!("{HOIST}v = 1.0 m\ny [kN] = lookup(t.y, v, least)\n");
+    let mut live = heftsheet::LiveSheet::open(&text);
+    let lines: Vec<&str> = text.lines().collect();
+    let v_line = lines
+        .iter()
+        .position(|line| line.starts_with("v ="))
+        .expect("v");
+    live.replace_line(v_line, "v = 2.7 m")
+        .expect("an edit of a cell");
+    let row_line = lines
+        .iter()
+        .position(|line| line.contains("3.7 |"))
+        .expect("a row");
+    live.replace_line(row_line, "  3.7 | 8.0")
+        .expect("an edit of a row");
+    let fresh = run_clean(&live.text());
+    let id = live.sheet().names.get("y").copied().expect("y");
+    let edited = live.cell(id).value.expect("a value").si;
+    assert_eq!(edited, si(&fresh, "y"));
+    // By construction: 2.7 m lies between the rows at 2.0 m and 3.7 m (now 8.0 kN).
+    assert_eq!(edited, 8000.0);
+}
+
+#[test]
+fn a_tolerance_through_a_table_is_bounded_only_over_monotone_rows() {
+    use heftsheet::eval::CheckStatus;
+    // Falling capacities: the corners bound the reading, and the worst case
+    // is at the longest radius (R = 12.1 m reads 6.4 t with `least`).
+    let falling = "table c by r:\n  r [m] | cap [t]\n  10 | 9.6\n  12 | 7.8\n  14 | 6.4\nend\nm = 6.0 t ± 2 %\nR = 11.9 m ± 0.2 m\nC [t] = lookup(c.cap, R, least)\ncheck m <= C \"crane\"\n";
+    let evaluated = heftsheet::pipeline::run(falling);
+    assert_eq!(evaluated.checks[0].status, CheckStatus::Passed);
+    // A capacity that rises again between the rows the tolerance reaches:
+    // the corners do not bound it, so the check is unknown, never a pass.
+    let wavy = falling.replace("14 | 6.4", "14 | 8.4");
+    let evaluated = heftsheet::pipeline::run(&wavy);
+    assert_eq!(evaluated.checks[0].status, CheckStatus::Unknown);
+    assert!(
+        evaluated.checks[0]
+            .worst_unknown
+            .as_deref()
+            .is_some_and(|reason| reason.contains("not monotone")),
+        "{:?}",
+        evaluated.checks[0].worst_unknown
+    );
+}
