@@ -12,6 +12,8 @@ use crate::eval::Evaluated;
 use crate::include::FileLoader;
 use crate::sheet::{NoFiles, SheetLoader};
 
+pub use crate::include::{MAX_TABLE_FILE_LEN, read_sheet_files};
+
 /// Parses, links, evaluates and lints a sheet's text, and checks every fix
 /// a finding offers by evaluating the sheet with it applied
 /// ([`crate::audit::verify_fixes`]) before it becomes the finding's help.

@@ -83,7 +83,8 @@ impl<'c, 'a> AngleWords<'c, 'a> {
             ExprKind::Conditional(conditional) => {
                 self.in_expr(&conditional.then) || self.in_expr(&conditional.otherwise)
             }
-            ExprKind::Number(_) | ExprKind::Invalid => false,
+            // A table's column has its own unit; its keys do not make it an angle.
+            ExprKind::Lookup(_) | ExprKind::Number(_) | ExprKind::Invalid => false,
         }
     }
 

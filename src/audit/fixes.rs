@@ -308,7 +308,10 @@ fn check(
     }
     let fixed_source = format!("{}{}{}", &source[..start], fix.replacement, &source[end..]);
     // The fixed sheet reads the very sheets the sheet read.
-    let used = crate::sheet::Reloaded(&evaluated.sheet().imports);
+    let used = crate::sheet::Reloaded {
+        imports: &evaluated.sheet().imports,
+        files: std::sync::Arc::clone(&evaluated.sheet().files),
+    };
     let mut fixed = evaluate_source_with(&fixed_source, &used);
     super::add_lints(&mut fixed);
     let after = LineFindings::of(&fixed.diagnostics, &fixed.lines);

@@ -179,6 +179,26 @@ pub enum Code {
     BadSweepSpacing,
     /// A sweep with more points than heft evaluates.
     SweepTooLarge,
+    /// A key outside a table's rows: heft never extrapolates a table.
+    TableKeyOutside,
+    /// A table whose keys are not in increasing order, or repeat.
+    TableKeysUnsorted,
+    /// A table row that cannot be read: a cell that is not a number, or a
+    /// row with more or fewer cells than the table has columns.
+    TableRowError,
+    /// A table by two keys that lacks a pair of them: every (key 1, key 2)
+    /// pair must be a row.
+    TableGridIncomplete,
+    /// A table's CSV file that cannot be read, or a `from` table in a sheet
+    /// that has no folder (read from standard input or from text).
+    TableFileMissing,
+    /// A column a table does not have (in `lookup` or among its keys), or a
+    /// table the sheet does not define.
+    TableColumnUnknown,
+    /// A reading word `lookup` does not know.
+    TableReadingUnknown,
+    /// A `lookup` that does not say how the table is read.
+    TableReadingMissing,
 }
 
 impl Code {
@@ -245,11 +265,19 @@ impl Code {
             Code::BadSweepRange => "bad-sweep-range",
             Code::BadSweepSpacing => "bad-sweep-spacing",
             Code::SweepTooLarge => "sweep-too-large",
+            Code::TableKeyOutside => "table-key-outside",
+            Code::TableKeysUnsorted => "table-keys-unsorted",
+            Code::TableRowError => "table-row-error",
+            Code::TableGridIncomplete => "table-grid-incomplete",
+            Code::TableFileMissing => "table-file-missing",
+            Code::TableColumnUnknown => "table-column-unknown",
+            Code::TableReadingUnknown => "table-reading-unknown",
+            Code::TableReadingMissing => "table-reading-missing",
         }
     }
 
     /// Every code, for documentation and tests.
-    pub const ALL: [Code; 60] = [
+    pub const ALL: [Code; 68] = [
         Code::ParseError,
         Code::EncodingError,
         Code::HeaderError,
@@ -310,6 +338,14 @@ impl Code {
         Code::BadSweepRange,
         Code::BadSweepSpacing,
         Code::SweepTooLarge,
+        Code::TableKeyOutside,
+        Code::TableKeysUnsorted,
+        Code::TableRowError,
+        Code::TableGridIncomplete,
+        Code::TableFileMissing,
+        Code::TableColumnUnknown,
+        Code::TableReadingUnknown,
+        Code::TableReadingMissing,
     ];
 }
 

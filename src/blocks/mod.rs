@@ -187,9 +187,16 @@ impl Evaluator<'_> {
                         next_sweep += 1;
                         OutlineItem::Sweep(next_sweep - 1)
                     }
+                    Item::Table(statement) => sheet
+                        .tables
+                        .iter()
+                        .position(|table| table.statement == statement)
+                        .map_or_else(|| invalid(statement), OutlineItem::Table),
                 }),
         );
         let mut diagnostics = std::mem::take(&mut self.diagnostics);
+        let mut table_reads = self.table_reads.take();
+        table_reads.sort_by_key(|read| read.span.start());
         diagnostics.sort_by_key(|diagnostic| (diagnostic.span.start(), diagnostic.code));
         Evaluated {
             sheet: Arc::clone(sheet),
@@ -211,6 +218,8 @@ impl Evaluator<'_> {
             outline,
             diagnostics,
             lines,
+            table_reads,
+            tables_readable: self.tables.iter().map(Option::is_some).collect(),
         }
     }
 }

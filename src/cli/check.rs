@@ -171,6 +171,7 @@ pub fn text_report(file_name: &str, source: &str, evaluated: &Evaluated, colour:
     write_uses(&mut out, evaluated, &painter);
 
     write_cells(&mut out, evaluated, &painter);
+    super::tables::write_tables(&mut out, evaluated, &painter);
 
     write_checks(&mut out, evaluated, &painter);
 

@@ -168,6 +168,18 @@ pub fn text(diff: &RevisionDiff, old_name: &str, new_name: &str) -> String {
             );
         }
     }
+    if !diff.tables.is_empty() {
+        let _ = writeln!(out, "\nTables");
+        for table in &diff.tables {
+            let _ = writeln!(out, "  {:<8} {}", table.change.as_str(), table.name);
+            if let Some(head) = &table.head {
+                let _ = writeln!(out, "    {}", edit_text("head", head));
+            }
+            for row in &table.rows {
+                let _ = writeln!(out, "    {}", edit_text("row", row));
+            }
+        }
+    }
     let results: Vec<_> = diff.cells.iter().filter(|c| c.result_moved()).collect();
     let width = results
         .iter()
@@ -269,6 +281,10 @@ struct JsonDiff<'a> {
     /// Sheets used (`use` lines) that differ, by alias, with their cells
     /// whose values moved.
     uses: &'a [diff::UseChange],
+    /// Tables that differ: each with `change` (`added`, `removed` or
+    /// `edited`), its head before and after where it changed, and the rows
+    /// that differ as written.
+    tables: &'a [crate::diff::TableChange],
 }
 
 /// One revision.
@@ -399,6 +415,7 @@ pub fn json(diff: &RevisionDiff, old_name: &str, new_name: &str) -> String {
             .collect(),
         unchanged: diff.n_unchanged,
         uses: &diff.uses,
+        tables: &diff.tables,
     };
     super::json::text(&report)
 }

@@ -48,6 +48,8 @@ struct Report<'a> {
     parts: Vec<super::parts::JsonMembers<'a>>,
     /// Every sweep block's study (never a verdict of the sheet).
     sweeps: Vec<super::sweep_json::JsonSweep<'a>>,
+    /// Every table, with each reading of it.
+    tables: Vec<super::json_tables::JsonTable<'a>>,
     /// Every finding, sorted by position.
     diagnostics: Vec<JsonDiagnostic<'a>>,
     /// The checker's record.
@@ -460,6 +462,7 @@ pub fn check_report(file_name: &str, source: &str, evaluated: &Evaluated) -> Str
         runs: super::runs::json_runs(evaluated, lines),
         parts: super::parts::json_members(evaluated),
         sweeps: super::sweep_json::json_sweeps(evaluated),
+        tables: super::json_tables::json_tables(evaluated),
         diagnostics: evaluated
             .diagnostics
             .iter()

@@ -57,6 +57,31 @@ impl JsonSchema for Code {
     }
 }
 
+/// How a table is read (`lookup(…, least)`).
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, JsonSchema)]
+#[serde(rename_all = "lowercase")]
+pub(super) enum Reading {
+    /// Only at a row's key.
+    Exact,
+    /// Interpolated linearly between the bracketing rows (bilinear for two keys).
+    Linear,
+    /// The least value of the bracketing rows: conservative for a rating.
+    Least,
+    /// The greatest value of the bracketing rows: conservative for a demand.
+    Greatest,
+}
+
+impl From<crate::eval::Reading> for Reading {
+    fn from(reading: crate::eval::Reading) -> Self {
+        match reading {
+            crate::eval::Reading::Exact => Reading::Exact,
+            crate::eval::Reading::Linear => Reading::Linear,
+            crate::eval::Reading::Least => Reading::Least,
+            crate::eval::Reading::Greatest => Reading::Greatest,
+        }
+    }
+}
+
 /// The unit system results are displayed in.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, JsonSchema)]
 pub(super) enum Display {
@@ -490,6 +515,9 @@ mod tests {
         use crate::diff::CellChangeKind as K;
         for kind in [K::Added, K::Removed, K::Edited, K::ResultOnly] {
             assert_eq!(word(CellChange::from(kind)), kind.as_str());
+        }
+        for reading in crate::eval::Reading::ALL {
+            assert_eq!(word(Reading::from(reading)), reading.word());
         }
         use crate::diff::CheckOutcome as O;
         for outcome in [O::Pass, O::Fail, O::Unknown, O::Error, O::Blocked] {

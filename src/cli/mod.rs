@@ -6,6 +6,7 @@ mod check;
 mod convert;
 mod diff;
 mod json;
+mod json_tables;
 mod json_words;
 mod parts;
 mod report;
@@ -13,6 +14,7 @@ mod review;
 mod runs;
 mod sweep_json;
 mod sweeps;
+mod tables;
 mod units_list;
 
 use std::io::{self, IsTerminal, Write};

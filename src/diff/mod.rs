@@ -8,9 +8,12 @@
 //! written (blanks collapsed), else by label; those whose status or
 //! utilization changed are listed.
 
+mod tables;
 mod used;
 
 use std::collections::HashMap;
+
+pub use tables::{TableChange, TableChangeKind};
 
 use crate::eval::formula::ShownValue;
 use crate::eval::{CellResult, CellStatus, CheckResult, CheckStatus, Evaluated};
@@ -139,6 +142,8 @@ pub struct RevisionDiff {
     pub n_unchanged: usize,
     /// Used sheets that differ (by alias), with their cells that moved.
     pub uses: Vec<UseChange>,
+    /// Tables that differ: rows added, removed or edited, or the head.
+    pub tables: Vec<TableChange>,
 }
 
 impl RevisionDiff {
@@ -261,6 +266,7 @@ pub fn compare(old: &Evaluated, new: &Evaluated) -> RevisionDiff {
         checks: compare_checks(old, new),
         n_unchanged,
         uses: compare_uses(old, new),
+        tables: tables::compare_tables(old, new),
     }
 }
 

@@ -95,6 +95,7 @@ impl<'a> Evaluator<'a> {
             } => self.call(&name.text, name.span, args, expr.span)?,
             ExprKind::RunQuery(query) => (self.run_query)(self, query, expr.span)?,
             ExprKind::Conditional(conditional) => self.conditional(conditional)?,
+            ExprKind::Lookup(lookup) => self.read_table(lookup, expr.span)?,
         };
         if value.is_finite() {
             Ok(value)
@@ -395,7 +396,10 @@ impl<'a> Evaluator<'a> {
         )
     }
 
-    fn resolve_unit_uncached(&self, unit: &UnitExpr) -> Result<ResolvedUnit, Box<Diagnostic>> {
+    pub(crate) fn resolve_unit_uncached(
+        &self,
+        unit: &UnitExpr,
+    ) -> Result<ResolvedUnit, Box<Diagnostic>> {
         units::resolve(unit.symbols()).map_err(|error| {
             let factor = &unit.factors[error.factor];
             Box::new(match error.kind {

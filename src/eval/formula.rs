@@ -221,6 +221,22 @@ impl Evaluated {
                 otherwise: Box::new(self.term(&conditional.otherwise)),
                 holds: self.test_held(&conditional.test),
             },
+            // `lookup(chart.capacity, 13.5 m, 30 m, least)`: the keys take
+            // their values, the column and the reading read as written.
+            ExprKind::Lookup(lookup) => Term::Call {
+                function: "lookup".to_string(),
+                args: std::iter::once(Term::Number(format!(
+                    "{}.{}",
+                    lookup.table.text, lookup.column.text
+                )))
+                .chain(lookup.keys.iter().map(|key| self.term(key)))
+                .chain(
+                    lookup
+                        .target
+                        .map(|target| Term::Number(target.reading.word().to_string())),
+                )
+                .collect(),
+            },
         }
     }
 

@@ -15,12 +15,13 @@ pub(crate) mod model;
 pub mod program;
 pub(crate) mod run_model;
 pub(crate) mod sweep_model;
+mod table;
 pub(crate) mod verdict;
 
 /// The operators and comparisons the evaluated model's formulas and checks
 /// carry (`formula::Term`, [`CheckResult::comparison`]): the syntax's own,
 /// so presentation reads them here and never the syntax tree.
-pub use crate::syntax::ast::{BinaryOp, Comparison, Relation};
+pub use crate::syntax::ast::{BinaryOp, Comparison, Reading, Relation};
 pub use conversion::{Conversion, ConversionError, WrittenConversion, convert};
 pub use explain::{format_result, format_value};
 pub use model::{
@@ -33,6 +34,7 @@ pub use sweep_model::{
     Crossing, MARGIN_TOLERANCE, Margin, SweepCheck, SweepColumn, SweepPoint, SweepReport,
     VerifiedMargin,
 };
+pub use table::TableRead;
 pub use verdict::{Summary, count, utilization_note};
 
 use std::cell::{Cell, RefCell};
@@ -148,6 +150,10 @@ pub(crate) struct Evaluator<'a> {
     /// While `Some`, how each piecewise formula's test came out, by where it
     /// is written (1: held, 2: did not, 3: both), for the corner search.
     pub(crate) tests_seen: RefCell<Option<FxHashMap<Span, u8>>>,
+    /// The sheet's tables with their units resolved (`None`: unreadable).
+    pub(crate) tables: Vec<Option<table::ReadableTable>>,
+    /// The readings of tables by the sheet as written, by `lookup` span.
+    pub(crate) table_reads: RefCell<Vec<TableRead>>,
 }
 
 impl<'a> Evaluator<'a> {
@@ -161,6 +167,10 @@ impl<'a> Evaluator<'a> {
             vec![None; n_cells],
         );
         evaluator.diagnostics = sheet.diagnostics.clone();
+        if !sheet.tables.is_empty() {
+            let (_, unit_problems) = table::readable_tables(sheet, &evaluator);
+            evaluator.diagnostics.extend(unit_problems);
+        }
         evaluator
     }
 
@@ -197,7 +207,27 @@ impl<'a> Evaluator<'a> {
             probe_values: RefCell::new(Vec::new()),
             run_query: no_run_to_read,
             tests_seen: RefCell::new(None),
+            tables: Vec::new(),
+            table_reads: RefCell::new(Vec::new()),
         }
+        .with_tables()
+    }
+
+    /// The findings of the sheet's tables' units (what [`Evaluator::new`]
+    /// adds to the sheet's own).
+    pub(crate) fn table_unit_problems(&self) -> Vec<Diagnostic> {
+        if self.sheet.tables.is_empty() {
+            return Vec::new();
+        }
+        table::readable_tables(self.sheet, self).1
+    }
+
+    /// The same evaluator with the sheet's tables' units resolved.
+    fn with_tables(mut self) -> Self {
+        if !self.sheet.tables.is_empty() {
+            self.tables = table::readable_tables(self.sheet, &self).0;
+        }
+        self
     }
 
     /// The same evaluator, answering run queries with `answer`.

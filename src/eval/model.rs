@@ -444,6 +444,8 @@ pub enum OutlineItem {
     Use(usize),
     /// A sweep block, by index into [`Evaluated::sweeps`].
     Sweep(usize),
+    /// A table, by index into the sheet's tables ([`Evaluated::tables`]).
+    Table(usize),
     /// A parts list or a lift, with its rows.
     Members(Box<MembersReport>),
 }
@@ -533,12 +535,32 @@ pub struct Evaluated {
     pub diagnostics: Vec<Diagnostic>,
     /// Line index of the source, for line/column output.
     pub lines: LineIndex,
+    /// Every reading of a table by the sheet as written, in file order.
+    pub table_reads: Vec<super::TableRead>,
+    /// Whether each table can be read (its rows read and its units known).
+    pub(crate) tables_readable: Vec<bool>,
 }
 
 impl Evaluated {
     /// The sheet's header.
     pub fn header(&self) -> &Header {
         &self.sheet.header
+    }
+
+    /// The sheet's tables, in file order.
+    pub fn tables(&self) -> &[crate::sheet::Table] {
+        &self.sheet.tables
+    }
+
+    /// Whether table `index` can be read: its rows read, its keys sorted,
+    /// its grid complete and its units known.
+    pub fn table_readable(&self, index: usize) -> bool {
+        self.tables_readable.get(index).copied().unwrap_or(false)
+    }
+
+    /// The files the sheet read beside it.
+    pub fn files(&self) -> &crate::sheet::SheetFiles {
+        &self.sheet.files
     }
 
     /// The linked sheet that was evaluated.

@@ -6,13 +6,19 @@
 //! A ring of sheets that use each other is named in full (`include-cycle`);
 //! a sheet used twice on one chain of `use` lines is read once.
 
+mod files;
+
+pub use files::{MAX_TABLE_FILE_LEN, read_sheet_files};
+
 use std::collections::HashMap;
 use std::path::{Path, PathBuf};
 use std::sync::{Arc, Mutex};
 
 use crate::base::{Code, Severity};
 use crate::eval::Evaluated;
-use crate::sheet::{Export, LoadProblem, Loaded, Sheet, SheetLoader, UsedError, UsedSheet};
+use crate::sheet::{
+    Export, LoadProblem, Loaded, Sheet, SheetFiles, SheetLoader, UsedError, UsedSheet,
+};
 
 /// How deep `use` lines may nest: a sheet that uses a sheet that uses …
 pub const MAX_USE_DEPTH: usize = 16;
@@ -84,6 +90,10 @@ impl FileLoader {
 }
 
 impl SheetLoader for FileLoader {
+    fn sheet_files(&self, source: &str) -> Arc<SheetFiles> {
+        Arc::new(files::read_files_in(&self.folder, source))
+    }
+
     fn load(&self, written: &str) -> Loaded {
         let path = self.folder.join(written);
         let shown = self.shown_folder.join(written).display().to_string();

@@ -151,6 +151,8 @@ pub struct LiveSheet {
     /// [`LiveSheet::set_fix_helps`]; every edit drops them). Until then such
     /// a finding shows only its plain advice, never an unchecked fix.
     fix_helps: Vec<(usize, usize, Code, Option<String>)>,
+    /// The files the sheet's tables read, as read when it was opened.
+    files: std::sync::Arc<crate::sheet::SheetFiles>,
 }
 
 /// A revision number not given before in this process.
@@ -173,6 +175,7 @@ impl LiveSheet {
     /// Parses, links and evaluates `text`, reading the sheets its `use`
     /// lines name with `loader` (kept for every relink).
     pub fn open_with(text: &str, loader: Arc<dyn SheetLoader + Send + Sync>) -> LiveSheet {
+        let files = loader.sheet_files(text);
         let syntax::ParsedSheet {
             header,
             statements,
@@ -229,6 +232,7 @@ impl LiveSheet {
             lints: Vec::new(),
             fix_helps: Vec::new(),
             loader,
+            files,
         };
         live.sheet.header = header;
         live.relink(statements);
@@ -250,6 +254,11 @@ impl LiveSheet {
     /// The document (lines and the arena spans point into).
     pub fn document(&self) -> &Document {
         &self.document
+    }
+
+    /// The files the sheet's tables read.
+    pub fn files(&self) -> std::sync::Arc<crate::sheet::SheetFiles> {
+        std::sync::Arc::clone(&self.files)
     }
 
     /// The linked sheet.
@@ -335,6 +344,7 @@ impl LiveSheet {
             | Item::Simulate(index)
             | Item::Members(index)
             | Item::Sweep(index)
+            | Item::Table(index)
             | Item::Use(index) => Row::Block {
                 head: self.statement_text(index).lines().next().unwrap_or(""),
             },
@@ -671,6 +681,11 @@ fn collect_names<'e>(
         | ExprKind::Component { .. }
         | ExprKind::RunQuery(_)
         | ExprKind::Invalid => {}
+        ExprKind::Lookup(lookup) => {
+            for key in &lookup.keys {
+                collect_names(key, Some(Parent::Call), out);
+            }
+        }
     }
 }
 

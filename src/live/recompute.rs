@@ -68,7 +68,13 @@ impl LiveSheet {
         let mut diagnostics = self.header_diagnostics.clone();
         diagnostics.extend(self.parse_diagnostics.iter().flatten().cloned());
         let header = std::mem::take(&mut self.sheet.header);
-        self.sheet = Sheet::link_with(header, statements, diagnostics, &*self.loader);
+        self.sheet = Sheet::link_with(
+            header,
+            statements,
+            diagnostics,
+            &*self.loader,
+            Arc::clone(&self.files),
+        );
         let n_cells = self.sheet.cells.len();
         let n_checks = self.sheet.checks.len();
         self.dependents = vec![Vec::new(); n_cells];
@@ -95,6 +101,8 @@ impl LiveSheet {
                 .items
                 .iter()
                 .any(|item| matches!(item, Item::Sweep(_)))
+            // A table's readings are judged with the sheet's.
+            || !self.sheet.tables.is_empty()
             // A parts list's and a lift's judgement runs with the sheet's.
             || self
                 .sheet
@@ -121,7 +129,8 @@ impl LiveSheet {
         // The sheet's own findings are kept in `self.sheet.diagnostics`.
         evaluator.diagnostics.clear();
         self.cell_findings = vec![Vec::new(); n_cells];
-        self.block_findings = Vec::new();
+        // A table column's unknown unit is found as the evaluator starts.
+        self.block_findings = evaluator.table_unit_problems();
         for &node in &self.sheet.order.order {
             evaluator.run_node(node);
             if evaluator.diagnostics.is_empty() {

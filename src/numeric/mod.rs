@@ -20,6 +20,7 @@ mod interval;
 mod number;
 mod roots;
 mod rule;
+mod table;
 mod trajectory;
 
 pub use dual::{Dual, Primal};
@@ -31,4 +32,5 @@ pub use interval::Interval;
 pub use number::Number;
 pub use roots::{find_crossing, golden_section};
 pub use rule::{BinaryDerivative, BinaryRule, Slope, UnaryRule};
+pub use table::{Bracket, Grid, GridError, GridRead, GridReading, bracket};
 pub use trajectory::{COEFFICIENTS, Objective, Trajectory};

@@ -3,6 +3,8 @@
 //! JSON, the report and the notebook all take them from here, so no two can
 //! word the same fact differently.
 
+pub mod tables;
+
 use crate::base::{Code, Diagnostic, Severity};
 use crate::eval::{CaseOutcome, CheckResult, CheckStatus, Place, Summary, count};
 use crate::units::percent;

@@ -25,6 +25,7 @@ pub fn document(evaluated: &Evaluated, review: &Review) -> Document {
     sections.extend(super::used::used_sheets_section(evaluated));
     sections.extend(builder.cases_section());
     sections.extend(builder.tolerances_section());
+    sections.extend(super::tables::readings_section(evaluated));
     sections.extend(builder.body());
     sections.push(builder.review_appendix());
     sections.push(builder.units_appendix());
@@ -215,6 +216,9 @@ impl<'a> Builder<'a> {
                 OutlineItem::Sweep(index) => current
                     .blocks
                     .extend(super::sweep::sweep_blocks(evaluated, *index)),
+                OutlineItem::Table(index) => current
+                    .blocks
+                    .extend(super::tables::table_blocks(evaluated, *index)),
                 // The load cases are tabulated in their own section.
                 OutlineItem::Case(_) => {}
                 OutlineItem::Use(index) => {

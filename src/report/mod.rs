@@ -13,6 +13,7 @@ pub mod model;
 mod parts;
 pub mod svg;
 mod sweep;
+mod tables;
 mod units_used;
 mod used;
 

@@ -214,6 +214,7 @@ impl Review {
                 | StatementKind::Case(_)
                 | StatementKind::Use(_)
                 | StatementKind::Sweep(_)
+                | StatementKind::Table(_)
                 | StatementKind::Invalid => {}
             }
             outline_index += 1;

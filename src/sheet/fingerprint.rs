@@ -10,19 +10,24 @@
 //!    and tabs outside double quotes becomes one space (re-aligning columns
 //!    changes nothing; text inside a description does);
 //! 4. lines that are then empty are dropped;
-//! 5. the lines are joined with `\n`, with a final `\n`, and hashed as UTF-8.
+//! 5. the lines are joined with `\n`, with a final `\n`, and hashed as UTF-8;
+//! 6. then, for every file the sheet read beside it (a table's CSV file), in
+//!    order of its path as written: the bytes `\0file\0`, the path's length
+//!    (8 bytes, little-endian) and UTF-8, the file's length (8 bytes,
+//!    little-endian) and its bytes, unnormalized ([`hash_read_files`]). A
+//!    sheet that reads no file hashes its text alone.
 //!
 //! Everything else counts: the header, headings, notes, cells, checks and
 //! `//` comments. A sheet that uses other sheets (`use "…" as gear`) then
 //! has, for each in file order, a line `use ALIAS PATH FINGERPRINT` added
-//! after its own lines, so an edit to a used sheet (or to one it uses in
+//! after its own lines (before the files of step 6), so an edit to a used sheet (or to one it uses in
 //! turn) changes the fingerprint of every sheet over it; a sheet with no
 //! `use` line keeps the fingerprint of its text alone. A cell's digest is
 //! the first 8 hex digits of the SHA-256 of its own normalized line.
 
 use sha2::{Digest, Sha256};
 
-use super::Sheet;
+use crate::sheet::{Sheet, SheetFiles};
 use crate::syntax::ast::StatementKind;
 
 /// Number of hex digits kept of a cell digest.
@@ -94,7 +99,23 @@ pub fn fingerprint(source: &str, sheet: &Sheet) -> String {
             import.alias.text, import.path
         ));
     }
-    hex(&Sha256::digest(text.as_bytes()))
+    let mut hasher = Sha256::new();
+    hasher.update(text.as_bytes());
+    hash_read_files(&mut hasher, &sheet.files);
+    hex(&hasher.finalize())
+}
+
+/// Adds the files a sheet read (a table's CSV file) to a fingerprint: for
+/// each, in path order, a separator, the path's length and the path, the
+/// content's length and the content. A sheet that read none adds nothing.
+pub fn hash_read_files(hasher: &mut Sha256, files: &SheetFiles) {
+    for (path, bytes) in files.read_files() {
+        hasher.update(b"\0file\0");
+        hasher.update((path.len() as u64).to_le_bytes());
+        hasher.update(path.as_bytes());
+        hasher.update((bytes.len() as u64).to_le_bytes());
+        hasher.update(bytes);
+    }
 }
 
 /// The digest of one statement's text (its normalized line), 8 hex digits.

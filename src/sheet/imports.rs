@@ -16,6 +16,8 @@ use crate::base::{Code, Diagnostic};
 use crate::syntax::ast::{Expr, ExprKind, Ident, Statement, StatementKind, Target};
 use crate::units::Value;
 
+use super::SheetFiles;
+
 /// A cell of a used sheet, as a sheet that uses it reads it.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Export {
@@ -91,6 +93,24 @@ pub type Loaded = Result<Arc<UsedSheet>, LoadProblem>;
 pub trait SheetLoader: std::fmt::Debug {
     /// The sheet at `path` as written on the `use` line.
     fn load(&self, path: &str) -> Loaded;
+
+    /// The files the tables of `source` read beside it (none where the
+    /// sheet has no folder: each such table says so).
+    fn sheet_files(&self, _source: &str) -> Arc<SheetFiles> {
+        Arc::default()
+    }
+}
+
+/// A sheet's table files given directly (tests, and text with its files in
+/// memory): a `use` line is an error, as for [`NoFiles`].
+impl SheetLoader for SheetFiles {
+    fn load(&self, path: &str) -> Loaded {
+        NoFiles.load(path)
+    }
+
+    fn sheet_files(&self, _source: &str) -> Arc<SheetFiles> {
+        Arc::new(self.clone())
+    }
 }
 
 /// The loader of a sheet that has no file (text given directly): a `use`
@@ -109,17 +129,27 @@ impl SheetLoader for NoFiles {
     }
 }
 
-/// A loader that gives again the sheets an earlier linking loaded, so that
-/// a sheet with a fix applied reads exactly what the sheet did.
+/// A loader that gives again what an earlier linking read (the sheets its
+/// `use` lines named and its tables' files), so that a sheet with a fix
+/// applied reads exactly what the sheet did.
 #[derive(Debug)]
-pub struct Reloaded<'a>(pub &'a [Import]);
+pub struct Reloaded<'a> {
+    /// The sheets the `use` lines found.
+    pub imports: &'a [Import],
+    /// The files the tables read.
+    pub files: Arc<SheetFiles>,
+}
 
 impl SheetLoader for Reloaded<'_> {
     fn load(&self, path: &str) -> Loaded {
-        self.0
+        self.imports
             .iter()
             .find(|import| import.path == path)
             .map_or_else(|| NoFiles.load(path), |import| import.loaded.clone())
+    }
+
+    fn sheet_files(&self, _source: &str) -> Arc<SheetFiles> {
+        Arc::clone(&self.files)
     }
 }
 

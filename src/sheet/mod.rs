@@ -2,6 +2,7 @@
 //! the dependency graph between cells and the order to evaluate them in.
 
 pub(crate) mod edit;
+mod files;
 pub mod fingerprint;
 mod graph;
 mod header;
@@ -11,7 +12,9 @@ mod parts;
 mod passes;
 mod resolve;
 mod runs;
+mod tables;
 
+pub use files::SheetFiles;
 pub use graph::{EvaluationOrder, evaluation_order};
 pub use header::{DEFAULT_SIG_FIGS, Header, read_header};
 pub use imports::{
@@ -19,6 +22,9 @@ pub use imports::{
 };
 pub use names::NameTable;
 pub(crate) use parts::has_aggregate;
+pub use tables::{Column, Table};
+
+use std::sync::Arc;
 
 use crate::base::Span;
 use crate::base::{Code, Diagnostic};
@@ -143,6 +149,8 @@ pub enum Item {
     Members(usize),
     /// A sweep block, at this statement index.
     Sweep(usize),
+    /// A table, at this statement index.
+    Table(usize),
 }
 
 /// A whole sheet, parsed and linked: everything the evaluator needs.
@@ -186,6 +194,10 @@ pub struct Sheet {
     pub imports: Vec<Import>,
     /// Findings from parsing and linking.
     pub diagnostics: Vec<Diagnostic>,
+    /// The tables, in file order.
+    pub tables: Vec<Table>,
+    /// The files the sheet read beside it (a table's CSV file).
+    pub files: std::sync::Arc<SheetFiles>,
 }
 
 /// How many did-you-mean searches a sheet gets; each scans every name.
@@ -207,21 +219,24 @@ impl Sheet {
             mut diagnostics,
         } = syntax::parse(source);
         let header = read_header(source, header, &mut diagnostics);
-        Sheet::link_with(header, statements, diagnostics, loader)
+        let files = loader.sheet_files(source);
+        Sheet::link_with(header, statements, diagnostics, loader, files)
     }
 
     /// Links parsed statements of a sheet with no file.
     pub fn link(header: Header, statements: Vec<Statement>, diagnostics: Vec<Diagnostic>) -> Sheet {
-        Sheet::link_with(header, statements, diagnostics, &NoFiles)
+        Sheet::link_with(header, statements, diagnostics, &NoFiles, Arc::default())
     }
 
     /// Links parsed statements: the sheets they use (loaded with
-    /// `loader`), names, dependencies and evaluation order.
+    /// `loader`), the tables (their files from `files`), names,
+    /// dependencies and evaluation order.
     pub fn link_with(
         header: Header,
         mut statements: Vec<Statement>,
         mut diagnostics: Vec<Diagnostic>,
         loader: &dyn SheetLoader,
+        files: Arc<SheetFiles>,
     ) -> Sheet {
         let imports = imports::load_uses(&statements, loader, &mut diagnostics);
         parts::expand_aggregates(&mut statements, &mut diagnostics);
@@ -231,6 +246,10 @@ impl Sheet {
             cases,
             items,
         } = outline(&statements);
+        // Tables first: whether a lookup's last word is its reading or a
+        // key depends on its table, and names are resolved after.
+        let tables = tables::read_tables(&statements, &files, &mut diagnostics);
+        let unreadable = tables::link_lookups(&mut statements, &tables, &mut diagnostics);
 
         let Entered {
             names,
@@ -247,7 +266,7 @@ impl Sheet {
         let Resolved {
             check_uses,
             mut broken_checks,
-            broken_cases,
+            mut broken_cases,
             reads_runs,
         } = resolve_statements(
             &mut statements,
@@ -271,6 +290,14 @@ impl Sheet {
             &mut broken,
             &mut broken_checks,
             &mut diagnostics,
+        );
+
+        tables::mark_unreadable(
+            &unreadable,
+            &cells,
+            &checks,
+            &cases,
+            (&mut broken, &mut broken_checks, &mut broken_cases),
         );
 
         let (nodes, node_of_cell) = evaluation_nodes(&cells);
@@ -318,6 +345,8 @@ impl Sheet {
             },
             imports,
             diagnostics,
+            tables,
+            files,
         }
     }
 

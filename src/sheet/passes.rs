@@ -169,6 +169,7 @@ pub(super) fn outline(statements: &[Statement]) -> Outline {
             // Linking loads the used sheet before the outline is made.
             StatementKind::Use(_) => Item::Use(index),
             StatementKind::Sweep(_) => Item::Sweep(index),
+            StatementKind::Table(_) => Item::Table(index),
         };
         items.push(item);
     }

@@ -148,6 +148,7 @@ pub(super) fn resolve_statements(
             | StatementKind::Review(_)
             | StatementKind::SignOff(_)
             | StatementKind::Use(_)
+            | StatementKind::Table(_)
             | StatementKind::Invalid => {}
         }
     }

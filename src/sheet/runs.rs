@@ -47,6 +47,7 @@ pub(super) fn statement_exprs_mut(kind: &mut StatementKind) -> Vec<&mut Expr> {
         | StatementKind::Review(_)
         | StatementKind::SignOff(_)
         | StatementKind::Use(_)
+        | StatementKind::Table(_)
         | StatementKind::Invalid => Vec::new(),
     }
 }
@@ -301,6 +302,10 @@ fn names_outside_queries(expr: &Expr, out: &mut Vec<(Span, String, Target)>) {
                 names_outside_queries(time, out);
             }
         }
+        ExprKind::Lookup(lookup) => lookup
+            .keys
+            .iter()
+            .for_each(|key| names_outside_queries(key, out)),
         ExprKind::Number(_)
         | ExprKind::Quantity { .. }
         | ExprKind::Slope { .. }

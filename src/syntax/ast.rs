@@ -7,6 +7,8 @@ pub use super::conditional::{Conditional, Relation, Test, TestKind};
 use crate::base::Span;
 
 pub use super::sweep::{SweepBlock, SweepSpacing};
+mod table;
+pub use table::{ColumnHead, Lookup, LookupTarget, Reading, TableBlock, TableRow, TableSource};
 
 /// One statement of a sheet, with the span of its line.
 #[derive(Clone, Debug, PartialEq)]
@@ -61,6 +63,8 @@ pub enum StatementKind {
     Lift(Box<LiftBlock>),
     /// A study of the sheet over one input: `sweep x from 0 m to 2 m count 9: … end`.
     Sweep(Box<SweepBlock>),
+    /// A table of numbers with units: `table chart by radius "load chart": … end`.
+    Table(Box<TableBlock>),
 }
 
 /// A list of parts: each item gives the same named quantities. Every
@@ -559,6 +563,8 @@ pub enum ExprKind {
     RunQuery(Box<RunQuery>),
     /// A piecewise formula: `if v <= 1 m/s then 1.25 else 1.40`.
     Conditional(Box<Conditional>),
+    /// A reading of a table: `lookup(chart.capacity, R_pick, L_boom, least)`.
+    Lookup(Box<Lookup>),
 }
 
 /// A value read from a simulate run: `value at point`, or `max of value`
@@ -850,6 +856,7 @@ impl Expr {
                 rhs.walk_mut(visit);
             }
             ExprKind::Call { args, .. } => args.iter_mut().for_each(|arg| arg.walk_mut(visit)),
+            ExprKind::Lookup(lookup) => lookup.keys.iter_mut().for_each(|key| key.walk_mut(visit)),
             ExprKind::RunQuery(query) => {
                 query.value.walk_mut(visit);
                 match &mut query.point {
@@ -887,6 +894,7 @@ impl Expr {
                 rhs.walk(visit);
             }
             ExprKind::Call { args, .. } => args.iter().for_each(|arg| arg.walk(visit)),
+            ExprKind::Lookup(lookup) => lookup.keys.iter().for_each(|key| key.walk(visit)),
             ExprKind::RunQuery(query) => {
                 query.value.walk(visit);
                 match &query.point {

@@ -18,6 +18,9 @@ use compact_str::CompactString;
 
 mod conditional;
 
+mod table;
+pub(crate) use table::{column_heads, table_head};
+
 /// Operator precedence, lowest first; `^` binds tightest and groups to the
 /// right, so `-2^2` is `-(2^2)` and `2^3^2` is `2^(3^2)`.
 static PRATT: LazyLock<PrattParser<Rule>> = LazyLock::new(|| {
@@ -56,6 +59,7 @@ pub(crate) fn statement(mut pairs: Pairs<'_, Rule>, offset: usize) -> Built<Opti
         Rule::review => StatementKind::Review(Box::new(builder.review(pair)?)),
         Rule::signoff => StatementKind::SignOff(Box::new(builder.signoff(pair)?)),
         Rule::use_sheet => StatementKind::Use(Box::new(builder.use_sheet(pair))),
+        Rule::table_from => StatementKind::Table(Box::new(builder.table_from(pair))),
         Rule::EOI => return Ok(None),
         rule => unreachable!("expected a statement, found {rule:?}"),
     }))
@@ -834,6 +838,7 @@ impl Builder {
             Rule::unit_value => ExprKind::UnitValue(self.unit_in_brackets(pair)?),
             Rule::conditional => self.conditional(pair)?,
             Rule::aggregate => super::parts::aggregate(self, pair)?,
+            Rule::lookup_call => ExprKind::Lookup(Box::new(self.lookup(pair)?)),
             Rule::reference => {
                 let mut inner = pair.into_inner();
                 let name = inner

@@ -127,6 +127,10 @@ fn describe_rule(rule: Rule) -> Option<&'static str> {
             "`count N` or `step S`"
         }
         Rule::keyword_show | Rule::show_of => "`show`",
+        Rule::lookup_call | Rule::keyword_lookup => "an expression",
+        Rule::table_from | Rule::table_head | Rule::keyword_table => "`table`",
+        Rule::table_keys => "the key columns' names",
+        Rule::column_head => "a column (`name [unit]`)",
         _ => return None,
     })
 }

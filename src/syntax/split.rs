@@ -132,6 +132,9 @@ pub fn parse(source: &str) -> ParsedSheet {
             Some(block) if code_of(block.head.text(source)).starts_with("sweep") => {
                 super::sweep::parse_sweep_block(source, block)
             }
+            Some(block) if code_of(block.head.text(source)).starts_with("table") => {
+                super::table::parse_table_block(source, block)
+            }
             Some(block) => parse_block(source, block),
         };
         if !diagnostics.is_empty() {
@@ -177,7 +180,9 @@ struct RawStatement {
 }
 
 /// Words that open a block running to a line `end`.
-const BLOCK_KEYWORDS: &[&str] = &["solve", "case", "simulate", "parts", "lift", "sweep"];
+const BLOCK_KEYWORDS: &[&str] = &[
+    "solve", "case", "simulate", "parts", "lift", "sweep", "table",
+];
 
 /// The code of a line without a trailing `//` comment, trimmed.
 pub(super) fn code_of(text: &str) -> &str {
@@ -192,6 +197,9 @@ fn opens_block(text: &str) -> bool {
             rest.starts_with(|c: char| c.is_whitespace())
                 && !rest.trim_start().starts_with(['=', '['])
         })
+            // A table read from a file is one line; a written one ends its
+            // head with `:` and runs to `end`.
+            && (*keyword != "table" || code.ends_with(':'))
     })
 }
 
@@ -383,6 +391,25 @@ pub fn is_block_head(text: &str) -> bool {
 /// Whether a line opens or closes a `+++` header block.
 pub fn is_header_delimiter(text: &str) -> bool {
     text.trim() == "+++"
+}
+
+/// The files a sheet's tables are read from (`table … from "file.csv"`), as
+/// written, in file order: only lines that open with `table` are parsed.
+pub fn table_files(source: &str) -> Vec<String> {
+    let mut files = Vec::new();
+    for line in lines(source) {
+        let text = &source[line.start..line.end];
+        if !code_of(text).starts_with("table") || opens_block(text) {
+            continue;
+        }
+        if let (StatementKind::Table(table), None) = parse_statement(text, line.start)
+            && let super::ast::TableSource::File { path } = table.source
+            && !files.contains(&path.text)
+        {
+            files.push(path.text);
+        }
+    }
+    files
 }
 
 /// Parses one statement line that sits at byte `offset` of the text its

@@ -50,6 +50,8 @@ pub fn run(path: &Path, colour: bool) -> io::Result<()> {
     }));
     let _ = execute!(io::stdout(), EnableMouseCapture);
     let size = terminal.size()?;
+    // The sheets `use` lines name and the tables' files are read beside
+    // the sheet (`include::FileLoader`), a table's file once, as it opens.
     let mut app = App::new(
         opened,
         Rect::new(0, 0, size.width, size.height),

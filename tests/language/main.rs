@@ -21,4 +21,5 @@ mod sheets;
 mod simulate;
 mod solve;
 mod sweep;
+mod tables;
 mod units_reference;

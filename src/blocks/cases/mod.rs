@@ -5,6 +5,7 @@
 mod corners;
 mod ranges;
 mod straddle;
+mod tables;
 
 use rustc_hash::FxHashMap;
 
@@ -173,6 +174,7 @@ impl Evaluator<'_> {
                 *range = None;
             }
         }
+        self.bound_table_readings(&reached, &mut cell_ranges, checks);
         for (index, result) in checks.iter_mut().enumerate() {
             let Some(worst) = &result.worst else {
                 continue;
