@@ -242,7 +242,7 @@ pub(super) fn parse_block_line<T>(
     source: &str,
     line: Span,
     rule: Rule,
-    build: fn(pest::iterators::Pairs<'_, Rule>, usize) -> Result<T, build::BuildError>,
+    build: impl FnOnce(pest::iterators::Pairs<'_, Rule>, usize) -> Result<T, build::BuildError>,
 ) -> Result<T, Diagnostic> {
     let text = line.text(source);
     if let Some(diagnostic) = check_limits(text, line.start()) {

@@ -7,13 +7,12 @@
 //! end
 //! ```
 
-use pest::Parser;
 use pest::iterators::Pairs;
 
 use super::ast::{Description, Expr, ExprKind, Ident, NameRef, StatementKind, Target};
 use super::build::{self, BuildError};
-use super::lines::{BlockLines, check_limits};
-use super::parser::{HeftParser, Rule, describe_error};
+use super::lines::BlockLines;
+use super::parser::Rule;
 use crate::base::{Code, Diagnostic, Span};
 
 /// A study of the sheet over one input: `sweep x from a to b count n:` with
@@ -168,25 +167,6 @@ fn show_line(mut pairs: Pairs<'_, Rule>, offset: usize) -> Built<Vec<Expr>> {
 /// What a line inside a sweep block may be.
 const LINE_HELP: &str = "a sweep block's lines are `show result, result`, then `end`";
 
-/// Parses one line of a block with `rule` and builds it, the limits first.
-fn parse_line<T>(
-    source: &str,
-    line: Span,
-    rule: Rule,
-    build: impl FnOnce(Pairs<'_, Rule>, usize) -> Built<T>,
-) -> Result<T, Diagnostic> {
-    let text = line.text(source);
-    if let Some(diagnostic) = check_limits(text, line.start()) {
-        return Err(diagnostic);
-    }
-    let pairs = HeftParser::parse(rule, text).map_err(|error| {
-        let (span, message) = describe_error(&error, text, line.start());
-        Diagnostic::error(Code::ParseError, span, message)
-    })?;
-    build(pairs, line.start())
-        .map_err(|error| Diagnostic::error(Code::ParseError, error.span, error.message))
-}
-
 /// Parses a sweep block. A head that does not parse makes the statement
 /// invalid (a sweep defines no cell, so nothing else needs it kept).
 pub(super) fn parse_sweep_block(
@@ -197,7 +177,7 @@ pub(super) fn parse_sweep_block(
     let mut shown = Vec::new();
     let mut complete = block.end.is_some();
     for &line in &block.body {
-        match parse_line(source, line, Rule::show_line, show_line) {
+        match super::split::parse_block_line(source, line, Rule::show_line, show_line) {
             Ok(exprs) => shown.extend(exprs),
             Err(diagnostic) => {
                 complete = false;
@@ -216,7 +196,7 @@ pub(super) fn parse_sweep_block(
         );
     }
     let kind =
-        match parse_line(source, block.head, Rule::sweep_line, sweep_head) {
+        match super::split::parse_block_line(source, block.head, Rule::sweep_line, sweep_head) {
             Ok(head) => StatementKind::Sweep(Box::new(SweepBlock {
                 variable: Expr {
                     kind: ExprKind::Name(NameRef {

@@ -1,12 +1,10 @@
 //! Parsing a table written in the sheet: its head, its columns line, then
 //! its rows, each line on its own so every line's error is reported.
 
-use pest::Parser;
-
 use super::ast::{ColumnHead, StatementKind, TableBlock, TableRow, TableSource};
 use super::build;
-use super::lines::{BlockLines, check_limits};
-use super::parser::{HeftParser, Rule, describe_error};
+use super::lines::BlockLines;
+use super::parser::Rule;
 use crate::base::{Code, Diagnostic, Span};
 
 /// Parses a table block; the statement is kept (marked incomplete) even
@@ -23,7 +21,12 @@ pub(super) fn parse_table_block(
                 .with_help("end the table with a line `end`"),
         );
     }
-    let head = match parse_with(source, block.head, Rule::table_line_head, build::table_head) {
+    let head = match super::split::parse_block_line(
+        source,
+        block.head,
+        Rule::table_line_head,
+        build::table_head,
+    ) {
         Ok(head) => head,
         Err(diagnostic) => {
             diagnostics.push(diagnostic.with_help(
@@ -34,7 +37,12 @@ pub(super) fn parse_table_block(
     };
     let mut lines = block.body.iter();
     let columns = match lines.next() {
-        Some(&line) => match parse_with(source, line, Rule::table_columns, build::column_heads) {
+        Some(&line) => match super::split::parse_block_line(
+            source,
+            line,
+            Rule::table_columns,
+            build::column_heads,
+        ) {
             Ok(columns) => columns,
             Err(diagnostic) => {
                 diagnostics.push(diagnostic.with_help(
@@ -76,31 +84,13 @@ pub(super) fn parse_table_block(
     (StatementKind::Table(Box::new(table)), diagnostics)
 }
 
-/// Parses one line with `rule`, building it with `build`.
-fn parse_with<T>(
-    source: &str,
-    line: Span,
-    rule: Rule,
-    build: fn(pest::iterators::Pairs<'_, Rule>, usize) -> Result<T, build::BuildError>,
-) -> Result<T, Diagnostic> {
-    let text = line.text(source);
-    if let Some(diagnostic) = check_limits(text, line.start()) {
-        return Err(diagnostic);
-    }
-    let pairs = HeftParser::parse(rule, text).map_err(|error| {
-        let (span, message) = describe_error(&error, text, line.start());
-        Diagnostic::error(Code::ParseError, span, message)
-    })?;
-    build(pairs, line.start())
-        .map_err(|error| Diagnostic::error(Code::ParseError, error.span, error.message))
-}
-
 /// Parses one column head on its own (`radius [m]`), spans from the start
 /// of `text`: a table's CSV file names its columns as the sheet's column
 /// line does.
 pub fn parse_column_head(text: &str) -> Result<ColumnHead, Diagnostic> {
     let line = Span::new(0, text.len());
-    let mut columns = parse_with(text, line, Rule::table_columns, build::column_heads)?;
+    let mut columns =
+        super::split::parse_block_line(text, line, Rule::table_columns, build::column_heads)?;
     match (columns.pop(), columns.is_empty()) {
         (Some(column), true) => Ok(column),
         _ => Err(Diagnostic::error(
