@@ -47,10 +47,7 @@ fn head(table: &Table) -> String {
     let columns: Vec<String> = table
         .columns
         .iter()
-        .map(|column| match column.unit_text.as_str() {
-            "" => column.name.to_string(),
-            unit => format!("{} [{unit}]", column.name),
-        })
+        .map(crate::sheet::Column::heading)
         .collect();
     let file = table
         .file

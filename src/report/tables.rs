@@ -43,10 +43,7 @@ pub(super) fn table_blocks(evaluated: &Evaluated, index: usize) -> Vec<Block> {
     let mut columns: Vec<String> = table
         .columns
         .iter()
-        .map(|column| match column.unit_text.as_str() {
-            "" => column.name.to_string(),
-            unit => format!("{} [{unit}]", column.name),
-        })
+        .map(crate::sheet::Column::heading)
         .collect();
     columns.push("read by".to_string());
     let rows = (0..table.rows.len())

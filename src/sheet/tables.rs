@@ -58,6 +58,17 @@ pub struct Column {
     pub unit_text: String,
 }
 
+impl Column {
+    /// Its heading as a table's head writes it: `radius [m]`, or the name
+    /// alone for plain numbers.
+    pub fn heading(&self) -> String {
+        match self.unit_text.as_str() {
+            "" => self.name.to_string(),
+            unit => format!("{} [{unit}]", self.name),
+        }
+    }
+}
+
 impl Table {
     /// A cell's number as written.
     pub fn text(&self, row: usize, column: usize) -> &str {
@@ -226,10 +237,7 @@ fn column_list(table: &Table) -> String {
     table
         .columns
         .iter()
-        .map(|column| match column.unit_text.as_str() {
-            "" => format!("`{}`", column.name),
-            unit => format!("`{} [{unit}]`", column.name),
-        })
+        .map(|column| format!("`{}`", column.heading()))
         .collect::<Vec<_>>()
         .join(", ")
 }

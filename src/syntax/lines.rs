@@ -30,6 +30,16 @@ fn too_many_operators(at: usize) -> Diagnostic {
     .with_help("split the formula into several cells")
 }
 
+/// The error of a block whose head `keyword …:` at `head` has no `end`.
+pub(super) fn unclosed_block(head: Span, keyword: &str) -> Diagnostic {
+    Diagnostic::error(
+        Code::ParseError,
+        head,
+        format!("this {keyword} block is never closed"),
+    )
+    .with_help("end the block with a line `end`")
+}
+
 /// Where a line's quoted text is (`"…"`, with `\"` and `\\` escaped),
 /// one character at a time: what checks a line's brackets and what
 /// normalizes it for a fingerprint both skip the text inside quotes.

@@ -70,14 +70,7 @@ pub(super) fn parse_parts_or_lift(
     let is_lift = code_of(block.head.text(source)).starts_with("lift");
     let keyword = if is_lift { "lift" } else { "parts" };
     if !complete {
-        diagnostics.push(
-            Diagnostic::error(
-                Code::ParseError,
-                block.head,
-                format!("this {keyword} block is never closed"),
-            )
-            .with_help("end the block with a line `end`"),
-        );
+        diagnostics.push(super::lines::unclosed_block(block.head, keyword));
     }
     let kind = if is_lift {
         parse_lift(source, block, &mut complete, &mut diagnostics)

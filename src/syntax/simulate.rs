@@ -101,14 +101,7 @@ pub(super) fn parse_simulate_block(
     }
     if block.end.is_none() {
         simulate.complete = false;
-        diagnostics.push(
-            Diagnostic::error(
-                Code::ParseError,
-                block.head,
-                "this simulate block is never closed",
-            )
-            .with_help("end the block with a line `end`"),
-        );
+        diagnostics.push(super::lines::unclosed_block(block.head, "simulate"));
     }
     (StatementKind::Simulate(Box::new(simulate)), diagnostics)
 }

@@ -288,14 +288,7 @@ fn parse_block(source: &str, block: &BlockLines) -> (StatementKind, Vec<Diagnost
         .next()
         .unwrap_or("");
     if !complete {
-        diagnostics.push(
-            Diagnostic::error(
-                Code::ParseError,
-                block.head,
-                format!("this {keyword} block is never closed"),
-            )
-            .with_help("end the block with a line `end`"),
-        );
+        diagnostics.push(super::lines::unclosed_block(block.head, keyword));
     }
     let kind = if keyword == "case" {
         let overrides = parse_body(

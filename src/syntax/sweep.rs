@@ -13,7 +13,7 @@ use super::ast::{Description, Expr, ExprKind, Ident, NameRef, StatementKind, Tar
 use super::build::{self, BuildError};
 use super::lines::BlockLines;
 use super::parser::Rule;
-use crate::base::{Code, Diagnostic, Span};
+use crate::base::{Diagnostic, Span};
 
 /// A study of the sheet over one input: `sweep x from a to b count n:` with
 /// its `show` lines, to `end`.
@@ -186,14 +186,7 @@ pub(super) fn parse_sweep_block(
         }
     }
     if block.end.is_none() {
-        diagnostics.push(
-            Diagnostic::error(
-                Code::ParseError,
-                block.head,
-                "this sweep block is never closed",
-            )
-            .with_help("end the block with a line `end`"),
-        );
+        diagnostics.push(super::lines::unclosed_block(block.head, "sweep"));
     }
     let kind =
         match super::split::parse_block_line(source, block.head, Rule::sweep_line, sweep_head) {
